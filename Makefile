@@ -1,0 +1,138 @@
+# tram - build, test, demo and install.
+#
+#   make            build build/tram, build/libtram.a, build/libtram.so
+#   make test       install missing Debian packages, build, run every test
+#   make demo       install missing Debian packages, build, solve the demo
+#   make install    PREFIX=/usr/local DESTDIR=
+#
+# Dependencies come from Debian by package name (see DEB_PKGS); the deps
+# target installs the missing ones with apt-get when run as root and
+# otherwise says what to install.
+
+PREFIX  ?= /usr/local
+DESTDIR ?=
+CC      ?= cc
+PYTHON  := /usr/bin/python3
+
+DEB_PKGS := liblapacke-dev libopenblas-dev libpng-dev libcjson-dev libcmocka-dev \
+            libcairo2-dev pkg-config python3-numpy python3-scipy
+PC_LIBS  := lapacke openblas libcjson
+PC_TEST  := cmocka
+
+WARN    := -Wall -Wextra -Wshadow -Wconversion -Werror
+BASEFLAGS := -std=c11 -D_POSIX_C_SOURCE=200809L $(WARN) -Iinclude -Isrc
+OPT     ?= -O2 -g
+PKG_CFLAGS = $(shell pkg-config --cflags $(PC_LIBS))
+PKG_LIBS   = $(shell pkg-config --libs $(PC_LIBS)) -lm
+TEST_CFLAGS = $(shell pkg-config --cflags $(PC_TEST))
+TEST_LIBS   = $(shell pkg-config --libs $(PC_TEST))
+
+B       ?= build
+LIB_SRC := $(sort $(wildcard src/*.c))
+CLI_SRC := $(sort $(wildcard src/cli/*.c))
+TEST_SRC := $(sort $(wildcard tests/test_*.c))
+LIB_OBJ := $(patsubst src/%.c,$(B)/obj/%.o,$(LIB_SRC))
+CLI_OBJ := $(patsubst src/cli/%.c,$(B)/obj/cli/%.o,$(CLI_SRC))
+TESTS   := $(patsubst tests/%.c,$(B)/tests/%,$(TEST_SRC))
+HEADERS := $(wildcard include/tram/*.h) $(wildcard src/*.h) $(wildcard src/cli/*.h)
+
+.PHONY: all deps test unit cli-tests ref-tests asan clang-check demo install clean tools
+
+all: $(B)/tram $(B)/libtram.a $(B)/libtram.so
+
+deps:
+	@missing=""; \
+	for p in $(DEB_PKGS); do \
+	  dpkg-query -W -f='$${Status}' $$p 2>/dev/null | grep -q 'ok installed' || missing="$$missing $$p"; \
+	done; \
+	if [ -n "$$missing" ]; then \
+	  if [ "$$(id -u)" = 0 ]; then \
+	    echo "deps: installing$$missing"; \
+	    apt-get update -qq && DEBIAN_FRONTEND=noninteractive apt-get install -y -qq $$missing; \
+	  else \
+	    echo "tram needs these Debian packages:$$missing" >&2; \
+	    echo "install them with: sudo apt-get install$$missing" >&2; exit 1; \
+	  fi; \
+	fi
+
+$(B)/obj/%.o: src/%.c $(HEADERS)
+	@mkdir -p $(dir $@)
+	$(CC) $(BASEFLAGS) $(OPT) $(EXTRA_CFLAGS) -fPIC -fvisibility=hidden -DTRAM_BUILDING_LIBRARY $(PKG_CFLAGS) -c $< -o $@
+
+$(B)/obj/cli/%.o: src/cli/%.c $(HEADERS)
+	@mkdir -p $(dir $@)
+	$(CC) $(BASEFLAGS) $(OPT) $(EXTRA_CFLAGS) -Iinclude $(PKG_CFLAGS) -c $< -o $@
+
+$(B)/libtram.a: $(LIB_OBJ)
+	@mkdir -p $(B)
+	rm -f $@; ar rcs $@ $^
+
+$(B)/libtram.so: $(LIB_OBJ)
+	$(CC) -shared -Wl,-soname,libtram.so.0 $(EXTRA_LDFLAGS) -o $@ $^ $(PKG_LIBS)
+
+$(B)/tram: $(CLI_OBJ) $(B)/libtram.a
+	$(CC) $(EXTRA_LDFLAGS) -o $@ $(CLI_OBJ) $(B)/libtram.a $(PKG_LIBS)
+
+$(B)/tests/%: tests/%.c tests/test_util.h $(B)/libtram.a
+	@mkdir -p $(dir $@)
+	$(CC) $(BASEFLAGS) $(OPT) $(EXTRA_CFLAGS) -Itests $(PKG_CFLAGS) $(TEST_CFLAGS) $< -o $@ \
+	  $(B)/libtram.a $(EXTRA_LDFLAGS) $(TEST_LIBS) $(PKG_LIBS)
+
+$(B)/refhelper: tests/ref/refhelper.c $(B)/libtram.a
+	$(CC) $(BASEFLAGS) $(OPT) $(EXTRA_CFLAGS) $(PKG_CFLAGS) $< -o $@ $(B)/libtram.a $(EXTRA_LDFLAGS) $(PKG_LIBS)
+
+tools: $(B)/gen_demo
+$(B)/gen_demo: tools/gen_demo.c $(B)/libtram.a
+	$(CC) $(BASEFLAGS) $(OPT) $(PKG_CFLAGS) $< -o $@ $(B)/libtram.a $(PKG_LIBS)
+
+# Unit tests (cmocka), one binary per module.
+unit: $(TESTS)
+	@set -e; for t in $(TESTS); do echo "== $$t"; $$t; done
+
+# Command-line tests: exit codes, file:line:column messages, empty stdout.
+cli-tests: $(B)/tram
+	@TRAM=$(abspath $(B)/tram) sh tests/cli/run.sh
+
+# Reference checks against SciPy / NumPy (Debian's python3-scipy).
+ref-tests: $(B)/refhelper $(B)/tram
+	$(PYTHON) tests/ref/check_rotation_scipy.py $(B)/refhelper
+
+asan:
+	$(MAKE) B=build-asan OPT="-O1 -g -fno-omit-frame-pointer" \
+	  EXTRA_CFLAGS="-fsanitize=address,undefined -fno-sanitize-recover=all" \
+	  EXTRA_LDFLAGS="-fsanitize=address,undefined" unit cli-tests
+
+clang-check:
+	@if command -v clang >/dev/null 2>&1; then \
+	  $(MAKE) B=build-clang CC=clang all; \
+	else echo "clang not installed: clang build skipped"; fi
+
+test:
+	@$(MAKE) --no-print-directory deps
+	@$(MAKE) --no-print-directory all
+	@$(MAKE) --no-print-directory clang-check
+	@$(MAKE) --no-print-directory unit
+	@$(MAKE) --no-print-directory cli-tests
+	@$(MAKE) --no-print-directory ref-tests
+	@$(MAKE) --no-print-directory asan
+	@echo "make test: all suites passed"
+
+demo:
+	@$(MAKE) --no-print-directory deps
+	@$(MAKE) --no-print-directory all
+	@sh datasets/demo/run_demo.sh $(B)/tram
+
+install: all
+	install -d $(DESTDIR)$(PREFIX)/bin $(DESTDIR)$(PREFIX)/lib $(DESTDIR)$(PREFIX)/include/tram \
+	  $(DESTDIR)$(PREFIX)/lib/pkgconfig $(DESTDIR)$(PREFIX)/share/man/man1
+	install -m 755 $(B)/tram $(DESTDIR)$(PREFIX)/bin/tram
+	install -m 644 $(B)/libtram.a $(DESTDIR)$(PREFIX)/lib/libtram.a
+	install -m 755 $(B)/libtram.so $(DESTDIR)$(PREFIX)/lib/libtram.so.0
+	ln -sf libtram.so.0 $(DESTDIR)$(PREFIX)/lib/libtram.so
+	install -m 644 include/tram/*.h $(DESTDIR)$(PREFIX)/include/tram/
+	install -m 644 docs/tram.1 $(DESTDIR)$(PREFIX)/share/man/man1/tram.1
+	sed -e 's|@PREFIX@|$(PREFIX)|g' -e 's|@VERSION@|$(shell sed -n 's/.*TRAM_VERSION_STRING "\(.*\)"/\1/p' include/tram/common.h)|g' \
+	  tram.pc.in > $(DESTDIR)$(PREFIX)/lib/pkgconfig/tram.pc
+
+clean:
+	rm -rf build build-asan build-clang

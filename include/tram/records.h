@@ -1,0 +1,142 @@
+/*
+ * tram/records.h - record files (format v1): per station, the robot's pose
+ * paired with the sensor's observation of the calibration target.
+ *
+ * The reference for the format is docs/records.md.  In memory every station
+ * holds, after reading, T_base_flange (the flange's pose in the robot base)
+ * and T_sensor_target (the target's pose in the sensor frame), with lengths
+ * in the file's declared length unit (never rescaled silently), together
+ * with the raw numbers exactly as read, so that a block can be re-read under
+ * another convention (tram_records_rebuild) - the basis of the convention
+ * checks of the solver.
+ *
+ * Reading is strict: nothing is guessed.  Every problem is reported as an
+ * error naming file:line:column and what was expected.
+ */
+#ifndef TRAM_RECORDS_H
+#define TRAM_RECORDS_H
+
+#include <stdio.h>
+
+#include "tram/rotation.h"
+#include "tram/se3.h"
+
+#ifdef __cplusplus
+extern "C" {
+#endif
+
+typedef enum tram_setup {
+    TRAM_SETUP_UNSET = 0,
+    TRAM_SETUP_EYE_IN_HAND, /* sensor on the flange, target fixed in the cell */
+    TRAM_SETUP_EYE_TO_HAND  /* sensor fixed in the cell, target on the flange */
+} tram_setup;
+
+TRAM_API tram_setup tram_setup_parse(const char *s);  /* "eye-in-hand" ... */
+TRAM_API const char *tram_setup_name(tram_setup s);
+
+/* The rotation set a pose block uses. */
+typedef enum tram_rep_kind {
+    TRAM_REP_NONE = 0,
+    TRAM_REP_QUAT,   /* _qw,_qx,_qy,_qz: unit quaternion, scalar first       */
+    TRAM_REP_ROTVEC, /* _rx,_ry,_rz: rotation vector, length = angle          */
+    TRAM_REP_MATRIX, /* _r11 ... _r33: row-major rotation matrix              */
+    TRAM_REP_EULER   /* _e1,_e2,_e3: angles of a declared Euler convention   */
+} tram_rep_kind;
+
+/* Blocks of a record. */
+enum { TRAM_BLOCK_ROBOT = 0, TRAM_BLOCK_SENSOR = 1, TRAM_BLOCK_COUNT = 2 };
+
+/* How the raw numbers of one block turn into a pose. */
+typedef struct tram_block_convention {
+    tram_rep_kind rep;          /* set by the header                           */
+    tram_euler_seq euler;       /* for TRAM_REP_EULER; else TRAM_EULER_UNSET    */
+    int inverted;               /* robot: 1 = base-in-flange (T_flange_base);
+                                   sensor: 1 = sensor-in-target (T_target_sensor) */
+    tram_angle_unit angle_unit; /* unit of rotation-vector or Euler angles      */
+    double length_scale;        /* raw lengths are multiplied by this (1)        */
+    int quat_xyzw;              /* 1: the qw,qx,qy,qz columns hold x,y,z,w
+                                   (used only to test that hypothesis)          */
+} tram_block_convention;
+
+#define TRAM_STATION_ID_MAX 64
+#define TRAM_RAW_MAX 12 /* x, y, z and up to 9 rotation numbers */
+
+typedef struct tram_station {
+    char id[TRAM_STATION_ID_MAX];
+    long line;                                 /* source line (0: unknown)    */
+    double raw[TRAM_BLOCK_COUNT][TRAM_RAW_MAX]; /* x,y,z, rotation numbers     */
+    int col[TRAM_BLOCK_COUNT][TRAM_RAW_MAX];    /* source column of each raw    */
+    tram_se3 T_base_flange;   /* valid when the robot block is present          */
+    tram_se3 T_sensor_target; /* valid when the sensor block is present         */
+} tram_station;
+
+typedef struct tram_records {
+    size_t count;
+    tram_station *stations;      /* count entries, owned by the record set     */
+    char source[256];            /* file name used in messages                 */
+    tram_length_unit length_unit;
+    tram_angle_unit angle_unit;  /* UNSET when no block needs angles            */
+    tram_setup setup;            /* from the setup directive, or UNSET           */
+    int has_block[TRAM_BLOCK_COUNT];
+    tram_block_convention conv[TRAM_BLOCK_COUNT];
+    int reorthonormalize;        /* matrices were projected onto SO(3)          */
+    unsigned long long checksum; /* FNV-1a 64 of the input bytes                */
+} tram_records;
+
+typedef struct tram_read_options {
+    tram_length_unit length_unit; /* given on the command line, or UNSET      */
+    tram_angle_unit angle_unit;   /* given on the command line, or UNSET      */
+    int reorthonormalize;         /* accept near-rotation matrices and project */
+    double quat_norm_tol;         /* 0: TRAM_QUAT_NORM_TOL                      */
+    double matrix_tol;            /* 0: TRAM_RECORDS_MATRIX_TOL                 */
+} tram_read_options;
+
+/* Matrices whose defect (tram_so3_defect) exceeds this are rejected unless
+ * re-orthonormalisation is asked for; beyond TRAM_RECORDS_MATRIX_MAX_FIX they
+ * are rejected even then. */
+#define TRAM_RECORDS_MATRIX_TOL 1e-6
+#define TRAM_RECORDS_MATRIX_MAX_FIX 0.05
+
+/* Read a record file: CSV, or JSON when the first non-blank byte is '{'.
+ * path "-" reads standard input.  On success *out is a new record set the
+ * caller frees with tram_records_destroy.  On failure *out is NULL and err
+ * names file:line:column. */
+TRAM_API tram_status tram_records_read_file(const char *path, const tram_read_options *opt,
+                                            tram_records **out, tram_error *err);
+/* The same on a buffer in memory; `name` is used in messages. */
+TRAM_API tram_status tram_records_read_buffer(const char *name, const char *data, size_t len,
+                                              const tram_read_options *opt, tram_records **out,
+                                              tram_error *err);
+/* Free a record set.  NULL is a no-op. */
+TRAM_API void tram_records_destroy(tram_records *r);
+/* A deep copy (NULL on allocation failure).  Caller frees. */
+TRAM_API tram_records *tram_records_clone(const tram_records *r);
+
+/* Recompute every station's poses from its raw numbers under `conv` (one
+ * per block) and store conv in r.  Fails, leaving r's poses unspecified,
+ * when a quaternion or matrix does not pass the checks. */
+TRAM_API tram_status tram_records_rebuild(tram_records *r,
+                                          const tram_block_convention conv[TRAM_BLOCK_COUNT],
+                                          tram_error *err);
+
+/* Output representation of tram_records_write. */
+typedef struct tram_output_rep {
+    tram_rep_kind kind;
+    tram_euler_seq euler;          /* for TRAM_REP_EULER                       */
+    tram_length_unit length_unit;  /* UNSET: the records' unit                  */
+    tram_angle_unit angle_unit;    /* needed for ROTVEC and EULER                */
+} tram_output_rep;
+
+/* Parse "quat", "rotvec", "matrix" or "euler:SEQ"; 0 on success, -1 else. */
+TRAM_API int tram_output_rep_parse(const char *s, tram_output_rep *out);
+
+/* Write as a v1 record file (CSV when json == 0, else JSON) with the poses
+ * in their default direction (flange-in-base, target-in-sensor), every
+ * number printed with %.17g so that it reads back exactly. */
+TRAM_API tram_status tram_records_write(const tram_records *r, const tram_output_rep *rep,
+                                        int json, FILE *f, tram_error *err);
+
+#ifdef __cplusplus
+}
+#endif
+#endif

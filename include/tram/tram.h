@@ -1,0 +1,14 @@
+/*
+ * tram/tram.h - umbrella header of libtram: include this to get the whole
+ * public API.  See docs/notation.md for the frame and unit conventions.
+ */
+#ifndef TRAM_TRAM_H
+#define TRAM_TRAM_H
+
+#include "tram/common.h"
+#include "tram/records.h"
+#include "tram/rotation.h"
+#include "tram/se3.h"
+#include "tram/so3.h"
+
+#endif

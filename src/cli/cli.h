@@ -1,0 +1,57 @@
+/*
+ * cli.h - shared pieces of the tram command: the subcommand signature,
+ * option scanning, and reporting errors in the file:line:column form.
+ * The command uses only the public headers of libtram.
+ */
+#ifndef TRAM_CLI_H
+#define TRAM_CLI_H
+
+#include <stdio.h>
+
+#include "tram/tram.h"
+
+/* Exit codes (docs/tram.1). */
+enum {
+    CLI_EXIT_OK = 0,
+    CLI_EXIT_VERDICT = 1,    /* tram check: the mount moved or data is inconsistent */
+    CLI_EXIT_USAGE = 2,      /* usage or input error */
+    CLI_EXIT_UNDETERMINED = 3 /* the data cannot determine a trustworthy answer */
+};
+
+typedef int (*cli_command_fn)(int argc, char **argv);
+
+typedef struct cli_command {
+    const char *name;
+    cli_command_fn run;
+    const char *summary;
+    const char *help; /* full text for "tram help NAME" */
+} cli_command;
+
+/* Subcommands (one file each). */
+int cli_convert(int argc, char **argv);
+int cli_solve(int argc, char **argv);
+extern const char cli_convert_help[];
+extern const char cli_solve_help[];
+
+/* Option scanning.  If argv[*i] is "--name VALUE" or "--name=VALUE",
+ * advance *i past it, set *value and return 1.  A missing value prints an
+ * error, sets *bad and returns 1. */
+int cli_take(int argc, char **argv, int *i, const char *name, const char **value, int *bad);
+/* 1 if argv[*i] is the flag --name (no value). */
+int cli_flag(char **argv, int i, const char *name);
+
+/* Print "file:line:col: error: message" for a library error. */
+void cli_report(const tram_error *err);
+/* Print "tram CMD: error: ..." for a usage problem; returns CLI_EXIT_USAGE. */
+int cli_usage_error(const char *cmd, const char *fmt, ...)
+#if defined(__GNUC__)
+    __attribute__((format(printf, 2, 3)))
+#endif
+    ;
+/* Map a library status to an exit code. */
+int cli_exit_for(tram_status s);
+
+/* The safety caution printed with every solved or checked result. */
+extern const char cli_safety_text[];
+
+#endif

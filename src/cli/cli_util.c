@@ -1,0 +1,65 @@
+/*
+ * cli_util.c - option scanning and error reporting shared by the
+ * subcommands.
+ */
+#include "cli.h"
+
+#include <stdarg.h>
+#include <string.h>
+
+const char cli_safety_text[] =
+    "SAFETY: this result is computed from the data only; it is not a verified safe motion.\n"
+    "Before any vision-guided motion: verify it at reduced speed, keep clear of the working\n"
+    "envelope, and follow the applicable robot-safety standards and local codes.\n";
+
+int cli_take(int argc, char **argv, int *i, const char *name, const char **value, int *bad)
+{
+    const char *a = argv[*i];
+    size_t n = strlen(name);
+    if (strncmp(a, name, n) != 0) return 0;
+    if (a[n] == '=') {
+        *value = a + n + 1;
+        return 1;
+    }
+    if (a[n] != '\0') return 0;
+    if (*i + 1 >= argc) {
+        fprintf(stderr, "tram: error: option %s needs a value\n", name);
+        *bad = 1;
+        return 1;
+    }
+    *i += 1;
+    *value = argv[*i];
+    return 1;
+}
+
+int cli_flag(char **argv, int i, const char *name) { return strcmp(argv[i], name) == 0; }
+
+void cli_report(const tram_error *err)
+{
+    char buf[1200];
+    tram_error_format(err, buf, sizeof buf);
+    /* "file:line:col: message" -> "file:line:col: error: message" */
+    const char *msg = err->message;
+    size_t prefix = strlen(buf) - strlen(msg);
+    fprintf(stderr, "%.*serror: %s\n", (int)prefix, buf, msg);
+}
+
+int cli_usage_error(const char *cmd, const char *fmt, ...)
+{
+    va_list ap;
+    fprintf(stderr, "tram %s: error: ", cmd);
+    va_start(ap, fmt);
+    vfprintf(stderr, fmt, ap);
+    va_end(ap);
+    fprintf(stderr, "\n(see 'tram help %s')\n", cmd);
+    return CLI_EXIT_USAGE;
+}
+
+int cli_exit_for(tram_status s)
+{
+    switch (s) {
+    case TRAM_OK: return CLI_EXIT_OK;
+    case TRAM_EUNDETERMINED: return CLI_EXIT_UNDETERMINED;
+    default: return CLI_EXIT_USAGE;
+    }
+}

@@ -1,0 +1,44 @@
+/*
+ * tram_internal.h - internals shared between the library's source files.
+ * Not installed; nothing here is part of the public API.
+ */
+#ifndef TRAM_INTERNAL_H
+#define TRAM_INTERNAL_H
+
+#include "tram/common.h"
+#include "tram/so3.h"
+#include "tram/se3.h"
+
+#define TRAM_PI 3.14159265358979323846
+
+#if defined(__GNUC__)
+#define TRAM_PRINTF(a, b) __attribute__((format(printf, a, b)))
+#else
+#define TRAM_PRINTF(a, b)
+#endif
+
+/* Fill err (if not NULL) and return status. */
+tram_status tram__fail(tram_error *err, tram_status status, const char *file, long line,
+                       long column, const char *fmt, ...) TRAM_PRINTF(6, 7);
+
+static inline double tram__sq(double x) { return x * x; }
+static inline double tram__dot3(const double a[3], const double b[3])
+{
+    return a[0] * b[0] + a[1] * b[1] + a[2] * b[2];
+}
+static inline void tram__cross3(const double a[3], const double b[3], double out[3])
+{
+    double c0 = a[1] * b[2] - a[2] * b[1];
+    double c1 = a[2] * b[0] - a[0] * b[2];
+    double c2 = a[0] * b[1] - a[1] * b[0];
+    out[0] = c0; out[1] = c1; out[2] = c2;
+}
+double tram__norm3(const double a[3]);
+
+/* Allocation through one hook, so tests can make allocations fail. */
+void *tram__malloc(size_t n);
+void *tram__calloc(size_t count, size_t size);
+void *tram__realloc(void *p, size_t n);
+void tram__free(void *p);
+
+#endif
