@@ -57,11 +57,13 @@ deps:
 
 $(B)/obj/%.o: src/%.c $(HEADERS)
 	@mkdir -p $(dir $@)
-	$(CC) $(BASEFLAGS) $(OPT) $(EXTRA_CFLAGS) -fPIC -fvisibility=hidden -DTRAM_BUILDING_LIBRARY $(PKG_CFLAGS) -c $< -o $@
+	@echo "  CC      $<"
+	@$(CC) $(BASEFLAGS) $(OPT) $(EXTRA_CFLAGS) -fPIC -fvisibility=hidden -DTRAM_BUILDING_LIBRARY $(PKG_CFLAGS) -c $< -o $@
 
 $(B)/obj/cli/%.o: src/cli/%.c $(HEADERS)
 	@mkdir -p $(dir $@)
-	$(CC) $(BASEFLAGS) $(OPT) $(EXTRA_CFLAGS) -Iinclude $(PKG_CFLAGS) -c $< -o $@
+	@echo "  CC      $<"
+	@$(CC) $(BASEFLAGS) $(OPT) $(EXTRA_CFLAGS) -Iinclude $(PKG_CFLAGS) -c $< -o $@
 
 $(B)/libtram.a: $(LIB_OBJ)
 	@mkdir -p $(B)
@@ -75,7 +77,8 @@ $(B)/tram: $(CLI_OBJ) $(B)/libtram.a
 
 $(B)/tests/%: tests/%.c tests/test_util.h $(B)/libtram.a
 	@mkdir -p $(dir $@)
-	$(CC) $(BASEFLAGS) $(OPT) $(EXTRA_CFLAGS) -Itests $(PKG_CFLAGS) $(TEST_CFLAGS) $< -o $@ \
+	@echo "  CC      $<"
+	@$(CC) $(BASEFLAGS) $(OPT) $(EXTRA_CFLAGS) -Itests $(PKG_CFLAGS) $(TEST_CFLAGS) $< -o $@ \
 	  $(B)/libtram.a $(EXTRA_LDFLAGS) $(TEST_LIBS) $(PKG_LIBS)
 
 $(B)/refhelper: tests/ref/refhelper.c $(B)/libtram.a

@@ -149,11 +149,10 @@ void tram_so3_nearest(const tram_mat3 *M, tram_mat3 *out)
         tram_so3_identity(out);
         return;
     }
-    double det = U[0] * (U[4] * U[8] - U[5] * U[7]) - U[1] * (U[3] * U[8] - U[5] * U[6]) +
-                 U[2] * (U[3] * U[7] - U[4] * U[6]);
-    double detv = Vt[0] * (Vt[4] * Vt[8] - Vt[5] * Vt[7]) - Vt[1] * (Vt[3] * Vt[8] - Vt[5] * Vt[6]) +
-                  Vt[2] * (Vt[3] * Vt[7] - Vt[4] * Vt[6]);
-    double d = det * detv < 0.0 ? -1.0 : 1.0;
+    tram_mat3 Um, Vm;
+    memcpy(&Um.m[0][0], U, sizeof U);
+    memcpy(&Vm.m[0][0], Vt, sizeof Vt);
+    double d = tram__det3(&Um) * tram__det3(&Vm) < 0.0 ? -1.0 : 1.0;
     for (int i = 0; i < 3; i++)
         for (int j = 0; j < 3; j++)
             out->m[i][j] = U[i * 3 + 0] * Vt[0 * 3 + j] + U[i * 3 + 1] * Vt[1 * 3 + j] +
@@ -169,10 +168,7 @@ double tram_so3_defect(const tram_mat3 *R)
             double e = fabs(g - (i == j ? 1.0 : 0.0));
             if (!(e <= worst)) worst = e; /* also catches NaN */
         }
-    const double(*m)[3] = R->m;
-    double det = m[0][0] * (m[1][1] * m[2][2] - m[1][2] * m[2][1]) -
-                 m[0][1] * (m[1][0] * m[2][2] - m[1][2] * m[2][0]) +
-                 m[0][2] * (m[1][0] * m[2][1] - m[1][1] * m[2][0]);
+    double det = tram__det3(R);
     double e = fabs(det - 1.0);
     if (!(e <= worst)) worst = e;
     return worst;

@@ -35,6 +35,14 @@ static inline void tram__cross3(const double a[3], const double b[3], double out
 }
 double tram__norm3(const double a[3]);
 
+static inline double tram__det3(const tram_mat3 *M)
+{
+    const double(*a)[3] = M->m;
+    return a[0][0] * (a[1][1] * a[2][2] - a[1][2] * a[2][1]) -
+           a[0][1] * (a[1][0] * a[2][2] - a[1][2] * a[2][0]) +
+           a[0][2] * (a[1][0] * a[2][1] - a[1][1] * a[2][0]);
+}
+
 /* Allocation through one hook, so tests can make allocations fail. */
 void *tram__malloc(size_t n);
 void *tram__calloc(size_t count, size_t size);

@@ -1,0 +1,28 @@
+/*
+ * handeye_internal.h - internals shared by the hand-eye solvers
+ * (handeye_axxb.c, handeye_axyb.c, refine.c, solve.c).
+ */
+#ifndef TRAM_HANDEYE_INTERNAL_H
+#define TRAM_HANDEYE_INTERNAL_H
+
+#include "tram/handeye.h"
+#include "tram_internal.h"
+
+/* Quaternion (w,x,y,z) product matrices: q p = L(q) p, p q = R(q) p. */
+void tram__quat_left(const double q[4], double L[16]);
+void tram__quat_right(const double q[4], double R[16]);
+
+/* Scale M by sign(det)/|det|^(1/3) so that det M = 1 (no-op for det 0). */
+void tram__scale_to_det1(tram_mat3 *M);
+
+/* Z from X: chordal mean of the rotations and mean of the translations of
+ * P_i X S_i over all stations. */
+void tram__target_from_x(const tram_se3 *P, const tram_se3 *S, size_t n, const tram_se3 *X,
+                         tram_se3 *Z);
+
+tram_status tram__solve_axxb(tram_method method, const tram_se3 *P, const tram_se3 *S, size_t n,
+                             const tram_pair *pairs, size_t npairs, tram_se3 *X, tram_se3 *Z);
+tram_status tram__solve_axyb(tram_method method, const tram_se3 *P, const tram_se3 *S, size_t n,
+                             tram_se3 *X, tram_se3 *Z);
+
+#endif
