@@ -110,3 +110,13 @@ tram_status tram__spd_inverse(int n, const double *A, double *out)
         for (int j = 0; j < i; j++) out[i * n + j] = out[j * n + i];
     return TRAM_OK;
 }
+
+tram_status tram__spd_solve(int n, const double *A, const double *b, double *x)
+{
+    double a[144];
+    if (n > 12) return TRAM_ENUMERIC;
+    memcpy(a, A, (size_t)n * (size_t)n * sizeof *a);
+    memcpy(x, b, (size_t)n * sizeof *x);
+    lapack_int info = LAPACKE_dposv(LAPACK_ROW_MAJOR, 'U', n, 1, a, n, x, 1);
+    return info == 0 ? TRAM_OK : TRAM_ENUMERIC;
+}

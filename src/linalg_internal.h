@@ -34,4 +34,10 @@ tram_status tram__symeig(int n, const double *A, double *w, double *V);
  * TRAM_ENUMERIC when A is not positive definite. */
 tram_status tram__spd_inverse(int n, const double *A, double *out);
 
+
+/* Solve A x = b for the symmetric positive definite n x n A (Cholesky,
+ * LAPACKE_dposv).  A and b are not modified.  TRAM_ENUMERIC when A is not
+ * positive definite. */
+tram_status tram__spd_solve(int n, const double *A, const double *b, double *x);
+
 #endif

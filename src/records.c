@@ -114,6 +114,26 @@ tram_status tram__directive_apply(rec_directives *d, const char *file, long line
             return conflict(file, line, col, key, d->angle_unit_line, err);
         d->angle_unit = u;
         d->angle_unit_line = line;
+    } else if (strcmp(key, "robot-length-unit") == 0 || strcmp(key, "sensor-length-unit") == 0) {
+        int b = key[0] == 'r' ? TRAM_BLOCK_ROBOT : TRAM_BLOCK_SENSOR;
+        tram_length_unit u = tram_unit_length_parse(value);
+        if (u == TRAM_LENGTH_UNSET)
+            return tram__fail(err, TRAM_EINPUT, file, line, col,
+                              "%s '%s': expected one of mm, cm, m, in", key, value);
+        if (d->block_length_line[b] && d->block_length[b] != u)
+            return conflict(file, line, col, key, d->block_length_line[b], err);
+        d->block_length[b] = u;
+        d->block_length_line[b] = line;
+    } else if (strcmp(key, "robot-angle-unit") == 0 || strcmp(key, "sensor-angle-unit") == 0) {
+        int b = key[0] == 'r' ? TRAM_BLOCK_ROBOT : TRAM_BLOCK_SENSOR;
+        tram_angle_unit u = tram_unit_angle_parse(value);
+        if (u == TRAM_ANGLE_UNSET)
+            return tram__fail(err, TRAM_EINPUT, file, line, col, "%s '%s': expected deg or rad",
+                              key, value);
+        if (d->block_angle_line[b] && d->block_angle[b] != u)
+            return conflict(file, line, col, key, d->block_angle_line[b], err);
+        d->block_angle[b] = u;
+        d->block_angle_line[b] = line;
     } else if (strcmp(key, "robot-euler") == 0 || strcmp(key, "sensor-euler") == 0) {
         int b = key[0] == 'r' ? TRAM_BLOCK_ROBOT : TRAM_BLOCK_SENSOR;
         tram_euler_seq e = tram_euler_parse(value);
@@ -179,7 +199,8 @@ tram_status tram__directive_apply(rec_directives *d, const char *file, long line
     } else {
         return tram__fail(err, TRAM_EINPUT, file, line, col,
                           "unknown directive '%s' (known: length-unit, angle-unit, robot-euler, "
-                          "sensor-euler, robot-pose, sensor-pose, setup, format)",
+                          "sensor-euler, robot-pose, sensor-pose, robot-length-unit, "
+                          "sensor-length-unit, robot-angle-unit, sensor-angle-unit, setup, format)",
                           key);
     }
     return TRAM_OK;
@@ -413,10 +434,12 @@ tram_status tram__records_finish(tram_records *r, const rec_schema *s, const rec
                               tram_unit_angle_name(au), tram_unit_angle_name(opt->angle_unit));
         au = opt->angle_unit;
     }
+    tram_angle_unit bau[TRAM_BLOCK_COUNT];
     for (int b = 0; b < TRAM_BLOCK_COUNT; b++) {
+        bau[b] = d->block_angle[b] != TRAM_ANGLE_UNSET ? d->block_angle[b] : au;
         if (!s->has_block[b]) continue;
         tram_rep_kind k = s->rep[b];
-        if ((k == TRAM_REP_ROTVEC || k == TRAM_REP_EULER) && au == TRAM_ANGLE_UNSET)
+        if ((k == TRAM_REP_ROTVEC || k == TRAM_REP_EULER) && bau[b] == TRAM_ANGLE_UNSET)
             return tram__fail(err, TRAM_EINPUT, file, header_line, 0,
                               "the %s block holds angles (%s...) but no angle unit is given: add "
                               "'# angle-unit: deg' (or rad) or pass --angle-unit",
@@ -429,7 +452,8 @@ tram_status tram__records_finish(tram_records *r, const rec_schema *s, const rec
                               block_word[b], block_word[b]);
     }
     r->length_unit = lu;
-    r->angle_unit = au;
+    /* The record set's angle unit: the common one, else the first block's. */
+    r->angle_unit = au != TRAM_ANGLE_UNSET ? au : (bau[0] != TRAM_ANGLE_UNSET ? bau[0] : bau[1]);
     r->setup = d->setup;
     r->reorthonormalize = opt ? opt->reorthonormalize : 0;
     tram_block_convention conv[2];
@@ -438,8 +462,11 @@ tram_status tram__records_finish(tram_records *r, const rec_schema *s, const rec
         conv[b].rep = s->rep[b];
         conv[b].euler = s->rep[b] == TRAM_REP_EULER ? d->euler[b] : TRAM_EULER_UNSET;
         conv[b].inverted = d->inverted[b];
-        conv[b].angle_unit = au;
-        conv[b].length_scale = 1.0;
+        conv[b].angle_unit = bau[b];
+        /* A block in its own unit is converted to the file's length unit. */
+        conv[b].length_scale = d->block_length[b] != TRAM_LENGTH_UNSET
+                                   ? tram_unit_length_factor(d->block_length[b], lu)
+                                   : 1.0;
         conv[b].quat_xyzw = 0;
     }
     return rebuild_with(r, conv, opt, err);

@@ -16,6 +16,9 @@ typedef struct rec_directives {
     tram_euler_seq euler[TRAM_BLOCK_COUNT]; long euler_line[TRAM_BLOCK_COUNT];
     int inverted[TRAM_BLOCK_COUNT]; long pose_line[TRAM_BLOCK_COUNT];
     tram_setup setup; long setup_line;
+    /* per-block overrides of the length and angle units */
+    tram_length_unit block_length[TRAM_BLOCK_COUNT]; long block_length_line[TRAM_BLOCK_COUNT];
+    tram_angle_unit block_angle[TRAM_BLOCK_COUNT]; long block_angle_line[TRAM_BLOCK_COUNT];
     int format_version; long format_line;
 } rec_directives;
 

@@ -134,6 +134,8 @@ tram_status tram__records_read_json(const char *name, const char *data, size_t l
         {"length_unit", "length-unit"}, {"angle_unit", "angle-unit"},
         {"robot_euler", "robot-euler"}, {"sensor_euler", "sensor-euler"},
         {"robot_pose", "robot-pose"},   {"sensor_pose", "sensor-pose"},
+        {"robot_length_unit", "robot-length-unit"}, {"sensor_length_unit", "sensor-length-unit"},
+        {"robot_angle_unit", "robot-angle-unit"},   {"sensor_angle_unit", "sensor-angle-unit"},
         {"setup", "setup"}};
     const cJSON *item;
     cJSON_ArrayForEach(item, root)
@@ -156,8 +158,9 @@ tram_status tram__records_read_json(const char *name, const char *data, size_t l
         if (!found) {
             st = tram__fail(err, TRAM_EINPUT, name, 0, 0,
                             "unknown key \"%s\" (known: format, version, length_unit, angle_unit, "
-                            "robot_euler, sensor_euler, robot_pose, sensor_pose, setup, comment, "
-                            "stations)",
+                            "robot_euler, sensor_euler, robot_pose, sensor_pose, robot_length_unit, "
+                            "sensor_length_unit, robot_angle_unit, sensor_angle_unit, setup, "
+                            "comment, stations)",
                             k);
             goto done;
         }

@@ -6,9 +6,12 @@
 #define TRAM_TRAM_H
 
 #include "tram/common.h"
+#include "tram/fileio.h"
+#include "tram/handeye.h"
 #include "tram/records.h"
 #include "tram/rotation.h"
 #include "tram/se3.h"
 #include "tram/so3.h"
+#include "tram/solve.h"
 
 #endif

@@ -1,10 +1,342 @@
-/* cmd_solve.c - placeholder until the solver lands. */
+/*
+ * cmd_solve.c - "tram solve": hand-eye calibration from a record file,
+ * printed as a readable summary or as JSON, optionally saved as a
+ * calibration file.
+ */
 #include "cli.h"
-const char cli_solve_help[] = "usage: tram solve [OPTIONS] FILE\n";
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+#include <unistd.h>
+
+#define RAD2DEG (180.0 / 3.14159265358979323846)
+
+const char cli_solve_help[] =
+    "usage: tram solve [OPTIONS] FILE\n\n"
+    "Finds where the sensor sits from a record file (CSV or JSON, '-' for stdin):\n"
+    "  eye-in-hand  (sensor on the flange):  T_flange_sensor and T_base_target\n"
+    "  eye-to-hand  (sensor in the cell):    T_base_sensor and T_flange_target\n"
+    "Default: every closed form is tried, the best one starts a robust refinement\n"
+    "over both unknowns; per-station residuals, outliers, uncertainty, observability\n"
+    "and convention checks are reported.\n\n"
+    "options:\n"
+    "  --setup eye-in-hand|eye-to-hand   (or the file's '# setup:' directive)\n"
+    "  --method M        auto (default), tsai-lenz, park-martin, horaud-dornaika,\n"
+    "                    daniilidis, andreff (AX=XB); shah, zhuang (AX=YB)\n"
+    "  --pairs P         station pairs for AX=XB: auto (default: all pairs up to 60\n"
+    "                    stations, else consecutive plus half-way pairs), all, consecutive\n"
+    "  --closed-form     report the closed form only, without refinement\n"
+    "  --no-robust       plain least squares, no outlier exclusion\n"
+    "  --noise LEN,ANG   per-axis station noise used as weights, e.g. 0.2mm,0.05deg\n"
+    "                    (default: estimated from the residuals)\n"
+    "  --bootstrap N     N station resamples as a second opinion on the uncertainty\n"
+    "  --seed N          bootstrap seed (default 1)\n"
+    "  --no-convention-check   skip re-solving under the usual convention mistakes\n"
+    "  --length-unit U, --angle-unit U   units when the file does not declare them\n"
+    "  --reorthonormalize        accept rounded rotation matrices\n"
+    "  --json            print the result as JSON (schema: docs/solve.md)\n"
+    "  -o FILE           write the calibration file (JSON) atomically\n"
+    "  --force           allow -o to replace an existing file\n\n"
+    "exit status: 0 solved with no warning; 2 usage or input error; 3 the data cannot\n"
+    "determine a trustworthy answer (unobservable motion, or a warning such as a\n"
+    "convention that fits far better than the declared one).\n";
+
+static void progress(void *ctx, const char *what, size_t done, size_t total)
+{
+    (void)ctx;
+    if (total < 50 || (done % 10 != 0 && done != total)) return;
+    fprintf(stderr, "\r%s %zu/%zu", what, done, total);
+    if (done == total) fputc('\n', stderr);
+}
+
+static int parse_noise(const char *v, double *len, double *ang, tram_length_unit file_unit,
+                       int *len_unit_given, tram_length_unit *len_unit)
+{
+    /* "0.2mm,0.05deg" */
+    const char *comma = strchr(v, ',');
+    if (!comma) return -1;
+    char *end;
+    *len = strtod(v, &end);
+    if (end == v || !(*len > 0)) return -1;
+    char u[8] = {0};
+    size_t ul = (size_t)(comma - end);
+    if (ul == 0 || ul >= sizeof u) return -1;
+    memcpy(u, end, ul);
+    *len_unit = tram_unit_length_parse(u);
+    if (*len_unit == TRAM_LENGTH_UNSET) return -1;
+    *len_unit_given = 1;
+    (void)file_unit;
+    *ang = strtod(comma + 1, &end);
+    if (end == comma + 1 || !(*ang > 0)) return -1;
+    tram_angle_unit au = tram_unit_angle_parse(end);
+    if (au == TRAM_ANGLE_UNSET) return -1;
+    *ang *= tram_unit_angle_in_rad(au);
+    return 0;
+}
+
+static void print_matrix(const tram_se3 *T)
+{
+    for (int i = 0; i < 4; i++)
+        printf("    [ %12.8f %12.8f %12.8f %14.6f ]\n", T->m[i][0], T->m[i][1], T->m[i][2],
+               T->m[i][3]);
+}
+
+static void print_transform(const char *name, const char *meaning, const tram_se3 *T,
+                            const tram_solution *s, int off, const char *u)
+{
+    tram_mat3 R;
+    double t[3], w[3];
+    tram_quat_wxyz q;
+    tram_se3_to_rt(T, &R, t);
+    tram_quat_wxyz_from_mat3(&R, &q);
+    tram_so3_log(&R, w);
+    printf("%s  (%s)\n", name, meaning);
+    print_matrix(T);
+    printf("  translation (%s)        %12.6f %12.6f %12.6f\n", u, t[0], t[1], t[2]);
+    if (s->unc.valid)
+        printf("    1-sigma / 95%%          %12.6f %12.6f %12.6f  /  +-%.4g +-%.4g +-%.4g\n",
+               s->unc.sigma[off], s->unc.sigma[off + 1], s->unc.sigma[off + 2],
+               1.96 * s->unc.sigma[off], 1.96 * s->unc.sigma[off + 1],
+               1.96 * s->unc.sigma[off + 2]);
+    printf("  quaternion (w, x, y, z)  %12.9f %12.9f %12.9f %12.9f\n", q.w, q.x, q.y, q.z);
+    printf("  rotation vector (deg)    %12.6f %12.6f %12.6f   angle %.6f\n", w[0] * RAD2DEG,
+           w[1] * RAD2DEG, w[2] * RAD2DEG,
+           sqrt(w[0] * w[0] + w[1] * w[1] + w[2] * w[2]) * RAD2DEG);
+    if (s->unc.valid)
+        printf("    rotation 1-sigma (deg, about own x y z) %.4g %.4g %.4g  (95%%: +-%.4g +-%.4g "
+               "+-%.4g)\n",
+               s->unc.sigma[off + 3], s->unc.sigma[off + 4], s->unc.sigma[off + 5],
+               1.96 * s->unc.sigma[off + 3], 1.96 * s->unc.sigma[off + 4],
+               1.96 * s->unc.sigma[off + 5]);
+    if (s->unc.bootstrap_valid)
+        printf("    bootstrap 1-sigma: translation %.4g %.4g %.4g %s, rotation %.4g %.4g %.4g "
+               "deg (%zu resamples)\n",
+               s->unc.bootstrap_sigma[off], s->unc.bootstrap_sigma[off + 1],
+               s->unc.bootstrap_sigma[off + 2], u, s->unc.bootstrap_sigma[off + 3],
+               s->unc.bootstrap_sigma[off + 4], s->unc.bootstrap_sigma[off + 5],
+               s->unc.bootstrap_used);
+    printf("\n");
+}
+
+static const char *sev(tram_severity s)
+{
+    return s == TRAM_SEVERITY_ERROR ? "error" : s == TRAM_SEVERITY_WARNING ? "WARNING" : "note";
+}
+
+static void print_summary(const tram_solution *s, const tram_records *r)
+{
+    const char *u = tram_unit_length_name(s->length_unit);
+    printf("tram solve: %s, %zu stations from %s, lengths in %s\n", tram_setup_name(s->setup),
+           s->n, r->source, u);
+    if (s->solved) {
+        printf("method: %s closed form%s\n\n", tram_method_name(s->start_method),
+               s->refined ? ", then robust refinement over both unknowns" : " (not refined)");
+        int eih = s->setup == TRAM_SETUP_EYE_IN_HAND;
+        print_transform(s->X_name, eih ? "pose of the sensor in the flange frame"
+                                       : "pose of the sensor in the robot base frame",
+                        &s->X, s, 0, u);
+        print_transform(s->Z_name, eih ? "pose of the target in the robot base frame"
+                                       : "pose of the target in the flange frame",
+                        &s->Z, s, 6, u);
+        printf("station residuals (each station's prediction of %s against the solution)\n",
+               s->Z_name);
+        printf("  %-16s %12s %14s\n", "station", "rotation deg", u);
+        for (size_t i = 0; i < s->n; i++)
+            printf("  %-16s %12.5f %14.5f%s\n", r->stations[i].id, s->stations[i].rot_deg,
+                   s->stations[i].trans, s->stations[i].outlier ? "   OUTLIER (excluded)" : "");
+        printf("  %-16s %12.5f %14.5f\n", "rms", s->rot_deg.rms, s->trans.rms);
+        printf("  %-16s %12.5f %14.5f\n", "median", s->rot_deg.median, s->trans.median);
+        printf("  %-16s %12.5f %14.5f\n", "max", s->rot_deg.max, s->trans.max);
+        if (s->n_outliers) printf("  (statistics without the %zu outlier(s))\n", s->n_outliers);
+        printf("\nnoise per axis (%s): %.4g deg, %.4g %s\n",
+               s->noise_given ? "given" : "estimated from the residuals", s->noise_angle_deg,
+               s->noise_length, u);
+    }
+    printf("observability: rotation between stations %.2f .. %.2f deg, axis spread %.2f deg",
+           s->motion_min_deg, s->motion_max_deg, s->axis_spread_deg);
+    if (s->refined) printf(", condition %.3g", s->condition);
+    printf("\n");
+    if (s->solved) {
+        printf("closed forms (rms rotation deg / %s):", u);
+        for (int m = 1; m < TRAM_METHOD_COUNT; m++) {
+            if (isnan(s->closed_rot_rms_deg[m])) printf(" %s failed;", tram_method_name((tram_method)m));
+            else
+                printf(" %s %.4g/%.4g;", tram_method_name((tram_method)m),
+                       s->closed_rot_rms_deg[m], s->closed_trans_rms[m]);
+        }
+        printf("\n");
+    }
+    if (s->ndiag) {
+        printf("\ndiagnostics:\n");
+        for (size_t i = 0; i < s->ndiag; i++)
+            printf("  [%s] %s: %s\n", sev(s->diag[i].severity), s->diag[i].code,
+                   s->diag[i].message);
+    }
+    printf("\nresult: %s\n",
+           !s->solved ? "NOT DETERMINED by these data"
+           : s->trustworthy
+               ? "consistent with the data; NOT verified on the cell"
+               : "NOT TRUSTWORTHY - resolve the warnings above before using it");
+    printf("%s", cli_safety_text);
+}
+
 int cli_solve(int argc, char **argv)
 {
-    (void)argc;
-    (void)argv;
-    fprintf(stderr, "tram solve: not built yet\n");
-    return CLI_EXIT_USAGE;
+    const char *file = NULL, *out_path = NULL, *v = NULL;
+    tram_solve_options so;
+    tram_solve_options_init(&so);
+    tram_read_options ro;
+    memset(&ro, 0, sizeof ro);
+    tram_setup setup = TRAM_SETUP_UNSET;
+    int json = 0, force = 0, bad = 0;
+    const char *noise = NULL, *method = "auto";
+    for (int i = 1; i < argc; i++) {
+        if (cli_take(argc, argv, &i, "--setup", &v, &bad)) {
+            if (bad) break;
+            setup = tram_setup_parse(v);
+            if (setup == TRAM_SETUP_UNSET)
+                return cli_usage_error("solve", "--setup '%s': expected eye-in-hand or eye-to-hand", v);
+        } else if (cli_take(argc, argv, &i, "--method", &v, &bad)) {
+            if (bad) break;
+            so.method = tram_method_parse(v);
+            method = v;
+            if (so.method == TRAM_METHOD_COUNT)
+                return cli_usage_error("solve",
+                                       "--method '%s': expected auto, tsai-lenz, park-martin, "
+                                       "horaud-dornaika, daniilidis, andreff, shah or zhuang",
+                                       v);
+        } else if (cli_take(argc, argv, &i, "--pairs", &v, &bad)) {
+            if (bad) break;
+            if (strcmp(v, "auto") == 0) so.pairs = TRAM_PAIRS_AUTO;
+            else if (strcmp(v, "all") == 0) so.pairs = TRAM_PAIRS_ALL;
+            else if (strcmp(v, "consecutive") == 0) so.pairs = TRAM_PAIRS_CONSECUTIVE;
+            else return cli_usage_error("solve", "--pairs '%s': expected auto, all or consecutive", v);
+        } else if (cli_take(argc, argv, &i, "--noise", &noise, &bad)) {
+        } else if (cli_take(argc, argv, &i, "--bootstrap", &v, &bad)) {
+            if (bad) break;
+            char *end;
+            long n = strtol(v, &end, 10);
+            if (*end || n < 0 || n > 1000000)
+                return cli_usage_error("solve", "--bootstrap '%s': expected a count", v);
+            so.bootstrap = (size_t)n;
+        } else if (cli_take(argc, argv, &i, "--seed", &v, &bad)) {
+            if (bad) break;
+            char *end;
+            so.seed = strtoull(v, &end, 10);
+            if (*end) return cli_usage_error("solve", "--seed '%s': expected a number", v);
+        } else if (cli_take(argc, argv, &i, "--length-unit", &v, &bad)) {
+            if (bad) break;
+            ro.length_unit = tram_unit_length_parse(v);
+            if (ro.length_unit == TRAM_LENGTH_UNSET)
+                return cli_usage_error("solve", "--length-unit '%s': expected mm, cm, m or in", v);
+        } else if (cli_take(argc, argv, &i, "--angle-unit", &v, &bad)) {
+            if (bad) break;
+            ro.angle_unit = tram_unit_angle_parse(v);
+            if (ro.angle_unit == TRAM_ANGLE_UNSET)
+                return cli_usage_error("solve", "--angle-unit '%s': expected deg or rad", v);
+        } else if (cli_take(argc, argv, &i, "-o", &out_path, &bad)) {
+        } else if (cli_flag(argv, i, "--closed-form")) {
+            so.refine = 0;
+        } else if (cli_flag(argv, i, "--no-robust")) {
+            so.robust = 0;
+        } else if (cli_flag(argv, i, "--no-convention-check")) {
+            so.check_conventions = 0;
+        } else if (cli_flag(argv, i, "--reorthonormalize")) {
+            ro.reorthonormalize = 1;
+        } else if (cli_flag(argv, i, "--json")) {
+            json = 1;
+        } else if (cli_flag(argv, i, "--force")) {
+            force = 1;
+        } else if (argv[i][0] == '-' && argv[i][1] != '\0') {
+            return cli_usage_error("solve", "unknown option '%s'", argv[i]);
+        } else if (file) {
+            return cli_usage_error("solve", "one record file expected, got '%s' and '%s'", file,
+                                   argv[i]);
+        } else {
+            file = argv[i];
+        }
+        if (bad) return CLI_EXIT_USAGE;
+    }
+    if (bad) return CLI_EXIT_USAGE;
+    if (!file) return cli_usage_error("solve", "no record file (use '-' for stdin)");
+    tram_records *r = NULL;
+    tram_error err;
+    tram_error_clear(&err);
+    tram_status st = tram_records_read_file(file, &ro, &r, &err);
+    if (st != TRAM_OK) {
+        cli_report(&err);
+        return cli_exit_for(st);
+    }
+    if (setup != TRAM_SETUP_UNSET && r->setup != TRAM_SETUP_UNSET && setup != r->setup) {
+        fprintf(stderr,
+                "%s: error: the file declares setup %s but --setup %s was given\n", r->source,
+                tram_setup_name(r->setup), tram_setup_name(setup));
+        tram_records_destroy(r);
+        return CLI_EXIT_USAGE;
+    }
+    if (setup == TRAM_SETUP_UNSET) setup = r->setup;
+    if (setup == TRAM_SETUP_UNSET) {
+        fprintf(stderr,
+                "%s: error: no setup: add '# setup: eye-in-hand' (or eye-to-hand) or pass "
+                "--setup\n",
+                r->source);
+        tram_records_destroy(r);
+        return CLI_EXIT_USAGE;
+    }
+    if (noise) {
+        double len, ang;
+        int given = 0;
+        tram_length_unit nu;
+        if (parse_noise(noise, &len, &ang, r->length_unit, &given, &nu) != 0) {
+            tram_records_destroy(r);
+            return cli_usage_error("solve", "--noise '%s': expected LENGTH,ANGLE with units, e.g. "
+                                            "0.2mm,0.05deg", noise);
+        }
+        so.noise_length = len * tram_unit_length_factor(nu, r->length_unit);
+        so.noise_angle_rad = ang;
+    }
+    if (isatty(STDERR_FILENO)) so.progress = progress;
+    tram_solution *s = NULL;
+    st = tram_solve(r, setup, &so, &s, &err);
+    if (st != TRAM_OK && st != TRAM_EUNDETERMINED) {
+        cli_report(&err);
+        tram_records_destroy(r);
+        return cli_exit_for(st);
+    }
+    char *text = NULL;
+    int rc = CLI_EXIT_OK;
+    if (json) {
+        if (tram_solution_to_json(s, r, method, 0, &text, &err) != TRAM_OK) {
+            cli_report(&err);
+            rc = CLI_EXIT_USAGE;
+        } else {
+            fputs(text, stdout);
+        }
+        free(text);
+        text = NULL;
+    } else {
+        print_summary(s, r);
+    }
+    for (size_t i = 0; i < s->ndiag; i++)
+        if (s->diag[i].severity >= TRAM_SEVERITY_WARNING)
+            fprintf(stderr, "tram solve: %s: %s\n",
+                    s->diag[i].severity == TRAM_SEVERITY_ERROR ? "error" : "warning",
+                    s->diag[i].message);
+    if (rc == CLI_EXIT_OK && out_path) {
+        if (!s->solved) {
+            fprintf(stderr, "tram solve: no calibration file written: nothing was determined\n");
+        } else if (tram_solution_to_json(s, r, method, 1, &text, &err) != TRAM_OK ||
+                   tram_file_write_atomic(out_path, text, strlen(text), force, &err) != TRAM_OK) {
+            cli_report(&err);
+            rc = CLI_EXIT_USAGE;
+        } else if (!json) {
+            printf("calibration written to %s\n", out_path);
+        }
+        free(text);
+    }
+    if (rc == CLI_EXIT_OK && (!s->solved || !s->trustworthy)) rc = CLI_EXIT_UNDETERMINED;
+    tram_solution_destroy(s);
+    tram_records_destroy(r);
+    return rc;
 }

@@ -1,0 +1,129 @@
+/*
+ * tram/solve.h - the hand-eye calibration pipeline: closed-form start,
+ * robust refinement, outlier flags, residual statistics, uncertainty,
+ * observability figures and convention checks (docs/solve.md).
+ *
+ * Unknowns by setup (T_a_b: pose of b in a):
+ *   eye-in-hand:  X = T_flange_sensor, Z = T_base_target,
+ *                 T_base_target = T_base_flange(i) T_flange_sensor T_sensor_target(i)
+ *   eye-to-hand:  X = T_base_sensor,   Z = T_flange_target,
+ *                 T_base_sensor T_sensor_target(i) = T_base_flange(i) T_flange_target
+ * Lengths are in the records' length unit; angles in the results are in
+ * degrees where the name says _deg, else radians.
+ */
+#ifndef TRAM_SOLVE_H
+#define TRAM_SOLVE_H
+
+#include "tram/handeye.h"
+#include "tram/records.h"
+
+#ifdef __cplusplus
+extern "C" {
+#endif
+
+typedef void (*tram_progress_fn)(void *ctx, const char *what, size_t done, size_t total);
+
+typedef struct tram_solve_options {
+    tram_method method;      /* AUTO (default): best closed form, then refinement  */
+    int refine;              /* 1 (default): refine; 0: report the closed form      */
+    int robust;              /* 1 (default): Cauchy loss and outlier exclusion      */
+    tram_pairs_mode pairs;   /* station pairs for AX=XB methods                     */
+    double noise_length;     /* per-axis 1-sigma of the station residual in length;
+                                0 (default): estimated from the data               */
+    double noise_angle_rad;  /* per-axis 1-sigma in rad; 0: estimated               */
+    size_t bootstrap;        /* number of resamples; 0 (default): none              */
+    unsigned long long seed; /* bootstrap seed (default 1)                          */
+    int check_conventions;   /* 1 (default): run the convention checks              */
+    tram_progress_fn progress;
+    void *progress_ctx;
+} tram_solve_options;
+
+TRAM_API void tram_solve_options_init(tram_solve_options *opt);
+
+typedef enum tram_severity {
+    TRAM_SEVERITY_INFO = 0,
+    TRAM_SEVERITY_WARNING = 1, /* the result must not be used until explained */
+    TRAM_SEVERITY_ERROR = 2    /* no trustworthy result                         */
+} tram_severity;
+
+typedef struct tram_diagnostic {
+    char code[40];       /* stable identifier, e.g. "robot-pose-inverted" */
+    tram_severity severity;
+    char message[700];   /* one plain sentence or two, with the fix       */
+} tram_diagnostic;
+
+typedef struct tram_station_result {
+    double rot_deg;  /* angle between the station's prediction of Z and Z */
+    double trans;    /* distance between them (length unit)                */
+    int outlier;     /* flagged and excluded from the final refinement      */
+} tram_station_result;
+
+typedef struct tram_stats {
+    double rms, median, max;
+} tram_stats;
+
+/* Uncertainty of X and Z.  Index order of the 12 values: X translation
+ * x, y, z (length, parent frame), X rotation about its own x, y, z axes
+ * (deg), Z translation, Z rotation.  The 95% bound is 1.96 sigma. */
+typedef struct tram_uncertainty {
+    int valid;
+    double sigma[12];
+    double cov[144];     /* covariance in (length, rad), same order          */
+    int bootstrap_valid;
+    size_t bootstrap_used;
+    double bootstrap_sigma[12];
+    double bootstrap_lo[12], bootstrap_hi[12]; /* 2.5 and 97.5 percentiles of
+                                                  the deviation (deg / length) */
+} tram_uncertainty;
+
+typedef struct tram_solution {
+    tram_setup setup;
+    tram_length_unit length_unit;
+    int solved;               /* 0 when the data cannot determine the answer  */
+    int trustworthy;          /* 0 when a warning or error diagnostic stands   */
+    tram_method start_method; /* the closed form used as the start             */
+    int refined;
+    tram_se3 X, Z;
+    const char *X_name;       /* "T_flange_sensor" or "T_base_sensor"          */
+    const char *Z_name;       /* "T_base_target" or "T_flange_target"          */
+    size_t n;                 /* stations                                      */
+    tram_station_result *stations;
+    size_t n_outliers;
+    tram_stats rot_deg, trans; /* over the stations not flagged                */
+    double noise_length, noise_angle_deg; /* per-axis noise used as weights    */
+    int noise_given;
+    tram_uncertainty unc;
+    /* observability (Tsai & Lenz 1989's station advice) */
+    double motion_min_deg, motion_max_deg; /* relative rotation angles         */
+    double axis_spread_deg;   /* equivalent angle between the rotation axes   */
+    double condition;         /* of the refinement's normal matrix            */
+    /* each closed form's residual RMS on the same data (NaN when it failed) */
+    double closed_rot_rms_deg[TRAM_METHOD_COUNT];
+    double closed_trans_rms[TRAM_METHOD_COUNT];
+    size_t ndiag;
+    tram_diagnostic *diag;
+} tram_solution;
+
+/* Solve.  `setup` must be set (from the records' directive or the caller).
+ * Returns TRAM_OK with *out filled, or TRAM_EUNDETERMINED with *out filled
+ * (solved = 0; diagnostics say what cannot be determined and what motion to
+ * add), or an error (TRAM_EINPUT, TRAM_ENOMEM, ...) with *out NULL.  The
+ * caller frees *out with tram_solution_destroy. */
+TRAM_API tram_status tram_solve(const tram_records *r, tram_setup setup,
+                                const tram_solve_options *opt, tram_solution **out,
+                                tram_error *err);
+/* Free a solution.  NULL is a no-op. */
+TRAM_API void tram_solution_destroy(tram_solution *s);
+
+/* The JSON document of a solution (docs/solve.md); with calibration != 0
+ * also the per-station input poses, the input checksum and the tool
+ * version (the calibration file read by later checks).  *text is
+ * allocated; free it with free(). */
+TRAM_API tram_status tram_solution_to_json(const tram_solution *s, const tram_records *r,
+                                           const char *method_name, int calibration,
+                                           char **text, tram_error *err);
+
+#ifdef __cplusplus
+}
+#endif
+#endif

@@ -1,0 +1,351 @@
+/*
+ * refine.c - nonlinear least-squares refinement of P_i X S_i = Z over both
+ * unknowns, with a robust loss, the covariance of the result and a station
+ * bootstrap.
+ *
+ * Parameters: x = (w_X, dt_X, w_Z, dt_Z) with X(x) = (R_X exp(w_X), t_X + dt_X)
+ * and likewise Z (rotation perturbed on the right, about the solved frame's
+ * own axes; translation in the parent frame).  Residual of station i, with
+ * Zhat_i = P_i X S_i the target pose predicted by the station:
+ *     r_i = ( log(R_Z^T R_Zhat_i) / sigma_angle ,  (t_Zhat_i - t_Z) / sigma_length )
+ * i.e. the rotation and translation between prediction and observation,
+ * each scaled by its per-axis noise.  Minimised by Levenberg-Marquardt
+ * (Marquardt, SIAM J. Appl. Math. 11(2), 1963) with a central-difference
+ * Jacobian; the normal equations are solved through LAPACKE (dposv).
+ * The robust loss is Cauchy's, applied per station by iteratively
+ * reweighted least squares: w_i = 1 / (1 + (u_i / c)^2), u_i^2 = |r_i|^2 / 6,
+ * c = 2.3849 (95% efficiency at the normal; Holland & Welsch, Commun.
+ * Statist. A6(9), 1977).
+ * Covariance: Cov(x) = s^2 (J^T J)^-1 at the solution (s^2 = chi^2 / dof).
+ * Bootstrap: stations resampled with replacement (Efron, Ann. Statist. 7(1),
+ * 1979), each resample refined from the solution.
+ */
+#include "refine_internal.h"
+#include "linalg_internal.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#define NP 12
+#define CAUCHY_C 2.3849
+
+void tram__refine_apply(const tram_se3 *X0, const tram_se3 *Z0, const double x[NP], tram_se3 *X,
+                        tram_se3 *Z)
+{
+    tram_mat3 R, E;
+    double t[3];
+    tram_se3_to_rt(X0, &R, t);
+    tram_so3_exp(x, &E);
+    tram_so3_mul(&R, &E, &R);
+    for (int i = 0; i < 3; i++) t[i] += x[3 + i];
+    tram_se3_from_rt(&R, t, X);
+    tram_se3_to_rt(Z0, &R, t);
+    tram_so3_exp(x + 6, &E);
+    tram_so3_mul(&R, &E, &R);
+    for (int i = 0; i < 3; i++) t[i] += x[9 + i];
+    tram_se3_from_rt(&R, t, Z);
+}
+
+void tram__refine_residual(const tram_se3 *P, const tram_se3 *S, const tram_se3 *X,
+                           const tram_se3 *Z, double r[6])
+{
+    tram_se3 PX, Zh;
+    tram_se3_compose(P, X, &PX);
+    tram_se3_compose(&PX, S, &Zh);
+    tram_mat3 RZ, RZt, Rh, D;
+    double tZ[3], th[3];
+    tram_se3_to_rt(Z, &RZ, tZ);
+    tram_se3_to_rt(&Zh, &Rh, th);
+    tram_so3_transpose(&RZ, &RZt);
+    tram_so3_mul(&RZt, &Rh, &D);
+    tram_so3_log(&D, r);
+    for (int i = 0; i < 3; i++) r[3 + i] = th[i] - tZ[i];
+}
+
+/* Weighted residual and its Jacobian (central differences) for one station. */
+static void station_jacobian(const tram_se3 *P, const tram_se3 *S, const tram_se3 *X,
+                             const tram_se3 *Z, double inv_sa, double inv_sl, double ht,
+                             double r[6], double J[6][NP])
+{
+    tram__refine_residual(P, S, X, Z, r);
+    for (int k = 0; k < 3; k++) {
+        r[k] *= inv_sa;
+        r[3 + k] *= inv_sl;
+    }
+    for (int p = 0; p < NP; p++) {
+        double x[NP] = {0}, h = (p % 6) < 3 ? 1e-6 : ht, rp[6], rm[6];
+        tram_se3 Xp, Zp;
+        x[p] = h;
+        tram__refine_apply(X, Z, x, &Xp, &Zp);
+        tram__refine_residual(P, S, &Xp, &Zp, rp);
+        x[p] = -h;
+        tram__refine_apply(X, Z, x, &Xp, &Zp);
+        tram__refine_residual(P, S, &Xp, &Zp, rm);
+        for (int k = 0; k < 6; k++)
+            J[k][p] = (rp[k] - rm[k]) / (2 * h) * (k < 3 ? inv_sa : inv_sl);
+    }
+}
+
+static double station_cost(const tram_se3 *P, const tram_se3 *S, const tram_se3 *X,
+                           const tram_se3 *Z, double inv_sa, double inv_sl)
+{
+    double r[6];
+    tram__refine_residual(P, S, X, Z, r);
+    double c = 0;
+    for (int k = 0; k < 3; k++) c += tram__sq(r[k] * inv_sa) + tram__sq(r[3 + k] * inv_sl);
+    return c;
+}
+
+static double total_cost(const tram_refine_problem *pb, const double *w, const tram_se3 *X,
+                         const tram_se3 *Z)
+{
+    double c = 0;
+    for (size_t i = 0; i < pb->n; i++)
+        if (w[i] > 0) c += w[i] * station_cost(&pb->P[i], &pb->S[i], X, Z, 1 / pb->sigma_angle,
+                                               1 / pb->sigma_length);
+    return c;
+}
+
+/* Normal equations H = sum w J^T J, g = sum w J^T r at (X, Z). */
+static void normal_equations(const tram_refine_problem *pb, const double *w, const tram_se3 *X,
+                             const tram_se3 *Z, double H[NP * NP], double g[NP])
+{
+    memset(H, 0, NP * NP * sizeof *H);
+    memset(g, 0, NP * sizeof *g);
+    double ht = 1e-4 * pb->length_scale;
+    for (size_t i = 0; i < pb->n; i++) {
+        if (!(w[i] > 0)) continue;
+        double r[6], J[6][NP];
+        station_jacobian(&pb->P[i], &pb->S[i], X, Z, 1 / pb->sigma_angle, 1 / pb->sigma_length,
+                         ht, r, J);
+        for (int a = 0; a < NP; a++) {
+            double ga = 0;
+            for (int k = 0; k < 6; k++) ga += J[k][a] * r[k];
+            g[a] += w[i] * ga;
+            for (int b = a; b < NP; b++) {
+                double h = 0;
+                for (int k = 0; k < 6; k++) h += J[k][a] * J[k][b];
+                H[a * NP + b] += w[i] * h;
+            }
+        }
+    }
+    for (int a = 0; a < NP; a++)
+        for (int b = 0; b < a; b++) H[a * NP + b] = H[b * NP + a];
+}
+
+/* Levenberg-Marquardt with fixed station weights w. */
+static tram_status lm(const tram_refine_problem *pb, const double *w, int max_iter, tram_se3 *X,
+                      tram_se3 *Z, int *iters)
+{
+    double H[NP * NP], g[NP], lambda = 1e-3;
+    double cost = total_cost(pb, w, X, Z);
+    int it;
+    for (it = 0; it < max_iter; it++) {
+        normal_equations(pb, w, X, Z, H, g);
+        int accepted = 0;
+        for (int tries = 0; tries < 12 && !accepted; tries++) {
+            double A[NP * NP], mg[NP], dx[NP];
+            memcpy(A, H, sizeof A);
+            for (int a = 0; a < NP; a++) {
+                A[a * NP + a] += lambda * (H[a * NP + a] > 1e-300 ? H[a * NP + a] : 1e-300);
+                mg[a] = -g[a];
+            }
+            if (tram__spd_solve(NP, A, mg, dx) != TRAM_OK) {
+                lambda *= 10;
+                continue;
+            }
+            tram_se3 Xn, Zn;
+            tram__refine_apply(X, Z, dx, &Xn, &Zn);
+            double cn = total_cost(pb, w, &Xn, &Zn);
+            if (cn <= cost) {
+                double rel = (cost - cn) / (cost > 1e-300 ? cost : 1e-300);
+                *X = Xn;
+                *Z = Zn;
+                cost = cn;
+                lambda = lambda / 10 > 1e-12 ? lambda / 10 : 1e-12;
+                accepted = 1;
+                double step = 0;
+                for (int a = 0; a < NP; a++) step += dx[a] * dx[a];
+                if (rel < 1e-14 || step < 1e-26) {
+                    if (iters) *iters = it + 1;
+                    return TRAM_OK;
+                }
+            } else {
+                lambda *= 10;
+            }
+        }
+        if (!accepted) break; /* no descent direction left: converged */
+    }
+    if (iters) *iters = it;
+    return TRAM_OK;
+}
+
+tram_status tram__refine_run(const tram_refine_problem *pb, const double *station_w, int robust,
+                             tram_se3 *X, tram_se3 *Z)
+{
+    double *w = tram__malloc(pb->n * sizeof *w);
+    if (!w) return TRAM_ENOMEM;
+    for (size_t i = 0; i < pb->n; i++) w[i] = station_w ? station_w[i] : 1.0;
+    tram_status st = TRAM_OK;
+    if (!robust) {
+        st = lm(pb, w, 100, X, Z, NULL);
+    } else {
+        /* IRLS: re-derive the Cauchy weights from the residuals, refit. */
+        for (int outer = 0; outer < 8 && st == TRAM_OK; outer++) {
+            tram_se3 X0 = *X;
+            for (size_t i = 0; i < pb->n; i++) {
+                double base = station_w ? station_w[i] : 1.0;
+                if (!(base > 0)) {
+                    w[i] = 0;
+                    continue;
+                }
+                double u2 = station_cost(&pb->P[i], &pb->S[i], X, Z, 1 / pb->sigma_angle,
+                                         1 / pb->sigma_length) / 6.0;
+                w[i] = base / (1.0 + u2 / (CAUCHY_C * CAUCHY_C));
+            }
+            st = lm(pb, w, 50, X, Z, NULL);
+            double ang, len;
+            tram_se3_distance(&X0, X, &ang, &len);
+            if (ang < 1e-9 && len < 1e-9 * pb->length_scale) break;
+        }
+    }
+    tram__free(w);
+    return st;
+}
+
+tram_status tram__refine_covariance(const tram_refine_problem *pb, const double *station_w,
+                                    const tram_se3 *X, const tram_se3 *Z, double scale2,
+                                    double cov[NP * NP], double *condition)
+{
+    double *w = tram__malloc(pb->n * sizeof *w);
+    if (!w) return TRAM_ENOMEM;
+    for (size_t i = 0; i < pb->n; i++) w[i] = station_w ? station_w[i] : 1.0;
+    double H[NP * NP], g[NP];
+    normal_equations(pb, w, X, Z, H, g);
+    tram__free(w);
+    if (condition) {
+        /* Condition of the correlation form of H: independent of units. */
+        double C[NP * NP], ev[NP], V[NP * NP];
+        for (int a = 0; a < NP; a++)
+            for (int b = 0; b < NP; b++)
+                C[a * NP + b] = H[a * NP + b] / sqrt(H[a * NP + a] * H[b * NP + b]);
+        if (tram__symeig(NP, C, ev, V) == TRAM_OK && ev[0] > 0)
+            *condition = sqrt(ev[NP - 1] / ev[0]);
+        else
+            *condition = INFINITY;
+    }
+    tram_status st = tram__spd_inverse(NP, H, cov);
+    if (st != TRAM_OK) return st;
+    for (int a = 0; a < NP * NP; a++) cov[a] *= scale2;
+    return TRAM_OK;
+}
+
+double tram__refine_chi2(const tram_refine_problem *pb, const double *station_w,
+                         const tram_se3 *X, const tram_se3 *Z)
+{
+    double c = 0;
+    for (size_t i = 0; i < pb->n; i++) {
+        double w = station_w ? station_w[i] : 1.0;
+        if (w > 0)
+            c += w * station_cost(&pb->P[i], &pb->S[i], X, Z, 1 / pb->sigma_angle,
+                                  1 / pb->sigma_length);
+    }
+    return c;
+}
+
+/* splitmix64: a small, seedable generator for resampling. */
+static unsigned long long next_rand(unsigned long long *s)
+{
+    unsigned long long z = (*s += 0x9E3779B97F4A7C15ULL);
+    z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9ULL;
+    z = (z ^ (z >> 27)) * 0x94D049BB133111EBULL;
+    return z ^ (z >> 31);
+}
+
+static int cmp_double(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return (x > y) - (x < y);
+}
+
+tram_status tram__refine_bootstrap(const tram_refine_problem *pb, const double *station_w,
+                                   const tram_se3 *X, const tram_se3 *Z, size_t resamples,
+                                   unsigned long long seed, tram__progress_fn progress,
+                                   void *ctx, double sigma[NP], double lo[NP], double hi[NP],
+                                   size_t *used)
+{
+    size_t nin = 0;
+    for (size_t i = 0; i < pb->n; i++)
+        if (!station_w || station_w[i] > 0) nin++;
+    size_t *in = tram__malloc((nin ? nin : 1) * sizeof *in);
+    double *w = tram__malloc(pb->n * sizeof *w);
+    double *dev = tram__malloc((resamples ? resamples : 1) * NP * sizeof *dev);
+    double *col = tram__malloc((resamples ? resamples : 1) * sizeof *col);
+    if (!in || !w || !dev || !col) {
+        tram__free(in);
+        tram__free(w);
+        tram__free(dev);
+        tram__free(col);
+        return TRAM_ENOMEM;
+    }
+    size_t k = 0;
+    for (size_t i = 0; i < pb->n; i++)
+        if (!station_w || station_w[i] > 0) in[k++] = i;
+    unsigned long long state = seed;
+    size_t good = 0;
+    tram_mat3 RX, RZ;
+    double tX[3], tZ[3];
+    tram_se3_to_rt(X, &RX, tX);
+    tram_se3_to_rt(Z, &RZ, tZ);
+    for (size_t b = 0; b < resamples; b++) {
+        memset(w, 0, pb->n * sizeof *w);
+        size_t distinct = 0;
+        for (size_t j = 0; j < nin; j++) {
+            size_t pick = in[next_rand(&state) % nin];
+            if (w[pick] == 0) distinct++;
+            w[pick] += 1.0;
+        }
+        if (progress) progress(ctx, "bootstrap", b + 1, resamples);
+        if (distinct < 3) continue;
+        tram_se3 Xb = *X, Zb = *Z;
+        if (lm(pb, w, 30, &Xb, &Zb, NULL) != TRAM_OK) continue;
+        tram_mat3 R, Rt, D;
+        double t[3], wv[3];
+        double *d = dev + good * NP;
+        tram_se3_to_rt(&Xb, &R, t);
+        tram_so3_transpose(&RX, &Rt);
+        tram_so3_mul(&Rt, &R, &D);
+        tram_so3_log(&D, wv);
+        for (int a = 0; a < 3; a++) {
+            d[a] = wv[a];
+            d[3 + a] = t[a] - tX[a];
+        }
+        tram_se3_to_rt(&Zb, &R, t);
+        tram_so3_transpose(&RZ, &Rt);
+        tram_so3_mul(&Rt, &R, &D);
+        tram_so3_log(&D, wv);
+        for (int a = 0; a < 3; a++) {
+            d[6 + a] = wv[a];
+            d[9 + a] = t[a] - tZ[a];
+        }
+        good++;
+    }
+    for (int a = 0; a < NP; a++) {
+        double m = 0, v = 0;
+        for (size_t b = 0; b < good; b++) m += dev[b * NP + (size_t)a];
+        m /= (double)(good ? good : 1);
+        for (size_t b = 0; b < good; b++) v += tram__sq(dev[b * NP + (size_t)a] - m);
+        sigma[a] = good > 1 ? sqrt(v / (double)(good - 1)) : 0.0;
+        for (size_t b = 0; b < good; b++) col[b] = dev[b * NP + (size_t)a];
+        qsort(col, good, sizeof *col, cmp_double);
+        lo[a] = good ? col[(size_t)(0.025 * (double)(good - 1))] : 0.0;
+        hi[a] = good ? col[(size_t)(0.975 * (double)(good - 1) + 0.5)] : 0.0;
+    }
+    *used = good;
+    tram__free(in);
+    tram__free(w);
+    tram__free(dev);
+    tram__free(col);
+    return TRAM_OK;
+}

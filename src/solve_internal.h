@@ -1,0 +1,46 @@
+/*
+ * solve_internal.h - pieces of the solve pipeline shared between solve.c
+ * (the pipeline) and diagnose.c (observability, convention and unit
+ * checks).
+ */
+#ifndef TRAM_SOLVE_INTERNAL_H
+#define TRAM_SOLVE_INTERNAL_H
+
+#include "tram/solve.h"
+#include "tram_internal.h"
+
+/* Append a diagnostic; returns TRAM_ENOMEM when it cannot. */
+tram_status tram__diag_add(tram_solution *s, const char *code, tram_severity sev,
+                           const char *fmt, ...) TRAM_PRINTF(4, 5);
+
+/* P and S arrays of the generic problem P_i X S_i = Z for the setup
+ * (tram/handeye.h).  Caller frees both with tram__free. */
+tram_status tram__station_poses(const tram_records *r, tram_setup setup, tram_se3 **P,
+                                tram_se3 **S);
+
+/* Median of n values (copied; the input is not reordered).  0 for n = 0. */
+double tram__median(const double *v, size_t n);
+
+/* Robust per-axis noise from per-station residual norms of 3-vectors:
+ * median / sqrt(median of chi-square with 3 dof). */
+double tram__robust_sigma3(const double *norms, size_t n);
+
+/* A quick robust solve (Park-Martin start, Cauchy refinement) used to
+ * compare readings of the same data: median rotation residual (rad) and
+ * median translation residual.  Returns TRAM_OK or a failure status. */
+tram_status tram__quick_fit(const tram_se3 *P, const tram_se3 *S, size_t n, double *med_rot,
+                            double *med_trans);
+
+/* Observability figures into s; adds error diagnostics and returns 1 when
+ * the data cannot determine the answer. */
+int tram__observability(const tram_se3 *P, size_t n, tram_setup setup, tram_solution *s);
+
+/* Convention checks: re-read the data under the usual mistakes and report
+ * a reading that fits far better.  as_med_rot/as_med_trans: medians of the
+ * as-read quick fit. */
+tram_status tram__check_conventions(const tram_records *r, tram_setup setup, tram_solution *s);
+
+/* Plausibility of the declared length unit from the robot's translations. */
+tram_status tram__check_units(const tram_records *r, tram_solution *s);
+
+#endif
