@@ -17,7 +17,7 @@ PYTHON  := /usr/bin/python3
 DEB_PKGS := liblapacke-dev libopenblas-dev libpng-dev libcjson-dev libcmocka-dev \
             libcairo2-dev pkg-config python3-numpy python3-scipy
 PC_LIBS  := lapacke openblas libcjson
-PC_TEST  := cmocka
+PC_TEST  := cmocka libcjson
 
 WARN    := -Wall -Wextra -Wshadow -Wconversion -Werror
 BASEFLAGS := -std=c11 -D_POSIX_C_SOURCE=200809L $(WARN) -Iinclude -Isrc
@@ -82,23 +82,26 @@ $(B)/tests/%: tests/%.c tests/test_util.h $(B)/libtram.a
 	  $(B)/libtram.a $(EXTRA_LDFLAGS) $(TEST_LIBS) $(PKG_LIBS)
 
 $(B)/refhelper: tests/ref/refhelper.c $(B)/libtram.a
-	$(CC) $(BASEFLAGS) $(OPT) $(EXTRA_CFLAGS) $(PKG_CFLAGS) $< -o $@ $(B)/libtram.a $(EXTRA_LDFLAGS) $(PKG_LIBS)
+	@echo "  CC      $<"
+	@$(CC) $(BASEFLAGS) $(OPT) $(EXTRA_CFLAGS) $(PKG_CFLAGS) $< -o $@ $(B)/libtram.a $(EXTRA_LDFLAGS) $(PKG_LIBS)
 
 tools: $(B)/gen_demo
 $(B)/gen_demo: tools/gen_demo.c $(B)/libtram.a
-	$(CC) $(BASEFLAGS) $(OPT) $(PKG_CFLAGS) $< -o $@ $(B)/libtram.a $(PKG_LIBS)
+	@echo "  CC      $<"
+	@$(CC) $(BASEFLAGS) $(OPT) $(EXTRA_CFLAGS) $(PKG_CFLAGS) $< -o $@ $(B)/libtram.a $(EXTRA_LDFLAGS) $(PKG_LIBS)
 
 # Unit tests (cmocka), one binary per module.
 unit: $(TESTS)
 	@set -e; for t in $(TESTS); do echo "== $$t"; $$t; done
 
 # Command-line tests: exit codes, file:line:column messages, empty stdout.
-cli-tests: $(B)/tram
-	@TRAM=$(abspath $(B)/tram) sh tests/cli/run.sh
+cli-tests: $(B)/tram $(B)/gen_demo
+	@TRAM=$(abspath $(B)/tram) GEN_DEMO=$(abspath $(B)/gen_demo) sh tests/cli/run.sh
 
 # Reference checks against SciPy / NumPy (Debian's python3-scipy).
 ref-tests: $(B)/refhelper $(B)/tram
 	$(PYTHON) tests/ref/check_rotation_scipy.py $(B)/refhelper
+	$(PYTHON) tests/ref/check_solve_scipy.py $(B)/tram
 
 asan:
 	$(MAKE) B=build-asan OPT="-O1 -g -fno-omit-frame-pointer" \

@@ -130,6 +130,7 @@ typedef struct hypothesis {
     char code[40];
     char fix[360];
     double med_rot, med_tr;
+    double mount_len;  /* length of the mount transform this reading implies */
     int ok;
 } hypothesis;
 
@@ -243,10 +244,11 @@ static size_t make_hypotheses(const tram_records *r, tram_setup setup, hypothesi
     return nh;
 }
 
-/* Quick fit of a record set under conv; fills med_rot / med_tr. */
+/* Quick fit of a record set under conv; fills med_rot / med_tr and the
+ * length of the mount transform (X for eye-in-hand, Z for eye-to-hand). */
 static tram_status fit_reading(const tram_records *src, const tram_block_convention *conv,
                                tram_setup setup, size_t max_n, double *med_rot, double *med_tr,
-                               int *ok)
+                               double *mount_len, int *ok)
 {
     *ok = 0;
     tram_records *r = tram_records_clone(src);
@@ -263,8 +265,13 @@ static tram_status fit_reading(const tram_records *src, const tram_block_convent
         tram_se3 *P, *S;
         st = tram__station_poses(r, setup, &P, &S);
         if (st == TRAM_OK) {
-            tram_status q = tram__quick_fit(P, S, r->count, med_rot, med_tr);
-            if (q == TRAM_OK) *ok = 1;
+            tram_se3 X, Z;
+            tram_status q = tram__quick_fit(P, S, r->count, med_rot, med_tr, &X, &Z);
+            if (q == TRAM_OK) {
+                const tram_se3 *M = setup == TRAM_SETUP_EYE_TO_HAND ? &Z : &X;
+                *mount_len = sqrt(tram__sq(M->m[0][3]) + tram__sq(M->m[1][3]) + tram__sq(M->m[2][3]));
+                *ok = 1;
+            }
             else if (q == TRAM_ENOMEM) st = q;
             tram__free(P);
             tram__free(S);
@@ -279,9 +286,10 @@ tram_status tram__check_conventions(const tram_records *r, tram_setup setup, tra
     enum { CAP = 80, MAX_N = 300 };
     hypothesis *h = tram__malloc(CAP * sizeof *h);
     if (!h) return TRAM_ENOMEM;
-    double base_rot, base_tr;
+    double base_rot, base_tr, base_len;
     int base_ok;
-    tram_status st = fit_reading(r, r->conv, setup, MAX_N, &base_rot, &base_tr, &base_ok);
+    tram_status st =
+        fit_reading(r, r->conv, setup, MAX_N, &base_rot, &base_tr, &base_len, &base_ok);
     if (st != TRAM_OK || !base_ok) {
         tram__free(h);
         return st;
@@ -289,7 +297,8 @@ tram_status tram__check_conventions(const tram_records *r, tram_setup setup, tra
     size_t nh = make_hypotheses(r, setup, h, CAP);
     double best_rot = base_rot, best_tr = base_tr;
     for (size_t k = 0; k < nh && st == TRAM_OK; k++) {
-        st = fit_reading(r, h[k].conv, setup, MAX_N, &h[k].med_rot, &h[k].med_tr, &h[k].ok);
+        st = fit_reading(r, h[k].conv, setup, MAX_N, &h[k].med_rot, &h[k].med_tr, &h[k].mount_len,
+                         &h[k].ok);
         if (h[k].ok) {
             if (h[k].med_rot < best_rot) best_rot = h[k].med_rot;
             if (h[k].med_tr < best_tr) best_tr = h[k].med_tr;
@@ -315,14 +324,42 @@ tram_status tram__check_conventions(const tram_records *r, tram_setup setup, tra
     }
     if (best < nh && best_score * 5.0 < base_score &&
         (base_rot > 1e-3 / RAD2DEG || base_tr > 10 * lfloor)) {
+        /* Readings that fit about as well cannot be told apart by the data
+         * (e.g. robot inverted vs sensor inverted with X and Z swapped).
+         * Name them all, the one with the shorter mount first: a sensor or
+         * target usually sits near the flange. */
+        size_t tie[4], nt = 0;
+        for (size_t k = 0; k < nh && nt < 4; k++) {
+            if (!h[k].ok) continue;
+            double sc = h[k].med_rot / ref_rot + h[k].med_tr / ref_tr;
+            if (sc <= 1.5 * best_score + 1e-12) tie[nt++] = k;
+        }
+        for (size_t a = 0; a < nt; a++)
+            for (size_t b = a + 1; b < nt; b++)
+                if (h[tie[b]].mount_len < h[tie[a]].mount_len) {
+                    size_t t = tie[a];
+                    tie[a] = tie[b];
+                    tie[b] = t;
+                }
         const char *u = tram_unit_length_name(r->length_unit);
-        st = tram__diag_add(s, h[best].code, TRAM_SEVERITY_WARNING,
-                            "%s. As declared, the median station residual is %.3g deg and %.3g "
-                            "%s; read that way it would be %.3g deg and %.3g %s. The result "
-                            "above uses the file as declared and must not be used until this is "
-                            "resolved",
-                            h[best].fix, base_rot * RAD2DEG, base_tr, u,
-                            h[best].med_rot * RAD2DEG, h[best].med_tr, u);
+        const char *mount = setup == TRAM_SETUP_EYE_TO_HAND ? "the target" : "the sensor";
+        char msg[700];
+        const hypothesis *f = &h[tie[0]];
+        int len = snprintf(msg, sizeof msg,
+                           "%s (%s would then sit %.4g %s from the flange). As declared, the "
+                           "median station residual is %.3g deg and %.3g %s; read that way it "
+                           "would be %.3g deg and %.3g %s",
+                           f->fix, mount, f->mount_len, u, base_rot * RAD2DEG, base_tr, u,
+                           f->med_rot * RAD2DEG, f->med_tr, u);
+        for (size_t a = 1; a < nt && len > 0 && (size_t)len < sizeof msg; a++)
+            len += snprintf(msg + len, sizeof msg - (size_t)len,
+                            ". The data fit as well if %s (%s %.4g %s from the flange)",
+                            h[tie[a]].fix, mount, h[tie[a]].mount_len, u);
+        if (len > 0 && (size_t)len < sizeof msg)
+            snprintf(msg + len, sizeof msg - (size_t)len,
+                     ". The result uses the file as declared and must not be used until this is "
+                     "resolved");
+        st = tram__diag_add(s, f->code, TRAM_SEVERITY_WARNING, "%s", msg);
     }
     tram__free(h);
     return st;

@@ -143,7 +143,7 @@ static void floor_noise(double *sa, double *sl, double lscale)
 }
 
 tram_status tram__quick_fit(const tram_se3 *P, const tram_se3 *S, size_t n, double *med_rot,
-                            double *med_trans)
+                            double *med_trans, tram_se3 *Xo, tram_se3 *Zo)
 {
     tram_pair *pairs;
     size_t np;
@@ -166,6 +166,8 @@ tram_status tram__quick_fit(const tram_se3 *P, const tram_se3 *S, size_t n, doub
         residual_norms(P, S, n, &X, &Z, rot, tr);
         *med_rot = tram__median(rot, n);
         *med_trans = tram__median(tr, n);
+        if (Xo) *Xo = X;
+        if (Zo) *Zo = Z;
     }
     tram__free(rot);
     return st;

@@ -29,15 +29,14 @@ double tram__robust_sigma3(const double *norms, size_t n);
  * compare readings of the same data: median rotation residual (rad) and
  * median translation residual.  Returns TRAM_OK or a failure status. */
 tram_status tram__quick_fit(const tram_se3 *P, const tram_se3 *S, size_t n, double *med_rot,
-                            double *med_trans);
+                            double *med_trans, tram_se3 *X, tram_se3 *Z);
 
 /* Observability figures into s; adds error diagnostics and returns 1 when
  * the data cannot determine the answer. */
 int tram__observability(const tram_se3 *P, size_t n, tram_setup setup, tram_solution *s);
 
 /* Convention checks: re-read the data under the usual mistakes and report
- * a reading that fits far better.  as_med_rot/as_med_trans: medians of the
- * as-read quick fit. */
+ * a reading that fits far better. */
 tram_status tram__check_conventions(const tram_records *r, tram_setup setup, tram_solution *s);
 
 /* Plausibility of the declared length unit from the robot's translations. */

@@ -306,7 +306,17 @@ int cli_solve(int argc, char **argv)
     }
     char *text = NULL;
     int rc = CLI_EXIT_OK;
-    if (json) {
+    /* The calibration file first: if it cannot be written, stdout stays empty. */
+    if (out_path && s->solved) {
+        if (tram_solution_to_json(s, r, method, 1, &text, &err) != TRAM_OK ||
+            tram_file_write_atomic(out_path, text, strlen(text), force, &err) != TRAM_OK) {
+            cli_report(&err);
+            rc = CLI_EXIT_USAGE;
+        }
+        free(text);
+        text = NULL;
+    }
+    if (rc == CLI_EXIT_OK && json) {
         if (tram_solution_to_json(s, r, method, 0, &text, &err) != TRAM_OK) {
             cli_report(&err);
             rc = CLI_EXIT_USAGE;
@@ -314,27 +324,17 @@ int cli_solve(int argc, char **argv)
             fputs(text, stdout);
         }
         free(text);
-        text = NULL;
-    } else {
+    } else if (rc == CLI_EXIT_OK) {
         print_summary(s, r);
+        if (out_path && s->solved) printf("calibration written to %s\n", out_path);
     }
-    for (size_t i = 0; i < s->ndiag; i++)
+    if (out_path && !s->solved)
+        fprintf(stderr, "tram solve: no calibration file written: nothing was determined\n");
+    for (size_t i = 0; rc == CLI_EXIT_OK && i < s->ndiag; i++)
         if (s->diag[i].severity >= TRAM_SEVERITY_WARNING)
             fprintf(stderr, "tram solve: %s: %s\n",
                     s->diag[i].severity == TRAM_SEVERITY_ERROR ? "error" : "warning",
                     s->diag[i].message);
-    if (rc == CLI_EXIT_OK && out_path) {
-        if (!s->solved) {
-            fprintf(stderr, "tram solve: no calibration file written: nothing was determined\n");
-        } else if (tram_solution_to_json(s, r, method, 1, &text, &err) != TRAM_OK ||
-                   tram_file_write_atomic(out_path, text, strlen(text), force, &err) != TRAM_OK) {
-            cli_report(&err);
-            rc = CLI_EXIT_USAGE;
-        } else if (!json) {
-            printf("calibration written to %s\n", out_path);
-        }
-        free(text);
-    }
     if (rc == CLI_EXIT_OK && (!s->solved || !s->trustworthy)) rc = CLI_EXIT_UNDETERMINED;
     tram_solution_destroy(s);
     tram_records_destroy(r);

@@ -21,7 +21,7 @@ expect_error() {
     rc=$?
     if [ "$rc" -ne "$want" ]; then bad "$name: exit $rc, expected $want"; cat "$tmp/err"; return; fi
     if [ -s "$tmp/out" ]; then bad "$name: stdout not empty"; return; fi
-    if ! grep -Eq "$loc" "$tmp/err"; then bad "$name: stderr lacks /$loc/:"; cat "$tmp/err"; return; fi
+    if ! grep -Eq -- "$loc" "$tmp/err"; then bad "$name: stderr lacks /$loc/:"; cat "$tmp/err"; return; fi
     ok
 }
 
