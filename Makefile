@@ -36,7 +36,7 @@ CLI_OBJ := $(patsubst src/cli/%.c,$(B)/obj/cli/%.o,$(CLI_SRC))
 TESTS   := $(patsubst tests/%.c,$(B)/tests/%,$(TEST_SRC))
 HEADERS := $(wildcard include/tram/*.h) $(wildcard src/*.h) $(wildcard src/cli/*.h)
 
-.PHONY: all deps test unit cli-tests ref-tests asan clang-check demo install clean tools
+.PHONY: all deps test unit cli-tests ref-tests asan clang-check demo install clean tools bench
 
 all: $(B)/tram $(B)/libtram.a $(B)/libtram.so
 
@@ -89,6 +89,14 @@ tools: $(B)/gen_demo
 $(B)/gen_demo: tools/gen_demo.c $(B)/libtram.a
 	@echo "  CC      $<"
 	@$(CC) $(BASEFLAGS) $(OPT) $(EXTRA_CFLAGS) $(PKG_CFLAGS) $< -o $@ $(B)/libtram.a $(EXTRA_LDFLAGS) $(PKG_LIBS)
+
+# Benchmarks (not tests): make bench.
+$(B)/bench_solve: bench/bench_solve.c $(B)/libtram.a
+	@echo "  CC      $<"
+	@$(CC) $(BASEFLAGS) -O2 $(PKG_CFLAGS) $< -o $@ $(B)/libtram.a $(PKG_LIBS)
+
+bench: deps $(B)/bench_solve
+	$(B)/bench_solve $(B)/bench.json
 
 # Unit tests (cmocka), one binary per module.
 unit: $(TESTS)

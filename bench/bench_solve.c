@@ -1,0 +1,137 @@
+/*
+ * bench_solve.c - benchmark of tram_solve (every closed form, then the
+ * robust refinement; convention checks off) on synthetic eye-in-hand
+ * stations at 10, 100, 1,000 and 10,000 stations, and of the bootstrap
+ * (1,000 resamples at 30 stations).  Prints a table and writes
+ * build/bench.json (one object per measurement).  A benchmark, not a test:
+ * `make bench`.
+ */
+#include <math.h>
+#include <stdint.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <time.h>
+
+#include "tram/tram.h"
+
+static uint64_t state = 12345;
+static double uniform(void)
+{
+    uint64_t z = (state += 0x9E3779B97F4A7C15ULL);
+    z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9ULL;
+    z = (z ^ (z >> 27)) * 0x94D049BB133111EBULL;
+    return (double)((z ^ (z >> 31)) >> 11) * (1.0 / 9007199254740992.0);
+}
+static double normal(void)
+{
+    double u1 = uniform(), u2 = uniform();
+    return sqrt(-2.0 * log(u1 > 1e-300 ? u1 : 1e-300)) * cos(6.283185307179586 * u2);
+}
+
+static void noisy(tram_se3 *T, double srad, double slen)
+{
+    double w[3] = {srad * normal(), srad * normal(), srad * normal()};
+    tram_mat3 R, E;
+    double t[3];
+    tram_se3_to_rt(T, &R, t);
+    tram_so3_exp(w, &E);
+    tram_so3_mul(&R, &E, &R);
+    for (int i = 0; i < 3; i++) t[i] += slen * normal();
+    tram_se3_from_rt(&R, t, T);
+}
+
+static tram_records *make(size_t n)
+{
+    tram_records *r = calloc(1, sizeof *r);
+    r->count = n;
+    r->stations = calloc(n, sizeof *r->stations);
+    r->length_unit = TRAM_LENGTH_MM;
+    r->has_block[0] = r->has_block[1] = 1;
+    r->setup = TRAM_SETUP_EYE_IN_HAND;
+    snprintf(r->source, sizeof r->source, "bench");
+    tram_se3 X, Z;
+    double wx[3] = {0.1, -0.2, 1.5}, tx[3] = {40, -10, 80}, wz[3] = {0, 0, 0.3},
+           tz[3] = {700, -100, 50};
+    tram_se3_exp((double[6]){0, 0, 0, wx[0], wx[1], wx[2]}, &X);
+    X.m[0][3] = tx[0], X.m[1][3] = tx[1], X.m[2][3] = tx[2];
+    tram_se3_exp((double[6]){0, 0, 0, wz[0], wz[1], wz[2]}, &Z);
+    Z.m[0][3] = tz[0], Z.m[1][3] = tz[1], Z.m[2][3] = tz[2];
+    for (size_t i = 0; i < n; i++) {
+        tram_mat3 R, down;
+        double w[3] = {0.6 * normal(), 0.6 * normal(), 1.5 * normal()};
+        tram_so3_exp(w, &R);
+        tram_so3_axis_rotation(0, 3.141592653589793, &down);
+        tram_so3_mul(&down, &R, &R);
+        double t[3] = {600 + 200 * uniform(), -100 + 200 * uniform(), 450 + 200 * uniform()};
+        tram_se3 F, FX, FXi;
+        tram_se3_from_rt(&R, t, &F);
+        tram_se3_compose(&F, &X, &FX);
+        tram_se3_invert(&FX, &FXi);
+        tram_se3_compose(&FXi, &Z, &r->stations[i].T_sensor_target);
+        r->stations[i].T_base_flange = F;
+        noisy(&r->stations[i].T_base_flange, 1.7e-4, 0.05);
+        noisy(&r->stations[i].T_sensor_target, 8.7e-4, 0.2);
+        snprintf(r->stations[i].id, sizeof r->stations[i].id, "%zu", i + 1);
+    }
+    return r;
+}
+
+static double now(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_MONOTONIC, &ts);
+    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
+}
+
+static double time_solve(const tram_records *r, size_t bootstrap, int reps)
+{
+    tram_solve_options o;
+    tram_solve_options_init(&o);
+    o.check_conventions = 0;
+    o.bootstrap = bootstrap;
+    double best = INFINITY;
+    for (int k = 0; k < reps; k++) {
+        tram_solution *s;
+        tram_error e;
+        double t0 = now();
+        if (tram_solve(r, r->setup, &o, &s, &e) != TRAM_OK) {
+            fprintf(stderr, "solve failed: %s\n", e.message);
+            exit(1);
+        }
+        double dt = now() - t0;
+        if (dt < best) best = dt;
+        tram_solution_destroy(s);
+    }
+    return best;
+}
+
+int main(int argc, char **argv)
+{
+    const char *json = argc > 1 ? argv[1] : "build/bench.json";
+    FILE *f = fopen(json, "w");
+    if (!f) return 1;
+    fprintf(f, "[\n");
+    const size_t sizes[] = {10, 100, 1000, 10000};
+    double secs[4];
+    printf("%-28s %10s %12s %14s\n", "measurement", "n", "seconds", "stations/s");
+    for (int k = 0; k < 4; k++) {
+        tram_records *r = make(sizes[k]);
+        secs[k] = time_solve(r, 0, sizes[k] >= 10000 ? 1 : 3);
+        printf("%-28s %10zu %12.4f %14.0f\n", "solve (closed forms + LM)", sizes[k], secs[k],
+               (double)sizes[k] / secs[k]);
+        fprintf(f, "  {\"name\": \"solve\", \"n\": %zu, \"seconds\": %.6g},\n", sizes[k], secs[k]);
+        tram_records_destroy(r);
+    }
+    double slope = (log(secs[3]) - log(secs[1])) / (log(1e4) - log(1e2));
+    printf("growth exponent of solve time, 100 -> 10,000 stations: %.2f (1 = linear)\n", slope);
+    tram_records *r = make(30);
+    double tb = time_solve(r, 1000, 1) - time_solve(r, 0, 3);
+    printf("%-28s %10d %12.4f\n", "bootstrap 1000 resamples", 30, tb);
+    fprintf(f, "  {\"name\": \"solve_growth_exponent\", \"n\": 10000, \"seconds\": null, \"exponent\": %.4g},\n", slope);
+    fprintf(f, "  {\"name\": \"bootstrap_1000\", \"n\": 30, \"seconds\": %.6g}\n]\n", tb);
+    tram_records_destroy(r);
+    fclose(f);
+    printf("wrote %s\n", json);
+    return 0;
+}
