@@ -36,7 +36,7 @@ CLI_OBJ := $(patsubst src/cli/%.c,$(B)/obj/cli/%.o,$(CLI_SRC))
 TESTS   := $(patsubst tests/%.c,$(B)/tests/%,$(TEST_SRC))
 HEADERS := $(wildcard include/tram/*.h) $(wildcard src/*.h) $(wildcard src/cli/*.h)
 
-.PHONY: all deps test unit cli-tests ref-tests asan clang-check demo install clean tools bench
+.PHONY: all deps test unit cli-tests ref-tests asan clang-check demo install install-check clean tools bench
 
 all: $(B)/tram $(B)/libtram.a $(B)/libtram.so
 
@@ -128,6 +128,7 @@ test:
 	@$(MAKE) --no-print-directory unit
 	@$(MAKE) --no-print-directory cli-tests
 	@$(MAKE) --no-print-directory ref-tests
+	@$(MAKE) --no-print-directory install-check
 	@$(MAKE) --no-print-directory asan
 	@echo "make test: all suites passed"
 
@@ -147,6 +148,17 @@ install: all
 	install -m 644 docs/tram.1 $(DESTDIR)$(PREFIX)/share/man/man1/tram.1
 	sed -e 's|@PREFIX@|$(PREFIX)|g' -e 's|@VERSION@|$(shell sed -n 's/.*TRAM_VERSION_STRING "\(.*\)"/\1/p' include/tram/common.h)|g' \
 	  tram.pc.in > $(DESTDIR)$(PREFIX)/lib/pkgconfig/tram.pc
+
+# Install into a staging directory and build a program against the
+# installed headers and library through the installed tram.pc.
+install-check: all
+	@rm -rf $(B)/stage
+	@$(MAKE) --no-print-directory install PREFIX=/usr DESTDIR=$(abspath $(B)/stage) >/dev/null
+	@printf '#include <tram/tram.h>\n#include <stdio.h>\nint main(void){tram_se3 T;tram_se3_identity(&T);printf("%%s %%g\\n",tram_version(),T.m[3][3]);return 0;}\n' > $(B)/stage/check.c
+	@PKG_CONFIG_SYSROOT_DIR=$(abspath $(B)/stage) PKG_CONFIG_LIBDIR=$(abspath $(B)/stage)/usr/lib/pkgconfig:/usr/lib/x86_64-linux-gnu/pkgconfig:/usr/share/pkgconfig \
+	  $(CC) $(B)/stage/check.c -o $(B)/stage/check $$(PKG_CONFIG_SYSROOT_DIR=$(abspath $(B)/stage) PKG_CONFIG_LIBDIR=$(abspath $(B)/stage)/usr/lib/pkgconfig:/usr/lib/x86_64-linux-gnu/pkgconfig:/usr/share/pkgconfig pkg-config --cflags --libs --static tram)
+	@LD_LIBRARY_PATH=$(abspath $(B)/stage)/usr/lib $(B)/stage/check | grep -q '^[0-9.]* 1$$' && test -x $(B)/stage/usr/bin/tram && test -f $(B)/stage/usr/share/man/man1/tram.1 \
+	  && echo "install-check: 1 passed, 0 failed"
 
 clean:
 	rm -rf build build-asan build-clang

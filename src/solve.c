@@ -416,10 +416,22 @@ tram_status tram_solve(const tram_records *r, tram_setup setup, const tram_solve
     tram_pair *pairs = NULL;
     size_t np = 0;
     tram_status st = TRAM_OK;
-    if (!sol->stations || tram__station_poses(r, setup, &P, &S) != TRAM_OK ||
-        tram_handeye_pairs(n, opt->pairs, &pairs, &np) != TRAM_OK) {
-        st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
-        goto fail;
+    if (!sol->stations || tram__station_poses(r, setup, &P, &S) != TRAM_OK) goto nomem;
+    if (opt->npair_list > 0) {
+        pairs = malloc(opt->npair_list * sizeof *pairs);
+        if (!pairs) goto nomem;
+        for (size_t k = 0; k < opt->npair_list; k++) {
+            if (opt->pair_list[k].i >= n || opt->pair_list[k].j >= n ||
+                opt->pair_list[k].i == opt->pair_list[k].j) {
+                st = tram__fail(err, TRAM_EINPUT, NULL, 0, 0,
+                                "station pair %zu: expected two different stations of the file", k + 1);
+                goto fail;
+            }
+            pairs[k] = opt->pair_list[k];
+        }
+        np = opt->npair_list;
+    } else if (tram_handeye_pairs(n, opt->pairs, &pairs, &np) != TRAM_OK) {
+        goto nomem;
     }
     if (tram__observability(P, n, setup, sol)) {
         if (tram__check_units(r, sol) != TRAM_OK) goto nomem;

@@ -28,6 +28,9 @@ typedef struct tram_solve_options {
     int refine;              /* 1 (default): refine; 0: report the closed form      */
     int robust;              /* 1 (default): Cauchy loss and outlier exclusion      */
     tram_pairs_mode pairs;   /* station pairs for AX=XB methods                     */
+    const tram_pair *pair_list; /* an explicit selection of pairs (0-based station
+                                   indices); overrides `pairs` when npair_list > 0  */
+    size_t npair_list;
     double noise_length;     /* per-axis 1-sigma of the station residual in length;
                                 0 (default): estimated from the data               */
     double noise_angle_rad;  /* per-axis 1-sigma in rad; 0: estimated               */

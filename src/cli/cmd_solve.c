@@ -25,7 +25,8 @@ const char cli_solve_help[] =
     "  --method M        auto (default), tsai-lenz, park-martin, horaud-dornaika,\n"
     "                    daniilidis, andreff (AX=XB); shah, zhuang (AX=YB)\n"
     "  --pairs P         station pairs for AX=XB: auto (default: all pairs up to 60\n"
-    "                    stations, else consecutive plus half-way pairs), all, consecutive\n"
+    "                    stations, else consecutive plus half-way pairs), all, consecutive,\n"
+    "                    or a selection of station ids, e.g. p01:p02,p01:p07,p03:p09\n"
     "  --closed-form     report the closed form only, without refinement\n"
     "  --no-robust       plain least squares, no outlier exclusion\n"
     "  --noise LEN,ANG   per-axis station noise used as weights, e.g. 0.2mm,0.05deg\n"
@@ -73,6 +74,51 @@ static int parse_noise(const char *v, double *len, double *ang, tram_length_unit
     if (au == TRAM_ANGLE_UNSET) return -1;
     *ang *= tram_unit_angle_in_rad(au);
     return 0;
+}
+
+/* "ID:ID,ID:ID" -> station index pairs. */
+static int parse_pairs(const char *v, const tram_records *r, tram_pair **out, size_t *count)
+{
+    size_t cap = 1;
+    for (const char *p = v; *p; p++) cap += *p == ',';
+    tram_pair *pairs = malloc(cap * sizeof *pairs);
+    char *copy = strdup(v);
+    if (!pairs || !copy) {
+        free(pairs);
+        free(copy);
+        return cli_usage_error("solve", "out of memory");
+    }
+    size_t n = 0;
+    for (char *tok = strtok(copy, ","); tok; tok = strtok(NULL, ",")) {
+        char *colon = strchr(tok, ':');
+        if (!colon) {
+            free(pairs);
+            free(copy);
+            return cli_usage_error("solve", "--pairs: '%s' is not ID:ID", tok);
+        }
+        *colon = '\0';
+        const char *ids[2] = {tok, colon + 1};
+        size_t idx[2];
+        for (int k = 0; k < 2; k++) {
+            idx[k] = r->count;
+            for (size_t i = 0; i < r->count; i++)
+                if (strcmp(r->stations[i].id, ids[k]) == 0) idx[k] = i;
+            if (idx[k] == r->count) {
+                int rc = cli_usage_error("solve", "--pairs: no station '%s' in %s", ids[k],
+                                         r->source);
+                free(pairs);
+                free(copy);
+                return rc;
+            }
+        }
+        pairs[n].i = idx[0];
+        pairs[n].j = idx[1];
+        n++;
+    }
+    free(copy);
+    *out = pairs;
+    *count = n;
+    return CLI_EXIT_OK;
 }
 
 static void print_matrix(const tram_se3 *T)
@@ -190,7 +236,8 @@ int cli_solve(int argc, char **argv)
     memset(&ro, 0, sizeof ro);
     tram_setup setup = TRAM_SETUP_UNSET;
     int json = 0, force = 0, bad = 0;
-    const char *noise = NULL, *method = "auto";
+    const char *noise = NULL, *method = "auto", *pair_sel = NULL;
+    tram_pair *pair_list = NULL;
     for (int i = 1; i < argc; i++) {
         if (cli_take(argc, argv, &i, "--setup", &v, &bad)) {
             if (bad) break;
@@ -211,7 +258,8 @@ int cli_solve(int argc, char **argv)
             if (strcmp(v, "auto") == 0) so.pairs = TRAM_PAIRS_AUTO;
             else if (strcmp(v, "all") == 0) so.pairs = TRAM_PAIRS_ALL;
             else if (strcmp(v, "consecutive") == 0) so.pairs = TRAM_PAIRS_CONSECUTIVE;
-            else return cli_usage_error("solve", "--pairs '%s': expected auto, all or consecutive", v);
+            else if (strchr(v, ':')) pair_sel = v;
+            else return cli_usage_error("solve", "--pairs '%s': expected auto, all, consecutive or ID:ID,...", v);
         } else if (cli_take(argc, argv, &i, "--noise", &noise, &bad)) {
         } else if (cli_take(argc, argv, &i, "--bootstrap", &v, &bad)) {
             if (bad) break;
@@ -296,12 +344,21 @@ int cli_solve(int argc, char **argv)
         so.noise_length = len * tram_unit_length_factor(nu, r->length_unit);
         so.noise_angle_rad = ang;
     }
+    if (pair_sel) {
+        int prc = parse_pairs(pair_sel, r, &pair_list, &so.npair_list);
+        if (prc != CLI_EXIT_OK) {
+            tram_records_destroy(r);
+            return prc;
+        }
+        so.pair_list = pair_list;
+    }
     if (isatty(STDERR_FILENO)) so.progress = progress;
     tram_solution *s = NULL;
     st = tram_solve(r, setup, &so, &s, &err);
     if (st != TRAM_OK && st != TRAM_EUNDETERMINED) {
         cli_report(&err);
         tram_records_destroy(r);
+        free(pair_list);
         return cli_exit_for(st);
     }
     char *text = NULL;
@@ -338,5 +395,6 @@ int cli_solve(int argc, char **argv)
     if (rc == CLI_EXIT_OK && (!s->solved || !s->trustworthy)) rc = CLI_EXIT_UNDETERMINED;
     tram_solution_destroy(s);
     tram_records_destroy(r);
+    free(pair_list);
     return rc;
 }

@@ -99,6 +99,9 @@ done
 out=$("$TRAM" convert --pose quat:1,2,3,0.7071067811865476,0,0,0.7071067811865476 --to euler:zyx-intrinsic --angle-unit deg 2>&1)
 case "$out" in *"1,2,3,90.0000000000000"*) ok ;; *) bad "one-pose form: $out" ;; esac
 "$TRAM" --version | grep -q '^tram [0-9]' && ok || bad "--version"
+"$TRAM" convert --to quat - <"$here/data/mixed.csv" >"$tmp/stdin.csv" 2>"$tmp/err" && numclose "$tmp/c.csv" "$tmp/stdin.csv" && ok || bad "convert from stdin"
+printf '# length-unit: mm\nrobot_x,robot_y,robot_z,robot_qw,robot_qx,robot_qy,robot_qz\n1,2,3,2,0,0,0\n' | "$TRAM" convert --to quat - >"$tmp/out" 2>"$tmp/err"
+[ $? -eq 2 ] && [ ! -s "$tmp/out" ] && grep -q '^<stdin>:3:' "$tmp/err" && ok || bad "stdin error location"
 "$TRAM" help convert | grep -q 'usage: tram convert' && ok || bad "help convert"
 
 for f in "$here"/*.sh; do
