@@ -110,6 +110,7 @@ cli-tests: $(B)/tram $(B)/gen_demo
 ref-tests: $(B)/refhelper $(B)/tram
 	$(PYTHON) tests/ref/check_rotation_scipy.py $(B)/refhelper
 	$(PYTHON) tests/ref/check_solve_scipy.py $(B)/tram
+	$(PYTHON) tests/ref/check_stats_scipy.py $(B)/refhelper
 
 asan:
 	$(MAKE) B=build-asan OPT="-O1 -g -fno-omit-frame-pointer" \

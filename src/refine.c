@@ -64,7 +64,7 @@ void tram__refine_residual(const tram_se3 *P, const tram_se3 *S, const tram_se3 
 }
 
 /* Weighted residual and its Jacobian (central differences) for one station. */
-static void station_jacobian(const tram_se3 *P, const tram_se3 *S, const tram_se3 *X,
+void tram__refine_station_jacobian(const tram_se3 *P, const tram_se3 *S, const tram_se3 *X,
                              const tram_se3 *Z, double inv_sa, double inv_sl, double ht,
                              double r[6], double J[6][NP])
 {
@@ -117,7 +117,7 @@ static void normal_equations(const tram_refine_problem *pb, const double *w, con
     for (size_t i = 0; i < pb->n; i++) {
         if (!(w[i] > 0)) continue;
         double r[6], J[6][NP];
-        station_jacobian(&pb->P[i], &pb->S[i], X, Z, 1 / pb->sigma_angle, 1 / pb->sigma_length,
+        tram__refine_station_jacobian(&pb->P[i], &pb->S[i], X, Z, 1 / pb->sigma_angle, 1 / pb->sigma_length,
                          ht, r, J);
         for (int a = 0; a < NP; a++) {
             double ga = 0;

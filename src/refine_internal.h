@@ -23,6 +23,12 @@ void tram__refine_apply(const tram_se3 *X0, const tram_se3 *Z0, const double x[1
 /* Unweighted residual of one station: rotation vector (rad), translation. */
 void tram__refine_residual(const tram_se3 *P, const tram_se3 *S, const tram_se3 *X,
                            const tram_se3 *Z, double r[6]);
+/* Weighted residual r (rotation / sigma_angle, translation / sigma_length)
+ * of one station and its Jacobian with respect to the 12 parameters
+ * (central differences; ht is the translation step). */
+void tram__refine_station_jacobian(const tram_se3 *P, const tram_se3 *S, const tram_se3 *X,
+                                   const tram_se3 *Z, double inv_sa, double inv_sl, double ht,
+                                   double r[6], double J[6][12]);
 /* Refine X, Z in place.  station_w: per-station weights (NULL = 1; 0
  * excludes a station).  robust: Cauchy IRLS on top of the weights. */
 tram_status tram__refine_run(const tram_refine_problem *pb, const double *station_w, int robust,

@@ -124,6 +124,51 @@ static void json_pose(FILE *f, const char *name, const tram_se3 *T, int last)
     fprintf(f, "]%s\n", last ? "" : ",");
 }
 
+static const char wrist_header[] =
+    "# format: tram-records-1\n# setup: eye-in-hand\n# length-unit: mm\n"
+    "# angle-unit: deg\n# robot-euler: zyx-intrinsic\n# robot-pose: flange-in-base\n"
+    "# sensor-pose: target-in-sensor\n"
+    "station,robot_x,robot_y,robot_z,robot_e1,robot_e2,robot_e3,"
+    "sensor_x,sensor_y,sensor_z,sensor_qw,sensor_qx,sensor_qy,sensor_qz\n";
+
+/* Wrist-camera stations looking at the board from above at varied angles;
+ * station `bad` (1-based, 0 for none) gets a gross detection error. */
+static int write_wrist(const char *dir, const char *name, char prefix, const char *comment,
+                       const tram_se3 *T_flange_sensor, const tram_se3 *T_base_target, int n,
+                       int bad)
+{
+    char path[1024];
+    snprintf(path, sizeof path, "%s/%s", dir, name);
+    FILE *f = fopen(path, "w");
+    if (!f) return 1;
+    fputs(comment, f);
+    fputs(wrist_header, f);
+    double board[3] = {T_base_target->m[0][3], T_base_target->m[1][3], T_base_target->m[2][3]};
+    for (int i = 1; i <= n; i++) {
+        double az = uniform() * 2 * PI, el = (45 + 35 * uniform()) * DEG,
+               d = 380 + 200 * uniform();
+        double eye[3] = {board[0] + d * cos(el) * cos(az), board[1] + d * cos(el) * sin(az),
+                         board[2] + d * sin(el)};
+        double at[3] = {board[0] + 60 * (uniform() - 0.5), board[1] + 60 * (uniform() - 0.5),
+                        board[2]};
+        tram_se3 Ts, Xi, Tf, Ts_inv, St;
+        look_at(eye, at, -40 + 80 * uniform(), &Ts);
+        tram_se3_invert(T_flange_sensor, &Xi);
+        tram_se3_compose(&Ts, &Xi, &Tf);
+        tram_se3_invert(&Ts, &Ts_inv);
+        tram_se3_compose(&Ts_inv, T_base_target, &St);
+        add_noise(&Tf, 0.01, 0.05);
+        add_noise(&St, 0.05, 0.2);
+        if (i == bad) add_noise(&St, 1.5, 6.0); /* the bad detection */
+        fprintf(f, "%c%02d", prefix, i);
+        write_euler(f, &Tf);
+        write_quat(f, &St, 1.0);
+        fprintf(f, "\n");
+    }
+    fclose(f);
+    return 0;
+}
+
 int main(int argc, char **argv)
 {
     if (argc != 2) {
@@ -139,43 +184,14 @@ int main(int argc, char **argv)
     pose_from((double[3]){178.0, 2.0, -4.0}, (double[3]){650.0, 250.0, 1600.0}, &T_base_sensor);
     pose_from((double[3]){0.0, 0.0, 45.0}, (double[3]){0.0, 10.0, 25.0}, &T_flange_target);
 
-    snprintf(path, sizeof path, "%s/wrist_camera.csv", argv[1]);
-    FILE *f = fopen(path, "w");
-    if (!f) return 1;
-    fprintf(f, "# Demo: wrist camera on a packaging-cell arm (invented scenario, made by\n"
-               "# tools/gen_demo.c with a fixed seed). The board is fixed on the infeed table.\n"
-               "# Station p14 is a bad detection (the board was partly covered).\n"
-               "# format: tram-records-1\n# setup: eye-in-hand\n# length-unit: mm\n"
-               "# angle-unit: deg\n# robot-euler: zyx-intrinsic\n# robot-pose: flange-in-base\n"
-               "# sensor-pose: target-in-sensor\n"
-               "station,robot_x,robot_y,robot_z,robot_e1,robot_e2,robot_e3,"
-               "sensor_x,sensor_y,sensor_z,sensor_qw,sensor_qx,sensor_qy,sensor_qz\n");
-    double board[3] = {T_base_target.m[0][3], T_base_target.m[1][3], T_base_target.m[2][3]};
-    for (int i = 1; i <= 20; i++) {
-        double az = uniform() * 2 * PI, el = (45 + 35 * uniform()) * DEG,
-               d = 380 + 200 * uniform();
-        double eye[3] = {board[0] + d * cos(el) * cos(az), board[1] + d * cos(el) * sin(az),
-                         board[2] + d * sin(el)};
-        double at[3] = {board[0] + 60 * (uniform() - 0.5), board[1] + 60 * (uniform() - 0.5),
-                        board[2]};
-        tram_se3 Ts, Xi, Tf, Ts_inv, St;
-        look_at(eye, at, -40 + 80 * uniform(), &Ts);
-        tram_se3_invert(&T_flange_sensor, &Xi);
-        tram_se3_compose(&Ts, &Xi, &Tf);
-        tram_se3_invert(&Ts, &Ts_inv);
-        tram_se3_compose(&Ts_inv, &T_base_target, &St);
-        add_noise(&Tf, 0.01, 0.05);
-        add_noise(&St, 0.05, 0.2);
-        if (i == 14) add_noise(&St, 1.5, 6.0); /* the bad detection */
-        fprintf(f, "p%02d", i);
-        write_euler(f, &Tf);
-        write_quat(f, &St, 1.0);
-        fprintf(f, "\n");
-    }
-    fclose(f);
-
+    if (write_wrist(argv[1], "wrist_camera.csv", 'p',
+                    "# Demo: wrist camera on a packaging-cell arm (invented scenario, made by\n"
+                    "# tools/gen_demo.c with a fixed seed). The board is fixed on the infeed table.\n"
+                    "# Station p14 is a bad detection (the board was partly covered).\n",
+                    &T_flange_sensor, &T_base_target, 20, 14))
+        return 1;
     snprintf(path, sizeof path, "%s/overhead_camera.csv", argv[1]);
-    f = fopen(path, "w");
+    FILE *f = fopen(path, "w");
     if (!f) return 1;
     fprintf(f, "# Demo: overhead camera above the packaging cell (invented scenario, made by\n"
                "# tools/gen_demo.c). The board rides on the flange; the camera reports metres.\n"
@@ -216,6 +232,46 @@ int main(int argc, char **argv)
     json_pose(f, "T_base_sensor", &T_base_sensor, 0);
     json_pose(f, "T_flange_target", &T_flange_target, 1);
     fprintf(f, "  }\n}\n");
+    fclose(f);
+    /* Months later: a re-check with nothing moved, and one after the wrist
+     * camera's bracket was bumped (0.6 deg about the flange's x axis and
+     * 1.2 mm along x, -0.8 mm along z, in the flange frame). */
+    if (write_wrist(argv[1], "wrist_recheck.csv", 'r',
+                    "# Demo: re-check of the wrist camera, nothing moved (invented scenario).\n",
+                    &T_flange_sensor, &T_base_target, 8, 0))
+        return 1;
+    tram_se3 bump, T_flange_sensor_bumped;
+    pose_from((double[3]){0.6, 0.0, 0.0}, (double[3]){0, 0, 0}, &bump);
+    tram_se3_compose(&bump, &T_flange_sensor, &T_flange_sensor_bumped);
+    T_flange_sensor_bumped.m[0][3] += 1.2;
+    T_flange_sensor_bumped.m[2][3] -= 0.8;
+    if (write_wrist(argv[1], "wrist_bumped.csv", 'b',
+                    "# Demo: re-check after the wrist camera's bracket was bumped (invented\n"
+                    "# scenario; the change is in truth.json).\n",
+                    &T_flange_sensor_bumped, &T_base_target, 8, 0))
+        return 1;
+    snprintf(path, sizeof path, "%s/truth_bump.json", argv[1]);
+    f = fopen(path, "w");
+    if (!f) return 1;
+    /* The change as tram check reports it: displacement of the sensor's
+     * origin and rotation about it, both in the flange frame. */
+    tram_mat3 Ra, Rb, Rbt, D;
+    double w[3];
+    tram_se3_to_rt(&T_flange_sensor, &Ra, NULL);
+    tram_se3_to_rt(&T_flange_sensor_bumped, &Rb, NULL);
+    tram_so3_transpose(&Ra, &Rbt);
+    tram_so3_mul(&Rb, &Rbt, &D);
+    tram_so3_log(&D, w);
+    fprintf(f, "{\n  \"comment\": \"the bump of wrist_bumped.csv: change of T_flange_sensor in the "
+               "flange frame (origin displacement, rotation about the sensor origin)\",\n");
+    fprintf(f, "  \"translation_mm\": [%.6f, %.6f, %.6f],\n",
+            T_flange_sensor_bumped.m[0][3] - T_flange_sensor.m[0][3],
+            T_flange_sensor_bumped.m[1][3] - T_flange_sensor.m[1][3],
+            T_flange_sensor_bumped.m[2][3] - T_flange_sensor.m[2][3]);
+    fprintf(f, "  \"rotation_vector_deg\": [%.6f, %.6f, %.6f],\n", w[0] / DEG, w[1] / DEG,
+            w[2] / DEG);
+    json_pose(f, "T_flange_sensor_bumped", &T_flange_sensor_bumped, 1);
+    fprintf(f, "}\n");
     fclose(f);
     return 0;
 }

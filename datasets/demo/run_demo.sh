@@ -1,19 +1,31 @@
 #!/bin/sh
-# make demo: solve the bundled demo scenario (invented: a packaging cell with
-# a wrist camera and an overhead camera; see tools/gen_demo.c and truth.json).
+# make demo: the bundled demo scenario (invented: a packaging cell with a
+# wrist camera and an overhead camera; tools/gen_demo.c, truth*.json):
+# solve both cameras, then check the wrist camera twice - months later with
+# nothing moved, and after its bracket was bumped.
 set -u
 tram=${1:-build/tram}
 here=$(dirname "$0")
 out=${DEMO_OUT:-build/demo}
 mkdir -p "$out"
-echo "=== wrist camera (eye-in-hand): $here/wrist_camera.csv"
-"$tram" solve --force -o "$out/wrist_camera.calibration.json" "$here/wrist_camera.csv"
-rc1=$?
+rm -f "$out/wrist_camera.history.jsonl"
+status=0
+echo "=== 1. wrist camera (eye-in-hand): tram solve $here/wrist_camera.csv"
+"$tram" solve --force -o "$out/wrist_camera.calibration.json" "$here/wrist_camera.csv" || status=1
 echo
-echo "=== overhead camera (eye-to-hand): $here/overhead_camera.csv"
-"$tram" solve --force -o "$out/overhead_camera.calibration.json" "$here/overhead_camera.csv"
-rc2=$?
+echo "=== 2. overhead camera (eye-to-hand): tram solve $here/overhead_camera.csv"
+"$tram" solve --force -o "$out/overhead_camera.calibration.json" "$here/overhead_camera.csv" || status=1
 echo
-echo "ground truth of the invented scenario: $here/truth.json"
-echo "calibration files: $out/wrist_camera.calibration.json $out/overhead_camera.calibration.json"
-[ "$rc1" -eq 0 ] && [ "$rc2" -eq 0 ]
+echo "=== 3. months later, nothing moved: tram check $here/wrist_recheck.csv"
+"$tram" check --calibration "$out/wrist_camera.calibration.json" \
+    --history "$out/wrist_camera.history.jsonl" "$here/wrist_recheck.csv" || status=1
+echo
+echo "=== 4. after a bumped bracket: tram check $here/wrist_bumped.csv (expected: sensor-moved)"
+"$tram" check --calibration "$out/wrist_camera.calibration.json" \
+    --history "$out/wrist_camera.history.jsonl" "$here/wrist_bumped.csv"
+[ $? -eq 1 ] || status=1
+echo
+echo "ground truth of the invented scenario: $here/truth.json, $here/truth_bump.json"
+echo "written: $out/wrist_camera.calibration.json $out/overhead_camera.calibration.json"
+echo "         $out/wrist_camera.history.jsonl"
+exit $status

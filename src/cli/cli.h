@@ -30,8 +30,10 @@ typedef struct cli_command {
 /* Subcommands (one file each). */
 int cli_convert(int argc, char **argv);
 int cli_solve(int argc, char **argv);
+int cli_check(int argc, char **argv);
 extern const char cli_convert_help[];
 extern const char cli_solve_help[];
+extern const char cli_check_help[];
 
 /* Option scanning.  If argv[*i] is "--name VALUE" or "--name=VALUE",
  * advance *i past it, set *value and return 1.  A missing value prints an

@@ -15,6 +15,8 @@ static const cli_command commands[] = {
      cli_convert_help},
     {"solve", cli_solve, "find the sensor's mount (hand-eye calibration) from a record file",
      cli_solve_help},
+    {"check", cli_check, "check a mount against its stored calibration: has it moved?",
+     cli_check_help},
     {"help", cli_help, "show help for a subcommand", "usage: tram help SUBCOMMAND\n"},
 };
 #define NCOMMANDS (sizeof commands / sizeof commands[0])

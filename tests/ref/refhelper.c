@@ -13,6 +13,7 @@
  *   invert   q(4) t(3)          -> 16
  *   apply    q(4) t(3) p(3)     -> 3
  *   mean     n q1(4) .. qn(4)   -> w x y z
+ *   chi2q    k z                -> chi-square quantile (tram_check_chi2_quantile)
  */
 #include <stdio.h>
 #include <stdlib.h>
@@ -99,6 +100,9 @@ int main(void)
             pose(v, v + 4, &A);
             tram_se3_apply_point(&A, v + 7, out);
             put(out, 3);
+        } else if (strcmp(op, "chi2q") == 0 && !get(v, 2)) {
+            double q = tram_check_chi2_quantile(v[0], v[1]);
+            put(&q, 1);
         } else if (strcmp(op, "mean") == 0 && !get(v, 1)) {
             int n = (int)v[0];
             tram_mat3 *Rs = malloc((size_t)n * sizeof *Rs);

@@ -1,0 +1,132 @@
+/*
+ * tram/check.h - mount checks: has the sensor (or the target) moved since
+ * the calibration?  Reads the calibration file written by tram_solve's
+ * JSON (format tram-calibration, version 1) and compares new stations with
+ * it.  Method and test: docs/check.md.
+ *
+ * Frames (T_a_b: pose of b in a).  A change of the sensor mount is reported
+ * in the frame the sensor is fixed to - the flange for eye-in-hand, the
+ * base for eye-to-hand; a change of the target in the frame the target is
+ * fixed to - the base for eye-in-hand, the flange for eye-to-hand.  In both
+ * cases the new transform is (exp(w) R, t + d) with w (rad) and d (length)
+ * expressed in that frame: d is the displacement of the moved frame's
+ * origin, w the rotation about that origin.
+ */
+#ifndef TRAM_CHECK_H
+#define TRAM_CHECK_H
+
+#include "tram/records.h"
+#include "tram/solve.h"
+
+#ifdef __cplusplus
+extern "C" {
+#endif
+
+/* A stored calibration. */
+typedef struct tram_calibration {
+    tram_setup setup;
+    tram_length_unit length_unit;
+    tram_se3 X, Z;            /* T_flange_sensor and T_base_target (eye-in-hand), or
+                                 T_base_sensor and T_flange_target (eye-to-hand) */
+    int has_cov;
+    double cov[144];          /* public order: X t, X w, Z t, Z w (length, rad)   */
+    double noise_length;      /* per-axis station noise of the calibration        */
+    double noise_angle_rad;
+    size_t stations;
+    int trustworthy;          /* as stored by solve                               */
+    char source[256];
+    char checksum[24];        /* of the calibration's input records               */
+} tram_calibration;
+
+/* Read a calibration file.  Wrong format, a newer version, missing or
+ * damaged fields, and transforms that are not rigid are errors
+ * (TRAM_EINPUT, naming the file and the field).  Caller frees *out with
+ * tram_calibration_destroy. */
+TRAM_API tram_status tram_calibration_read_file(const char *path, tram_calibration **out,
+                                                tram_error *err);
+TRAM_API tram_status tram_calibration_read_buffer(const char *name, const char *data, size_t len,
+                                                  tram_calibration **out, tram_error *err);
+/* NULL is a no-op. */
+TRAM_API void tram_calibration_destroy(tram_calibration *c);
+
+typedef enum tram_verdict {
+    TRAM_VERDICT_OK = 0,
+    TRAM_VERDICT_SENSOR_MOVED,
+    TRAM_VERDICT_TARGET_MOVED,
+    TRAM_VERDICT_INCONSISTENT,
+    TRAM_VERDICT_INCONCLUSIVE
+} tram_verdict;
+
+/* "ok", "sensor-moved", "target-moved", "inconsistent", "inconclusive". */
+TRAM_API const char *tram_verdict_name(tram_verdict v);
+
+typedef struct tram_check_options {
+    int use_tolerance;       /* 1: ok means every station within the tolerances */
+    double tol_length;       /* in the calibration's length unit                 */
+    double tol_angle_rad;
+} tram_check_options;
+
+/* The estimated change under one model. */
+typedef struct tram_change {
+    const char *model;       /* "sensor-moved" or "target-moved"                  */
+    const char *frame;       /* "flange" or "base"                                */
+    const char *transform;   /* the transform that changed, e.g. "T_flange_sensor" */
+    double translation[3];   /* displacement of the moved frame's origin (length) */
+    double rotation_deg[3];  /* rotation vector in that frame (deg)               */
+    double translation_norm, rotation_angle_deg;
+    double translation_sigma[3], rotation_sigma_deg[3]; /* 1-sigma per axis        */
+    double significance;     /* chi-square of the change against its covariance   */
+    double fit_chi2;         /* residual chi-square of the stations under the model */
+    double fit_threshold;    /* the test's threshold for fit_chi2                  */
+    int fits;                /* fit_chi2 <= fit_threshold                          */
+} tram_change;
+
+typedef struct tram_check_station {
+    double rot_deg, trans;   /* deviation of the station's prediction from the
+                                stored calibration                                */
+    int disagrees;           /* inconsistent with the verdict's model             */
+} tram_check_station;
+
+typedef struct tram_check_result {
+    tram_verdict verdict;
+    tram_setup setup;
+    tram_length_unit length_unit;
+    size_t n;
+    tram_check_station *stations;
+    double chi2_none, threshold_none; /* omnibus test of "nothing changed"        */
+    size_t dof_none;
+    double orientation_spread_deg;    /* largest rotation between stations       */
+    tram_change sensor, target;
+    int best;                         /* 0: sensor model fits better, 1: target  */
+    double false_alarm;               /* of the default test (0.01)               */
+    size_t ndiag;
+    tram_diagnostic *diag;
+} tram_check_result;
+
+/* Check new stations against a calibration.  The records' setup (if
+ * declared) must match the calibration's; their lengths are converted to
+ * the calibration's unit.  Caller frees *out with
+ * tram_check_result_destroy. */
+TRAM_API tram_status tram_check(const tram_calibration *cal, const tram_records *r,
+                                const tram_check_options *opt, tram_check_result **out,
+                                tram_error *err);
+/* NULL is a no-op. */
+TRAM_API void tram_check_result_destroy(tram_check_result *res);
+
+/* JSON of a result (docs/check.md); with history != 0 a one-line record for
+ * the history file instead (timestamp_utc: ISO 8601 text given by the
+ * caller).  *text is allocated; free() it. */
+TRAM_API tram_status tram_check_result_to_json(const tram_check_result *res,
+                                               const tram_records *r, int history,
+                                               const char *timestamp_utc, char **text,
+                                               tram_error *err);
+
+/* Chi-square quantile for k degrees of freedom at the normal quantile z
+ * (Wilson & Hilferty, Proc. Natl. Acad. Sci. 17(12), 1931); within 1% of
+ * the exact value for k >= 6 at the upper tail probabilities used here. */
+TRAM_API double tram_check_chi2_quantile(double k, double z);
+
+#ifdef __cplusplus
+}
+#endif
+#endif
