@@ -240,7 +240,9 @@ tram_status tram__schema_build(const char *file, const char *const *names, const
     if (!s->cols) return tram__fail(err, TRAM_ENOMEM, file, 0, 0, "out of memory");
     /* seen[block][slot] = index+1 of the column holding that slot, per kind */
     int seen[TRAM_BLOCK_COUNT][5][TRAM_RAW_MAX];
+    int joint_seen[TRAM_JOINTS_MAX];
     memset(seen, 0, sizeof seen);
+    memset(joint_seen, 0, sizeof joint_seen);
     for (int i = 0; i < n; i++) {
         long ln = lines ? lines[i] : 0, cl = cols ? cols[i] : 0;
         const char *nm = names[i];
@@ -249,6 +251,20 @@ tram_status tram__schema_build(const char *file, const char *const *names, const
                 return tram__fail(err, TRAM_EINPUT, file, ln, cl, "column 'station' appears twice");
             s->station_col = i;
             s->cols[i].kind = REC_COL_STATION;
+            continue;
+        }
+        if (strncmp(nm, "joint_", 6) == 0) {
+            char *end;
+            long j = strtol(nm + 6, &end, 10);
+            if (*end || end == nm + 6 || j < 1 || j > TRAM_JOINTS_MAX || nm[6] == '0')
+                return tram__fail(err, TRAM_EINPUT, file, ln, cl,
+                                  "unknown column '%s': joint columns are joint_1 ... joint_%d", nm,
+                                  TRAM_JOINTS_MAX);
+            if (joint_seen[j - 1])
+                return tram__fail(err, TRAM_EINPUT, file, ln, cl, "column '%s' appears twice", nm);
+            joint_seen[j - 1] = i + 1;
+            s->cols[i].kind = REC_COL_JOINT;
+            s->cols[i].slot = (int)j - 1;
             continue;
         }
         int b = -1;
@@ -310,11 +326,23 @@ tram_status tram__schema_build(const char *file, const char *const *names, const
         s->rep[b] = found;
         s->nslots[b] = tram__rep_slots(found);
     }
-    /* Columns of the other (unused) kinds cannot exist here: any column of a
-     * second kind was rejected above. */
-    if (!s->has_block[0] && !s->has_block[1])
+    int nj = 0;
+    while (nj < TRAM_JOINTS_MAX && joint_seen[nj]) nj++;
+    for (int j = nj; j < TRAM_JOINTS_MAX; j++)
+        if (joint_seen[j])
+            return tram__fail(err, TRAM_EINPUT, file, hl, 0,
+                              "missing column 'joint_%d': joint columns must be joint_1 ... "
+                              "joint_n without gaps",
+                              nj + 1);
+    s->n_joints = nj;
+    if (nj && s->has_block[TRAM_BLOCK_ROBOT])
         return tram__fail(err, TRAM_EINPUT, file, hl, 0,
-                          "no pose columns: expected robot_x,... and/or sensor_x,...");
+                          "both robot_ pose columns and joint_ columns: give the robot pose one "
+                          "way only");
+    if (!s->has_block[0] && !s->has_block[1] && !nj)
+        return tram__fail(err, TRAM_EINPUT, file, hl, 0,
+                          "no pose columns: expected robot_x,... (or joint_1,...) and/or "
+                          "sensor_x,...");
     return TRAM_OK;
 }
 
@@ -389,6 +417,8 @@ static tram_status rebuild_with(tram_records *r, const tram_block_convention con
 {
     for (int b = 0; b < TRAM_BLOCK_COUNT; b++) {
         if (!r->has_block[b]) continue;
+        /* Poses computed from joints have no raw numbers to re-read. */
+        if (b == TRAM_BLOCK_ROBOT && r->robot_from_chain) continue;
         r->conv[b] = conv[b];
         for (size_t i = 0; i < r->count; i++) {
             tram_station *st = &r->stations[i];
@@ -434,6 +464,10 @@ tram_status tram__records_finish(tram_records *r, const rec_schema *s, const rec
                               tram_unit_angle_name(au), tram_unit_angle_name(opt->angle_unit));
         au = opt->angle_unit;
     }
+    if (s->n_joints && au == TRAM_ANGLE_UNSET && d->block_angle[0] == TRAM_ANGLE_UNSET)
+        return tram__fail(err, TRAM_EINPUT, file, header_line, 0,
+                          "joint columns hold angles but no angle unit is given: add '# "
+                          "angle-unit: deg' (or rad) or pass --angle-unit");
     tram_angle_unit bau[TRAM_BLOCK_COUNT];
     for (int b = 0; b < TRAM_BLOCK_COUNT; b++) {
         bau[b] = d->block_angle[b] != TRAM_ANGLE_UNSET ? d->block_angle[b] : au;
@@ -455,6 +489,7 @@ tram_status tram__records_finish(tram_records *r, const rec_schema *s, const rec
     /* The record set's angle unit: the common one, else the first block's. */
     r->angle_unit = au != TRAM_ANGLE_UNSET ? au : (bau[0] != TRAM_ANGLE_UNSET ? bau[0] : bau[1]);
     r->setup = d->setup;
+    r->n_joints = (size_t)s->n_joints;
     r->reorthonormalize = opt ? opt->reorthonormalize : 0;
     tram_block_convention conv[2];
     for (int b = 0; b < TRAM_BLOCK_COUNT; b++) {

@@ -240,6 +240,12 @@ tram_status tram__records_read_csv(const char *name, const char *data, size_t le
                 continue;
             }
             double v;
+            char colname[24];
+            if (c->kind == REC_COL_JOINT)
+                snprintf(colname, sizeof colname, "joint_%d", c->slot + 1);
+            else
+                snprintf(colname, sizeof colname, "%s%s", c->block ? "sensor_" : "robot_",
+                         tram__rep_slot_name(schema.rep[c->block], c->slot));
             if (tram__parse_double(txt, &v) != 0) {
                 char shown[40];
                 snprintf(shown, sizeof shown, "%s", txt);
@@ -251,9 +257,13 @@ tram_status tram__records_read_csv(const char *name, const char *data, size_t le
                 else if (!txt[0])
                     why = "empty field: expected a number";
                 st = tram__fail(err, TRAM_EINPUT, name, lineno, fields[i].col,
-                                "column '%s%s': %s, found '%s'", c->block ? "sensor_" : "robot_",
-                                tram__rep_slot_name(schema.rep[c->block], c->slot), why, shown);
+                                "column '%s': %s, found '%s'", colname, why, shown);
                 goto done;
+            }
+            if (c->kind == REC_COL_JOINT) {
+                s->joints[c->slot] = v;
+                s->joint_col[c->slot] = (int)fields[i].col;
+                continue;
             }
             s->raw[c->block][c->slot] = v;
             s->col[c->block][c->slot] = (int)fields[i].col;

@@ -27,7 +27,7 @@ typedef struct rec_directives {
 tram_status tram__directive_apply(rec_directives *d, const char *file, long line, long col,
                                   const char *key, const char *value, tram_error *err);
 
-enum { REC_COL_STATION = 1, REC_COL_VALUE = 2 };
+enum { REC_COL_STATION = 1, REC_COL_VALUE = 2, REC_COL_JOINT = 3 };
 
 typedef struct rec_column {
     int kind;  /* REC_COL_STATION or REC_COL_VALUE */
@@ -42,6 +42,7 @@ typedef struct rec_schema {
     int has_block[TRAM_BLOCK_COUNT];
     tram_rep_kind rep[TRAM_BLOCK_COUNT];
     int nslots[TRAM_BLOCK_COUNT];
+    int n_joints;
 } rec_schema;
 
 /* Build the schema from column names (e.g. "robot_qw").  lines/cols give

@@ -174,14 +174,14 @@ tram_status tram__records_read_json(const char *name, const char *data, size_t l
     size_t n = (size_t)cJSON_GetArraySize(sts);
     lines = tram__calloc(n, sizeof *lines);
     r->stations = tram__calloc(n, sizeof *r->stations);
-    names = tram__calloc(2 * TRAM_RAW_MAX + 1, sizeof *names);
+    names = tram__calloc(2 * TRAM_RAW_MAX + TRAM_JOINTS_MAX + 1, sizeof *names);
     if (!lines || !r->stations || !names) {
         st = tram__fail(err, TRAM_ENOMEM, name, 0, 0, "out of memory");
         goto done;
     }
     station_lines(data, len, lines, n);
     /* Schema from the first station's keys; every station must match it. */
-    char colnames[2 * TRAM_RAW_MAX][16];
+    char colnames[2 * TRAM_RAW_MAX + TRAM_JOINTS_MAX][16];
     int ncol = 0;
     const cJSON *first = cJSON_GetArrayItem(sts, 0);
     static const char *const blocks[2] = {"robot", "sensor"};
@@ -206,13 +206,29 @@ tram_status tram__records_read_json(const char *name, const char *data, size_t l
             ncol++;
         }
     }
+    const cJSON *j0 = cJSON_IsObject(first) ? cJSON_GetObjectItemCaseSensitive(first, "joints") : NULL;
+    int nj = 0;
+    if (j0) {
+        nj = cJSON_IsArray(j0) ? cJSON_GetArraySize(j0) : -1;
+        if (nj < 1 || nj > TRAM_JOINTS_MAX) {
+            st = tram__fail(err, TRAM_EINPUT, name, lines[0], 0,
+                            "stations[0].joints: expected an array of 1 to %d joint readings",
+                            TRAM_JOINTS_MAX);
+            goto done;
+        }
+        for (int j = 0; j < nj; j++) {
+            snprintf(colnames[ncol], sizeof colnames[ncol], "joint_%d", j + 1);
+            names[ncol] = colnames[ncol];
+            ncol++;
+        }
+    }
     if (ncol == 0) {
         st = tram__fail(err, TRAM_EINPUT, name, lines[0], 0,
-                        "stations[0]: expected \"robot\" and/or \"sensor\" pose objects");
+                        "stations[0]: expected \"robot\" (or \"joints\") and/or \"sensor\"");
         goto done;
     }
     {
-        long hl[2 * TRAM_RAW_MAX];
+        long hl[2 * TRAM_RAW_MAX + TRAM_JOINTS_MAX];
         for (int i = 0; i < ncol; i++) hl[i] = lines[0];
         st = tram__schema_build(name, names, hl, NULL, ncol, &schema, err);
         if (st != TRAM_OK) goto done;
@@ -246,12 +262,31 @@ tram_status tram__records_read_json(const char *name, const char *data, size_t l
         cJSON_ArrayForEach(m, so)
         {
             if (strcmp(m->string, "station") && strcmp(m->string, "robot") &&
-                strcmp(m->string, "sensor")) {
+                strcmp(m->string, "sensor") && strcmp(m->string, "joints")) {
                 st = tram__fail(err, TRAM_EINPUT, name, lines[k], 0,
                                 "stations[%zu]: unknown key \"%s\" (expected station, robot, "
-                                "sensor)",
+                                "joints, sensor)",
                                 k, m->string);
                 goto done;
+            }
+        }
+        const cJSON *jv = cJSON_GetObjectItemCaseSensitive(so, "joints");
+        if (nj > 0 || jv) {
+            if (!cJSON_IsArray(jv) || cJSON_GetArraySize(jv) != nj) {
+                st = tram__fail(err, TRAM_EINPUT, name, lines[k], 0,
+                                "stations[%zu].joints: expected %d joint readings as in "
+                                "stations[0]",
+                                k, nj);
+                goto done;
+            }
+            for (int j = 0; j < nj; j++) {
+                const cJSON *x = cJSON_GetArrayItem(jv, j);
+                if (!cJSON_IsNumber(x)) {
+                    st = tram__fail(err, TRAM_EINPUT, name, lines[k], 0,
+                                    "stations[%zu].joints[%d]: expected a finite number", k, j);
+                    goto done;
+                }
+                s->joints[j] = x->valuedouble;
             }
         }
         for (int b = 0; b < 2; b++) {

@@ -397,6 +397,10 @@ tram_status tram_solve(const tram_records *r, tram_setup setup, const tram_solve
     if (setup == TRAM_SETUP_UNSET)
         return tram__fail(err, TRAM_EINPUT, r->source, 0, 0,
                           "no setup: add '# setup: eye-in-hand' (or eye-to-hand) or pass --setup");
+    if (!r->has_block[TRAM_BLOCK_ROBOT] && r->n_joints)
+        return tram__fail(err, TRAM_EINPUT, r->source, 0, 0,
+                          "the record file gives joint readings (joint_1 ...): pass --chain FILE "
+                          "to compute the flange poses");
     if (!r->has_block[TRAM_BLOCK_ROBOT] || !r->has_block[TRAM_BLOCK_SENSOR])
         return tram__fail(err, TRAM_EINPUT, r->source, 0, 0,
                           "solving needs both a robot_ and a sensor_ pose block");

@@ -7,8 +7,9 @@
  * such cells: robot 0.01 deg / 0.05 mm, camera 0.05 deg / 0.2 mm per axis.
  * The ground truth is written beside the records.
  *
- * Usage: gen_demo OUTDIR   (make regenerates nothing by itself; the
- * generated files are committed, and a test checks they match.)
+ * Usage: gen_demo OUTDIR [ARM_CHAIN.json] (default OUTDIR/arm_dh.json, the
+ * hand-written chain of the invented arm).  make regenerates nothing by
+ * itself; the generated files are committed, and a test checks they match.
  */
 #include <math.h>
 #include <stdint.h>
@@ -171,8 +172,8 @@ static int write_wrist(const char *dir, const char *name, char prefix, const cha
 
 int main(int argc, char **argv)
 {
-    if (argc != 2) {
-        fprintf(stderr, "usage: gen_demo OUTDIR\n");
+    if (argc != 2 && argc != 3) {
+        fprintf(stderr, "usage: gen_demo OUTDIR [ARM_CHAIN.json]\n");
         return 2;
     }
     char path[1024];
@@ -273,5 +274,47 @@ int main(int argc, char **argv)
     json_pose(f, "T_flange_sensor_bumped", &T_flange_sensor_bumped, 1);
     fprintf(f, "}\n");
     fclose(f);
+    /* The same wrist camera on the invented six-axis arm of arm_dh.json,
+     * logged as joint readings (deg) instead of flange poses. */
+    if (argc > 2) snprintf(path, sizeof path, "%s", argv[2]);
+    else snprintf(path, sizeof path, "%s/arm_dh.json", argv[1]);
+    tram_chain *arm = NULL;
+    tram_error err;
+    if (tram_chain_read_file(path, &arm, &err) != TRAM_OK) {
+        fprintf(stderr, "gen_demo: %s\n", err.message);
+        return 1;
+    }
+    const double q0[6] = {0, -10, 20, 0, -60, 0};
+    tram_se3 F0, Ts0, T_base_board;
+    tram_chain_forward(arm, q0, &F0, NULL);
+    tram_se3_compose(&F0, &T_flange_sensor, &Ts0);
+    tram_se3 ahead;
+    pose_from((double[3]){0, 0, 15}, (double[3]){20, -10, 520}, &ahead);
+    tram_se3_compose(&Ts0, &ahead, &T_base_board);
+    snprintf(path, sizeof path, "%s/wrist_camera_joints.csv", argv[1]);
+    f = fopen(path, "w");
+    if (!f) return 1;
+    fprintf(f, "# Demo: the wrist camera on the invented arm of arm_dh.json, logged as joint\n"
+               "# readings (tools/gen_demo.c). Solve with: tram solve --chain arm_dh.json\n"
+               "# format: tram-records-1\n# setup: eye-in-hand\n# length-unit: mm\n# angle-unit: deg\n"
+               "station,joint_1,joint_2,joint_3,joint_4,joint_5,joint_6,"
+               "sensor_x,sensor_y,sensor_z,sensor_qw,sensor_qx,sensor_qy,sensor_qz\n");
+    for (int i = 1; i <= 15; i++) {
+        double q[6] = {q0[0] + 25 * (uniform() - 0.5), q0[1] + 20 * (uniform() - 0.5),
+                       q0[2] + 20 * (uniform() - 0.5), q0[3] + 70 * (uniform() - 0.5),
+                       q0[4] + 50 * (uniform() - 0.5), q0[5] + 180 * (uniform() - 0.5)};
+        for (int k = 0; k < 6; k++) q[k] = round(q[k] * 1000.0) / 1000.0; /* controller's 0.001 deg */
+        tram_se3 F, FX, FXi, St;
+        tram_chain_forward(arm, q, &F, NULL);
+        tram_se3_compose(&F, &T_flange_sensor, &FX);
+        tram_se3_invert(&FX, &FXi);
+        tram_se3_compose(&FXi, &T_base_board, &St);
+        add_noise(&St, 0.05, 0.2);
+        fprintf(f, "j%02d,%.3f,%.3f,%.3f,%.3f,%.3f,%.3f", i, q[0], q[1], q[2], q[3], q[4], q[5]);
+        write_quat(f, &St, 1.0);
+        fprintf(f, "\n");
+    }
+    fclose(f);
+    tram_chain_destroy(arm);
     return 0;
 }

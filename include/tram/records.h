@@ -10,6 +10,10 @@
  * another convention (tram_records_rebuild) - the basis of the convention
  * checks of the solver.
  *
+ * Instead of robot_ pose columns a file may give joint readings, joint_1 ...
+ * joint_n (angles in the angle unit, prismatic joints in the length unit);
+ * tram_records_apply_chain (tram/chain.h) turns them into T_base_flange.
+ *
  * Reading is strict: nothing is guessed.  Every problem is reported as an
  * error naming file:line:column and what was expected.
  */
@@ -59,6 +63,7 @@ typedef struct tram_block_convention {
 } tram_block_convention;
 
 #define TRAM_STATION_ID_MAX 64
+#define TRAM_JOINTS_MAX 16 /* joint_1 ... joint_16 */
 #define TRAM_RAW_MAX 12 /* x, y, z and up to 9 rotation numbers */
 
 typedef struct tram_station {
@@ -68,6 +73,8 @@ typedef struct tram_station {
     int col[TRAM_BLOCK_COUNT][TRAM_RAW_MAX];    /* source column of each raw    */
     tram_se3 T_base_flange;   /* valid when the robot block is present          */
     tram_se3 T_sensor_target; /* valid when the sensor block is present         */
+    double joints[TRAM_JOINTS_MAX]; /* joint readings as read (records' units)   */
+    int joint_col[TRAM_JOINTS_MAX];
 } tram_station;
 
 typedef struct tram_records {
@@ -78,6 +85,8 @@ typedef struct tram_records {
     tram_angle_unit angle_unit;  /* UNSET when no block needs angles            */
     tram_setup setup;            /* from the setup directive, or UNSET           */
     int has_block[TRAM_BLOCK_COUNT];
+    size_t n_joints;             /* joint_1..joint_n columns (0: none)           */
+    int robot_from_chain;        /* T_base_flange computed from the joints       */
     tram_block_convention conv[TRAM_BLOCK_COUNT];
     int reorthonormalize;        /* matrices were projected onto SO(3)          */
     unsigned long long checksum; /* FNV-1a 64 of the input bytes                */

@@ -5,6 +5,7 @@
 #ifndef TRAM_TRAM_H
 #define TRAM_TRAM_H
 
+#include "tram/chain.h"
 #include "tram/check.h"
 #include "tram/common.h"
 #include "tram/fileio.h"

@@ -31,9 +31,15 @@ typedef struct cli_command {
 int cli_convert(int argc, char **argv);
 int cli_solve(int argc, char **argv);
 int cli_check(int argc, char **argv);
+int cli_fk(int argc, char **argv);
 extern const char cli_convert_help[];
 extern const char cli_solve_help[];
 extern const char cli_check_help[];
+extern const char cli_fk_help[];
+
+/* Read --chain FILE (if given) and turn the records' joint columns into
+ * robot poses; returns CLI_EXIT_OK or prints the error and returns 2. */
+int cli_apply_chain(const char *chain_path, tram_records *r);
 
 /* Option scanning.  If argv[*i] is "--name VALUE" or "--name=VALUE",
  * advance *i past it, set *value and return 1.  A missing value prints an

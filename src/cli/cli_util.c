@@ -63,3 +63,19 @@ int cli_exit_for(tram_status s)
     default: return CLI_EXIT_USAGE;
     }
 }
+
+int cli_apply_chain(const char *chain_path, tram_records *r)
+{
+    if (!chain_path) return CLI_EXIT_OK;
+    tram_error err;
+    tram_error_clear(&err);
+    tram_chain *c = NULL;
+    tram_status st = tram_chain_read_file(chain_path, &c, &err);
+    if (st == TRAM_OK) st = tram_records_apply_chain(r, c, &err);
+    tram_chain_destroy(c);
+    if (st != TRAM_OK) {
+        cli_report(&err);
+        return CLI_EXIT_USAGE;
+    }
+    return CLI_EXIT_OK;
+}

@@ -85,7 +85,8 @@ static const char *advice(tram_verdict v)
 
 int cli_check(int argc, char **argv)
 {
-    const char *calib = NULL, *file = NULL, *history = NULL, *tol = NULL, *v = NULL;
+    const char *calib = NULL, *file = NULL, *history = NULL, *tol = NULL, *v = NULL,
+               *chain = NULL;
     int json = 0, bad = 0;
     tram_read_options ro;
     memset(&ro, 0, sizeof ro);
@@ -93,6 +94,7 @@ int cli_check(int argc, char **argv)
         if (cli_take(argc, argv, &i, "--calibration", &calib, &bad)) {
         } else if (cli_take(argc, argv, &i, "--tolerance", &tol, &bad)) {
         } else if (cli_take(argc, argv, &i, "--history", &history, &bad)) {
+        } else if (cli_take(argc, argv, &i, "--chain", &chain, &bad)) {
         } else if (cli_take(argc, argv, &i, "--length-unit", &v, &bad)) {
             if (bad) break;
             ro.length_unit = tram_unit_length_parse(v);
@@ -143,6 +145,11 @@ int cli_check(int argc, char **argv)
     st = tram_records_read_file(file, &ro, &r, &err);
     if (st != TRAM_OK) {
         cli_report(&err);
+        tram_calibration_destroy(cal);
+        return CLI_EXIT_USAGE;
+    }
+    if (cli_apply_chain(chain, r) != CLI_EXIT_OK) {
+        tram_records_destroy(r);
         tram_calibration_destroy(cal);
         return CLI_EXIT_USAGE;
     }

@@ -36,6 +36,8 @@ const char cli_solve_help[] =
     "  --no-convention-check   skip re-solving under the usual convention mistakes\n"
     "  --length-unit U, --angle-unit U   units when the file does not declare them\n"
     "  --reorthonormalize        accept rounded rotation matrices\n"
+    "  --chain FILE      the record file gives joint readings: compute the flange\n"
+    "                    poses with this kinematic chain (docs/chain.md)\n"
     "  --json            print the result as JSON (schema: docs/solve.md)\n"
     "  -o FILE           write the calibration file (JSON) atomically\n"
     "  --force           allow -o to replace an existing file\n\n"
@@ -236,7 +238,7 @@ int cli_solve(int argc, char **argv)
     memset(&ro, 0, sizeof ro);
     tram_setup setup = TRAM_SETUP_UNSET;
     int json = 0, force = 0, bad = 0;
-    const char *noise = NULL, *method = "auto", *pair_sel = NULL;
+    const char *noise = NULL, *method = "auto", *pair_sel = NULL, *chain = NULL;
     tram_pair *pair_list = NULL;
     for (int i = 1; i < argc; i++) {
         if (cli_take(argc, argv, &i, "--setup", &v, &bad)) {
@@ -261,6 +263,7 @@ int cli_solve(int argc, char **argv)
             else if (strchr(v, ':')) pair_sel = v;
             else return cli_usage_error("solve", "--pairs '%s': expected auto, all, consecutive or ID:ID,...", v);
         } else if (cli_take(argc, argv, &i, "--noise", &noise, &bad)) {
+        } else if (cli_take(argc, argv, &i, "--chain", &chain, &bad)) {
         } else if (cli_take(argc, argv, &i, "--bootstrap", &v, &bad)) {
             if (bad) break;
             char *end;
@@ -315,6 +318,10 @@ int cli_solve(int argc, char **argv)
     if (st != TRAM_OK) {
         cli_report(&err);
         return cli_exit_for(st);
+    }
+    if (cli_apply_chain(chain, r) != CLI_EXIT_OK) {
+        tram_records_destroy(r);
+        return CLI_EXIT_USAGE;
     }
     if (setup != TRAM_SETUP_UNSET && r->setup != TRAM_SETUP_UNSET && setup != r->setup) {
         fprintf(stderr,

@@ -17,6 +17,7 @@ static const cli_command commands[] = {
      cli_solve_help},
     {"check", cli_check, "check a mount against its stored calibration: has it moved?",
      cli_check_help},
+    {"fk", cli_fk, "flange poses from joint readings and a kinematic chain", cli_fk_help},
     {"help", cli_help, "show help for a subcommand", "usage: tram help SUBCOMMAND\n"},
 };
 #define NCOMMANDS (sizeof commands / sizeof commands[0])

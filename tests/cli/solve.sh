@@ -58,11 +58,12 @@ else bad "planar motion (rc $rc)"; cat "$tmp/err"; fi
 
 # The committed demo data are exactly what the generator makes.
 if [ -n "${GEN_DEMO:-}" ]; then
-    mkdir -p "$tmp/gen" && "$GEN_DEMO" "$tmp/gen" &&
+    mkdir -p "$tmp/gen" && "$GEN_DEMO" "$tmp/gen" "$demo/arm_dh.json" &&
     cmp -s "$tmp/gen/wrist_camera.csv" "$demo/wrist_camera.csv" &&
     cmp -s "$tmp/gen/overhead_camera.csv" "$demo/overhead_camera.csv" &&
     cmp -s "$tmp/gen/truth.json" "$demo/truth.json" &&
     cmp -s "$tmp/gen/wrist_recheck.csv" "$demo/wrist_recheck.csv" &&
     cmp -s "$tmp/gen/wrist_bumped.csv" "$demo/wrist_bumped.csv" &&
-    cmp -s "$tmp/gen/truth_bump.json" "$demo/truth_bump.json" && ok || bad "demo data differ from tools/gen_demo.c output"
+    cmp -s "$tmp/gen/truth_bump.json" "$demo/truth_bump.json" &&
+    cmp -s "$tmp/gen/wrist_camera_joints.csv" "$demo/wrist_camera_joints.csv" && ok || bad "demo data differ from tools/gen_demo.c output"
 fi
