@@ -181,7 +181,7 @@ tram_status tram__records_read_json(const char *name, const char *data, size_t l
     }
     station_lines(data, len, lines, n);
     /* Schema from the first station's keys; every station must match it. */
-    char colnames[2 * TRAM_RAW_MAX + TRAM_JOINTS_MAX][16];
+    char colnames[2 * TRAM_RAW_MAX + TRAM_JOINTS_MAX][24];
     int ncol = 0;
     const cJSON *first = cJSON_GetArrayItem(sts, 0);
     static const char *const blocks[2] = {"robot", "sensor"};
