@@ -87,77 +87,129 @@ void tram__refine_station_jacobian(const tram_se3 *P, const tram_se3 *S, const t
     }
 }
 
-static double station_cost(const tram_se3 *P, const tram_se3 *S, const tram_se3 *X,
-                           const tram_se3 *Z, double inv_sa, double inv_sl)
+static size_t nblocks(const tram_refine_problem *pb) { return pb->eval ? pb->nblocks : pb->n; }
+static int nparams(const tram_refine_problem *pb) { return pb->nfree > 0 ? pb->nfree : NP; }
+static size_t maxdim(const tram_refine_problem *pb) { return pb->eval ? pb->maxdim : 6; }
+
+/* Weighted residual of block i; returns its length. */
+static size_t block_eval(const tram_refine_problem *pb, size_t i, const tram_se3 *X,
+                         const tram_se3 *Z, double *r)
 {
-    double r[6];
-    tram__refine_residual(P, S, X, Z, r);
+    if (pb->eval) return pb->eval(pb, i, X, Z, r);
+    tram__refine_residual(&pb->P[i], &pb->S[i], X, Z, r);
+    for (int k = 0; k < 3; k++) {
+        r[k] /= pb->sigma_angle;
+        r[3 + k] /= pb->sigma_length;
+    }
+    return 6;
+}
+
+static double block_cost(const tram_refine_problem *pb, size_t i, const tram_se3 *X,
+                         const tram_se3 *Z, double *buf, size_t *dim)
+{
+    size_t d = block_eval(pb, i, X, Z, buf);
     double c = 0;
-    for (int k = 0; k < 3; k++) c += tram__sq(r[k] * inv_sa) + tram__sq(r[3 + k] * inv_sl);
+    for (size_t k = 0; k < d; k++) c += buf[k] * buf[k];
+    if (dim) *dim = d;
     return c;
 }
 
 static double total_cost(const tram_refine_problem *pb, const double *w, const tram_se3 *X,
-                         const tram_se3 *Z)
+                         const tram_se3 *Z, double *buf)
 {
     double c = 0;
-    for (size_t i = 0; i < pb->n; i++)
-        if (w[i] > 0) c += w[i] * station_cost(&pb->P[i], &pb->S[i], X, Z, 1 / pb->sigma_angle,
-                                               1 / pb->sigma_length);
+    for (size_t i = 0; i < nblocks(pb); i++)
+        if (w[i] > 0) c += w[i] * block_cost(pb, i, X, Z, buf, NULL);
     return c;
 }
 
-/* Normal equations H = sum w J^T J, g = sum w J^T r at (X, Z). */
-static void normal_equations(const tram_refine_problem *pb, const double *w, const tram_se3 *X,
-                             const tram_se3 *Z, double H[NP * NP], double g[NP])
+/* Scratch for one block: r, r+, r-, and J (maxdim x NP). */
+typedef struct scratch {
+    double *r, *rp, *rm, *J;
+} scratch;
+
+static int scratch_alloc(const tram_refine_problem *pb, scratch *s)
 {
+    size_t m = maxdim(pb);
+    s->r = tram__malloc(m * (3 + NP) * sizeof *s->r);
+    if (!s->r) return -1;
+    s->rp = s->r + m;
+    s->rm = s->rp + m;
+    s->J = s->rm + m;
+    return 0;
+}
+
+/* Normal equations H = sum w J^T J, g = sum w J^T r at (X, Z), with the
+ * Jacobian by central differences over the free parameters. */
+static tram_status normal_equations(const tram_refine_problem *pb, const double *w,
+                                    const tram_se3 *X, const tram_se3 *Z, double H[NP * NP],
+                                    double g[NP])
+{
+    int np = nparams(pb);
     memset(H, 0, NP * NP * sizeof *H);
     memset(g, 0, NP * sizeof *g);
+    scratch sc;
+    if (scratch_alloc(pb, &sc)) return TRAM_ENOMEM;
     double ht = 1e-4 * pb->length_scale;
-    for (size_t i = 0; i < pb->n; i++) {
+    for (size_t i = 0; i < nblocks(pb); i++) {
         if (!(w[i] > 0)) continue;
-        double r[6], J[6][NP];
-        tram__refine_station_jacobian(&pb->P[i], &pb->S[i], X, Z, 1 / pb->sigma_angle, 1 / pb->sigma_length,
-                         ht, r, J);
-        for (int a = 0; a < NP; a++) {
+        size_t d = block_eval(pb, i, X, Z, sc.r);
+        for (int p = 0; p < np; p++) {
+            double x[NP] = {0}, h = (p % 6) < 3 ? 1e-6 : ht;
+            tram_se3 Xp, Zp;
+            x[p] = h;
+            tram__refine_apply(X, Z, x, &Xp, &Zp);
+            block_eval(pb, i, &Xp, &Zp, sc.rp);
+            x[p] = -h;
+            tram__refine_apply(X, Z, x, &Xp, &Zp);
+            block_eval(pb, i, &Xp, &Zp, sc.rm);
+            for (size_t k = 0; k < d; k++) sc.J[k * NP + (size_t)p] = (sc.rp[k] - sc.rm[k]) / (2 * h);
+        }
+        for (int a = 0; a < np; a++) {
             double ga = 0;
-            for (int k = 0; k < 6; k++) ga += J[k][a] * r[k];
+            for (size_t k = 0; k < d; k++) ga += sc.J[k * NP + (size_t)a] * sc.r[k];
             g[a] += w[i] * ga;
-            for (int b = a; b < NP; b++) {
-                double h = 0;
-                for (int k = 0; k < 6; k++) h += J[k][a] * J[k][b];
-                H[a * NP + b] += w[i] * h;
+            for (int b = a; b < np; b++) {
+                double hsum = 0;
+                for (size_t k = 0; k < d; k++) hsum += sc.J[k * NP + (size_t)a] * sc.J[k * NP + (size_t)b];
+                H[a * np + b] += w[i] * hsum;
             }
         }
     }
-    for (int a = 0; a < NP; a++)
-        for (int b = 0; b < a; b++) H[a * NP + b] = H[b * NP + a];
+    for (int a = 0; a < np; a++)
+        for (int b = 0; b < a; b++) H[a * np + b] = H[b * np + a];
+    tram__free(sc.r);
+    return TRAM_OK;
 }
 
-/* Levenberg-Marquardt with fixed station weights w. */
+/* Levenberg-Marquardt with fixed block weights w. */
 static tram_status lm(const tram_refine_problem *pb, const double *w, int max_iter, tram_se3 *X,
                       tram_se3 *Z, int *iters)
 {
+    int np = nparams(pb);
     double H[NP * NP], g[NP], lambda = 1e-3;
-    double cost = total_cost(pb, w, X, Z);
+    double *buf = tram__malloc(maxdim(pb) * sizeof *buf);
+    if (!buf) return TRAM_ENOMEM;
+    double cost = total_cost(pb, w, X, Z, buf);
     int it;
+    tram_status st = TRAM_OK;
     for (it = 0; it < max_iter; it++) {
-        normal_equations(pb, w, X, Z, H, g);
-        int accepted = 0;
+        if ((st = normal_equations(pb, w, X, Z, H, g)) != TRAM_OK) break;
+        int accepted = 0, done = 0;
         for (int tries = 0; tries < 12 && !accepted; tries++) {
-            double A[NP * NP], mg[NP], dx[NP];
+            double A[NP * NP], mg[NP], dx[NP] = {0};
             memcpy(A, H, sizeof A);
-            for (int a = 0; a < NP; a++) {
-                A[a * NP + a] += lambda * (H[a * NP + a] > 1e-300 ? H[a * NP + a] : 1e-300);
+            for (int a = 0; a < np; a++) {
+                A[a * np + a] += lambda * (H[a * np + a] > 1e-300 ? H[a * np + a] : 1e-300);
                 mg[a] = -g[a];
             }
-            if (tram__spd_solve(NP, A, mg, dx) != TRAM_OK) {
+            if (tram__spd_solve(np, A, mg, dx) != TRAM_OK) {
                 lambda *= 10;
                 continue;
             }
             tram_se3 Xn, Zn;
             tram__refine_apply(X, Z, dx, &Xn, &Zn);
-            double cn = total_cost(pb, w, &Xn, &Zn);
+            double cn = total_cost(pb, w, &Xn, &Zn, buf);
             if (cn <= cost) {
                 double rel = (cost - cn) / (cost > 1e-300 ? cost : 1e-300);
                 *X = Xn;
@@ -166,27 +218,35 @@ static tram_status lm(const tram_refine_problem *pb, const double *w, int max_it
                 lambda = lambda / 10 > 1e-12 ? lambda / 10 : 1e-12;
                 accepted = 1;
                 double step = 0;
-                for (int a = 0; a < NP; a++) step += dx[a] * dx[a];
-                if (rel < 1e-14 || step < 1e-26) {
-                    if (iters) *iters = it + 1;
-                    return TRAM_OK;
-                }
+                for (int a = 0; a < np; a++) step += dx[a] * dx[a];
+                if (rel < 1e-14 || step < 1e-26) done = 1;
             } else {
                 lambda *= 10;
             }
         }
+        if (done) {
+            it++;
+            break;
+        }
         if (!accepted) break; /* no descent direction left: converged */
     }
     if (iters) *iters = it;
-    return TRAM_OK;
+    tram__free(buf);
+    return st;
 }
 
 tram_status tram__refine_run(const tram_refine_problem *pb, const double *station_w, int robust,
                              tram_se3 *X, tram_se3 *Z)
 {
-    double *w = tram__malloc(pb->n * sizeof *w);
-    if (!w) return TRAM_ENOMEM;
-    for (size_t i = 0; i < pb->n; i++) w[i] = station_w ? station_w[i] : 1.0;
+    size_t nb = nblocks(pb);
+    double *w = tram__malloc((nb ? nb : 1) * sizeof *w);
+    double *buf = tram__malloc(maxdim(pb) * sizeof *buf);
+    if (!w || !buf) {
+        tram__free(w);
+        tram__free(buf);
+        return TRAM_ENOMEM;
+    }
+    for (size_t i = 0; i < nb; i++) w[i] = station_w ? station_w[i] : 1.0;
     tram_status st = TRAM_OK;
     if (!robust) {
         st = lm(pb, w, 100, X, Z, NULL);
@@ -194,14 +254,15 @@ tram_status tram__refine_run(const tram_refine_problem *pb, const double *statio
         /* IRLS: re-derive the Cauchy weights from the residuals, refit. */
         for (int outer = 0; outer < 8 && st == TRAM_OK; outer++) {
             tram_se3 X0 = *X;
-            for (size_t i = 0; i < pb->n; i++) {
+            for (size_t i = 0; i < nb; i++) {
                 double base = station_w ? station_w[i] : 1.0;
                 if (!(base > 0)) {
                     w[i] = 0;
                     continue;
                 }
-                double u2 = station_cost(&pb->P[i], &pb->S[i], X, Z, 1 / pb->sigma_angle,
-                                         1 / pb->sigma_length) / 6.0;
+                size_t d;
+                double c = block_cost(pb, i, X, Z, buf, &d);
+                double u2 = c / (double)(d ? d : 1);
                 w[i] = base / (1.0 + u2 / (CAUCHY_C * CAUCHY_C));
             }
             st = lm(pb, w, 50, X, Z, NULL);
@@ -211,6 +272,7 @@ tram_status tram__refine_run(const tram_refine_problem *pb, const double *statio
         }
     }
     tram__free(w);
+    tram__free(buf);
     return st;
 }
 
@@ -218,39 +280,47 @@ tram_status tram__refine_covariance(const tram_refine_problem *pb, const double 
                                     const tram_se3 *X, const tram_se3 *Z, double scale2,
                                     double cov[NP * NP], double *condition)
 {
-    double *w = tram__malloc(pb->n * sizeof *w);
+    int np = nparams(pb);
+    size_t nb = nblocks(pb);
+    double *w = tram__malloc((nb ? nb : 1) * sizeof *w);
     if (!w) return TRAM_ENOMEM;
-    for (size_t i = 0; i < pb->n; i++) w[i] = station_w ? station_w[i] : 1.0;
+    for (size_t i = 0; i < nb; i++) w[i] = station_w ? station_w[i] : 1.0;
     double H[NP * NP], g[NP];
-    normal_equations(pb, w, X, Z, H, g);
+    tram_status st = normal_equations(pb, w, X, Z, H, g);
     tram__free(w);
+    if (st != TRAM_OK) return st;
     if (condition) {
         /* Condition of the correlation form of H: independent of units. */
         double C[NP * NP], ev[NP], V[NP * NP];
-        for (int a = 0; a < NP; a++)
-            for (int b = 0; b < NP; b++)
-                C[a * NP + b] = H[a * NP + b] / sqrt(H[a * NP + a] * H[b * NP + b]);
-        if (tram__symeig(NP, C, ev, V) == TRAM_OK && ev[0] > 0)
-            *condition = sqrt(ev[NP - 1] / ev[0]);
+        for (int a = 0; a < np; a++)
+            for (int b = 0; b < np; b++)
+                C[a * np + b] = H[a * np + b] / sqrt(H[a * np + a] * H[b * np + b]);
+        if (tram__symeig(np, C, ev, V) == TRAM_OK && ev[0] > 0)
+            *condition = sqrt(ev[np - 1] / ev[0]);
         else
             *condition = INFINITY;
     }
-    tram_status st = tram__spd_inverse(NP, H, cov);
+    double Ci[NP * NP];
+    st = tram__spd_inverse(np, H, Ci);
     if (st != TRAM_OK) return st;
-    for (int a = 0; a < NP * NP; a++) cov[a] *= scale2;
+    /* Into the 12x12 layout; parameters that were not free get NaN. */
+    for (int a = 0; a < NP; a++)
+        for (int b = 0; b < NP; b++)
+            cov[a * NP + b] = (a < np && b < np) ? Ci[a * np + b] * scale2 : NAN;
     return TRAM_OK;
 }
 
 double tram__refine_chi2(const tram_refine_problem *pb, const double *station_w,
                          const tram_se3 *X, const tram_se3 *Z)
 {
+    double *buf = tram__malloc(maxdim(pb) * sizeof *buf);
+    if (!buf) return NAN;
     double c = 0;
-    for (size_t i = 0; i < pb->n; i++) {
+    for (size_t i = 0; i < nblocks(pb); i++) {
         double w = station_w ? station_w[i] : 1.0;
-        if (w > 0)
-            c += w * station_cost(&pb->P[i], &pb->S[i], X, Z, 1 / pb->sigma_angle,
-                                  1 / pb->sigma_length);
+        if (w > 0) c += w * block_cost(pb, i, X, Z, buf, NULL);
     }
+    tram__free(buf);
     return c;
 }
 
@@ -275,11 +345,11 @@ tram_status tram__refine_bootstrap(const tram_refine_problem *pb, const double *
                                    void *ctx, double sigma[NP], double lo[NP], double hi[NP],
                                    size_t *used)
 {
-    size_t nin = 0;
-    for (size_t i = 0; i < pb->n; i++)
+    size_t nin = 0, nb = nblocks(pb);
+    for (size_t i = 0; i < nb; i++)
         if (!station_w || station_w[i] > 0) nin++;
     size_t *in = tram__malloc((nin ? nin : 1) * sizeof *in);
-    double *w = tram__malloc(pb->n * sizeof *w);
+    double *w = tram__malloc((nb ? nb : 1) * sizeof *w);
     double *dev = tram__malloc((resamples ? resamples : 1) * NP * sizeof *dev);
     double *col = tram__malloc((resamples ? resamples : 1) * sizeof *col);
     if (!in || !w || !dev || !col) {
@@ -290,7 +360,7 @@ tram_status tram__refine_bootstrap(const tram_refine_problem *pb, const double *
         return TRAM_ENOMEM;
     }
     size_t k = 0;
-    for (size_t i = 0; i < pb->n; i++)
+    for (size_t i = 0; i < nb; i++)
         if (!station_w || station_w[i] > 0) in[k++] = i;
     unsigned long long state = seed;
     size_t good = 0;
@@ -299,7 +369,7 @@ tram_status tram__refine_bootstrap(const tram_refine_problem *pb, const double *
     tram_se3_to_rt(X, &RX, tX);
     tram_se3_to_rt(Z, &RZ, tZ);
     for (size_t b = 0; b < resamples; b++) {
-        memset(w, 0, pb->n * sizeof *w);
+        memset(w, 0, nb * sizeof *w);
         size_t distinct = 0;
         for (size_t j = 0; j < nin; j++) {
             size_t pick = in[next_rand(&state) % nin];

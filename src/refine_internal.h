@@ -13,6 +13,14 @@ typedef struct tram_refine_problem {
     double sigma_angle;    /* per-axis rotation noise (rad) used as weight  */
     double sigma_length;   /* per-axis translation noise (length unit)      */
     double length_scale;   /* typical translation size, for the FD step     */
+    /* Generic residual blocks.  eval == NULL: block i is station i's pose
+     * residual weighted by the sigmas.  Otherwise eval fills the weighted
+     * residual of block i (at most maxdim values) and returns its length. */
+    size_t (*eval)(const struct tram_refine_problem *pb, size_t block, const tram_se3 *X,
+                   const tram_se3 *Z, double *r);
+    size_t nblocks, maxdim;
+    const void *ctx;
+    int nfree;             /* free parameters: 12 (0 = 12), or 6 for X only */
 } tram_refine_problem;
 
 typedef void (*tram__progress_fn)(void *ctx, const char *what, size_t done, size_t total);
@@ -34,7 +42,8 @@ void tram__refine_station_jacobian(const tram_se3 *P, const tram_se3 *S, const t
 tram_status tram__refine_run(const tram_refine_problem *pb, const double *station_w, int robust,
                              tram_se3 *X, tram_se3 *Z);
 /* Covariance (12x12, parameter units) = scale2 * (J^T W J)^-1 and the
- * condition number of the correlation form of J^T W J. */
+ * condition number of the correlation form of J^T W J; entries of
+ * parameters that are not free are NaN. */
 tram_status tram__refine_covariance(const tram_refine_problem *pb, const double *station_w,
                                     const tram_se3 *X, const tram_se3 *Z, double scale2,
                                     double cov[144], double *condition);

@@ -158,8 +158,10 @@ tram_status tram__quick_fit(const tram_se3 *P, const tram_se3 *S, size_t n, doub
     if (!rot) return TRAM_ENOMEM;
     double *tr = rot + n;
     residual_norms(P, S, n, &X, &Z, rot, tr);
-    tram_refine_problem pb = {P, S, n, tram__robust_sigma3(rot, n), tram__robust_sigma3(tr, n),
-                              length_scale(P, S, n)};
+    tram_refine_problem pb = {.P = P, .S = S, .n = n,
+                              .sigma_angle = tram__robust_sigma3(rot, n),
+                              .sigma_length = tram__robust_sigma3(tr, n),
+                              .length_scale = length_scale(P, S, n)};
     floor_noise(&pb.sigma_angle, &pb.sigma_length, pb.length_scale);
     st = tram__refine_run(&pb, NULL, 1, &X, &Z);
     if (st == TRAM_OK) {
@@ -291,8 +293,9 @@ static tram_status refine_all(const tram_se3 *P, const tram_se3 *S, size_t n,
         return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
     }
     double *tr = rot + n, *w = rot + 2 * n;
-    tram_refine_problem pb = {P, S, n, opt->noise_angle_rad, opt->noise_length,
-                              length_scale(P, S, n)};
+    tram_refine_problem pb = {.P = P, .S = S, .n = n, .sigma_angle = opt->noise_angle_rad,
+                              .sigma_length = opt->noise_length,
+                              .length_scale = length_scale(P, S, n)};
     int given = opt->noise_angle_rad > 0 && opt->noise_length > 0;
     tram_status st = TRAM_OK;
     residual_norms(P, S, n, &sol->X, &sol->Z, rot, tr);
