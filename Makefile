@@ -23,7 +23,7 @@ WARN    := -Wall -Wextra -Wshadow -Wconversion -Werror
 BASEFLAGS := -std=c11 -D_POSIX_C_SOURCE=200809L $(WARN) -Iinclude -Isrc
 OPT     ?= -O2 -g
 PKG_CFLAGS = $(shell pkg-config --cflags $(PC_LIBS))
-PKG_LIBS   = $(shell pkg-config --libs $(PC_LIBS)) -lm
+PKG_LIBS   = $(shell pkg-config --libs $(PC_LIBS)) -lm -lpthread
 TEST_CFLAGS = $(shell pkg-config --cflags $(PC_TEST))
 TEST_LIBS   = $(shell pkg-config --libs $(PC_TEST))
 

@@ -175,11 +175,14 @@ static size_t make_hypotheses(const tram_records *r, tram_setup setup, hypothesi
              c[0].inverted ? "flange-in-base" : "base-in-flange", other_setup,
              tram_setup_name(setup));
     add_hyp(h, &nh, cap, t, "robot-pose-inverted", fix);
+    int sensor = r->has_block[TRAM_BLOCK_SENSOR] && !r->sensor_from_points;
+    int robot = r->has_block[TRAM_BLOCK_ROBOT] && !r->robot_from_chain;
+    if (!robot) nh = 0; /* the robot-pose hypothesis above does not apply */
     memcpy(t, c, sizeof t);
     t[1].inverted = !t[1].inverted;
     snprintf(fix, sizeof fix, "sensor poses look inverted: add '# sensor-pose: %s'",
              c[1].inverted ? "target-in-sensor" : "sensor-in-target");
-    add_hyp(h, &nh, cap, t, "sensor-pose-inverted", fix);
+    if (sensor) add_hyp(h, &nh, cap, t, "sensor-pose-inverted", fix);
     memcpy(t, c, sizeof t);
     t[0].inverted = !t[0].inverted;
     t[1].inverted = !t[1].inverted;
@@ -188,10 +191,10 @@ static size_t make_hypotheses(const tram_records *r, tram_setup setup, hypothesi
              "sensor-pose: %s'",
              c[0].inverted ? "flange-in-base" : "base-in-flange",
              c[1].inverted ? "target-in-sensor" : "sensor-in-target");
-    add_hyp(h, &nh, cap, t, "both-poses-inverted", fix);
+    if (sensor && robot) add_hyp(h, &nh, cap, t, "both-poses-inverted", fix);
     /* sensor lengths in another unit than the robot's */
     static const double scales[] = {1000.0, 0.001, 25.4, 1.0 / 25.4, 10.0, 0.1};
-    for (size_t k = 0; k < sizeof scales / sizeof scales[0]; k++) {
+    for (size_t k = 0; sensor && k < sizeof scales / sizeof scales[0]; k++) {
         memcpy(t, c, sizeof t);
         t[1].length_scale = c[1].length_scale * scales[k];
         const char *u = unit_for_scale(t[1].length_scale, r->length_unit);
@@ -208,7 +211,7 @@ static size_t make_hypotheses(const tram_records *r, tram_setup setup, hypothesi
         add_hyp(h, &nh, cap, t, "sensor-length-scale", fix);
     }
     for (int b = 0; b < 2; b++) {
-        if (!r->has_block[b]) continue;
+        if (!(b == 0 ? robot : sensor)) continue;
         if (c[b].rep == TRAM_REP_QUAT) {
             memcpy(t, c, sizeof t);
             t[b].quat_xyzw = !t[b].quat_xyzw;
@@ -244,17 +247,36 @@ static size_t make_hypotheses(const tram_records *r, tram_setup setup, hypothesi
     return nh;
 }
 
-/* Quick fit of a record set under conv; fills med_rot / med_tr and the
- * length of the mount transform (X for eye-in-hand, Z for eye-to-hand). */
+/* The quick pose fit of one reading (the default fit of the doctor). */
+static tram_status pose_fit(const tram_records *r, tram_setup setup, const void *ctx,
+                            double *med_rot, double *med_tr, double *mount_len)
+{
+    (void)ctx;
+    tram_se3 *P, *S;
+    tram_status st = tram__station_poses(r, setup, &P, &S);
+    if (st != TRAM_OK) return st;
+    tram_se3 X, Z;
+    st = tram__quick_fit(P, S, r->count, med_rot, med_tr, &X, &Z);
+    if (st == TRAM_OK) {
+        const tram_se3 *M = setup == TRAM_SETUP_EYE_TO_HAND ? &Z : &X;
+        *mount_len = sqrt(tram__sq(M->m[0][3]) + tram__sq(M->m[1][3]) + tram__sq(M->m[2][3]));
+    }
+    tram__free(P);
+    tram__free(S);
+    return st;
+}
+
+/* Fit of a record set under conv: rebuilt (and subsampled to max_n
+ * stations when max_n > 0), then fitted; *ok says whether the reading
+ * could be fitted at all. */
 static tram_status fit_reading(const tram_records *src, const tram_block_convention *conv,
-                               tram_setup setup, size_t max_n, double *med_rot, double *med_tr,
-                               double *mount_len, int *ok)
+                               tram_setup setup, size_t max_n, tram__fit_fn fit, const void *ctx,
+                               double *med_rot, double *med_tr, double *mount_len, int *ok)
 {
     *ok = 0;
     tram_records *r = tram_records_clone(src);
     if (!r) return TRAM_ENOMEM;
-    /* A subsample keeps the checks cheap on very large files. */
-    if (r->count > max_n) {
+    if (max_n && r->count > max_n) {
         size_t step = r->count / max_n;
         for (size_t i = 0; i < max_n; i++) r->stations[i] = src->stations[i * step];
         r->count = max_n;
@@ -262,34 +284,24 @@ static tram_status fit_reading(const tram_records *src, const tram_block_convent
     tram_error e;
     tram_status st = TRAM_OK;
     if (tram_records_rebuild(r, conv, &e) == TRAM_OK) {
-        tram_se3 *P, *S;
-        st = tram__station_poses(r, setup, &P, &S);
-        if (st == TRAM_OK) {
-            tram_se3 X, Z;
-            tram_status q = tram__quick_fit(P, S, r->count, med_rot, med_tr, &X, &Z);
-            if (q == TRAM_OK) {
-                const tram_se3 *M = setup == TRAM_SETUP_EYE_TO_HAND ? &Z : &X;
-                *mount_len = sqrt(tram__sq(M->m[0][3]) + tram__sq(M->m[1][3]) + tram__sq(M->m[2][3]));
-                *ok = 1;
-            }
-            else if (q == TRAM_ENOMEM) st = q;
-            tram__free(P);
-            tram__free(S);
-        }
+        tram_status q = fit(r, setup, ctx, med_rot, med_tr, mount_len);
+        if (q == TRAM_OK) *ok = 1;
+        else if (q == TRAM_ENOMEM) st = q;
     }
     tram_records_destroy(r);
     return st;
 }
 
-tram_status tram__check_conventions(const tram_records *r, tram_setup setup, tram_solution *s)
+tram_status tram__check_conventions_with(const tram_records *r, tram_setup setup, tram_solution *s,
+                                         tram__fit_fn fit, const void *ctx, size_t max_n)
 {
-    enum { CAP = 80, MAX_N = 300 };
+    enum { CAP = 80 };
     hypothesis *h = tram__malloc(CAP * sizeof *h);
     if (!h) return TRAM_ENOMEM;
     double base_rot, base_tr, base_len;
     int base_ok;
-    tram_status st =
-        fit_reading(r, r->conv, setup, MAX_N, &base_rot, &base_tr, &base_len, &base_ok);
+    tram_status st = fit_reading(r, r->conv, setup, max_n, fit, ctx, &base_rot, &base_tr,
+                                 &base_len, &base_ok);
     if (st != TRAM_OK || !base_ok) {
         tram__free(h);
         return st;
@@ -297,8 +309,8 @@ tram_status tram__check_conventions(const tram_records *r, tram_setup setup, tra
     size_t nh = make_hypotheses(r, setup, h, CAP);
     double best_rot = base_rot, best_tr = base_tr;
     for (size_t k = 0; k < nh && st == TRAM_OK; k++) {
-        st = fit_reading(r, h[k].conv, setup, MAX_N, &h[k].med_rot, &h[k].med_tr, &h[k].mount_len,
-                         &h[k].ok);
+        st = fit_reading(r, h[k].conv, setup, max_n, fit, ctx, &h[k].med_rot, &h[k].med_tr,
+                         &h[k].mount_len, &h[k].ok);
         if (h[k].ok) {
             if (h[k].med_rot < best_rot) best_rot = h[k].med_rot;
             if (h[k].med_tr < best_tr) best_tr = h[k].med_tr;
@@ -363,4 +375,9 @@ tram_status tram__check_conventions(const tram_records *r, tram_setup setup, tra
     }
     tram__free(h);
     return st;
+}
+
+tram_status tram__check_conventions(const tram_records *r, tram_setup setup, tram_solution *s)
+{
+    return tram__check_conventions_with(r, setup, s, pose_fit, NULL, 300);
 }

@@ -419,6 +419,7 @@ static tram_status rebuild_with(tram_records *r, const tram_block_convention con
         if (!r->has_block[b]) continue;
         /* Poses computed from joints have no raw numbers to re-read. */
         if (b == TRAM_BLOCK_ROBOT && r->robot_from_chain) continue;
+        if (b == TRAM_BLOCK_SENSOR && r->sensor_from_points) continue;
         r->conv[b] = conv[b];
         for (size_t i = 0; i < r->count; i++) {
             tram_station *st = &r->stations[i];

@@ -62,9 +62,12 @@ tram_status tram__diag_add(tram_solution *s, const char *code, tram_severity sev
     return TRAM_OK;
 }
 
+void tram__point_result_free(struct tram_point_result *p);
+
 void tram_solution_destroy(tram_solution *s)
 {
     if (!s) return;
+    tram__point_result_free(s->points);
     tram__free(s->stations);
     tram__free(s->diag);
     tram__free(s);

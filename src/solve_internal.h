@@ -39,6 +39,14 @@ int tram__observability(const tram_se3 *P, size_t n, tram_setup setup, tram_solu
  * a reading that fits far better. */
 tram_status tram__check_conventions(const tram_records *r, tram_setup setup, tram_solution *s);
 
+/* The fit the convention doctor runs on each reading of the data. */
+typedef tram_status (*tram__fit_fn)(const tram_records *r, tram_setup setup, const void *ctx,
+                                    double *med_rot, double *med_tr, double *mount_len);
+/* The doctor with another fit (e.g. of observed points); max_n > 0
+ * subsamples the stations. */
+tram_status tram__check_conventions_with(const tram_records *r, tram_setup setup, tram_solution *s,
+                                         tram__fit_fn fit, const void *ctx, size_t max_n);
+
 /* Plausibility of the declared length unit from the robot's translations. */
 tram_status tram__check_units(const tram_records *r, tram_solution *s);
 

@@ -9,7 +9,7 @@
 #include <stdio.h>
 #include <string.h>
 
-int tram__parse_double(const char *s, double *out);
+#include "records_internal.h"
 
 void tram__table_free(tram__table *t)
 {

@@ -87,6 +87,7 @@ typedef struct tram_records {
     int has_block[TRAM_BLOCK_COUNT];
     size_t n_joints;             /* joint_1..joint_n columns (0: none)           */
     int robot_from_chain;        /* T_base_flange computed from the joints       */
+    int sensor_from_points;      /* T_sensor_target registered from points      */
     tram_block_convention conv[TRAM_BLOCK_COUNT];
     int reorthonormalize;        /* matrices were projected onto SO(3)          */
     unsigned long long checksum; /* FNV-1a 64 of the input bytes                */

@@ -105,6 +105,7 @@ typedef struct tram_solution {
     double closed_trans_rms[TRAM_METHOD_COUNT];
     size_t ndiag;
     tram_diagnostic *diag;
+    struct tram_point_result *points; /* solves from observed points (tram/points.h) */
 } tram_solution;
 
 /* Solve.  `setup` must be set (from the records' directive or the caller).

@@ -32,10 +32,12 @@ int cli_convert(int argc, char **argv);
 int cli_solve(int argc, char **argv);
 int cli_check(int argc, char **argv);
 int cli_fk(int argc, char **argv);
+int cli_register(int argc, char **argv);
 extern const char cli_convert_help[];
 extern const char cli_solve_help[];
 extern const char cli_check_help[];
 extern const char cli_fk_help[];
+extern const char cli_register_help[];
 
 /* Read --chain FILE (if given) and turn the records' joint columns into
  * robot poses; returns CLI_EXIT_OK or prints the error and returns 2. */

@@ -17,6 +17,8 @@ static const cli_command commands[] = {
      cli_solve_help},
     {"check", cli_check, "check a mount against its stored calibration: has it moved?",
      cli_check_help},
+    {"register", cli_register, "rigid or similarity transform between two point lists",
+     cli_register_help},
     {"fk", cli_fk, "flange poses from joint readings and a kinematic chain", cli_fk_help},
     {"help", cli_help, "show help for a subcommand", "usage: tram help SUBCOMMAND\n"},
 };

@@ -1,0 +1,271 @@
+/*
+ * cmd_register.c - "tram register": the rigid (or similarity) transform
+ * between two lists of corresponding points, e.g. a fixed camera or a
+ * fixture registered to the robot base from points the tool tip visited.
+ */
+#include "cli.h"
+
+#include <cjson/cJSON.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+#include <unistd.h>
+
+#define M_PI_TRAM 3.14159265358979323846
+
+const char cli_register_help[] =
+    "usage: tram register [OPTIONS] PAIRS\n\n"
+    "Finds T_to_from with p_to = c R p_from + t from a point-pair file (docs/points.md):\n"
+    "columns from_x,from_y[,from_z],to_x,to_y[,to_z] and optionally point (id) and weight;\n"
+    "2D when the z columns are absent.  Rigid by default (c = 1); reflections are never\n"
+    "returned as rotations.\n\n"
+    "options:\n"
+    "  --scale             similarity: also solve the scale c (Umeyama 1991)\n"
+    "  --method M          svd (Kabsch 1976; Arun et al. 1987; default) or quaternion\n"
+    "                      (Horn 1987)\n"
+    "  --robust            RANSAC on minimal samples, then least squares on the inliers;\n"
+    "                      outliers are flagged\n"
+    "  --threshold LEN     inlier distance for --robust, e.g. 0.5mm (default: from the\n"
+    "                      data, 2.5 robust sigmas)\n"
+    "  --seed N            RANSAC seed (default 1)\n"
+    "  --threads N         threads for the moment pass of very large files (default 2)\n"
+    "  --length-unit U     when the file does not declare one\n"
+    "  --json              print the result as JSON\n\n"
+    "exit status: 0 success; 2 usage or input error; 3 the points cannot determine the\n"
+    "transform (fewer than 3 points in 3D or 2 in 2D, coincident or collinear points).\n";
+
+static void progress(void *ctx, size_t done, size_t total)
+{
+    (void)ctx;
+    if (total < 1000) return;
+    fprintf(stderr, "\rRANSAC %zu/%zu", done, total);
+    if (done >= total) fputc('\n', stderr);
+}
+
+static cJSON *num(double v)
+{
+    if (!isfinite(v)) return cJSON_CreateNull();
+    char b[40];
+    snprintf(b, sizeof b, "%.17g", v == 0 ? 0.0 : v);
+    return cJSON_CreateRaw(b);
+}
+
+static cJSON *arr(const double *v, int n)
+{
+    cJSON *a = cJSON_CreateArray();
+    for (int i = 0; i < n; i++) cJSON_AddItemToArray(a, num(v[i]));
+    return a;
+}
+
+static int print_json(const tram_point_pairs *p, const tram_register_result *res, const double *resid,
+                      const int *inlier, int robust, double thr, const char *method, int scale)
+{
+    int d = p->dim;
+    const tram_se3 *T = &res->T_to_from;
+    cJSON *root = cJSON_CreateObject();
+    cJSON_AddStringToObject(root, "format", "tram-registration");
+    cJSON_AddNumberToObject(root, "version", 1);
+    cJSON_AddStringToObject(root, "tool", "tram " TRAM_VERSION_STRING);
+    cJSON_AddStringToObject(root, "method", method);
+    cJSON_AddNumberToObject(root, "dimension", d);
+    cJSON_AddStringToObject(root, "length_unit", tram_unit_length_name(p->length_unit));
+    cJSON *tr = cJSON_AddObjectToObject(cJSON_AddObjectToObject(root, "transforms"), "T_to_from");
+    cJSON *m = cJSON_AddArrayToObject(tr, "matrix");
+    double t[3] = {T->m[0][3], T->m[1][3], T->m[2][3]};
+    if (d == 3) {
+        for (int i = 0; i < 4; i++) cJSON_AddItemToArray(m, arr(T->m[i], 4));
+        tram_mat3 R;
+        tram_quat_wxyz q;
+        tram_se3_to_rt(T, &R, NULL);
+        tram_quat_wxyz_from_mat3(&R, &q);
+        double qv[4] = {q.w, q.x, q.y, q.z};
+        cJSON_AddItemToObject(tr, "translation", arr(t, 3));
+        cJSON_AddItemToObject(tr, "quaternion_wxyz", arr(qv, 4));
+    } else {
+        double rows[3][3] = {{T->m[0][0], T->m[0][1], T->m[0][3]},
+                             {T->m[1][0], T->m[1][1], T->m[1][3]},
+                             {0, 0, 1}};
+        for (int i = 0; i < 3; i++) cJSON_AddItemToArray(m, arr(rows[i], 3));
+        cJSON_AddItemToObject(tr, "translation", arr(t, 2));
+        cJSON_AddItemToObject(tr, "angle_deg", num(atan2(T->m[1][0], T->m[0][0]) * 180.0 / M_PI_TRAM));
+    }
+    cJSON_AddItemToObject(root, "scale", num(res->scale));
+    cJSON_AddBoolToObject(root, "scale_solved", scale);
+    cJSON *rs = cJSON_AddObjectToObject(root, "residuals");
+    double mx = 0, ss = 0;
+    size_t k = 0;
+    for (size_t i = 0; i < p->n; i++)
+        if (!robust || inlier[i]) {
+            ss += resid[i] * resid[i];
+            k++;
+            if (resid[i] > mx) mx = resid[i];
+        }
+    cJSON_AddItemToObject(rs, "rms", num(k ? sqrt(ss / (double)k) : 0.0));
+    cJSON_AddItemToObject(rs, "max", num(mx));
+    cJSON *pts = cJSON_AddArrayToObject(rs, "points");
+    for (size_t i = 0; i < p->n; i++) {
+        cJSON *o = cJSON_CreateObject();
+        cJSON_AddItemToArray(pts, o);
+        cJSON_AddStringToObject(o, "point", p->id[i]);
+        cJSON_AddItemToObject(o, "residual", num(resid[i]));
+        cJSON_AddBoolToObject(o, "outlier", robust && !inlier[i]);
+    }
+    cJSON *u = cJSON_AddObjectToObject(root, "uncertainty");
+    cJSON_AddItemToObject(u, "translation_sigma", arr(res->translation_sigma, d));
+    if (d == 3) cJSON_AddItemToObject(u, "rotation_sigma_deg", arr(res->rotation_sigma_deg, 3));
+    else cJSON_AddItemToObject(u, "angle_sigma_deg", num(res->rotation_sigma_deg[2]));
+    if (scale) cJSON_AddItemToObject(u, "scale_sigma", num(res->scale_sigma));
+    if (robust) {
+        cJSON *r = cJSON_AddObjectToObject(root, "robust");
+        cJSON_AddItemToObject(r, "threshold", num(thr));
+        cJSON_AddNumberToObject(r, "inliers", (double)k);
+    }
+    cJSON_AddArrayToObject(root, "diagnostics");
+    char *text = cJSON_Print(root);
+    cJSON_Delete(root);
+    if (!text) return CLI_EXIT_USAGE;
+    puts(text);
+    cJSON_free(text);
+    return CLI_EXIT_OK;
+}
+
+int cli_register(int argc, char **argv)
+{
+    const char *file = NULL, *v = NULL, *method = "svd";
+    int json = 0, robust = 0, bad = 0;
+    tram_register_options ro = {TRAM_REGISTER_SVD, 0, 3, 2};
+    tram_length_unit lu = TRAM_LENGTH_UNSET, thr_unit = TRAM_LENGTH_UNSET;
+    double thr = 0;
+    unsigned long long seed = 1;
+    for (int i = 1; i < argc; i++) {
+        if (cli_flag(argv, i, "--scale")) {
+            ro.scale = 1;
+        } else if (cli_flag(argv, i, "--robust")) {
+            robust = 1;
+        } else if (cli_flag(argv, i, "--json")) {
+            json = 1;
+        } else if (cli_take(argc, argv, &i, "--method", &method, &bad)) {
+            if (bad) break;
+            if (strcmp(method, "svd") == 0) ro.method = TRAM_REGISTER_SVD;
+            else if (strcmp(method, "quaternion") == 0) ro.method = TRAM_REGISTER_QUATERNION;
+            else return cli_usage_error("register", "--method '%s': expected svd or quaternion", method);
+        } else if (cli_take(argc, argv, &i, "--threshold", &v, &bad)) {
+            if (bad) break;
+            char *end;
+            thr = strtod(v, &end);
+            thr_unit = tram_unit_length_parse(end);
+            if (end == v || !(thr > 0) || thr_unit == TRAM_LENGTH_UNSET)
+                return cli_usage_error("register", "--threshold '%s': expected a length with its unit, e.g. 0.5mm", v);
+        } else if (cli_take(argc, argv, &i, "--seed", &v, &bad)) {
+            if (bad) break;
+            char *end;
+            seed = strtoull(v, &end, 10);
+            if (*end) return cli_usage_error("register", "--seed '%s': expected a number", v);
+        } else if (cli_take(argc, argv, &i, "--threads", &v, &bad)) {
+            if (bad) break;
+            char *end;
+            long n = strtol(v, &end, 10);
+            if (*end || n < 1 || n > 8) return cli_usage_error("register", "--threads '%s': expected 1 to 8", v);
+            ro.threads = (int)n;
+        } else if (cli_take(argc, argv, &i, "--length-unit", &v, &bad)) {
+            if (bad) break;
+            if ((lu = tram_unit_length_parse(v)) == TRAM_LENGTH_UNSET)
+                return cli_usage_error("register", "--length-unit '%s': expected mm, cm, m or in", v);
+        } else if (argv[i][0] == '-' && argv[i][1] != '\0') {
+            return cli_usage_error("register", "unknown option '%s'", argv[i]);
+        } else if (file) {
+            return cli_usage_error("register", "one point-pair file expected");
+        } else {
+            file = argv[i];
+        }
+        if (bad) return CLI_EXIT_USAGE;
+    }
+    if (!file) return cli_usage_error("register", "no point-pair file (use '-' for stdin)");
+    tram_error err;
+    tram_error_clear(&err);
+    tram_point_pairs *p = NULL;
+    tram_status st = tram_point_pairs_read_file(file, lu, &p, &err);
+    if (st != TRAM_OK) {
+        cli_report(&err);
+        return CLI_EXIT_USAGE;
+    }
+    ro.dim = p->dim;
+    tram_register_result res;
+    double *resid = malloc((p->n ? p->n : 1) * sizeof *resid);
+    int *inlier = calloc(p->n ? p->n : 1, sizeof *inlier);
+    double used = 0;
+    if (!resid || !inlier) {
+        free(resid);
+        free(inlier);
+        tram_point_pairs_destroy(p);
+        return CLI_EXIT_USAGE;
+    }
+    if (robust) {
+        double t = thr > 0 ? thr * tram_unit_length_factor(thr_unit, p->length_unit) : 0;
+        st = tram_register_robust(p->from, p->to, p->weight, p->n, &ro, t, seed,
+                                  isatty(STDERR_FILENO) ? progress : NULL, NULL, &res, inlier, &used, &err);
+    } else {
+        st = tram_register_points(p->from, p->to, p->weight, p->n, &ro, &res, &err);
+    }
+    int rc = CLI_EXIT_OK;
+    if (st != TRAM_OK) {
+        snprintf(err.file, sizeof err.file, "%s", p->source);
+        err.line = err.column = 0;
+        cli_report(&err);
+        rc = cli_exit_for(st);
+    } else {
+        tram_register_residuals(p->from, p->to, p->n, p->dim, &res, resid);
+        const char *mname = ro.scale ? "umeyama" : (ro.method == TRAM_REGISTER_QUATERNION ? "horn" : "kabsch");
+        if (json) {
+            rc = print_json(p, &res, resid, inlier, robust, used, mname, ro.scale);
+        } else {
+            const char *u = tram_unit_length_name(p->length_unit);
+            const tram_se3 *T = &res.T_to_from;
+            printf("tram register: %zu point pairs (%dD) from %s, lengths in %s, %s%s\n\n", p->n,
+                   p->dim, p->source, u, mname, robust ? " with RANSAC" : "");
+            printf("T_to_from  (maps 'from' coordinates to 'to' coordinates: p_to = c R p_from + t)\n");
+            if (p->dim == 3) {
+                for (int i = 0; i < 4; i++)
+                    printf("    [ %12.8f %12.8f %12.8f %14.6f ]\n", T->m[i][0], T->m[i][1], T->m[i][2], T->m[i][3]);
+                tram_mat3 R;
+                tram_quat_wxyz q;
+                tram_se3_to_rt(T, &R, NULL);
+                tram_quat_wxyz_from_mat3(&R, &q);
+                printf("  translation (%s)  %.6f %.6f %.6f   1-sigma %.3g %.3g %.3g\n", u, T->m[0][3],
+                       T->m[1][3], T->m[2][3], res.translation_sigma[0], res.translation_sigma[1],
+                       res.translation_sigma[2]);
+                printf("  quaternion (w, x, y, z)  %.9f %.9f %.9f %.9f\n", q.w, q.x, q.y, q.z);
+                printf("  rotation 1-sigma (deg, about the to-frame's x y z)  %.3g %.3g %.3g\n",
+                       res.rotation_sigma_deg[0], res.rotation_sigma_deg[1], res.rotation_sigma_deg[2]);
+            } else {
+                printf("    [ %12.8f %12.8f %14.6f ]\n    [ %12.8f %12.8f %14.6f ]\n    [ %12.8f %12.8f %14.6f ]\n",
+                       T->m[0][0], T->m[0][1], T->m[0][3], T->m[1][0], T->m[1][1], T->m[1][3], 0.0, 0.0, 1.0);
+                printf("  angle %.6f deg (1-sigma %.3g), translation %.6f %.6f %s\n",
+                       atan2(T->m[1][0], T->m[0][0]) * 180.0 / M_PI_TRAM, res.rotation_sigma_deg[2],
+                       T->m[0][3], T->m[1][3], u);
+            }
+            printf("  scale %.9f%s\n\n", res.scale, ro.scale ? "" : " (rigid: not solved)");
+            size_t show = p->n <= 200 ? p->n : 0, outl = 0;
+            double mx = 0, ss = 0;
+            size_t k = 0;
+            for (size_t i = 0; i < p->n; i++) {
+                int out = robust && !inlier[i];
+                outl += (size_t)out;
+                if (!out) {
+                    ss += resid[i] * resid[i];
+                    k++;
+                    if (resid[i] > mx) mx = resid[i];
+                }
+                if (i < show || out)
+                    printf("  %-16s %12.5f %s%s\n", p->id[i], resid[i], u, out ? "   OUTLIER (excluded)" : "");
+            }
+            printf("  residual rms %.5f %s, max %.5f %s over %zu point(s)", k ? sqrt(ss / (double)k) : 0.0, u, mx, u, k);
+            if (robust) printf("; inlier threshold %.5g %s, %zu outlier(s)", used, u, outl);
+            printf("\n\n%s", cli_safety_text);
+        }
+    }
+    free(resid);
+    free(inlier);
+    tram_point_pairs_destroy(p);
+    return rc;
+}
