@@ -357,7 +357,14 @@ tram_status tram__check_conventions_with(const tram_records *r, tram_setup setup
         const char *mount = setup == TRAM_SETUP_EYE_TO_HAND ? "the target" : "the sensor";
         char msg[700];
         const hypothesis *f = &h[tie[0]];
-        int len = snprintf(msg, sizeof msg,
+        int len;
+        if (base_rot == 0.0 && f->med_rot == 0.0) /* point fits: no rotation residual */
+            len = snprintf(msg, sizeof msg,
+                           "%s (%s would then sit %.4g %s from the flange). As declared, the "
+                           "median point residual is %.3g %s; read that way it would be %.3g %s",
+                           f->fix, mount, f->mount_len, u, base_tr, u, f->med_tr, u);
+        else
+            len = snprintf(msg, sizeof msg,
                            "%s (%s would then sit %.4g %s from the flange). As declared, the "
                            "median station residual is %.3g deg and %.3g %s; read that way it "
                            "would be %.3g deg and %.3g %s",

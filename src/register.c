@@ -225,7 +225,7 @@ tram_status tram_register_points(const double *from, const double *to, const dou
     if (!(big > 1e-12 * (1.0 + fabs(x0[0]) + fabs(x0[1]) + fabs(x0[2]))))
         return tram__fail(err, TRAM_EUNDETERMINED, NULL, 0, 0,
                           "all 'from' points coincide: the rotation cannot be determined");
-    if (d == 3 && !(out->spread[1] > 1e-9 * big)) {
+    if (d == 3 && !(out->spread[1] > 1e-6 * big)) { /* eigenvalue ratio 1e-12 */
         double *u = V + 0; /* eigenvector of the largest eigenvalue: column 2 */
         return tram__fail(err, TRAM_EUNDETERMINED, NULL, 0, 0,
                           "the 'from' points are collinear (along %.3f, %.3f, %.3f): the rotation "

@@ -4,6 +4,7 @@
  * Schema: docs/solve.md.  Numbers are printed with %.17g (exact round
  * trip); values that are not defined are null.
  */
+#include "tram/points.h"
 #include "tram/rotation.h"
 #include "solve_internal.h"
 
@@ -127,6 +128,32 @@ tram_status tram_solution_to_json(const tram_solution *s, const tram_records *r,
             put(o, "rotation_deg", s->stations[i].rot_deg);
             put(o, "translation", s->stations[i].trans);
             cJSON_AddBoolToObject(o, "outlier", s->stations[i].outlier);
+            if (s->points) put(o, "point_rms", s->points->station_rms[i]);
+        }
+        if (s->points) {
+            const tram_point_result *pr = s->points;
+            cJSON_AddItemToObject(res, "point", stats(&pr->point));
+            cJSON *pa = cJSON_AddArrayToObject(res, "points");
+            for (size_t k = 0; pa && k < pr->npoints; k++) {
+                cJSON *o = cJSON_CreateObject();
+                cJSON_AddItemToArray(pa, o);
+                cJSON_AddStringToObject(o, "point", pr->point_id[k]);
+                put(o, "rms", pr->point_rms[k]);
+            }
+            size_t nex = 0;
+            for (size_t k = 0; k < pr->nobs; k++) nex += (size_t)pr->excluded[k];
+            cJSON_AddNumberToObject(res, "excluded_observations", (double)nex);
+            cJSON *md = cJSON_AddObjectToObject(root, "model");
+            cJSON_AddStringToObject(md, "source", pr->with_model ? "given" : "solved");
+            cJSON_AddStringToObject(md, "frame", "target");
+            cJSON *mp = cJSON_AddArrayToObject(md, "points");
+            for (size_t k = 0; mp && k < pr->npoints; k++) {
+                cJSON *o = cJSON_CreateObject();
+                cJSON_AddItemToArray(mp, o);
+                cJSON_AddStringToObject(o, "point", pr->point_id[k]);
+                cJSON_AddItemToObject(o, "xyz", vec(pr->model_xyz + 3 * k, 3, 1.0));
+            }
+            put(md, "noise_length", pr->noise_length);
         }
         cJSON *u = cJSON_AddObjectToObject(root, "uncertainty");
         cJSON_AddStringToObject(u, "definition",
@@ -190,7 +217,8 @@ tram_status tram_solution_to_json(const tram_solution *s, const tram_records *r,
             cJSON_AddItemToArray(arr, o);
             cJSON_AddStringToObject(o, "station", r->stations[i].id);
             cJSON_AddItemToObject(o, "T_base_flange", matrix4(&r->stations[i].T_base_flange));
-            cJSON_AddItemToObject(o, "T_sensor_target", matrix4(&r->stations[i].T_sensor_target));
+            if (r->has_block[TRAM_BLOCK_SENSOR])
+                cJSON_AddItemToObject(o, "T_sensor_target", matrix4(&r->stations[i].T_sensor_target));
         }
         if (s->unc.valid) cJSON_AddItemToObject(root, "covariance", vec(s->unc.cov, 144, 1.0));
     }

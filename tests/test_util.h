@@ -92,6 +92,8 @@ static inline double test_max_abs_diff(const double *a, const double *b, int n)
     return m;
 }
 
+static inline double tram__sq_t(double v) { return v * v; }
+
 #define assert_close(a, b, tol)                                                          \
     do {                                                                                 \
         double a_ = (a), b_ = (b);                                                       \

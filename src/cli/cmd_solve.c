@@ -4,6 +4,7 @@
  * calibration file.
  */
 #include "cli.h"
+#include "tram/points.h"
 
 #include <math.h>
 #include <stdlib.h>
@@ -38,6 +39,10 @@ const char cli_solve_help[] =
     "  --reorthonormalize        accept rounded rotation matrices\n"
     "  --chain FILE      the record file gives joint readings: compute the flange\n"
     "                    poses with this kinematic chain (docs/chain.md)\n"
+    "  --points FILE     the sensor's observed 3D points per station (station,point,x,y,z\n"
+    "                    in the sensor frame) instead of sensor_ pose columns\n"
+    "  --model FILE      the target's points in its own frame (point,x,y,z); without it\n"
+    "                    the points' positions are solved too (docs/points.md)\n"
     "  --json            print the result as JSON (schema: docs/solve.md)\n"
     "  -o FILE           write the calibration file (JSON) atomically\n"
     "  --force           allow -o to replace an existing file\n\n"
@@ -197,6 +202,24 @@ static void print_summary(const tram_solution *s, const tram_records *r)
         printf("  %-16s %12.5f %14.5f\n", "median", s->rot_deg.median, s->trans.median);
         printf("  %-16s %12.5f %14.5f\n", "max", s->rot_deg.max, s->trans.max);
         if (s->n_outliers) printf("  (statistics without the %zu outlier(s))\n", s->n_outliers);
+        if (s->points) {
+            const tram_point_result *pr = s->points;
+            printf("\n3D point residuals (%s model): rms %.4f %s, median %.4f, max %.4f\n",
+                   pr->with_model ? "given" : "solved", pr->point.rms, u, pr->point.median,
+                   pr->point.max);
+            printf("  per station rms:");
+            for (size_t i = 0; i < s->n; i++) printf(" %s %.3f;", r->stations[i].id, pr->station_rms[i]);
+            printf("\n  per point rms:");
+            for (size_t k = 0; k < pr->npoints; k++) printf(" %s %.3f;", pr->point_id[k], pr->point_rms[k]);
+            printf("\n");
+            if (!pr->with_model) {
+                printf("  solved model (target frame: origin at the points' centroid, axes along "
+                       "their principal directions), %s:\n", u);
+                for (size_t k = 0; k < pr->npoints; k++)
+                    printf("    %-10s %12.4f %12.4f %12.4f\n", pr->point_id[k], pr->model_xyz[3 * k],
+                           pr->model_xyz[3 * k + 1], pr->model_xyz[3 * k + 2]);
+            }
+        }
         printf("\nnoise per axis (%s): %.4g deg, %.4g %s\n",
                s->noise_given ? "given" : "estimated from the residuals", s->noise_angle_deg,
                s->noise_length, u);
@@ -239,6 +262,7 @@ int cli_solve(int argc, char **argv)
     tram_setup setup = TRAM_SETUP_UNSET;
     int json = 0, force = 0, bad = 0;
     const char *noise = NULL, *method = "auto", *pair_sel = NULL, *chain = NULL;
+    const char *points = NULL, *model = NULL;
     tram_pair *pair_list = NULL;
     for (int i = 1; i < argc; i++) {
         if (cli_take(argc, argv, &i, "--setup", &v, &bad)) {
@@ -264,6 +288,8 @@ int cli_solve(int argc, char **argv)
             else return cli_usage_error("solve", "--pairs '%s': expected auto, all, consecutive or ID:ID,...", v);
         } else if (cli_take(argc, argv, &i, "--noise", &noise, &bad)) {
         } else if (cli_take(argc, argv, &i, "--chain", &chain, &bad)) {
+        } else if (cli_take(argc, argv, &i, "--points", &points, &bad)) {
+        } else if (cli_take(argc, argv, &i, "--model", &model, &bad)) {
         } else if (cli_take(argc, argv, &i, "--bootstrap", &v, &bad)) {
             if (bad) break;
             char *end;
@@ -361,12 +387,28 @@ int cli_solve(int argc, char **argv)
     }
     if (isatty(STDERR_FILENO)) so.progress = progress;
     tram_solution *s = NULL;
-    st = tram_solve(r, setup, &so, &s, &err);
-    if (st != TRAM_OK && st != TRAM_EUNDETERMINED) {
-        cli_report(&err);
+    if (model && !points) {
         tram_records_destroy(r);
         free(pair_list);
-        return cli_exit_for(st);
+        return cli_usage_error("solve", "--model goes with --points");
+    }
+    if (points) {
+        tram_point_obs *obs = NULL;
+        tram_point_model *mdl = NULL;
+        st = tram_point_obs_read_file(points, r, &obs, &err);
+        if (st == TRAM_OK && model) st = tram_point_model_read_file(model, r, &mdl, &err);
+        if (st == TRAM_OK) st = tram_solve_points(r, setup, obs, mdl, &so, &s, &err);
+        tram_point_obs_destroy(obs);
+        tram_point_model_destroy(mdl);
+    } else {
+        st = tram_solve(r, setup, &so, &s, &err);
+    }
+    if ((st != TRAM_OK && st != TRAM_EUNDETERMINED) || !s) {
+        cli_report(&err);
+        tram_solution_destroy(s);
+        tram_records_destroy(r);
+        free(pair_list);
+        return st == TRAM_OK ? CLI_EXIT_USAGE : cli_exit_for(st);
     }
     char *text = NULL;
     int rc = CLI_EXIT_OK;
