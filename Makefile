@@ -15,8 +15,8 @@ CC      ?= cc
 PYTHON  := /usr/bin/python3
 
 DEB_PKGS := liblapacke-dev libopenblas-dev libpng-dev libcjson-dev libcmocka-dev \
-            libcairo2-dev pkg-config python3-numpy python3-scipy
-PC_LIBS  := lapacke openblas libcjson
+            libcairo2-dev libfontconfig-dev pkg-config python3-numpy python3-scipy
+PC_LIBS  := lapacke openblas libcjson cairo fontconfig libpng
 PC_TEST  := cmocka libcjson
 
 WARN    := -Wall -Wextra -Wshadow -Wconversion -Werror

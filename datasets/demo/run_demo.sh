@@ -11,10 +11,10 @@ mkdir -p "$out"
 rm -f "$out/wrist_camera.history.jsonl"
 status=0
 echo "=== 1. wrist camera (eye-in-hand): tram solve $here/wrist_camera.csv"
-"$tram" solve --force -o "$out/wrist_camera.calibration.json" "$here/wrist_camera.csv" || status=1
+"$tram" solve --force -o "$out/wrist_camera.calibration.json" --plot "$out/wrist_camera" "$here/wrist_camera.csv" || status=1
 echo
 echo "=== 2. overhead camera (eye-to-hand): tram solve $here/overhead_camera.csv"
-"$tram" solve --force -o "$out/overhead_camera.calibration.json" "$here/overhead_camera.csv" || status=1
+"$tram" solve --force -o "$out/overhead_camera.calibration.json" --plot "$out/overhead_camera" "$here/overhead_camera.csv" || status=1
 echo
 echo "=== 3. months later, nothing moved: tram check $here/wrist_recheck.csv"
 "$tram" check --calibration "$out/wrist_camera.calibration.json" \
@@ -24,7 +24,12 @@ echo "=== 4. after a bumped bracket: tram check $here/wrist_bumped.csv (expected
 "$tram" check --calibration "$out/wrist_camera.calibration.json" \
     --history "$out/wrist_camera.history.jsonl" "$here/wrist_bumped.csv"
 [ $? -eq 1 ] || status=1
+"$tram" plot history --force --tolerance 0.5mm,0.1deg -o "$out/wrist_camera_history.png" \
+    "$out/wrist_camera.history.jsonl" 2>/dev/null || status=1
 echo
+echo "pictures: $out/wrist_camera/frames.png $out/wrist_camera/residuals.png"
+echo "          $out/overhead_camera/frames.png $out/overhead_camera/residuals.png"
+echo "          $out/wrist_camera_history.png"
 echo "ground truth of the invented scenario: $here/truth.json, $here/truth_bump.json"
 echo "written: $out/wrist_camera.calibration.json $out/overhead_camera.calibration.json"
 echo "         $out/wrist_camera.history.jsonl"

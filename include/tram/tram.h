@@ -10,6 +10,7 @@
 #include "tram/common.h"
 #include "tram/fileio.h"
 #include "tram/handeye.h"
+#include "tram/plot.h"
 #include "tram/points.h"
 #include "tram/records.h"
 #include "tram/register.h"

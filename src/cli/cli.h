@@ -33,11 +33,15 @@ int cli_solve(int argc, char **argv);
 int cli_check(int argc, char **argv);
 int cli_fk(int argc, char **argv);
 int cli_register(int argc, char **argv);
+int cli_plot(int argc, char **argv);
+/* The standard pictures of a solve into DIR (frames.png, residuals.png). */
+int cli_plot_solution(const tram_records *r, const tram_solution *s, const char *dir, int force);
 extern const char cli_convert_help[];
 extern const char cli_solve_help[];
 extern const char cli_check_help[];
 extern const char cli_fk_help[];
 extern const char cli_register_help[];
+extern const char cli_plot_help[];
 
 /* Read --chain FILE (if given) and turn the records' joint columns into
  * robot poses; returns CLI_EXIT_OK or prints the error and returns 2. */

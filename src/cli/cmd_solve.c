@@ -45,7 +45,8 @@ const char cli_solve_help[] =
     "                    the points' positions are solved too (docs/points.md)\n"
     "  --json            print the result as JSON (schema: docs/solve.md)\n"
     "  -o FILE           write the calibration file (JSON) atomically\n"
-    "  --force           allow -o to replace an existing file\n\n"
+    "  --force           allow -o to replace an existing file\n"
+    "  --plot DIR        write frames.png and residuals.png of the solve into DIR\n\n"
     "exit status: 0 solved with no warning; 2 usage or input error; 3 the data cannot\n"
     "determine a trustworthy answer (unobservable motion, or a warning such as a\n"
     "convention that fits far better than the declared one).\n";
@@ -262,7 +263,7 @@ int cli_solve(int argc, char **argv)
     tram_setup setup = TRAM_SETUP_UNSET;
     int json = 0, force = 0, bad = 0;
     const char *noise = NULL, *method = "auto", *pair_sel = NULL, *chain = NULL;
-    const char *points = NULL, *model = NULL;
+    const char *points = NULL, *model = NULL, *plot_dir = NULL;
     tram_pair *pair_list = NULL;
     for (int i = 1; i < argc; i++) {
         if (cli_take(argc, argv, &i, "--setup", &v, &bad)) {
@@ -288,6 +289,7 @@ int cli_solve(int argc, char **argv)
             else return cli_usage_error("solve", "--pairs '%s': expected auto, all, consecutive or ID:ID,...", v);
         } else if (cli_take(argc, argv, &i, "--noise", &noise, &bad)) {
         } else if (cli_take(argc, argv, &i, "--chain", &chain, &bad)) {
+        } else if (cli_take(argc, argv, &i, "--plot", &plot_dir, &bad)) {
         } else if (cli_take(argc, argv, &i, "--points", &points, &bad)) {
         } else if (cli_take(argc, argv, &i, "--model", &model, &bad)) {
         } else if (cli_take(argc, argv, &i, "--bootstrap", &v, &bad)) {
@@ -441,6 +443,7 @@ int cli_solve(int argc, char **argv)
             fprintf(stderr, "tram solve: %s: %s\n",
                     s->diag[i].severity == TRAM_SEVERITY_ERROR ? "error" : "warning",
                     s->diag[i].message);
+    if (rc == CLI_EXIT_OK && plot_dir && s->solved) rc = cli_plot_solution(r, s, plot_dir, 1);
     if (rc == CLI_EXIT_OK && (!s->solved || !s->trustworthy)) rc = CLI_EXIT_UNDETERMINED;
     tram_solution_destroy(s);
     tram_records_destroy(r);

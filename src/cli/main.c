@@ -19,6 +19,8 @@ static const cli_command commands[] = {
      cli_check_help},
     {"register", cli_register, "rigid or similarity transform between two point lists",
      cli_register_help},
+    {"plot", cli_plot, "pictures of frames, residuals, check histories and point residuals",
+     cli_plot_help},
     {"fk", cli_fk, "flange poses from joint readings and a kinematic chain", cli_fk_help},
     {"help", cli_help, "show help for a subcommand", "usage: tram help SUBCOMMAND\n"},
 };

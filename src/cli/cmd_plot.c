@@ -1,0 +1,397 @@
+/*
+ * cmd_plot.c - "tram plot": pictures of frames, residuals, check histories
+ * and registration residuals (docs/plot.md), and the standard set that
+ * "tram solve --plot DIR" writes.
+ */
+#include "cli.h"
+#include "tram/plot.h"
+
+#include <cjson/cJSON.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+#include <time.h>
+
+const char cli_plot_help[] =
+    "usage: tram plot frames RECORDS [--calibration CALIB.json] [--chain CHAIN.json] -o FILE.png\n"
+    "       tram plot residuals --calibration CALIB.json -o FILE.png\n"
+    "       tram plot history HISTORY.jsonl [--tolerance LEN,ANGLE] -o FILE.png\n"
+    "       tram plot points PAIRS [--robust] -o FILE.png\n\n"
+    "Draws PNG pictures with cairo: the base, flange, sensor and target frames in three\n"
+    "orthographic views and one oblique view (x red, y green, z blue); per-station\n"
+    "residual bars with the RMS line and outlier threshold and a scatter of the\n"
+    "translation residual vectors; the trend of mount-check changes over time with the\n"
+    "tolerance band; per-point registration residuals.  Outliers are drawn vermillion.\n"
+    "'tram solve --plot DIR' writes frames.png and residuals.png for a solve.\n\n"
+    "options:\n"
+    "  -o FILE.png        output (written atomically; --force to replace)\n"
+    "  --size WxH         image size (default 1600x1000)\n"
+    "  --calibration F    frames: draw the solved sensor and target too\n"
+    "  --chain F          frames: records with joint readings; every link frame is drawn\n"
+    "  --tolerance L,A    history: the tolerance band, e.g. 0.5mm,0.1deg\n"
+    "  --robust           points: RANSAC registration (outliers flagged)\n";
+
+/* st and *img come from a plot call made before this one (the order in
+ * which C evaluates arguments is unspecified, so *img is read here). */
+static int write_png(tram_status st, tram_image **imgp, const char *path, int force, tram_error *err)
+{
+    tram_image *img = *imgp;
+    if (st == TRAM_OK) st = tram_image_write_png(img, path, force, err);
+    tram_image_destroy(img);
+    if (st != TRAM_OK) {
+        cli_report(err);
+        return CLI_EXIT_USAGE;
+    }
+    return CLI_EXIT_OK;
+}
+
+int cli_plot_solution(const tram_records *r, const tram_solution *s, const char *dir, int force)
+{
+    tram_error err;
+    tram_error_clear(&err);
+    mkdir(dir, 0755);
+    char path[1200];
+    const char **ids = malloc((r->count ? r->count : 1) * sizeof *ids);
+    int *out = malloc((r->count ? r->count : 1) * sizeof *out);
+    double *rot = malloc((r->count ? r->count : 1) * 5 * sizeof *rot);
+    if (!ids || !out || !rot) {
+        free(ids);
+        free(out);
+        free(rot);
+        return CLI_EXIT_USAGE;
+    }
+    double *tr = rot + r->count, *vec = rot + 2 * r->count;
+    int has_vec = r->has_block[TRAM_BLOCK_SENSOR];
+    for (size_t i = 0; i < r->count; i++) {
+        ids[i] = r->stations[i].id;
+        out[i] = s->stations[i].outlier;
+        rot[i] = s->stations[i].rot_deg;
+        tr[i] = s->stations[i].trans;
+        if (has_vec) {
+            tram_se3 P = r->stations[i].T_base_flange, PX, Zh;
+            if (s->setup == TRAM_SETUP_EYE_TO_HAND) tram_se3_invert(&P, &P);
+            tram_se3_compose(&P, &s->X, &PX);
+            tram_se3_compose(&PX, &r->stations[i].T_sensor_target, &Zh);
+            for (int a = 0; a < 3; a++) vec[3 * i + (size_t)a] = Zh.m[a][3] - s->Z.m[a][3];
+        }
+    }
+    tram_se3 *F = malloc((r->count ? r->count : 1) * sizeof *F);
+    int rc = CLI_EXIT_USAGE;
+    if (F) {
+        for (size_t i = 0; i < r->count; i++) F[i] = r->stations[i].T_base_flange;
+        tram_plot_frames_data fd = {r->count, F, ids, out, s->setup, s->solved, s->X, s->Z, NULL, 0,
+                                    s->length_unit, NULL};
+        tram_image *img = NULL;
+        snprintf(path, sizeof path, "%s/frames.png", dir);
+        rc = write_png(tram_plot_frames(&fd, 1600, 1000, &img, &err), &img, path, force, &err);
+        if (rc == CLI_EXIT_OK) {
+            fprintf(stderr, "picture: %s\n", path);
+            /* outlier thresholds of solve.c: 4.594 robust sigmas */
+            tram_plot_residuals_data rd = {r->count, ids, rot, tr, has_vec ? vec : NULL, out,
+                                           4.5943 * s->noise_angle_deg, 4.5943 * s->noise_length,
+                                           s->length_unit, NULL};
+            img = NULL;
+            snprintf(path, sizeof path, "%s/residuals.png", dir);
+            rc = write_png(tram_plot_residuals(&rd, 1600, 1000, &img, &err), &img, path, force, &err);
+            if (rc == CLI_EXIT_OK) fprintf(stderr, "picture: %s\n", path);
+        }
+    }
+    free(F);
+    free(ids);
+    free(out);
+    free(rot);
+    tram_plot_shutdown();
+    return rc;
+}
+
+static char *slurp(const char *path, tram_error *err)
+{
+    FILE *f = fopen(path, "rb");
+    if (!f) {
+        snprintf(err->file, sizeof err->file, "%s", path);
+        snprintf(err->message, sizeof err->message, "cannot open");
+        return NULL;
+    }
+    size_t cap = 65536, n = 0;
+    char *b = malloc(cap);
+    while (b) {
+        size_t got = fread(b + n, 1, cap - n - 1, f);
+        n += got;
+        if (got == 0) break;
+        if (n + 1 >= cap) {
+            char *nb = realloc(b, cap *= 2);
+            if (!nb) {
+                free(b);
+                b = NULL;
+            } else
+                b = nb;
+        }
+    }
+    fclose(f);
+    if (b) b[n] = '\0';
+    return b;
+}
+
+/* Seconds since 1970 of "YYYY-MM-DDTHH:MM:SSZ"; -1 when malformed. */
+static double parse_utc(const char *s)
+{
+    int Y, M, D, h, m, sec;
+    if (sscanf(s, "%4d-%2d-%2dT%2d:%2d:%2dZ", &Y, &M, &D, &h, &m, &sec) != 6) return -1;
+    /* days from civil (Hinnant's algorithm) */
+    Y -= M <= 2;
+    long era = (Y >= 0 ? Y : Y - 399) / 400;
+    long yoe = Y - era * 400;
+    long doy = (153 * (M + (M > 2 ? -3 : 9)) + 2) / 5 + D - 1;
+    long doe = yoe * 365 + yoe / 4 - yoe / 100 + doy;
+    long days = era * 146097 + doe - 719468;
+    return (double)days * 86400.0 + h * 3600.0 + m * 60.0 + sec;
+}
+
+static int plot_history(const char *file, const char *tol, const char *o, int w, int h, int force)
+{
+    tram_error err;
+    tram_error_clear(&err);
+    char *text = slurp(file, &err);
+    if (!text) {
+        cli_report(&err);
+        return CLI_EXIT_USAGE;
+    }
+    size_t cap = 64, n = 0;
+    double *t = malloc(cap * sizeof *t), *tr = malloc(cap * sizeof *tr), *rot = malloc(cap * sizeof *rot);
+    int *alarm = malloc(cap * sizeof *alarm), rc = CLI_EXIT_OK;
+    tram_length_unit lu = TRAM_LENGTH_MM;
+    long line = 0;
+    for (char *p = strtok(text, "\n"); p && rc == CLI_EXIT_OK; p = strtok(NULL, "\n")) {
+        line++;
+        cJSON *j = cJSON_Parse(p);
+        cJSON *ts = cJSON_GetObjectItem(j, "timestamp_utc"), *v = cJSON_GetObjectItem(j, "verdict");
+        cJSON *c = cJSON_GetObjectItem(j, "change");
+        cJSON *tn = cJSON_GetObjectItem(c, "translation_norm"), *ra = cJSON_GetObjectItem(c, "rotation_angle_deg");
+        cJSON *u = cJSON_GetObjectItem(j, "length_unit");
+        double when = cJSON_IsString(ts) ? parse_utc(ts->valuestring) : -1;
+        if (!j || when < 0 || !cJSON_IsString(v) || !cJSON_IsNumber(tn) || !cJSON_IsNumber(ra)) {
+            fprintf(stderr, "%s:%ld: error: expected a check-history line (timestamp_utc, verdict, "
+                            "change.translation_norm, change.rotation_angle_deg)\n", file, line);
+            rc = CLI_EXIT_USAGE;
+        } else {
+            if (n == cap) {
+                cap *= 2;
+                t = realloc(t, cap * sizeof *t);
+                tr = realloc(tr, cap * sizeof *tr);
+                rot = realloc(rot, cap * sizeof *rot);
+                alarm = realloc(alarm, cap * sizeof *alarm);
+            }
+            t[n] = when;
+            tr[n] = tn->valuedouble;
+            rot[n] = ra->valuedouble;
+            alarm[n] = strcmp(v->valuestring, "ok") != 0;
+            if (cJSON_IsString(u)) lu = tram_unit_length_parse(u->valuestring);
+            n++;
+        }
+        cJSON_Delete(j);
+    }
+    free(text);
+    double tl = 0, ta = 0;
+    if (rc == CLI_EXIT_OK && tol) {
+        char *end;
+        tl = strtod(tol, &end);
+        tram_length_unit tu = TRAM_LENGTH_UNSET;
+        char *comma = strchr(tol, ',');
+        if (comma) {
+            char ub[8] = {0};
+            size_t ul = (size_t)(comma - end);
+            if (ul < sizeof ub) memcpy(ub, end, ul);
+            tu = tram_unit_length_parse(ub);
+            ta = strtod(comma + 1, &end);
+        }
+        if (!comma || tu == TRAM_LENGTH_UNSET || strcmp(end, "deg") != 0) {
+            rc = cli_usage_error("plot", "--tolerance '%s': expected LENGTH,ANGLE like 0.5mm,0.1deg", tol);
+        } else {
+            tl *= tram_unit_length_factor(tu, lu);
+        }
+    }
+    if (rc == CLI_EXIT_OK) {
+        tram_plot_history_data hd = {n, t, tr, rot, alarm, tl, ta, lu, NULL};
+        tram_image *img = NULL;
+        rc = write_png(tram_plot_history(&hd, w, h, &img, &err), &img, o, force, &err);
+    }
+    free(t);
+    free(tr);
+    free(rot);
+    free(alarm);
+    return rc;
+}
+
+int cli_plot(int argc, char **argv)
+{
+    if (argc < 2) return cli_usage_error("plot", "expected frames, residuals, history or points");
+    const char *kind = argv[1], *file = NULL, *o = NULL, *calib = NULL, *chain = NULL, *tol = NULL, *v;
+    int w = 1600, h = 1000, force = 0, robust = 0, bad = 0;
+    for (int i = 2; i < argc; i++) {
+        if (cli_take(argc, argv, &i, "-o", &o, &bad)) {
+        } else if (cli_take(argc, argv, &i, "--calibration", &calib, &bad)) {
+        } else if (cli_take(argc, argv, &i, "--chain", &chain, &bad)) {
+        } else if (cli_take(argc, argv, &i, "--tolerance", &tol, &bad)) {
+        } else if (cli_take(argc, argv, &i, "--size", &v, &bad)) {
+            if (bad) break;
+            if (sscanf(v, "%dx%d", &w, &h) != 2) return cli_usage_error("plot", "--size '%s': expected WxH", v);
+        } else if (cli_flag(argv, i, "--force")) {
+            force = 1;
+        } else if (cli_flag(argv, i, "--robust")) {
+            robust = 1;
+        } else if (argv[i][0] == '-' && argv[i][1]) {
+            return cli_usage_error("plot", "unknown option '%s'", argv[i]);
+        } else if (file) {
+            return cli_usage_error("plot", "one input file expected");
+        } else {
+            file = argv[i];
+        }
+        if (bad) return CLI_EXIT_USAGE;
+    }
+    if (!o) return cli_usage_error("plot", "-o FILE.png is required");
+    tram_error err;
+    tram_error_clear(&err);
+    int rc;
+    if (strcmp(kind, "history") == 0) {
+        if (!file) return cli_usage_error("plot", "history needs a history file");
+        rc = plot_history(file, tol, o, w, h, force);
+    } else if (strcmp(kind, "frames") == 0 || strcmp(kind, "residuals") == 0) {
+        tram_calibration *cal = NULL;
+        tram_records *r = NULL;
+        if (calib && tram_calibration_read_file(calib, &cal, &err) != TRAM_OK) {
+            cli_report(&err);
+            return CLI_EXIT_USAGE;
+        }
+        if (strcmp(kind, "residuals") == 0) {
+            if (!cal) return cli_usage_error("plot", "residuals needs --calibration");
+            /* the residual table of the calibration file */
+            char *text = slurp(calib, &err);
+            cJSON *j = text ? cJSON_Parse(text) : NULL;
+            cJSON *st = cJSON_GetObjectItem(cJSON_GetObjectItem(j, "residuals"), "stations");
+            size_t n = (size_t)cJSON_GetArraySize(st);
+            const char **ids = calloc(n ? n : 1, sizeof *ids);
+            double *rot = calloc(2 * (n ? n : 1), sizeof *rot);
+            int *out = calloc(n ? n : 1, sizeof *out);
+            cJSON *it;
+            size_t k = 0;
+            cJSON_ArrayForEach(it, st)
+            {
+                ids[k] = cJSON_GetStringValue(cJSON_GetObjectItem(it, "station"));
+                rot[k] = cJSON_GetNumberValue(cJSON_GetObjectItem(it, "rotation_deg"));
+                rot[n + k] = cJSON_GetNumberValue(cJSON_GetObjectItem(it, "translation"));
+                out[k] = cJSON_IsTrue(cJSON_GetObjectItem(it, "outlier"));
+                k++;
+            }
+            tram_plot_residuals_data rd = {n, ids, rot, rot + n, NULL, out,
+                                           4.5943 * cal->noise_angle_rad * 180.0 / 3.14159265358979323846,
+                                           4.5943 * cal->noise_length, cal->length_unit, NULL};
+            tram_image *img = NULL;
+            rc = n ? write_png(tram_plot_residuals(&rd, w, h, &img, &err), &img, o, force, &err)
+                   : cli_usage_error("plot", "%s has no per-station residuals", calib);
+            cJSON_Delete(j);
+            free(text);
+            free(ids);
+            free(rot);
+            free(out);
+        } else {
+            if (!file) {
+                tram_calibration_destroy(cal);
+                return cli_usage_error("plot", "frames needs a record file");
+            }
+            if (tram_records_read_file(file, NULL, &r, &err) != TRAM_OK) {
+                cli_report(&err);
+                tram_calibration_destroy(cal);
+                return CLI_EXIT_USAGE;
+            }
+            tram_chain *c = NULL;
+            tram_se3 *links = NULL;
+            rc = CLI_EXIT_OK;
+            if (chain) {
+                if (tram_chain_read_file(chain, &c, &err) != TRAM_OK || tram_records_apply_chain(r, c, &err) != TRAM_OK) {
+                    cli_report(&err);
+                    rc = CLI_EXIT_USAGE;
+                } else {
+                    size_t per = c->n_joints + 2;
+                    links = malloc(r->count * per * sizeof *links);
+                    double ang = tram_unit_angle_in_rad(r->angle_unit) / tram_unit_angle_in_rad(c->angle_unit);
+                    double len = tram_unit_length_factor(r->length_unit, c->length_unit);
+                    double back = tram_unit_length_factor(c->length_unit, r->length_unit);
+                    for (size_t i = 0; links && i < r->count; i++) {
+                        double q[TRAM_JOINTS_MAX];
+                        size_t j = 0;
+                        for (size_t e = 0; e < c->n_elements; e++)
+                            if (c->elements[e].kind != TRAM_CHAIN_FIXED) {
+                                q[j] = r->stations[i].joints[j] * (c->elements[e].kind == TRAM_CHAIN_REVOLUTE ? ang : len);
+                                j++;
+                            }
+                        tram_se3 T;
+                        tram_chain_forward(c, q, &T, links + i * per);
+                        for (size_t f = 0; f < per; f++)
+                            tram_se3_scale_translation(&links[i * per + f], back, &links[i * per + f]);
+                    }
+                }
+            }
+            if (rc == CLI_EXIT_OK && cal && cal->setup != r->setup && r->setup != TRAM_SETUP_UNSET)
+                rc = cli_usage_error("plot", "the records' setup differs from the calibration's");
+            if (rc == CLI_EXIT_OK && !r->has_block[TRAM_BLOCK_ROBOT])
+                rc = cli_usage_error("plot", "the record file has no robot poses (joint readings need --chain)");
+            if (rc == CLI_EXIT_OK) {
+                tram_se3 *F = malloc(r->count * sizeof *F);
+                const char **ids = malloc(r->count * sizeof *ids);
+                for (size_t i = 0; F && ids && i < r->count; i++) {
+                    F[i] = r->stations[i].T_base_flange;
+                    ids[i] = r->stations[i].id;
+                }
+                tram_plot_frames_data fd = {r->count, F, ids, NULL,
+                                            cal ? cal->setup : (r->setup ? r->setup : TRAM_SETUP_EYE_IN_HAND),
+                                            cal != NULL, cal ? cal->X : F[0], cal ? cal->Z : F[0], links,
+                                            c ? c->n_joints + 2 : 0, r->length_unit, NULL};
+                tram_image *img = NULL;
+                rc = write_png(tram_plot_frames(&fd, w, h, &img, &err), &img, o, force, &err);
+                free(F);
+                free(ids);
+            }
+            free(links);
+            tram_chain_destroy(c);
+            tram_records_destroy(r);
+        }
+        tram_calibration_destroy(cal);
+    } else if (strcmp(kind, "points") == 0) {
+        if (!file) return cli_usage_error("plot", "points needs a point-pair file");
+        tram_point_pairs *p = NULL;
+        if (tram_point_pairs_read_file(file, TRAM_LENGTH_UNSET, &p, &err) != TRAM_OK) {
+            cli_report(&err);
+            return CLI_EXIT_USAGE;
+        }
+        tram_register_options ro = {TRAM_REGISTER_SVD, 0, p->dim, 2};
+        tram_register_result res;
+        double *resid = malloc(p->n * sizeof *resid), thr = 0;
+        int *inl = malloc(p->n * sizeof *inl), *outl = malloc(p->n * sizeof *outl);
+        const char **ids = malloc(p->n * sizeof *ids);
+        tram_status st = robust ? tram_register_robust(p->from, p->to, p->weight, p->n, &ro, 0, 1, NULL, NULL, &res, inl, &thr, &err)
+                                : tram_register_points(p->from, p->to, p->weight, p->n, &ro, &res, &err);
+        if (st != TRAM_OK) {
+            cli_report(&err);
+            rc = cli_exit_for(st);
+        } else {
+            tram_register_residuals(p->from, p->to, p->n, p->dim, &res, resid);
+            for (size_t i = 0; i < p->n; i++) {
+                outl[i] = robust && !inl[i];
+                ids[i] = p->id[i];
+            }
+            tram_image *img = NULL;
+            rc = write_png(tram_plot_points(p->n, ids, resid, outl, thr, p->length_unit, NULL, w, h, &img, &err),
+                           &img, o, force, &err);
+        }
+        free(resid);
+        free(inl);
+        free(outl);
+        free(ids);
+        tram_point_pairs_destroy(p);
+    } else {
+        return cli_usage_error("plot", "'%s': expected frames, residuals, history or points", kind);
+    }
+    tram_plot_shutdown();
+    if (rc == CLI_EXIT_OK) fprintf(stderr, "picture: %s\n", o);
+    return rc;
+}
