@@ -14,20 +14,6 @@
 
 
 
-static void offset_pos(const char *data, size_t off, long *line, long *col)
-{
-    long l = 1, c = 1;
-    for (size_t i = 0; i < off; i++) {
-        if (data[i] == '\n') {
-            l++;
-            c = 1;
-        } else
-            c++;
-    }
-    *line = l;
-    *col = c;
-}
-
 static int read_matrix(const cJSON *m, tram_se3 *T)
 {
     if (!cJSON_IsArray(m) || cJSON_GetArraySize(m) != 4) return -1;
@@ -62,7 +48,7 @@ tram_status tram_calibration_read_buffer(const char *name, const char *data, siz
     if (!root) {
         long l, c;
         size_t off = end ? (size_t)(end - data) : 0;
-        offset_pos(data, off > len ? len : off, &l, &c);
+        tram__offset_pos(data, off > len ? len : off, &l, &c);
         return tram__fail(err, TRAM_EINPUT, name, l, c,
                           "damaged calibration file: malformed JSON");
     }

@@ -341,15 +341,9 @@ tram_status tram_chain_read_buffer(const char *name, const char *data, size_t le
     const char *end = NULL;
     cJSON *root = cJSON_ParseWithLengthOpts(data, len, &end, 0);
     if (!root) {
-        long l = 1, col = 1;
+        long l, col;
         size_t off = end ? (size_t)(end - data) : 0;
-        for (size_t i = 0; i < off && i < len; i++) {
-            if (data[i] == '\n') {
-                l++;
-                col = 1;
-            } else
-                col++;
-        }
+        tram__offset_pos(data, off < len ? off : len, &l, &col);
         return tram__fail(err, TRAM_EINPUT, name, l, col, "malformed JSON: expected a chain object");
     }
     tram_chain *c = tram__calloc(1, sizeof *c);

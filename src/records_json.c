@@ -21,8 +21,7 @@
 #include <stdio.h>
 #include <string.h>
 
-/* Line and column of byte offset `off`. */
-static void offset_pos(const char *data, size_t off, long *line, long *col)
+void tram__offset_pos(const char *data, size_t off, long *line, long *col)
 {
     long l = 1, c = 1;
     for (size_t i = 0; i < off; i++) {
@@ -96,7 +95,7 @@ tram_status tram__records_read_json(const char *name, const char *data, size_t l
         long l, c;
         size_t off = end ? (size_t)(end - data) : 0;
         if (off > len) off = len;
-        offset_pos(data, off, &l, &c);
+        tram__offset_pos(data, off, &l, &c);
         return tram__fail(err, TRAM_EINPUT, name, l, c, "malformed JSON: expected a record object");
     }
     if (!cJSON_IsObject(root)) {

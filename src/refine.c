@@ -324,15 +324,6 @@ double tram__refine_chi2(const tram_refine_problem *pb, const double *station_w,
     return c;
 }
 
-/* splitmix64: a small, seedable generator for resampling. */
-static unsigned long long next_rand(unsigned long long *s)
-{
-    unsigned long long z = (*s += 0x9E3779B97F4A7C15ULL);
-    z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9ULL;
-    z = (z ^ (z >> 27)) * 0x94D049BB133111EBULL;
-    return z ^ (z >> 31);
-}
-
 static int cmp_double(const void *a, const void *b)
 {
     double x = *(const double *)a, y = *(const double *)b;
@@ -372,7 +363,7 @@ tram_status tram__refine_bootstrap(const tram_refine_problem *pb, const double *
         memset(w, 0, nb * sizeof *w);
         size_t distinct = 0;
         for (size_t j = 0; j < nin; j++) {
-            size_t pick = in[next_rand(&state) % nin];
+            size_t pick = in[tram__splitmix64(&state) % nin];
             if (w[pick] == 0) distinct++;
             w[pick] += 1.0;
         }

@@ -20,14 +20,6 @@
 #include <stdlib.h>
 #include <string.h>
 
-static unsigned long long next(unsigned long long *s)
-{
-    unsigned long long z = (*s += 0x9E3779B97F4A7C15ULL);
-    z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9ULL;
-    z = (z ^ (z >> 27)) * 0x94D049BB133111EBULL;
-    return z ^ (z >> 31);
-}
-
 static int cmp_double(const void *a, const void *b)
 {
     double x = *(const double *)a, y = *(const double *)b;
@@ -70,7 +62,7 @@ tram_status tram_register_robust(const double *from, const double *to, const dou
         for (size_t k = 0; k < s; k++) {
             int dup;
             do {
-                idx[k] = (size_t)(next(&seed) % n);
+                idx[k] = (size_t)(tram__splitmix64(&seed) % n);
                 dup = 0;
                 for (size_t l = 0; l < k; l++) dup |= idx[l] == idx[k];
             } while (dup);

@@ -35,6 +35,19 @@ static inline void tram__cross3(const double a[3], const double b[3], double out
 }
 double tram__norm3(const double a[3]);
 
+/* splitmix64 (Steele, Lea & Flood, OOPSLA 2014): a small seedable generator
+ * for resampling; the state advances on every call. */
+static inline unsigned long long tram__splitmix64(unsigned long long *s)
+{
+    unsigned long long z = (*s += 0x9E3779B97F4A7C15ULL);
+    z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9ULL;
+    z = (z ^ (z >> 27)) * 0x94D049BB133111EBULL;
+    return z ^ (z >> 31);
+}
+
+/* Line and column (1-based) of byte offset off in data. */
+void tram__offset_pos(const char *data, size_t off, long *line, long *col);
+
 static inline double tram__det3(const tram_mat3 *M)
 {
     const double(*a)[3] = M->m;
