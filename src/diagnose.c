@@ -20,6 +20,7 @@
  * reading's is reported with its fix; the declared reading is kept.
  */
 #include "tram/rotation.h"
+#include "handeye_internal.h"
 #include "linalg_internal.h"
 #include "solve_internal.h"
 
@@ -44,24 +45,9 @@ int tram__observability(const tram_se3 *P, size_t n, tram_setup setup, tram_solu
     tram_pair *pairs;
     size_t np;
     if (tram_handeye_pairs(n, TRAM_PAIRS_AUTO, &pairs, &np) != TRAM_OK) return 1;
-    double M[9] = {0}, mn = INFINITY, mx = 0;
-    size_t used = 0;
-    for (size_t k = 0; k < np; k++) {
-        tram_se3 Pj_inv, A;
-        tram_se3_invert(&P[pairs[k].j], &Pj_inv);
-        tram_se3_compose(&Pj_inv, &P[pairs[k].i], &A);
-        tram_mat3 R;
-        double w[3];
-        tram_se3_to_rt(&A, &R, NULL);
-        tram_so3_log(&R, w);
-        double t = tram__norm3(w);
-        if (t < mn) mn = t;
-        if (t > mx) mx = t;
-        if (t < 1.0 / RAD2DEG) continue;
-        used++;
-        for (int i = 0; i < 3; i++)
-            for (int j = 0; j < 3; j++) M[i * 3 + j] += w[i] * w[j] / (t * t);
-    }
+    double M[9], mn, mx;
+    size_t used;
+    tram__motion_axes(P, pairs, np, 1.0 / RAD2DEG, M, &used, &mn, &mx);
     free(pairs);
     s->motion_min_deg = mn * RAD2DEG;
     s->motion_max_deg = mx * RAD2DEG;

@@ -230,12 +230,11 @@ tram_status tram__solve_axyb(tram_method method, const tram_se3 *P, const tram_s
     return TRAM_OK;
 }
 
-/* Spread of the relative rotation axes: the second eigenvalue of the
- * scatter of unit axes over the largest, for motions above 1e-3 rad. */
-static double axis_spread_ratio(const tram_se3 *P, const tram_pair *pairs, size_t npairs,
-                                size_t *used)
+void tram__motion_axes(const tram_se3 *P, const tram_pair *pairs, size_t npairs, double min_rad,
+                       double M[9], size_t *used, double *min_angle, double *max_angle)
 {
-    double M[9] = {0};
+    double mn = INFINITY, mx = 0;
+    memset(M, 0, 9 * sizeof *M);
     *used = 0;
     for (size_t k = 0; k < npairs; k++) {
         tram_se3 Pj_inv, A;
@@ -246,12 +245,24 @@ static double axis_spread_ratio(const tram_se3 *P, const tram_pair *pairs, size_
         tram_se3_to_rt(&A, &R, NULL);
         tram_so3_log(&R, w);
         double t = tram__norm3(w);
-        if (t < 1e-3) continue;
+        if (t < mn) mn = t;
+        if (t > mx) mx = t;
+        if (t < min_rad) continue;
         (*used)++;
         for (int i = 0; i < 3; i++)
             for (int j = 0; j < 3; j++) M[i * 3 + j] += w[i] * w[j] / (t * t);
     }
-    double ev[3], V[9];
+    if (min_angle) *min_angle = mn;
+    if (max_angle) *max_angle = mx;
+}
+
+/* Spread of the relative rotation axes: the second eigenvalue of the
+ * scatter of unit axes over the largest, for motions above 1e-3 rad. */
+static double axis_spread_ratio(const tram_se3 *P, const tram_pair *pairs, size_t npairs,
+                                size_t *used)
+{
+    double M[9], ev[3], V[9];
+    tram__motion_axes(P, pairs, npairs, 1e-3, M, used, NULL, NULL);
     if (*used < 2 || tram__symeig(3, M, ev, V) != TRAM_OK || ev[2] <= 0) return 0.0;
     return ev[1] / ev[2];
 }

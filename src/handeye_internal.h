@@ -20,6 +20,12 @@ void tram__scale_to_det1(tram_mat3 *M);
 void tram__target_from_x(const tram_se3 *P, const tram_se3 *S, size_t n, const tram_se3 *X,
                          tram_se3 *Z);
 
+/* Scatter M = sum a a^T of the unit rotation axes of the relative motions
+ * P_j^-1 P_i of the pairs rotating at least min_rad; *used counts them,
+ * and the smallest and largest rotation angles (rad) come out too. */
+void tram__motion_axes(const tram_se3 *P, const tram_pair *pairs, size_t npairs, double min_rad,
+                       double M[9], size_t *used, double *min_angle, double *max_angle);
+
 tram_status tram__solve_axxb(tram_method method, const tram_se3 *P, const tram_se3 *S, size_t n,
                              const tram_pair *pairs, size_t npairs, tram_se3 *X, tram_se3 *Z);
 tram_status tram__solve_axyb(tram_method method, const tram_se3 *P, const tram_se3 *S, size_t n,

@@ -10,19 +10,6 @@
 #define ROB_DEG 0.01
 #define ROB_MM 0.05
 
-static void perturb(test_rng *r, tram_se3 *T, double sig_rad, double sig_len)
-{
-    double w[3] = {sig_rad * test_rng_normal(r), sig_rad * test_rng_normal(r),
-                   sig_rad * test_rng_normal(r)};
-    tram_mat3 R, E;
-    double t[3];
-    tram_se3_to_rt(T, &R, t);
-    tram_so3_exp(w, &E);
-    tram_so3_mul(&R, &E, &R);
-    for (int i = 0; i < 3; i++) t[i] += sig_len * test_rng_normal(r);
-    tram_se3_from_rt(&R, t, T);
-}
-
 /* n noisy stations of the setup for the generic P X S = Z with given X, Z. */
 static tram_records *stations(test_rng *r, tram_setup setup, size_t n, const tram_se3 *X,
                               const tram_se3 *Z)
@@ -51,8 +38,8 @@ static tram_records *stations(test_rng *r, tram_setup setup, size_t n, const tra
         tram_se3_invert(&PX, &PXi);
         tram_se3_compose(&PXi, Z, &rec->stations[i].T_sensor_target);
         rec->stations[i].T_base_flange = F;
-        perturb(r, &rec->stations[i].T_base_flange, ROB_DEG * M_PI / 180, ROB_MM);
-        perturb(r, &rec->stations[i].T_sensor_target, SEN_DEG * M_PI / 180, SEN_MM);
+        test_perturb_pose(r, &rec->stations[i].T_base_flange, ROB_DEG * M_PI / 180, ROB_MM);
+        test_perturb_pose(r, &rec->stations[i].T_sensor_target, SEN_DEG * M_PI / 180, SEN_MM);
         snprintf(rec->stations[i].id, sizeof rec->stations[i].id, "c%zu", i + 1);
     }
     return rec;

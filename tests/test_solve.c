@@ -10,19 +10,6 @@ typedef struct synth {
     tram_se3 F[64], S[64];  /* T_base_flange, T_sensor_target (noisy) */
 } synth;
 
-static void perturb(test_rng *r, tram_se3 *T, double sig_rad, double sig_len)
-{
-    double w[3] = {sig_rad * test_rng_normal(r), sig_rad * test_rng_normal(r),
-                   sig_rad * test_rng_normal(r)};
-    tram_mat3 R, E;
-    double t[3];
-    tram_se3_to_rt(T, &R, t);
-    tram_so3_exp(w, &E);
-    tram_so3_mul(&R, &E, &R);
-    for (int i = 0; i < 3; i++) t[i] += sig_len * test_rng_normal(r);
-    tram_se3_from_rt(&R, t, T);
-}
-
 /* Eye-in-hand stations: flange poses spread around a work point, the
  * target fixed.  Noise per axis: robot (deg, mm), sensor (deg, mm). */
 static void make_synth(test_rng *r, size_t n, double rob_deg, double rob_mm, double sen_deg,
@@ -51,8 +38,8 @@ static void make_synth(test_rng *r, size_t n, double rob_deg, double rob_mm, dou
         tram_se3_compose(&s->F[i], &s->X, &FX);
         tram_se3_invert(&FX, &FXi);
         tram_se3_compose(&FXi, &s->Z, &s->S[i]);
-        perturb(r, &s->F[i], rob_deg * M_PI / 180, rob_mm);
-        perturb(r, &s->S[i], sen_deg * M_PI / 180, sen_mm);
+        test_perturb_pose(r, &s->F[i], rob_deg * M_PI / 180, rob_mm);
+        test_perturb_pose(r, &s->S[i], sen_deg * M_PI / 180, sen_mm);
     }
 }
 
@@ -255,8 +242,8 @@ static void test_outlier_flagged(void **state)
     test_rng rng = test_rng_seeded("solve outliers", 7006);
     synth s;
     make_synth(&rng, 20, 0.01, 0.05, 0.05, 0.2, &s);
-    perturb(&rng, &s.S[4], 2.0 * M_PI / 180, 8.0);
-    perturb(&rng, &s.S[11], 1.0 * M_PI / 180, 5.0);
+    test_perturb_pose(&rng, &s.S[4], 2.0 * M_PI / 180, 8.0);
+    test_perturb_pose(&rng, &s.S[11], 1.0 * M_PI / 180, 5.0);
     tram_records *r = records_of(&s);
     tram_solve_options o;
     tram_solve_options_init(&o);

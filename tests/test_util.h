@@ -74,6 +74,21 @@ static inline void test_random_pose(test_rng *r, double tscale, tram_se3 *T)
     tram_se3_from_rt(&R, t, T);
 }
 
+/* Perturb T on the right: rotation noise sig_rad and translation noise
+ * sig_len per axis (Gaussian). */
+static inline void test_perturb_pose(test_rng *r, tram_se3 *T, double sig_rad, double sig_len)
+{
+    double w[3] = {sig_rad * test_rng_normal(r), sig_rad * test_rng_normal(r),
+                   sig_rad * test_rng_normal(r)};
+    tram_mat3 R, E;
+    double t[3];
+    tram_se3_to_rt(T, &R, t);
+    tram_so3_exp(w, &E);
+    tram_so3_mul(&R, &E, &R);
+    for (int i = 0; i < 3; i++) t[i] += sig_len * test_rng_normal(r);
+    tram_se3_from_rt(&R, t, T);
+}
+
 /* Assert two rotations agree to `tol_rad` (by angle of a^T b). */
 #define assert_rot_near(a, b, tol_rad)                                                  \
     do {                                                                                \
