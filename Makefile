@@ -36,7 +36,12 @@ CLI_OBJ := $(patsubst src/cli/%.c,$(B)/obj/cli/%.o,$(CLI_SRC))
 TESTS   := $(patsubst tests/%.c,$(B)/tests/%,$(TEST_SRC))
 HEADERS := $(wildcard include/tram/*.h) $(wildcard src/*.h) $(wildcard src/cli/*.h)
 
-.PHONY: all deps test unit cli-tests ref-tests asan clang-check demo install install-check clean tools bench
+FUZZ_SRC   := $(sort $(wildcard fuzz/fuzz_*.c))
+FUZZ_NAMES := $(patsubst fuzz/fuzz_%.c,%,$(FUZZ_SRC))
+FUZZ_SECONDS ?= 60
+
+.PHONY: all deps test unit cli-tests ref-tests asan clang-check demo install install-check clean tools bench \
+        fuzz fuzz-lib fuzz-bin fuzz-replay
 
 all: $(B)/tram $(B)/libtram.a $(B)/libtram.so
 
@@ -90,6 +95,48 @@ $(B)/gen_demo: tools/gen_demo.c $(B)/libtram.a
 	@echo "  CC      $<"
 	@$(CC) $(BASEFLAGS) $(OPT) $(EXTRA_CFLAGS) $(PKG_CFLAGS) $< -o $@ $(B)/libtram.a $(EXTRA_LDFLAGS) $(PKG_LIBS)
 
+# Fuzz harnesses with a plain main() that replays files (any compiler).
+$(B)/fuzz/replay_%: fuzz/fuzz_%.c fuzz/replay.c fuzz/fuzz_common.h $(B)/libtram.a
+	@mkdir -p $(dir $@)
+	@echo "  CC      $<"
+	@$(CC) $(BASEFLAGS) $(OPT) $(EXTRA_CFLAGS) $(PKG_CFLAGS) fuzz/fuzz_$*.c fuzz/replay.c -o $@ \
+	  $(B)/libtram.a $(EXTRA_LDFLAGS) $(PKG_LIBS)
+
+# Replay every corpus file of every harness (past crashes stay fixed).
+fuzz-replay: $(patsubst %,$(B)/fuzz/replay_%,$(FUZZ_NAMES))
+	@set -e; for n in $(FUZZ_NAMES); do $(B)/fuzz/replay_$$n fuzz/corpus/$$n; done
+
+# libFuzzer (clang): the library built with coverage instrumentation and
+# ASan/UBSan in build-fuzz/, each harness run FUZZ_SECONDS over a working
+# copy of its corpus; new crashes land in build-fuzz/crashes/.
+FUZZ_SAN := -fsanitize=address,undefined -fno-sanitize-recover=all
+fuzz-lib:
+	@$(MAKE) --no-print-directory B=build-fuzz CC=clang OPT="-O1 -g" \
+	  EXTRA_CFLAGS="$(FUZZ_SAN) -fsanitize=fuzzer-no-link" build-fuzz/libtram.a
+fuzz-bin: fuzz-lib
+	@set -e; for n in $(FUZZ_NAMES); do \
+	  echo "  CLANG   fuzz/fuzz_$$n.c"; \
+	  clang $(BASEFLAGS) -O1 -g $(FUZZ_SAN) -fsanitize=fuzzer $(PKG_CFLAGS) fuzz/fuzz_$$n.c \
+	    -o build-fuzz/fuzz_$$n build-fuzz/libtram.a $(PKG_LIBS); \
+	done
+
+fuzz: deps fuzz-bin
+	@mkdir -p build-fuzz/crashes
+	@failed=""; for n in $(FUZZ_NAMES); do \
+	  mkdir -p build-fuzz/corpus/$$n; \
+	  dict=""; [ -f fuzz/$$n.dict ] && dict="-dict=fuzz/$$n.dict"; \
+	  if build-fuzz/fuzz_$$n build-fuzz/corpus/$$n fuzz/corpus/$$n $$dict -max_len=16384 \
+	       -max_total_time=$(FUZZ_SECONDS) -timeout=10 -print_final_stats=1 \
+	       -artifact_prefix=build-fuzz/crashes/$$n- 2>build-fuzz/$$n.log; then \
+	    echo "fuzz $$n: $(FUZZ_SECONDS) s, $$(sed -n 's/^stat::number_of_executed_units: *//p' build-fuzz/$$n.log) runs, $$(grep -o 'cov: [0-9]*' build-fuzz/$$n.log | tail -1), no crash"; \
+	  else \
+	    grep -E 'ERROR|runtime error|SUMMARY|Test unit written' build-fuzz/$$n.log | head -5; \
+	    echo "fuzz $$n: CRASH (input kept in build-fuzz/crashes/, log build-fuzz/$$n.log)"; \
+	    failed="$$failed $$n"; \
+	  fi; \
+	done; \
+	if [ -n "$$failed" ]; then echo "fuzz: crashes in$$failed"; exit 1; fi
+
 # Benchmarks (not tests): make bench.
 $(B)/bench_solve: bench/bench_solve.c $(B)/libtram.a
 	@echo "  CC      $<"
@@ -117,7 +164,7 @@ ref-tests: $(B)/refhelper $(B)/tram
 asan:
 	$(MAKE) B=build-asan OPT="-O1 -g -fno-omit-frame-pointer" \
 	  EXTRA_CFLAGS="-fsanitize=address,undefined -fno-sanitize-recover=all" \
-	  EXTRA_LDFLAGS="-fsanitize=address,undefined" unit cli-tests
+	  EXTRA_LDFLAGS="-fsanitize=address,undefined" unit cli-tests fuzz-replay
 
 clang-check:
 	@if command -v clang >/dev/null 2>&1; then \
@@ -164,4 +211,4 @@ install-check: all
 	  && echo "install-check: 1 passed, 0 failed"
 
 clean:
-	rm -rf build build-asan build-clang
+	rm -rf build build-asan build-clang build-fuzz build-cov

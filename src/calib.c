@@ -39,6 +39,57 @@ static double number(const cJSON *o, const char *k, int *ok)
     return v->valuedouble;
 }
 
+/* residuals.stations: optional; when present every entry must hold a
+ * station id, numbers (or null) and an outlier flag. */
+static tram_status read_residuals(const char *name, const cJSON *root, tram_calibration *c,
+                                  tram_error *err)
+{
+    const cJSON *st = cJSON_GetObjectItemCaseSensitive(
+        cJSON_GetObjectItemCaseSensitive(root, "residuals"), "stations");
+    if (!st) return TRAM_OK;
+    if (!cJSON_IsArray(st))
+        return tram__fail(err, TRAM_EINPUT, name, 0, 0,
+                          "damaged calibration file: residuals.stations must be an array");
+    size_t n = (size_t)cJSON_GetArraySize(st);
+    c->residuals = tram__calloc(n ? n : 1, sizeof *c->residuals);
+    if (!c->residuals) return tram__fail(err, TRAM_ENOMEM, name, 0, 0, "out of memory");
+    const cJSON *it;
+    size_t k = 0;
+    cJSON_ArrayForEach(it, st)
+    {
+        tram_calibration_residual *r = &c->residuals[k];
+        const cJSON *id = cJSON_GetObjectItemCaseSensitive(it, "station");
+        const cJSON *v[2] = {cJSON_GetObjectItemCaseSensitive(it, "rotation_deg"),
+                             cJSON_GetObjectItemCaseSensitive(it, "translation")};
+        const cJSON *out = cJSON_GetObjectItemCaseSensitive(it, "outlier");
+        double x[2];
+        int ok = cJSON_IsString(id) && strlen(id->valuestring) < sizeof r->station &&
+                 cJSON_IsBool(out);
+        for (int a = 0; a < 2; a++) {
+            if (cJSON_IsNull(v[a]))
+                x[a] = NAN;
+            else if (cJSON_IsNumber(v[a]) && isfinite(v[a]->valuedouble) && v[a]->valuedouble >= 0)
+                x[a] = v[a]->valuedouble;
+            else
+                ok = 0;
+        }
+        if (!ok)
+            return tram__fail(err, TRAM_EINPUT, name, 0, 0,
+                              "damaged calibration file: residuals.stations[%zu]: expected "
+                              "\"station\" (text of at most %d characters), \"rotation_deg\" and "
+                              "\"translation\" (numbers >= 0 or null) and \"outlier\" (true or "
+                              "false)",
+                              k, TRAM_STATION_ID_MAX - 1);
+        snprintf(r->station, sizeof r->station, "%s", id->valuestring);
+        r->rotation_deg = x[0];
+        r->translation = x[1];
+        r->outlier = cJSON_IsTrue(out);
+        k++;
+    }
+    c->nresiduals = k;
+    return TRAM_OK;
+}
+
 tram_status tram_calibration_read_buffer(const char *name, const char *data, size_t len,
                                          tram_calibration **out, tram_error *err)
 {
@@ -117,7 +168,7 @@ tram_status tram_calibration_read_buffer(const char *name, const char *data, siz
     }
     const cJSON *ob = cJSON_GetObjectItemCaseSensitive(root, "observability");
     double ns = number(ob, "stations", &ok);
-    c->stations = ok && ns > 0 ? (size_t)ns : 0;
+    c->stations = ok && ns > 0 && ns < 1e15 ? (size_t)ns : 0; /* no UB on absurd counts */
     const cJSON *cov = cJSON_GetObjectItemCaseSensitive(root, "covariance");
     if (cov) {
         if (!cJSON_IsArray(cov) || cJSON_GetArraySize(cov) != 144) {
@@ -139,10 +190,11 @@ tram_status tram_calibration_read_buffer(const char *name, const char *data, siz
     const cJSON *in = cJSON_GetObjectItemCaseSensitive(root, "input");
     const cJSON *ck = cJSON_GetObjectItemCaseSensitive(in, "checksum_fnv1a64");
     if (cJSON_IsString(ck)) snprintf(c->checksum, sizeof c->checksum, "%s", ck->valuestring);
+    st = read_residuals(name, root, c, err);
 done:
     cJSON_Delete(root);
     if (st != TRAM_OK) {
-        tram__free(c);
+        tram_calibration_destroy(c);
         return st;
     }
     *out = c;
@@ -161,4 +213,9 @@ tram_status tram_calibration_read_file(const char *path, tram_calibration **out,
     return st;
 }
 
-void tram_calibration_destroy(tram_calibration *c) { tram__free(c); }
+void tram_calibration_destroy(tram_calibration *c)
+{
+    if (!c) return;
+    tram__free(c->residuals);
+    tram__free(c);
+}

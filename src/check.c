@@ -57,6 +57,13 @@ const char *tram_verdict_name(tram_verdict v)
     return (int)v >= 0 && v <= TRAM_VERDICT_INCONCLUSIVE ? names[v] : "unknown";
 }
 
+int tram_verdict_parse(const char *name)
+{
+    for (int v = TRAM_VERDICT_OK; name && v <= TRAM_VERDICT_INCONCLUSIVE; v++)
+        if (strcmp(name, tram_verdict_name((tram_verdict)v)) == 0) return v;
+    return -1;
+}
+
 void tram_check_result_destroy(tram_check_result *res)
 {
     if (!res) return;

@@ -2,16 +2,38 @@
  * linalg.c - LAPACKE wrappers (see linalg_internal.h).  Every SVD,
  * eigenproblem and least-squares solve of the library goes through here, so
  * that the calls, workspace and error handling live in one place.
+ *
+ * Every input is checked for NaN and Inf first: some LAPACK routines never
+ * return on such input (dbdsqr, behind dgesvd, loops on Inf), so
+ * non-finite numbers are refused with TRAM_ENUMERIC before LAPACK sees
+ * them.  LAPACKE's own workspace allocation failure maps to TRAM_ENOMEM.
  */
 #include "linalg_internal.h"
 
 #include <lapacke.h>
+#include <math.h>
 #include <string.h>
+
+static int all_finite(const double *a, size_t n)
+{
+    for (size_t i = 0; i < n; i++)
+        if (!isfinite(a[i])) return 0;
+    return 1;
+}
+
+static tram_status status_of(lapack_int info)
+{
+    if (info == 0) return TRAM_OK;
+    return info == LAPACK_WORK_MEMORY_ERROR || info == LAPACK_TRANSPOSE_MEMORY_ERROR
+               ? TRAM_ENOMEM
+               : TRAM_ENUMERIC;
+}
 
 tram_status tram__svd(int m, int n, const double *A, double *U, double *s, double *Vt)
 {
     size_t mn = (size_t)m * (size_t)n;
     int k = m < n ? m : n;
+    if (!all_finite(A, mn)) return TRAM_ENUMERIC;
     double *a = tram__malloc(mn * sizeof *a);
     double *superb = tram__malloc((size_t)(k > 1 ? k : 2) * sizeof *superb);
     double dummy_u = 0.0, dummy_vt = 0.0;
@@ -26,7 +48,7 @@ tram_status tram__svd(int m, int n, const double *A, double *U, double *s, doubl
                                      Vt ? n : 1, superb);
     tram__free(a);
     tram__free(superb);
-    return info == 0 ? TRAM_OK : TRAM_ENUMERIC;
+    return status_of(info);
 }
 
 tram_status tram__nullvec(int m, int n, const double *A, double *v, double *s_min,
@@ -75,6 +97,7 @@ tram_status tram__null2(int m, int n, const double *A, double *v1, double *v2)
 
 tram_status tram__lstsq(int m, int n, const double *A, const double *b, double *x)
 {
+    if (!all_finite(A, (size_t)m * (size_t)n) || !all_finite(b, (size_t)m)) return TRAM_ENUMERIC;
     double *a = tram__malloc((size_t)m * (size_t)n * sizeof *a);
     double *bb = tram__malloc((size_t)m * sizeof *bb);
     if (!a || !bb) {
@@ -88,23 +111,24 @@ tram_status tram__lstsq(int m, int n, const double *A, const double *b, double *
     if (info == 0) memcpy(x, bb, (size_t)n * sizeof *x);
     tram__free(a);
     tram__free(bb);
-    return info == 0 ? TRAM_OK : TRAM_ENUMERIC;
+    return status_of(info);
 }
 
 tram_status tram__symeig(int n, const double *A, double *w, double *V)
 {
+    if (!all_finite(A, (size_t)n * (size_t)n)) return TRAM_ENUMERIC;
     memcpy(V, A, (size_t)n * (size_t)n * sizeof *V);
-    lapack_int info = LAPACKE_dsyev(LAPACK_ROW_MAJOR, 'V', 'U', n, V, n, w);
-    return info == 0 ? TRAM_OK : TRAM_ENUMERIC;
+    return status_of(LAPACKE_dsyev(LAPACK_ROW_MAJOR, 'V', 'U', n, V, n, w));
 }
 
 tram_status tram__spd_inverse(int n, const double *A, double *out)
 {
+    if (!all_finite(A, (size_t)n * (size_t)n)) return TRAM_ENUMERIC;
     memcpy(out, A, (size_t)n * (size_t)n * sizeof *out);
     lapack_int info = LAPACKE_dpotrf(LAPACK_ROW_MAJOR, 'U', n, out, n);
-    if (info != 0) return TRAM_ENUMERIC;
+    if (info != 0) return status_of(info);
     info = LAPACKE_dpotri(LAPACK_ROW_MAJOR, 'U', n, out, n);
-    if (info != 0) return TRAM_ENUMERIC;
+    if (info != 0) return status_of(info);
     /* dpotri fills the upper triangle only. */
     for (int i = 0; i < n; i++)
         for (int j = 0; j < i; j++) out[i * n + j] = out[j * n + i];
@@ -114,9 +138,9 @@ tram_status tram__spd_inverse(int n, const double *A, double *out)
 tram_status tram__spd_solve(int n, const double *A, const double *b, double *x)
 {
     double a[144];
-    if (n > 12) return TRAM_ENUMERIC;
+    if (n > 12 || !all_finite(A, (size_t)n * (size_t)n) || !all_finite(b, (size_t)n))
+        return TRAM_ENUMERIC;
     memcpy(a, A, (size_t)n * (size_t)n * sizeof *a);
     memcpy(x, b, (size_t)n * sizeof *x);
-    lapack_int info = LAPACKE_dposv(LAPACK_ROW_MAJOR, 'U', n, 1, a, n, x, 1);
-    return info == 0 ? TRAM_OK : TRAM_ENUMERIC;
+    return status_of(LAPACKE_dposv(LAPACK_ROW_MAJOR, 'U', n, 1, a, n, x, 1));
 }

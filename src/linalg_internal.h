@@ -2,7 +2,8 @@
  * linalg_internal.h - thin wrappers over LAPACKE used by the solvers: SVD,
  * null vectors, linear least squares and symmetric eigenproblems.  All
  * matrices are row-major and owned by the caller.  Each wrapper returns
- * TRAM_OK, TRAM_ENOMEM or TRAM_ENUMERIC (LAPACK did not converge).
+ * TRAM_OK, TRAM_ENOMEM or TRAM_ENUMERIC (LAPACK did not converge, or an
+ * input holds NaN or Inf - refused before LAPACK sees it).
  */
 #ifndef TRAM_LINALG_INTERNAL_H
 #define TRAM_LINALG_INTERNAL_H

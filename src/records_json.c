@@ -117,7 +117,7 @@ tram_status tram__records_read_json(const char *name, const char *data, size_t l
         goto done;
     }
     const cJSON *ver = cJSON_GetObjectItemCaseSensitive(root, "version");
-    if (!cJSON_IsNumber(ver) || ver->valuedouble != (double)(int)ver->valuedouble ||
+    if (!cJSON_IsNumber(ver) || ver->valuedouble != (double)ver->valueint ||
         ver->valueint < 1) {
         st = tram__fail(err, TRAM_EINPUT, name, 1, 0, "\"version\": expected the integer 1");
         goto done;
@@ -232,8 +232,9 @@ tram_status tram__records_read_json(const char *name, const char *data, size_t l
         st = tram__schema_build(name, names, hl, NULL, ncol, &schema, err);
         if (st != TRAM_OK) goto done;
     }
-    for (size_t k = 0; k < n; k++) {
-        const cJSON *so = cJSON_GetArrayItem(sts, (int)k);
+    /* walk the list (cJSON_GetArrayItem would make the loop quadratic) */
+    const cJSON *so = sts->child;
+    for (size_t k = 0; k < n; k++, so = so->next) {
         tram_station *s = &r->stations[k];
         s->line = lines[k];
         if (!cJSON_IsObject(so)) {

@@ -54,6 +54,16 @@ static void add_moments(moments *a, const moments *b)
     }
 }
 
+static int moments_finite(const moments *m)
+{
+    int ok = isfinite(m->W) && isfinite(m->syy);
+    for (int i = 0; i < 3; i++) {
+        ok = ok && isfinite(m->sx[i]) && isfinite(m->sy[i]);
+        for (int j = 0; j < 3; j++) ok = ok && isfinite(m->sxx[i][j]) && isfinite(m->sxy[i][j]);
+    }
+    return ok;
+}
+
 /* The hot loop: 3D and 2D versions so the compiler can keep the sums in
  * registers. */
 static void *run_pass(void *arg)
@@ -199,6 +209,13 @@ tram_status tram_register_points(const double *from, const double *to, const dou
     accumulate(from, to, weights, n, d, opt.threads, x0, y0, &m);
     if (!(m.W > 0))
         return tram__fail(err, TRAM_EUNDETERMINED, NULL, 0, 0, "all weights are zero");
+    /* Coordinates (or weights) so large that the sums overflow: refuse
+     * rather than hand Inf to LAPACK. */
+    if (!moments_finite(&m))
+        return tram__fail(err, TRAM_EINPUT, NULL, 0, 0,
+                          "the coordinates or weights are too large for double precision: "
+                          "their weighted squares overflow (rescale the points, e.g. to "
+                          "another length unit)");
     out->weight_sum = m.W;
     double mx[3] = {0, 0, 0}, my[3] = {0, 0, 0}, Cxx[3][3] = {{0}}, S[3][3] = {{0}};
     for (int a = 0; a < d; a++) {

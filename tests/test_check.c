@@ -248,8 +248,25 @@ static void test_calibration_refused(void **state)
     assert_int_equal(tram_calibration_read_buffer("c.json", t2, strlen(t2), &cal, &e), TRAM_EINPUT);
     free(t2);
     cJSON_Delete(j);
+    /* a damaged residual table */
+    j = cJSON_Parse(text);
+    cJSON *row = cJSON_GetArrayItem(
+        cJSON_GetObjectItem(cJSON_GetObjectItem(j, "residuals"), "stations"), 3);
+    cJSON_ReplaceItemInObject(row, "translation", cJSON_CreateString("0.2"));
+    t2 = cJSON_Print(j);
+    assert_int_equal(tram_calibration_read_buffer("c.json", t2, strlen(t2), &cal, &e), TRAM_EINPUT);
+    assert_non_null(strstr(e.message, "residuals.stations[3]"));
+    free(t2);
+    cJSON_Delete(j);
     /* a record file of the other setup */
     assert_int_equal(tram_calibration_read_buffer("c.json", text, strlen(text), &cal, &e), TRAM_OK);
+    /* the residual table as solve wrote it */
+    assert_int_equal(cal->nresiduals, 20);
+    for (size_t i = 0; i < 20; i++) {
+        assert_string_equal(cal->residuals[i].station, rec->stations[i].id);
+        assert_true(fabs(cal->residuals[i].translation - s->stations[i].trans) < 1e-9);
+        assert_int_equal(cal->residuals[i].outlier, s->stations[i].outlier);
+    }
     rec->setup = TRAM_SETUP_EYE_TO_HAND;
     tram_check_result *res;
     assert_int_equal(tram_check(cal, rec, NULL, &res, &e), TRAM_EINPUT);
@@ -289,10 +306,80 @@ static void test_json_and_history(void **state)
     assert_string_equal(cJSON_GetObjectItem(j, "timestamp_utc")->valuestring,
                         "2026-12-01T00:00:00Z");
     cJSON_Delete(j);
+    /* The line reads back through the history reader. 2026-12-01T00:00:00Z
+     * is 1,796,083,200 s after the epoch (20,788 days; Python
+     * datetime(2026,12,1,tzinfo=timezone.utc).timestamp()). */
+    char two[4096];
+    snprintf(two, sizeof two, "%s\n\n%s\r\n", text, text);
+    tram_check_history *h;
+    assert_int_equal(tram_check_history_read_buffer("h.jsonl", two, strlen(two), &h, &e), TRAM_OK);
+    assert_int_equal(h->n, 2);
+    assert_int_equal(h->line[1], 3);
+    assert_true(h->time_s[0] == 1796083200.0);
+    assert_int_equal(h->verdict[0], res->verdict);
+    assert_int_equal(h->length_unit, TRAM_LENGTH_MM);
+    assert_true(fabs(h->translation_norm[0] - res->sensor.translation_norm) < 1e-12 ||
+                fabs(h->translation_norm[0] - res->target.translation_norm) < 1e-12);
+    tram_check_history_destroy(h);
+    tram_check_history_destroy(NULL);
     free(text);
     tram_check_result_destroy(res);
     tram_records_destroy(rec);
     tram_calibration_destroy(cal);
+}
+
+/* History files that must be refused, each with the line and what is expected. */
+static void test_history_refused(void **state)
+{
+    (void)state;
+    const char *good = "{\"timestamp_utc\":\"2026-12-01T22:40:00Z\",\"verdict\":\"ok\","
+                       "\"length_unit\":\"m\",\"change\":{\"translation_norm\":0.001,"
+                       "\"rotation_angle_deg\":0.01}}\n";
+    static const struct {
+        const char *line, *expect;
+        long col;
+    } bad[] = {
+        {"{\"timestamp_utc\":\"2026-13-01T22:40:00Z\",\"verdict\":\"ok\"}", "timestamp_utc", 0},
+        {"{\"timestamp_utc\":\"2026-12-01 22:40:00\",\"verdict\":\"ok\"}", "timestamp_utc", 0},
+        {"{\"timestamp_utc\":\"2026-12-01T22:40:00Z\",\"verdict\":\"fine\"}", "verdict", 0},
+        {"{\"timestamp_utc\":\"2026-12-01T22:40:00Z\",\"verdict\":\"ok\",\"change\":{}}",
+         "length_unit", 0},
+        {"{\"timestamp_utc\":\"2026-12-01T22:40:00Z\",\"verdict\":\"ok\",\"length_unit\":\"mm\","
+         "\"change\":{\"translation_norm\":-1,\"rotation_angle_deg\":0}}",
+         "translation_norm", 0},
+        {"{\"timestamp_utc\": 5} trailing", "one JSON object per line", 22},
+        {"[1, 2", "one JSON object per line", 0},
+    };
+    for (size_t i = 0; i < sizeof bad / sizeof bad[0]; i++) {
+        char text[1024];
+        snprintf(text, sizeof text, "%s%s\n", good, bad[i].line);
+        tram_check_history *h = (tram_check_history *)1;
+        tram_error e;
+        assert_int_equal(tram_check_history_read_buffer("h.jsonl", text, strlen(text), &h, &e),
+                         TRAM_EINPUT);
+        assert_null(h);
+        assert_int_equal(e.line, 2);
+        if (bad[i].col) assert_int_equal(e.column, bad[i].col);
+        if (!strstr(e.message, bad[i].expect)) fail_msg("case %zu: %s", i, e.message);
+    }
+    /* Units are converted to the first line's (m), never assumed. */
+    char mixed[1024];
+    snprintf(mixed, sizeof mixed, "%s%s", good,
+             "{\"timestamp_utc\":\"2026-12-02T00:00:00Z\",\"verdict\":\"sensor-moved\","
+             "\"length_unit\":\"mm\",\"change\":{\"translation_norm\":2.5,"
+             "\"rotation_angle_deg\":0.2}}");
+    tram_check_history *h;
+    tram_error e;
+    assert_int_equal(tram_check_history_read_buffer("h.jsonl", mixed, strlen(mixed), &h, &e), TRAM_OK);
+    assert_int_equal(h->length_unit, TRAM_LENGTH_M);
+    assert_true(fabs(h->translation_norm[1] - 0.0025) < 1e-15);
+    assert_int_equal(h->verdict[1], TRAM_VERDICT_SENSOR_MOVED);
+    assert_true(h->time_s[1] - h->time_s[0] == 4800.0);
+    tram_check_history_destroy(h);
+    assert_int_equal(tram_check_history_read_buffer("h.jsonl", "\n \n", 3, &h, &e), TRAM_EINPUT);
+    assert_non_null(strstr(e.message, "no check"));
+    assert_int_equal(tram_verdict_parse("target-moved"), TRAM_VERDICT_TARGET_MOVED);
+    assert_int_equal(tram_verdict_parse("moved"), -1);
 }
 
 int main(void)
@@ -305,6 +392,6 @@ int main(void)
         cmocka_unit_test(test_target_moved_eye_to_hand),
         cmocka_unit_test(test_single_station),
         cmocka_unit_test(test_calibration_refused),
-        cmocka_unit_test(test_json_and_history)};
+        cmocka_unit_test(test_json_and_history), cmocka_unit_test(test_history_refused)};
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

@@ -22,6 +22,14 @@
 extern "C" {
 #endif
 
+/* One station's residual as stored by solve (residuals.stations). */
+typedef struct tram_calibration_residual {
+    char station[TRAM_STATION_ID_MAX];
+    double rotation_deg;  /* NaN when the file holds null                       */
+    double translation;   /* calibration's length unit; NaN when null           */
+    int outlier;
+} tram_calibration_residual;
+
 /* A stored calibration. */
 typedef struct tram_calibration {
     tram_setup setup;
@@ -36,6 +44,8 @@ typedef struct tram_calibration {
     int trustworthy;          /* as stored by solve                               */
     char source[256];
     char checksum[24];        /* of the calibration's input records               */
+    size_t nresiduals;        /* per-station residuals of the solve (0: none)     */
+    tram_calibration_residual *residuals; /* owned by the calibration             */
 } tram_calibration;
 
 /* Read a calibration file.  Wrong format, a newer version, missing or
@@ -120,6 +130,38 @@ TRAM_API tram_status tram_check_result_to_json(const tram_check_result *res,
                                                const tram_records *r, int history,
                                                const char *timestamp_utc, char **text,
                                                tram_error *err);
+
+/* A check history file read back (docs/check.md): one entry per line of
+ * the file (blank lines are skipped).  Every line must hold timestamp_utc
+ * ("YYYY-MM-DDTHH:MM:SSZ"), a known verdict, length_unit, and
+ * change.translation_norm and change.rotation_angle_deg as numbers;
+ * translations are converted to the first line's length unit (the unit
+ * is never assumed).  Arrays hold n values each and are owned by the
+ * history. */
+typedef struct tram_check_history {
+    size_t n;
+    double *time_s;             /* seconds since 1970-01-01T00:00:00Z (UTC)      */
+    tram_verdict *verdict;
+    double *translation_norm;   /* in length_unit                                 */
+    double *rotation_angle_deg;
+    long *line;                 /* source line of each entry                      */
+    tram_length_unit length_unit;
+    char source[256];
+} tram_check_history;
+
+/* Read a history file ("-": standard input).  A malformed line is an error
+ * naming file:line and the field.  Caller frees *out with
+ * tram_check_history_destroy. */
+TRAM_API tram_status tram_check_history_read_file(const char *path, tram_check_history **out,
+                                                  tram_error *err);
+TRAM_API tram_status tram_check_history_read_buffer(const char *name, const char *data,
+                                                    size_t len, tram_check_history **out,
+                                                    tram_error *err);
+/* NULL is a no-op. */
+TRAM_API void tram_check_history_destroy(tram_check_history *h);
+
+/* Parse a verdict name (tram_verdict_name); -1 when unknown. */
+TRAM_API int tram_verdict_parse(const char *name);
 
 /* Chi-square quantile for k degrees of freedom at the normal quantile z
  * (Wilson & Hilferty, Proc. Natl. Acad. Sci. 17(12), 1931); within 1% of

@@ -104,95 +104,18 @@ int cli_plot_solution(const tram_records *r, const tram_solution *s, const char 
     return rc;
 }
 
-static char *slurp(const char *path, tram_error *err)
-{
-    FILE *f = fopen(path, "rb");
-    if (!f) {
-        snprintf(err->file, sizeof err->file, "%s", path);
-        snprintf(err->message, sizeof err->message, "cannot open");
-        return NULL;
-    }
-    size_t cap = 65536, n = 0;
-    char *b = malloc(cap);
-    while (b) {
-        size_t got = fread(b + n, 1, cap - n - 1, f);
-        n += got;
-        if (got == 0) break;
-        if (n + 1 >= cap) {
-            char *nb = realloc(b, cap *= 2);
-            if (!nb) {
-                free(b);
-                b = NULL;
-            } else
-                b = nb;
-        }
-    }
-    fclose(f);
-    if (b) b[n] = '\0';
-    return b;
-}
-
-/* Seconds since 1970 of "YYYY-MM-DDTHH:MM:SSZ"; -1 when malformed. */
-static double parse_utc(const char *s)
-{
-    int Y, M, D, h, m, sec;
-    if (sscanf(s, "%4d-%2d-%2dT%2d:%2d:%2dZ", &Y, &M, &D, &h, &m, &sec) != 6) return -1;
-    /* days from civil (Hinnant's algorithm) */
-    Y -= M <= 2;
-    long era = (Y >= 0 ? Y : Y - 399) / 400;
-    long yoe = Y - era * 400;
-    long doy = (153 * (M + (M > 2 ? -3 : 9)) + 2) / 5 + D - 1;
-    long doe = yoe * 365 + yoe / 4 - yoe / 100 + doy;
-    long days = era * 146097 + doe - 719468;
-    return (double)days * 86400.0 + h * 3600.0 + m * 60.0 + sec;
-}
-
 static int plot_history(const char *file, const char *tol, const char *o, int w, int h, int force)
 {
     tram_error err;
     tram_error_clear(&err);
-    char *text = slurp(file, &err);
-    if (!text) {
+    tram_check_history *hist = NULL;
+    if (tram_check_history_read_file(file, &hist, &err) != TRAM_OK) {
         cli_report(&err);
         return CLI_EXIT_USAGE;
     }
-    size_t cap = 64, n = 0;
-    double *t = malloc(cap * sizeof *t), *tr = malloc(cap * sizeof *tr), *rot = malloc(cap * sizeof *rot);
-    int *alarm = malloc(cap * sizeof *alarm), rc = CLI_EXIT_OK;
-    tram_length_unit lu = TRAM_LENGTH_MM;
-    long line = 0;
-    for (char *p = strtok(text, "\n"); p && rc == CLI_EXIT_OK; p = strtok(NULL, "\n")) {
-        line++;
-        cJSON *j = cJSON_Parse(p);
-        cJSON *ts = cJSON_GetObjectItem(j, "timestamp_utc"), *v = cJSON_GetObjectItem(j, "verdict");
-        cJSON *c = cJSON_GetObjectItem(j, "change");
-        cJSON *tn = cJSON_GetObjectItem(c, "translation_norm"), *ra = cJSON_GetObjectItem(c, "rotation_angle_deg");
-        cJSON *u = cJSON_GetObjectItem(j, "length_unit");
-        double when = cJSON_IsString(ts) ? parse_utc(ts->valuestring) : -1;
-        if (!j || when < 0 || !cJSON_IsString(v) || !cJSON_IsNumber(tn) || !cJSON_IsNumber(ra)) {
-            fprintf(stderr, "%s:%ld: error: expected a check-history line (timestamp_utc, verdict, "
-                            "change.translation_norm, change.rotation_angle_deg)\n", file, line);
-            rc = CLI_EXIT_USAGE;
-        } else {
-            if (n == cap) {
-                cap *= 2;
-                t = realloc(t, cap * sizeof *t);
-                tr = realloc(tr, cap * sizeof *tr);
-                rot = realloc(rot, cap * sizeof *rot);
-                alarm = realloc(alarm, cap * sizeof *alarm);
-            }
-            t[n] = when;
-            tr[n] = tn->valuedouble;
-            rot[n] = ra->valuedouble;
-            alarm[n] = strcmp(v->valuestring, "ok") != 0;
-            if (cJSON_IsString(u)) lu = tram_unit_length_parse(u->valuestring);
-            n++;
-        }
-        cJSON_Delete(j);
-    }
-    free(text);
+    int rc = CLI_EXIT_OK;
     double tl = 0, ta = 0;
-    if (rc == CLI_EXIT_OK && tol) {
+    if (tol) {
         char *end;
         tl = strtod(tol, &end);
         tram_length_unit tu = TRAM_LENGTH_UNSET;
@@ -204,21 +127,25 @@ static int plot_history(const char *file, const char *tol, const char *o, int w,
             tu = tram_unit_length_parse(ub);
             ta = strtod(comma + 1, &end);
         }
-        if (!comma || tu == TRAM_LENGTH_UNSET || strcmp(end, "deg") != 0) {
+        if (!comma || tu == TRAM_LENGTH_UNSET || strcmp(end, "deg") != 0)
             rc = cli_usage_error("plot", "--tolerance '%s': expected LENGTH,ANGLE like 0.5mm,0.1deg", tol);
-        } else {
-            tl *= tram_unit_length_factor(tu, lu);
-        }
+        else
+            tl *= tram_unit_length_factor(tu, hist->length_unit);
+    }
+    int *alarm = rc == CLI_EXIT_OK ? malloc(hist->n * sizeof *alarm) : NULL;
+    if (rc == CLI_EXIT_OK && !alarm) {
+        fprintf(stderr, "tram plot: error: out of memory\n");
+        rc = CLI_EXIT_USAGE;
     }
     if (rc == CLI_EXIT_OK) {
-        tram_plot_history_data hd = {n, t, tr, rot, alarm, tl, ta, lu, NULL};
+        for (size_t i = 0; i < hist->n; i++) alarm[i] = hist->verdict[i] != TRAM_VERDICT_OK;
+        tram_plot_history_data hd = {hist->n, hist->time_s, hist->translation_norm,
+                                     hist->rotation_angle_deg, alarm, tl, ta, hist->length_unit, NULL};
         tram_image *img = NULL;
         rc = write_png(tram_plot_history(&hd, w, h, &img, &err), &img, o, force, &err);
     }
-    free(t);
-    free(tr);
-    free(rot);
     free(alarm);
+    tram_check_history_destroy(hist);
     return rc;
 }
 
@@ -265,31 +192,28 @@ int cli_plot(int argc, char **argv)
         if (strcmp(kind, "residuals") == 0) {
             if (!cal) return cli_usage_error("plot", "residuals needs --calibration");
             /* the residual table of the calibration file */
-            char *text = slurp(calib, &err);
-            cJSON *j = text ? cJSON_Parse(text) : NULL;
-            cJSON *st = cJSON_GetObjectItem(cJSON_GetObjectItem(j, "residuals"), "stations");
-            size_t n = (size_t)cJSON_GetArraySize(st);
+            size_t n = cal->nresiduals;
             const char **ids = calloc(n ? n : 1, sizeof *ids);
             double *rot = calloc(2 * (n ? n : 1), sizeof *rot);
             int *out = calloc(n ? n : 1, sizeof *out);
-            cJSON *it;
-            size_t k = 0;
-            cJSON_ArrayForEach(it, st)
-            {
-                ids[k] = cJSON_GetStringValue(cJSON_GetObjectItem(it, "station"));
-                rot[k] = cJSON_GetNumberValue(cJSON_GetObjectItem(it, "rotation_deg"));
-                rot[n + k] = cJSON_GetNumberValue(cJSON_GetObjectItem(it, "translation"));
-                out[k] = cJSON_IsTrue(cJSON_GetObjectItem(it, "outlier"));
-                k++;
+            if (!ids || !rot || !out) {
+                fprintf(stderr, "tram plot: error: out of memory\n");
+                rc = CLI_EXIT_USAGE;
+            } else if (n == 0) {
+                rc = cli_usage_error("plot", "%s has no per-station residuals", calib);
+            } else {
+                for (size_t k = 0; k < n; k++) {
+                    ids[k] = cal->residuals[k].station;
+                    rot[k] = cal->residuals[k].rotation_deg;
+                    rot[n + k] = cal->residuals[k].translation;
+                    out[k] = cal->residuals[k].outlier;
+                }
+                tram_plot_residuals_data rd = {n, ids, rot, rot + n, NULL, out,
+                                               4.5943 * cal->noise_angle_rad * 180.0 / 3.14159265358979323846,
+                                               4.5943 * cal->noise_length, cal->length_unit, NULL};
+                tram_image *img = NULL;
+                rc = write_png(tram_plot_residuals(&rd, w, h, &img, &err), &img, o, force, &err);
             }
-            tram_plot_residuals_data rd = {n, ids, rot, rot + n, NULL, out,
-                                           4.5943 * cal->noise_angle_rad * 180.0 / 3.14159265358979323846,
-                                           4.5943 * cal->noise_length, cal->length_unit, NULL};
-            tram_image *img = NULL;
-            rc = n ? write_png(tram_plot_residuals(&rd, w, h, &img, &err), &img, o, force, &err)
-                   : cli_usage_error("plot", "%s has no per-station residuals", calib);
-            cJSON_Delete(j);
-            free(text);
             free(ids);
             free(rot);
             free(out);
