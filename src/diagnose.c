@@ -48,7 +48,7 @@ int tram__observability(const tram_se3 *P, size_t n, tram_setup setup, tram_solu
     double M[9], mn, mx;
     size_t used;
     tram__motion_axes(P, pairs, np, 1.0 / RAD2DEG, M, &used, &mn, &mx);
-    free(pairs);
+    tram__free(pairs);
     s->motion_min_deg = mn * RAD2DEG;
     s->motion_max_deg = mx * RAD2DEG;
     double ev[3], V[9];

@@ -116,11 +116,3 @@ double tram_unit_angle_in_rad(tram_angle_unit u)
 }
 
 const char *tram_version(void) { return TRAM_VERSION_STRING; }
-
-/* Allocation hooks: one place for every allocation of the library. */
-#include <stdlib.h>
-
-void *tram__malloc(size_t n) { return malloc(n ? n : 1); }
-void *tram__calloc(size_t count, size_t size) { return calloc(count ? count : 1, size ? size : 1); }
-void *tram__realloc(void *p, size_t n) { return realloc(p, n ? n : 1); }
-void tram__free(void *p) { free(p); }

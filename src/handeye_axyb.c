@@ -49,7 +49,7 @@ tram_status tram_handeye_pairs(size_t n, tram_pairs_mode mode, tram_pair **out, 
     if (n < 2) return TRAM_OK;
     if (mode == TRAM_PAIRS_AUTO) mode = n <= 60 ? TRAM_PAIRS_ALL : TRAM_PAIRS_AUTO;
     size_t cap = mode == TRAM_PAIRS_ALL ? n * (n - 1) / 2 : 2 * n;
-    tram_pair *p = malloc(cap * sizeof *p);
+    tram_pair *p = tram__malloc(cap * sizeof *p);
     if (!p) return TRAM_ENOMEM;
     size_t k = 0;
     if (mode == TRAM_PAIRS_ALL) {
@@ -288,7 +288,7 @@ tram_status tram_handeye_closed_form(tram_method method, const tram_se3 *P, cons
     size_t nchk = npairs;
     if (tram_method_is_axyb(method)) {
         if (tram_handeye_pairs(n, TRAM_PAIRS_CONSECUTIVE, &all, &nall) != TRAM_OK) {
-            free(own);
+            tram__free(own);
             return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
         }
         chk = all;
@@ -296,7 +296,7 @@ tram_status tram_handeye_closed_form(tram_method method, const tram_se3 *P, cons
     }
     size_t used;
     double ratio = axis_spread_ratio(P, chk, nchk, &used);
-    free(all);
+    tram__free(all);
     tram_status st;
     if (used < 2 || ratio < 1e-10) {
         st = tram__fail(err, TRAM_EUNDETERMINED, NULL, 0, 0,
@@ -307,7 +307,7 @@ tram_status tram_handeye_closed_form(tram_method method, const tram_se3 *P, cons
     } else {
         st = tram__solve_axxb(method, P, S, n, pairs, npairs, X, Z);
     }
-    free(own);
+    tram__free(own);
     if (st == TRAM_ENOMEM) return tram__fail(err, st, NULL, 0, 0, "out of memory");
     if (st == TRAM_ENUMERIC)
         return tram__fail(err, st, NULL, 0, 0, "%s: a LAPACK routine did not converge",

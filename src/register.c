@@ -259,8 +259,10 @@ tram_status tram_register_points(const double *from, const double *to, const dou
             double Sig[9], U[9], s[3], Vt[9];
             for (int a = 0; a < 3; a++)
                 for (int b = 0; b < 3; b++) Sig[a * 3 + b] = S[b][a];
-            if (tram__svd(3, 3, Sig, U, s, Vt) != TRAM_OK)
-                return tram__fail(err, TRAM_ENUMERIC, NULL, 0, 0, "SVD failed");
+            tram_status ls = tram__svd(3, 3, Sig, U, s, Vt);
+            if (ls != TRAM_OK)
+                return tram__fail(err, ls, NULL, 0, 0,
+                                  ls == TRAM_ENOMEM ? "out of memory" : "SVD failed");
             tram_mat3 Um, Vm;
             memcpy(&Um.m[0][0], U, sizeof U);
             memcpy(&Vm.m[0][0], Vt, sizeof Vt);

@@ -69,7 +69,14 @@ tram_status tram_register_robust(const double *from, const double *to, const dou
             memcpy(sx + (size_t)d * k, from + (size_t)d * idx[k], (size_t)d * sizeof *sx);
             memcpy(sy + (size_t)d * k, to + (size_t)d * idx[k], (size_t)d * sizeof *sy);
         }
-        if (tram_register_points(sx, sy, NULL, s, &mo, &cand, &e) != TRAM_OK) continue;
+        tram_status cs = tram_register_points(sx, sy, NULL, s, &mo, &cand, &e);
+        if (cs == TRAM_ENOMEM || cs == TRAM_EINPUT) { /* not a degenerate sample: give up */
+            tram__free(res);
+            tram__free(wsel);
+            if (err) *err = e;
+            return cs;
+        }
+        if (cs != TRAM_OK) continue;
         tram_register_residuals(from, to, n, d, &cand, res);
         double score;
         size_t count = 0;

@@ -226,7 +226,7 @@ tram_status tram_solution_to_json(const tram_solution *s, const tram_records *r,
     cJSON_Delete(root);
     if (!out) return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
     size_t len = strlen(out);
-    *text = malloc(len + 2);
+    *text = tram__malloc(len + 2);
     if (!*text) {
         cJSON_free(out);
         return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");

@@ -155,7 +155,7 @@ tram_status tram__quick_fit(const tram_se3 *P, const tram_se3 *S, size_t n, doub
     tram_error e;
     tram_status st =
         tram_handeye_closed_form(TRAM_METHOD_PARK_MARTIN, P, S, n, pairs, np, &X, &Z, &e);
-    free(pairs);
+    tram__free(pairs);
     if (st != TRAM_OK) return st;
     double *rot = tram__malloc(2 * n * sizeof *rot);
     if (!rot) return TRAM_ENOMEM;
@@ -428,7 +428,7 @@ tram_status tram_solve(const tram_records *r, tram_setup setup, const tram_solve
     tram_status st = TRAM_OK;
     if (!sol->stations || tram__station_poses(r, setup, &P, &S) != TRAM_OK) goto nomem;
     if (opt->npair_list > 0) {
-        pairs = malloc(opt->npair_list * sizeof *pairs);
+        pairs = tram__malloc(opt->npair_list * sizeof *pairs);
         if (!pairs) goto nomem;
         for (size_t k = 0; k < opt->npair_list; k++) {
             if (opt->pair_list[k].i >= n || opt->pair_list[k].j >= n ||
@@ -445,7 +445,7 @@ tram_status tram_solve(const tram_records *r, tram_setup setup, const tram_solve
     }
     if (tram__observability(P, n, setup, sol)) {
         if (tram__check_units(r, sol) != TRAM_OK) goto nomem;
-        free(pairs);
+        tram__free(pairs);
         tram__free(P);
         tram__free(S);
         *out = sol;
@@ -512,7 +512,7 @@ tram_status tram_solve(const tram_records *r, tram_setup setup, const tram_solve
         st = tram__fail(err, st, NULL, 0, 0, "out of memory");
         goto fail;
     }
-    free(pairs);
+    tram__free(pairs);
     tram__free(P);
     tram__free(S);
     *out = sol;
@@ -520,7 +520,7 @@ tram_status tram_solve(const tram_records *r, tram_setup setup, const tram_solve
 nomem:
     st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
 fail:
-    free(pairs);
+    tram__free(pairs);
     tram__free(P);
     tram__free(S);
     tram_solution_destroy(sol);
