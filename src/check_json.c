@@ -5,6 +5,7 @@
  * problem names file:line[:column] and the field).
  */
 #include "tram/check.h"
+#include "json_internal.h"
 #include "records_internal.h"
 
 #include <cjson/cJSON.h>
@@ -13,40 +14,24 @@
 #include <stdlib.h>
 #include <string.h>
 
-static cJSON *num(double v)
+static void add_change(tram__jb *b, cJSON *parent, const char *key, const tram_change *m, int full)
 {
-    if (!isfinite(v)) return cJSON_CreateNull();
-    char buf[40];
-    snprintf(buf, sizeof buf, "%.17g", v == 0.0 ? 0.0 : v);
-    return cJSON_CreateRaw(buf);
-}
-
-static cJSON *vec3(const double *v)
-{
-    cJSON *a = cJSON_CreateArray();
-    for (int i = 0; a && i < 3; i++) cJSON_AddItemToArray(a, num(v[i]));
-    return a;
-}
-
-static cJSON *change(const tram_change *m, int full)
-{
-    cJSON *o = cJSON_CreateObject();
-    cJSON_AddStringToObject(o, "model", m->model);
-    cJSON_AddStringToObject(o, "frame", m->frame);
-    cJSON_AddStringToObject(o, "transform", m->transform);
-    cJSON_AddItemToObject(o, "translation", vec3(m->translation));
-    cJSON_AddItemToObject(o, "rotation_deg", vec3(m->rotation_deg));
-    cJSON_AddItemToObject(o, "translation_norm", num(m->translation_norm));
-    cJSON_AddItemToObject(o, "rotation_angle_deg", num(m->rotation_angle_deg));
+    cJSON *o = tram__jb_obj(b, parent, key);
+    tram__jb_str(b, o, "model", m->model);
+    tram__jb_str(b, o, "frame", m->frame);
+    tram__jb_str(b, o, "transform", m->transform);
+    tram__jb_vec(b, o, "translation", m->translation, 3, 1.0);
+    tram__jb_vec(b, o, "rotation_deg", m->rotation_deg, 3, 1.0);
+    tram__jb_num(b, o, "translation_norm", m->translation_norm);
+    tram__jb_num(b, o, "rotation_angle_deg", m->rotation_angle_deg);
     if (full) {
-        cJSON_AddItemToObject(o, "translation_sigma", vec3(m->translation_sigma));
-        cJSON_AddItemToObject(o, "rotation_sigma_deg", vec3(m->rotation_sigma_deg));
-        cJSON_AddItemToObject(o, "significance_chi2", num(m->significance));
-        cJSON_AddItemToObject(o, "fit_chi2", num(m->fit_chi2));
-        cJSON_AddItemToObject(o, "fit_threshold", num(m->fit_threshold));
-        cJSON_AddBoolToObject(o, "fits", m->fits);
+        tram__jb_vec(b, o, "translation_sigma", m->translation_sigma, 3, 1.0);
+        tram__jb_vec(b, o, "rotation_sigma_deg", m->rotation_sigma_deg, 3, 1.0);
+        tram__jb_num(b, o, "significance_chi2", m->significance);
+        tram__jb_num(b, o, "fit_chi2", m->fit_chi2);
+        tram__jb_num(b, o, "fit_threshold", m->fit_threshold);
+        tram__jb_bool(b, o, "fits", m->fits);
     }
-    return o;
 }
 
 tram_status tram_check_result_to_json(const tram_check_result *res, const tram_records *r,
@@ -54,73 +39,57 @@ tram_status tram_check_result_to_json(const tram_check_result *res, const tram_r
                                       tram_error *err)
 {
     *text = NULL;
+    tram__jb jb = {0}, *b = &jb;
     cJSON *root = cJSON_CreateObject();
     if (!root) return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
     const tram_change *best = res->best ? &res->target : &res->sensor;
     if (history) {
-        cJSON_AddStringToObject(root, "timestamp_utc", timestamp_utc ? timestamp_utc : "");
-        cJSON_AddStringToObject(root, "verdict", tram_verdict_name(res->verdict));
-        cJSON_AddNumberToObject(root, "stations", (double)res->n);
-        cJSON_AddStringToObject(root, "length_unit", tram_unit_length_name(res->length_unit));
-        cJSON_AddItemToObject(root, "change", change(best, 0));
-        cJSON_AddStringToObject(root, "records", r->source);
-        char *line = cJSON_PrintUnformatted(root);
-        cJSON_Delete(root);
-        if (!line) return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
-        *text = tram__malloc(strlen(line) + 1);
-        if (*text) strcpy(*text, line);
-        cJSON_free(line);
-        return *text ? TRAM_OK : tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
+        tram__jb_str(b, root, "timestamp_utc", timestamp_utc ? timestamp_utc : "");
+        tram__jb_str(b, root, "verdict", tram_verdict_name(res->verdict));
+        tram__jb_num(b, root, "stations", (double)res->n);
+        tram__jb_str(b, root, "length_unit", tram_unit_length_name(res->length_unit));
+        add_change(b, root, "change", best, 0);
+        tram__jb_str(b, root, "records", r->source);
+        return tram__jb_finish(b, root, 0, 0, text, err);
     }
-    cJSON_AddStringToObject(root, "format", "tram-check");
-    cJSON_AddNumberToObject(root, "version", 1);
-    cJSON_AddStringToObject(root, "tool", "tram " TRAM_VERSION_STRING);
-    cJSON_AddStringToObject(root, "verdict", tram_verdict_name(res->verdict));
-    cJSON_AddStringToObject(root, "setup", tram_setup_name(res->setup));
-    cJSON_AddStringToObject(root, "length_unit", tram_unit_length_name(res->length_unit));
-    cJSON_AddItemToObject(root, "change", change(best, 1));
-    cJSON *cands = cJSON_AddArrayToObject(root, "candidates");
-    cJSON_AddItemToArray(cands, change(&res->sensor, 1));
-    cJSON_AddItemToArray(cands, change(&res->target, 1));
-    cJSON *t = cJSON_AddObjectToObject(root, "test");
-    cJSON_AddItemToObject(t, "chi2_unchanged", num(res->chi2_none));
-    cJSON_AddNumberToObject(t, "dof_unchanged", (double)res->dof_none);
-    cJSON_AddItemToObject(t, "threshold_unchanged", num(res->threshold_none));
-    cJSON_AddItemToObject(t, "false_alarm_rate", num(res->false_alarm));
-    cJSON_AddItemToObject(t, "orientation_spread_deg", num(res->orientation_spread_deg));
-    cJSON *arr = cJSON_AddArrayToObject(root, "stations");
+    tram__jb_str(b, root, "format", "tram-check");
+    tram__jb_num(b, root, "version", 1);
+    tram__jb_str(b, root, "tool", "tram " TRAM_VERSION_STRING);
+    tram__jb_str(b, root, "verdict", tram_verdict_name(res->verdict));
+    tram__jb_str(b, root, "setup", tram_setup_name(res->setup));
+    tram__jb_str(b, root, "length_unit", tram_unit_length_name(res->length_unit));
+    add_change(b, root, "change", best, 1);
+    cJSON *cands = tram__jb_arr(b, root, "candidates");
+    add_change(b, cands, NULL, &res->sensor, 1);
+    add_change(b, cands, NULL, &res->target, 1);
+    cJSON *t = tram__jb_obj(b, root, "test");
+    tram__jb_num(b, t, "chi2_unchanged", res->chi2_none);
+    tram__jb_num(b, t, "dof_unchanged", (double)res->dof_none);
+    tram__jb_num(b, t, "threshold_unchanged", res->threshold_none);
+    tram__jb_num(b, t, "false_alarm_rate", res->false_alarm);
+    tram__jb_num(b, t, "orientation_spread_deg", res->orientation_spread_deg);
+    cJSON *arr = tram__jb_arr(b, root, "stations");
     for (size_t i = 0; arr && i < res->n; i++) {
-        cJSON *o = cJSON_CreateObject();
-        cJSON_AddItemToArray(arr, o);
-        cJSON_AddStringToObject(o, "station", r->stations[i].id);
-        cJSON_AddItemToObject(o, "rotation_deg", num(res->stations[i].rot_deg));
-        cJSON_AddItemToObject(o, "translation", num(res->stations[i].trans));
-        cJSON_AddBoolToObject(o, "disagrees", res->stations[i].disagrees);
+        cJSON *o = tram__jb_obj(b, arr, NULL);
+        tram__jb_str(b, o, "station", r->stations[i].id);
+        tram__jb_num(b, o, "rotation_deg", res->stations[i].rot_deg);
+        tram__jb_num(b, o, "translation", res->stations[i].trans);
+        tram__jb_bool(b, o, "disagrees", res->stations[i].disagrees);
     }
-    cJSON *dg = cJSON_AddArrayToObject(root, "diagnostics");
+    cJSON *dg = tram__jb_arr(b, root, "diagnostics");
     for (size_t i = 0; dg && i < res->ndiag; i++) {
-        cJSON *o = cJSON_CreateObject();
-        cJSON_AddItemToArray(dg, o);
-        cJSON_AddStringToObject(o, "code", res->diag[i].code);
-        cJSON_AddStringToObject(o, "severity",
-                                res->diag[i].severity == TRAM_SEVERITY_WARNING ? "warning" : "info");
-        cJSON_AddStringToObject(o, "message", res->diag[i].message);
+        cJSON *o = tram__jb_obj(b, dg, NULL);
+        tram__jb_str(b, o, "code", res->diag[i].code);
+        tram__jb_str(b, o, "severity",
+                     res->diag[i].severity == TRAM_SEVERITY_WARNING ? "warning" : "info");
+        tram__jb_str(b, o, "message", res->diag[i].message);
     }
-    cJSON_AddStringToObject(root, "safety",
-                            "A check compares data with a stored calibration; it does not make "
-                            "a motion safe. After any change verify at reduced speed, keep clear "
-                            "of the working envelope, and follow the applicable robot-safety "
-                            "standards and local codes.");
-    char *out = cJSON_Print(root);
-    cJSON_Delete(root);
-    if (!out) return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
-    *text = tram__malloc(strlen(out) + 2);
-    if (*text) {
-        strcpy(*text, out);
-        strcat(*text, "\n");
-    }
-    cJSON_free(out);
-    return *text ? TRAM_OK : tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
+    tram__jb_str(b, root, "safety",
+                 "A check compares data with a stored calibration; it does not make "
+                 "a motion safe. After any change verify at reduced speed, keep clear "
+                 "of the working envelope, and follow the applicable robot-safety "
+                 "standards and local codes.");
+    return tram__jb_finish(b, root, 1, 1, text, err);
 }
 
 /* Seconds since 1970 of "YYYY-MM-DDTHH:MM:SSZ" (UTC, exactly that form);

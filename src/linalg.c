@@ -14,6 +14,9 @@
 #include <math.h>
 #include <string.h>
 
+/* Largest matrix (entries) handled in stack buffers. */
+#define SMALL 256
+
 static int all_finite(const double *a, size_t n)
 {
     for (size_t i = 0; i < n; i++)
@@ -34,31 +37,43 @@ tram_status tram__svd(int m, int n, const double *A, double *U, double *s, doubl
     size_t mn = (size_t)m * (size_t)n;
     int k = m < n ? m : n;
     if (!all_finite(A, mn)) return TRAM_ENUMERIC;
-    double *a = tram__malloc(mn * sizeof *a);
-    double *superb = tram__malloc((size_t)(k > 1 ? k : 2) * sizeof *superb);
+    /* Small problems (the 3x3 and 4x4 kernels) use the stack: a math
+     * kernel should not fail for want of heap. */
+    double a_small[SMALL], superb_small[SMALL];
+    int small = mn <= SMALL;
+    double *a = small ? a_small : tram__malloc(mn * sizeof *a);
+    double *superb = small ? superb_small : tram__malloc((size_t)(k > 1 ? k : 2) * sizeof *superb);
     double dummy_u = 0.0, dummy_vt = 0.0;
     if (!a || !superb) {
-        tram__free(a);
-        tram__free(superb);
+        if (!small) {
+            tram__free(a);
+            tram__free(superb);
+        }
         return TRAM_ENOMEM;
     }
     memcpy(a, A, mn * sizeof *a);
     lapack_int info = LAPACKE_dgesvd(LAPACK_ROW_MAJOR, U ? 'A' : 'N', Vt ? 'A' : 'N', m, n, a, n,
                                      s, U ? U : &dummy_u, U ? m : 1, Vt ? Vt : &dummy_vt,
                                      Vt ? n : 1, superb);
-    tram__free(a);
-    tram__free(superb);
+    if (!small) {
+        tram__free(a);
+        tram__free(superb);
+    }
     return status_of(info);
 }
 
 tram_status tram__nullvec(int m, int n, const double *A, double *v, double *s_min,
                           double *s_next)
 {
-    double *s = tram__malloc((size_t)n * sizeof *s);
-    double *Vt = tram__malloc((size_t)n * (size_t)n * sizeof *Vt);
+    double s_small[SMALL], Vt_small[SMALL];
+    int small = (size_t)n * (size_t)n <= SMALL;
+    double *s = small ? s_small : tram__malloc((size_t)n * sizeof *s);
+    double *Vt = small ? Vt_small : tram__malloc((size_t)n * (size_t)n * sizeof *Vt);
     if (!s || !Vt) {
-        tram__free(s);
-        tram__free(Vt);
+        if (!small) {
+            tram__free(s);
+            tram__free(Vt);
+        }
         return TRAM_ENOMEM;
     }
     tram_status st = tram__svd(m, n, A, NULL, s, Vt);
@@ -69,18 +84,24 @@ tram_status tram__nullvec(int m, int n, const double *A, double *v, double *s_mi
         if (s_min) *s_min = k == n ? s[n - 1] : 0.0;
         if (s_next) *s_next = (k == n && n >= 2) ? s[n - 2] : 0.0;
     }
-    tram__free(s);
-    tram__free(Vt);
+    if (!small) {
+        tram__free(s);
+        tram__free(Vt);
+    }
     return st;
 }
 
 tram_status tram__null2(int m, int n, const double *A, double *v1, double *v2)
 {
-    double *s = tram__malloc((size_t)n * sizeof *s);
-    double *Vt = tram__malloc((size_t)n * (size_t)n * sizeof *Vt);
+    double s_small[SMALL], Vt_small[SMALL];
+    int small = (size_t)n * (size_t)n <= SMALL;
+    double *s = small ? s_small : tram__malloc((size_t)n * sizeof *s);
+    double *Vt = small ? Vt_small : tram__malloc((size_t)n * (size_t)n * sizeof *Vt);
     if (!s || !Vt) {
-        tram__free(s);
-        tram__free(Vt);
+        if (!small) {
+            tram__free(s);
+            tram__free(Vt);
+        }
         return TRAM_ENOMEM;
     }
     tram_status st = tram__svd(m, n, A, NULL, s, Vt);
@@ -90,8 +111,10 @@ tram_status tram__null2(int m, int n, const double *A, double *v1, double *v2)
             v2[j] = Vt[(size_t)(n - 1) * (size_t)n + (size_t)j];
         }
     }
-    tram__free(s);
-    tram__free(Vt);
+    if (!small) {
+        tram__free(s);
+        tram__free(Vt);
+    }
     return st;
 }
 

@@ -5,13 +5,13 @@
  * Poses are written in their default directions (robot: flange-in-base,
  * T_base_flange; sensor: target-in-sensor, T_sensor_target) with every
  * directive spelled out, so the output never depends on a default.  Numbers
- * use %.17g (CSV) or cJSON's shortest exact form (JSON): both read back
- * bit for bit.
+ * use %.17g in both forms (json_internal.h for JSON): both read back bit
+ * for bit.
  */
+#include "json_internal.h"
 #include "records_internal.h"
 #include "tram/rotation.h"
 
-#include <cjson/cJSON.h>
 #include <stdio.h>
 #include <string.h>
 
@@ -55,14 +55,6 @@ static void pose_numbers(const tram_se3 *T, const tram_output_rep *rep, double l
 static const tram_se3 *block_pose(const tram_station *s, int b)
 {
     return b == TRAM_BLOCK_ROBOT ? &s->T_base_flange : &s->T_sensor_target;
-}
-
-/* cJSON's own number printing only round-trips approximately; %.17g is exact. */
-static void put_num(cJSON *o, const char *k, double v)
-{
-    char buf[40];
-    snprintf(buf, sizeof buf, "%.17g", v);
-    cJSON_AddRawToObject(o, k, buf);
 }
 
 tram_status tram_records_write(const tram_records *r, const tram_output_rep *rep, int json,
@@ -109,46 +101,44 @@ tram_status tram_records_write(const tram_records *r, const tram_output_rep *rep
             fputc('\n', f);
         }
     } else {
+        tram__jb jb = {0}, *jp = &jb;
         cJSON *root = cJSON_CreateObject();
         if (!root) return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
-        cJSON_AddStringToObject(root, "format", "tram-records");
-        cJSON_AddNumberToObject(root, "version", 1);
-        cJSON_AddStringToObject(root, "length_unit", tram_unit_length_name(lu));
-        if (needs_angle) cJSON_AddStringToObject(root, "angle_unit", tram_unit_angle_name(au));
+        tram__jb_str(jp, root, "format", "tram-records");
+        tram__jb_num(jp, root, "version", 1);
+        tram__jb_str(jp, root, "length_unit", tram_unit_length_name(lu));
+        if (needs_angle) tram__jb_str(jp, root, "angle_unit", tram_unit_angle_name(au));
         for (int b = 0; b < 2; b++) {
             if (!r->has_block[b]) continue;
             char key[32];
             if (rep->kind == TRAM_REP_EULER) {
                 snprintf(key, sizeof key, "%s_euler", blocks[b]);
-                cJSON_AddStringToObject(root, key, tram_euler_name(rep->euler));
+                tram__jb_str(jp, root, key, tram_euler_name(rep->euler));
             }
             snprintf(key, sizeof key, "%s_pose", blocks[b]);
-            cJSON_AddStringToObject(root, key, b == 0 ? "flange-in-base" : "target-in-sensor");
+            tram__jb_str(jp, root, key, b == 0 ? "flange-in-base" : "target-in-sensor");
         }
         if (r->setup != TRAM_SETUP_UNSET)
-            cJSON_AddStringToObject(root, "setup", tram_setup_name(r->setup));
-        cJSON *arr = cJSON_AddArrayToObject(root, "stations");
+            tram__jb_str(jp, root, "setup", tram_setup_name(r->setup));
+        cJSON *arr = tram__jb_arr(jp, root, "stations");
         for (size_t i = 0; arr && i < r->count; i++) {
             const tram_station *s = &r->stations[i];
-            cJSON *so = cJSON_CreateObject();
-            if (!so) break;
-            cJSON_AddItemToArray(arr, so);
-            cJSON_AddStringToObject(so, "station", s->id);
+            cJSON *so = tram__jb_obj(jp, arr, NULL);
+            tram__jb_str(jp, so, "station", s->id);
             for (int b = 0; b < 2; b++) {
                 if (!r->has_block[b]) continue;
-                cJSON *bo = cJSON_AddObjectToObject(so, blocks[b]);
+                cJSON *bo = tram__jb_obj(jp, so, blocks[b]);
                 double v[TRAM_RAW_MAX];
                 pose_numbers(block_pose(s, b), rep, lscale, per_rad, v);
                 for (int k = 0; bo && k < nslot; k++)
-                    put_num(bo, tram__rep_slot_name(rep->kind, k), v[k] == 0.0 ? 0.0 : v[k]);
+                    tram__jb_num(jp, bo, tram__rep_slot_name(rep->kind, k), v[k]);
             }
         }
-        char *text = cJSON_Print(root);
-        cJSON_Delete(root);
-        if (!text) return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
+        char *text;
+        tram_status st = tram__jb_finish(jp, root, 1, 1, &text, err);
+        if (st != TRAM_OK) return st;
         fputs(text, f);
-        fputc('\n', f);
-        cJSON_free(text);
+        tram__free(text);
     }
     if (ferror(f)) return tram__fail(err, TRAM_EIO, NULL, 0, 0, "write error");
     return TRAM_OK;

@@ -145,8 +145,15 @@ void tram_so3_nearest(const tram_mat3 *M, tram_mat3 *out)
             A[i * 3 + j] = M->m[i][j];
             if (M->m[i][j] != 0.0 || !isfinite(M->m[i][j])) zero = 0;
         }
-    if (zero || tram__svd(3, 3, A, U, s, Vt) != TRAM_OK) {
+    if (zero) {
         tram_so3_identity(out);
+        return;
+    }
+    if (tram__svd(3, 3, A, U, s, Vt) != TRAM_OK) {
+        /* NaN or Inf in M, or LAPACK out of memory: NaN, so that the
+         * failure can never pass as a rotation. */
+        for (int i = 0; i < 3; i++)
+            for (int j = 0; j < 3; j++) out->m[i][j] = NAN;
         return;
     }
     tram_mat3 Um, Vm;

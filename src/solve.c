@@ -178,12 +178,15 @@ tram_status tram__quick_fit(const tram_se3 *P, const tram_se3 *S, size_t n, doub
     return st;
 }
 
-static void stats_of(const double *v, const int *skip, size_t n, double f, tram_stats *out)
+/* RMS, median and max of v[i] * f over the stations not skipped;
+ * TRAM_ENOMEM (out untouched) when the work copy cannot be had. */
+static tram_status stats_of(const double *v, const int *skip, size_t n, double f,
+                            tram_stats *out)
 {
     double *c = tram__malloc((n ? n : 1) * sizeof *c);
     size_t k = 0;
     double ss = 0, mx = 0;
-    if (!c) return;
+    if (!c) return TRAM_ENOMEM;
     for (size_t i = 0; i < n; i++) {
         if (skip && skip[i]) continue;
         c[k++] = v[i] * f;
@@ -194,6 +197,7 @@ static void stats_of(const double *v, const int *skip, size_t n, double f, tram_
     out->median = tram__median(c, k);
     out->max = mx;
     tram__free(c);
+    return TRAM_OK;
 }
 
 /* Outlier rule on residual norms of 3-vectors: flag x_i above
@@ -234,8 +238,11 @@ static tram_status pick_start(const tram_se3 *P, const tram_se3 *S, size_t n,
         }
         residual_norms(P, S, n, &Xs[m], &Zs[m], rot, tr);
         tram_stats a, b;
-        stats_of(rot, NULL, n, 180.0 / TRAM_PI, &a);
-        stats_of(tr, NULL, n, 1.0, &b);
+        if (stats_of(rot, NULL, n, 180.0 / TRAM_PI, &a) != TRAM_OK ||
+            stats_of(tr, NULL, n, 1.0, &b) != TRAM_OK) {
+            last = TRAM_ENOMEM;
+            break;
+        }
         sol->closed_rot_rms_deg[m] = a.rms;
         sol->closed_trans_rms[m] = b.rms;
         med_rot[m] = a.median;
@@ -243,6 +250,8 @@ static tram_status pick_start(const tram_se3 *P, const tram_se3 *S, size_t n,
         ok[m] = 1;
     }
     tram__free(rot);
+    if (last == TRAM_ENOMEM) /* never pick from a partial comparison */
+        return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
     double best_rot = INFINITY, best_tr = INFINITY;
     for (int m = 1; m < TRAM_METHOD_COUNT; m++)
         if (ok[m]) {
@@ -474,10 +483,11 @@ tram_status tram_solve(const tram_records *r, tram_setup setup, const tram_solve
             skip[i] = sol->stations[i].outlier;
             sol->n_outliers += (size_t)skip[i];
         }
-        stats_of(rot, skip, n, 180.0 / TRAM_PI, &sol->rot_deg);
-        stats_of(rot + n, skip, n, 1.0, &sol->trans);
+        tram_status ss = stats_of(rot, skip, n, 180.0 / TRAM_PI, &sol->rot_deg);
+        if (ss == TRAM_OK) ss = stats_of(rot + n, skip, n, 1.0, &sol->trans);
         tram__free(rot);
         tram__free(skip);
+        if (ss != TRAM_OK) goto nomem;
     }
     sol->solved = 1;
     if (sol->n_outliers) {

@@ -46,7 +46,8 @@ TRAM_API double tram_so3_distance(const tram_mat3 *a, const tram_mat3 *b);
 /* Nearest rotation in the Frobenius norm (SVD via LAPACKE, with the sign of
  * the smallest singular direction flipped when det would be -1).  For an
  * input with a repeated smallest singular value and det < 0 the result is
- * one of several equally near rotations.  A zero matrix gives the identity. */
+ * one of several equally near rotations.  A zero matrix gives the identity;
+ * a matrix holding NaN or Inf (or LAPACK out of memory) gives all NaN. */
 TRAM_API void tram_so3_nearest(const tram_mat3 *M, tram_mat3 *out);
 
 /* Largest deviation of R from a rotation: max(|R^T R - I|_max, |det R - 1|). */
