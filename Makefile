@@ -137,13 +137,18 @@ fuzz: deps fuzz-bin
 	done; \
 	if [ -n "$$failed" ]; then echo "fuzz: crashes in$$failed"; exit 1; fi
 
-# Benchmarks (not tests): make bench.
-$(B)/bench_solve: bench/bench_solve.c $(B)/libtram.a
+# Benchmarks (not tests): make bench.  Each program writes its own JSON
+# array; bench/merge.py joins them into $(B)/bench.json.
+BENCHES := register solve records
+$(B)/bench_%: bench/bench_%.c $(B)/libtram.a
 	@echo "  CC      $<"
 	@$(CC) $(BASEFLAGS) -O2 $(PKG_CFLAGS) $< -o $@ $(B)/libtram.a $(PKG_LIBS)
 
-bench: deps $(B)/bench_solve
-	$(B)/bench_solve $(B)/bench.json
+bench: deps $(patsubst %,$(B)/bench_%,$(BENCHES))
+	$(B)/bench_register $(B)/bench_register.json bench/ref_register_numpy.py $(B)/bench_pairs.bin
+	$(B)/bench_solve $(B)/bench_solve.json
+	$(B)/bench_records $(B)/bench_records.json $(B)
+	@$(PYTHON) bench/merge.py $(B)/bench.json $(patsubst %,$(B)/bench_%.json,$(BENCHES))
 
 # Unit tests (cmocka), one binary per module.
 unit: $(TESTS)

@@ -3,7 +3,8 @@
  * robust refinement; convention checks off) on synthetic eye-in-hand
  * stations at 10, 100, 1,000 and 10,000 stations, and of the bootstrap
  * (1,000 resamples at 30 stations).  Prints a table and writes
- * build/bench.json (one object per measurement).  A benchmark, not a test:
+ * a JSON array (one object per measurement; make bench merges it into
+ * build/bench.json).  A benchmark, not a test:
  * `make bench`.
  */
 #include <math.h>
@@ -108,7 +109,7 @@ static double time_solve(const tram_records *r, size_t bootstrap, int reps)
 
 int main(int argc, char **argv)
 {
-    const char *json = argc > 1 ? argv[1] : "build/bench.json";
+    const char *json = argc > 1 ? argv[1] : "build/bench_solve.json";
     FILE *f = fopen(json, "w");
     if (!f) return 1;
     fprintf(f, "[\n");
