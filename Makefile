@@ -15,7 +15,10 @@ CC      ?= cc
 PYTHON  := /usr/bin/python3
 
 DEB_PKGS := liblapacke-dev libopenblas-dev libpng-dev libcjson-dev libcmocka-dev \
-            libcairo2-dev libfontconfig-dev pkg-config python3-numpy python3-scipy
+            libcairo2-dev libfontconfig-dev pkg-config python3-numpy python3-scipy \
+            clang libclang-rt-14-dev valgrind
+# only for make coverage
+COV_PKGS := gcovr
 PC_LIBS  := lapacke openblas libcjson cairo fontconfig libpng
 PC_TEST  := cmocka libcjson
 
@@ -41,13 +44,15 @@ FUZZ_NAMES := $(patsubst fuzz/fuzz_%.c,%,$(FUZZ_SRC))
 FUZZ_SECONDS ?= 60
 
 .PHONY: all deps test unit cli-tests ref-tests asan clang-check demo install install-check clean tools bench \
-        fuzz fuzz-lib fuzz-bin fuzz-replay
+        fuzz fuzz-lib fuzz-bin fuzz-replay coverage valgrind
 
 all: $(B)/tram $(B)/libtram.a $(B)/libtram.so
 
+# NEED: the packages to make sure of (default: those of build and test).
+NEED ?= $(DEB_PKGS)
 deps:
 	@missing=""; \
-	for p in $(DEB_PKGS); do \
+	for p in $(NEED); do \
 	  dpkg-query -W -f='$${Status}' $$p 2>/dev/null | grep -q 'ok installed' || missing="$$missing $$p"; \
 	done; \
 	if [ -n "$$missing" ]; then \
@@ -137,6 +142,33 @@ fuzz: deps fuzz-bin
 	done; \
 	if [ -n "$$failed" ]; then echo "fuzz: crashes in$$failed"; exit 1; fi
 
+# Line and branch coverage of src/ (gcovr) over the unit, command-line and
+# corpus-replay tests, built with --coverage in build-cov/.  docs/coverage.md
+# says what is not covered and why.
+coverage:
+	@$(MAKE) --no-print-directory deps NEED="$(DEB_PKGS) $(COV_PKGS)"
+	@rm -rf build-cov
+	@$(MAKE) --no-print-directory B=build-cov OPT="-O0 -g" EXTRA_CFLAGS="--coverage" \
+	  EXTRA_LDFLAGS="--coverage" unit cli-tests fuzz-replay >build-cov.log 2>&1 \
+	  || { tail -30 build-cov.log; exit 1; }
+	@mv build-cov.log build-cov/tests.log
+	@gcovr -r . --filter 'src/' --object-directory build-cov --branches \
+	  --txt build-cov/coverage-branches.txt >/dev/null
+	@gcovr -r . --filter 'src/' --object-directory build-cov \
+	  --txt build-cov/coverage.txt --print-summary | tail -3
+	@echo "per file: build-cov/coverage.txt (lines), build-cov/coverage-branches.txt (branches)"
+
+# The unit tests under valgrind's memcheck: no invalid access, no leak.
+VALGRIND := valgrind --quiet --error-exitcode=99 --leak-check=full --errors-for-leak-kinds=definite,indirect \
+            --suppressions=tests/valgrind.supp
+valgrind: $(TESTS)
+	@set -e; for t in $(TESTS); do \
+	  echo "== valgrind $$t"; \
+	  OPENBLAS_NUM_THREADS=1 TRAM_ALLOC_SAMPLES=25 $(VALGRIND) $$t >$$t.valgrind.log 2>&1 \
+	    || { tail -40 $$t.valgrind.log; echo "valgrind: $$t failed"; exit 1; }; \
+	  grep -E '^\[  (PASSED|FAILED)' $$t.valgrind.log; \
+	done; echo "valgrind: $(words $(TESTS)) passed, 0 failed"
+
 # Benchmarks (not tests): make bench.  Each program writes its own JSON
 # array; bench/merge.py joins them into $(B)/bench.json.
 BENCHES := register solve records
@@ -185,6 +217,7 @@ test:
 	@$(MAKE) --no-print-directory ref-tests
 	@$(MAKE) --no-print-directory install-check
 	@$(MAKE) --no-print-directory asan
+	@$(MAKE) --no-print-directory fuzz FUZZ_SECONDS=5
 	@echo "make test: all suites passed"
 
 demo:

@@ -89,9 +89,13 @@ static void exhaust_mode(const char *name, op_fn op, int strict)
     tram_status st = op(&err);
     if (st != TRAM_OK) fail_msg("%s: fails without injected failures: %s", name, err.message);
     long total = calls, nomem = 0, degraded = 0;
-    /* Every allocation up to 3000; beyond that an even sample of 40
-     * (the convention checks make about a hundred solves). */
-    long step = total > 3000 ? total / 40 + 1 : 1, runs = 0;
+    /* Every allocation up to 3000; beyond that an even sample of 40 (the
+     * convention checks make about a hundred solves).  TRAM_ALLOC_SAMPLES
+     * caps the runs per call (make valgrind, where each run is slow). */
+    long cap = total > 3000 ? 40 : 3000;
+    const char *env = getenv("TRAM_ALLOC_SAMPLES");
+    if (env && atol(env) > 0 && atol(env) < cap) cap = atol(env);
+    long step = total > cap ? total / cap + 1 : 1, runs = 0;
     for (long k = 0; k < total; k += step, runs++) {
         fail_at = k;
         calls = failed = 0;

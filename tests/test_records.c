@@ -169,6 +169,67 @@ static void test_json_matches_csv(void **state)
     assert_non_null(strstr(e.message, "newer"));
 }
 
+/* JSON record files that must be refused, each with the station's line and
+ * the JSON path named in the message (docs/records.md). */
+static void test_json_refused(void **state)
+{
+    (void)state;
+#define HEAD "{\"format\": \"tram-records\", \"version\": 1, \"length_unit\": \"mm\",\n"
+#define ROBOT "\"robot\": {\"x\": 1, \"y\": 2, \"z\": 3, \"qw\": 1, \"qx\": 0, \"qy\": 0, \"qz\": 0}"
+#define ST(body) "{\"station\": \"a\", " body "}"
+    static const struct {
+        const char *text, *expect;
+        long line;
+    } bad[] = {
+        {"{\"format\": \"other\"}", "\"format\": expected \"tram-records\"", 1},
+        {"{\"format\": \"tram-records\", \"version\": 1.5}", "\"version\": expected the integer 1", 1},
+        {"{\"format\": \"tram-records\", \"version\": 2}", "newer than this tram", 1},
+        {HEAD "\"setup\": 3}", "\"setup\": expected a string", 0},
+        {HEAD "\"colour\": \"red\"}", "unknown key \"colour\"", 0},
+        {HEAD "\"stations\": []}", "expected a non-empty array", 0},
+        {HEAD "\"stations\": [\n" ST("\"robot\": 5") "]}", "stations[0].robot: expected an object", 3},
+        {HEAD "\"stations\": [\n" ST("\"joints\": []") "]}", "stations[0].joints: expected an array", 3},
+        {HEAD "\"stations\": [\n" ST("\"pose\": {}") "]}", "stations[0]: expected \"robot\"", 3},
+        {HEAD "\"stations\": [\n" ST(ROBOT) ",\n 7]}", "stations[1]: expected an object", 0},
+        {HEAD "\"stations\": [\n" ST(ROBOT) ",\n{\"station\": \"\", " ROBOT "}]}",
+         "stations[1].station: expected a non-empty string", 4},
+        {HEAD "\"stations\": [\n" ST(ROBOT) ",\n{\"station\": \"b\", \"extra\": 1, " ROBOT "}]}",
+         "stations[1]: unknown key \"extra\"", 4},
+        {HEAD "\"stations\": [\n" ST(ROBOT) ",\n{\"station\": \"b\", " ROBOT ", \"sensor\": {}}]}",
+         "stations[1].sensor: not in the first station", 4},
+        {HEAD "\"stations\": [\n" ST(ROBOT) ",\n{\"station\": \"b\"}]}",
+         "stations[1].robot: missing", 4},
+        {HEAD "\"stations\": [\n" ST(ROBOT) ",\n{\"station\": \"b\", \"robot\": {\"x\": 1}}]}",
+         "stations[1].robot: 1 keys, expected 7", 4},
+        {HEAD "\"stations\": [\n" ST(ROBOT) ",\n{\"station\": \"b\", \"robot\": {\"x\": 1, \"y\": 2, "
+              "\"z\": 3, \"rx\": 1, \"qx\": 0, \"qy\": 0, \"qz\": 0}}]}",
+         "stations[1].robot.qw: missing", 4},
+        {HEAD "\"stations\": [\n" ST(ROBOT) ",\n{\"station\": \"b\", \"robot\": {\"x\": \"1\", \"y\": 2, "
+              "\"z\": 3, \"qw\": 1, \"qx\": 0, \"qy\": 0, \"qz\": 0}}]}",
+         "stations[1].robot.x: expected a finite number", 4},
+        {HEAD "\"angle_unit\": \"deg\", \"stations\": [\n" ST("\"joints\": [1, 2]") ",\n"
+              "{\"station\": \"b\", \"joints\": [1]}]}",
+         "stations[1].joints: expected 2 joint readings", 4},
+        {HEAD "\"angle_unit\": \"deg\", \"stations\": [\n" ST("\"joints\": [1, 2]") ",\n"
+              "{\"station\": \"b\", \"joints\": [1, null]}]}",
+         "stations[1].joints[1]: expected a finite number", 4},
+    };
+#undef HEAD
+#undef ROBOT
+#undef ST
+    for (size_t i = 0; i < sizeof bad / sizeof bad[0]; i++) {
+        tram_records *r = (tram_records *)1;
+        tram_error e;
+        tram_status st = tram_records_read_buffer("r.json", bad[i].text, strlen(bad[i].text), NULL,
+                                                  &r, &e);
+        if (st != TRAM_EINPUT || r != NULL || !strstr(e.message, bad[i].expect))
+            fail_msg("case %zu: status %d, message '%s'", i, (int)st, e.message);
+        if (bad[i].line && e.line != bad[i].line)
+            fail_msg("case %zu: line %ld, expected %ld (%s)", i, e.line, bad[i].line, e.message);
+        assert_string_equal(e.file, "r.json");
+    }
+}
+
 static void test_write_round_trip(void **state)
 {
     (void)state;
@@ -223,7 +284,8 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_csv_basic),        cmocka_unit_test(test_directions),
         cmocka_unit_test(test_bad_inputs),       cmocka_unit_test(test_matrix_reortho),
-        cmocka_unit_test(test_json_matches_csv), cmocka_unit_test(test_write_round_trip),
+        cmocka_unit_test(test_json_matches_csv), cmocka_unit_test(test_json_refused),
+        cmocka_unit_test(test_write_round_trip),
         cmocka_unit_test(test_rebuild_quat_order)};
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
