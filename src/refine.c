@@ -310,18 +310,19 @@ tram_status tram__refine_covariance(const tram_refine_problem *pb, const double 
     return TRAM_OK;
 }
 
-double tram__refine_chi2(const tram_refine_problem *pb, const double *station_w,
-                         const tram_se3 *X, const tram_se3 *Z)
+tram_status tram__refine_chi2(const tram_refine_problem *pb, const double *station_w,
+                              const tram_se3 *X, const tram_se3 *Z, double *chi2)
 {
     double *buf = tram__malloc(maxdim(pb) * sizeof *buf);
-    if (!buf) return NAN;
+    if (!buf) return TRAM_ENOMEM;
     double c = 0;
     for (size_t i = 0; i < nblocks(pb); i++) {
         double w = station_w ? station_w[i] : 1.0;
         if (w > 0) c += w * block_cost(pb, i, X, Z, buf, NULL);
     }
     tram__free(buf);
-    return c;
+    *chi2 = c;
+    return TRAM_OK;
 }
 
 static int cmp_double(const void *a, const void *b)
@@ -370,7 +371,15 @@ tram_status tram__refine_bootstrap(const tram_refine_problem *pb, const double *
         if (progress) progress(ctx, "bootstrap", b + 1, resamples);
         if (distinct < 3) continue;
         tram_se3 Xb = *X, Zb = *Z;
-        if (lm(pb, w, 30, &Xb, &Zb, NULL) != TRAM_OK) continue;
+        tram_status bs = lm(pb, w, 30, &Xb, &Zb, NULL);
+        if (bs == TRAM_ENOMEM) { /* not a failed resample: stop, do not under-report */
+            tram__free(in);
+            tram__free(w);
+            tram__free(dev);
+            tram__free(col);
+            return bs;
+        }
+        if (bs != TRAM_OK) continue;
         tram_mat3 R, Rt, D;
         double t[3], wv[3];
         double *d = dev + good * NP;

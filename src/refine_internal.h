@@ -47,9 +47,10 @@ tram_status tram__refine_run(const tram_refine_problem *pb, const double *statio
 tram_status tram__refine_covariance(const tram_refine_problem *pb, const double *station_w,
                                     const tram_se3 *X, const tram_se3 *Z, double scale2,
                                     double cov[144], double *condition);
-/* Weighted chi-square of the residuals. */
-double tram__refine_chi2(const tram_refine_problem *pb, const double *station_w,
-                         const tram_se3 *X, const tram_se3 *Z);
+/* Weighted chi-square of the residuals into *chi2; TRAM_ENOMEM when the
+ * work buffer cannot be had. */
+tram_status tram__refine_chi2(const tram_refine_problem *pb, const double *station_w,
+                              const tram_se3 *X, const tram_se3 *Z, double *chi2);
 /* Station bootstrap: per-parameter standard deviation and 2.5 / 97.5
  * percentiles of the resampled solutions' deviations from (X, Z). */
 tram_status tram__refine_bootstrap(const tram_refine_problem *pb, const double *station_w,

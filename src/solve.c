@@ -94,22 +94,51 @@ tram_status tram__station_poses(const tram_records *r, tram_setup setup, tram_se
     return TRAM_OK;
 }
 
-static int cmp_double(const void *a, const void *b)
+/* Order-preserving key of a double: negative numbers have every bit
+ * flipped, others the sign bit set, so that unsigned order is numeric
+ * order (-0 sorts just below +0). */
+static unsigned long long order_key(double x)
 {
-    double x = *(const double *)a, y = *(const double *)b;
-    return (x > y) - (x < y);
+    unsigned long long u;
+    memcpy(&u, &x, sizeof u);
+    return (u >> 63) ? ~u : (u | 0x8000000000000000ULL);
 }
+
+static double from_order_key(unsigned long long k)
+{
+    unsigned long long u = (k >> 63) ? (k & 0x7FFFFFFFFFFFFFFFULL) : ~k;
+    double x;
+    memcpy(&x, &u, sizeof x);
+    return x;
+}
+
+double tram__kth(size_t n, double (*get)(const void *ctx, size_t i), const void *ctx, size_t k)
+{
+    /* Decide the result's key bit by bit from the top: count the values
+     * that share the bits decided so far and have a 0 in this one. */
+    unsigned long long prefix = 0;
+    for (int b = 63; b >= 0; b--) {
+        unsigned long long bit = 1ULL << b, above = b == 63 ? 0 : ~((bit << 1) - 1);
+        size_t zeros = 0;
+        for (size_t i = 0; i < n; i++) {
+            unsigned long long key = order_key(get(ctx, i));
+            zeros += (key & above) == prefix && !(key & bit);
+        }
+        if (k >= zeros) {
+            k -= zeros;
+            prefix |= bit;
+        }
+    }
+    return from_order_key(prefix);
+}
+
+static double array_get(const void *ctx, size_t i) { return ((const double *)ctx)[i]; }
 
 double tram__median(const double *v, size_t n)
 {
     if (n == 0) return 0.0;
-    double *c = tram__malloc(n * sizeof *c);
-    if (!c) return NAN;
-    memcpy(c, v, n * sizeof *c);
-    qsort(c, n, sizeof *c, cmp_double);
-    double m = n % 2 ? c[n / 2] : 0.5 * (c[n / 2 - 1] + c[n / 2]);
-    tram__free(c);
-    return m;
+    double hi = tram__kth(n, array_get, v, n / 2);
+    return n % 2 ? hi : 0.5 * (tram__kth(n, array_get, v, n / 2 - 1) + hi);
 }
 
 double tram__robust_sigma3(const double *norms, size_t n)
@@ -117,17 +146,25 @@ double tram__robust_sigma3(const double *norms, size_t n)
     return tram__median(norms, n) / CHI3_MEDIAN_SQRT;
 }
 
+/* Distances from their frames' origins of the flange (even i) and of the
+ * target (odd i): the lengths whose median sets the problem's scale. */
+typedef struct scale_ctx {
+    const tram_se3 *P, *S;
+} scale_ctx;
+
+static double origin_distance(const void *ctx, size_t i)
+{
+    const scale_ctx *c = ctx;
+    const tram_se3 *T = i % 2 ? &c->S[i / 2] : &c->P[i / 2];
+    return sqrt(tram__sq(T->m[0][3]) + tram__sq(T->m[1][3]) + tram__sq(T->m[2][3]));
+}
+
 static double length_scale(const tram_se3 *P, const tram_se3 *S, size_t n)
 {
-    double *v = tram__malloc((2 * n + 1) * sizeof *v);
-    if (!v) return 1.0;
-    for (size_t i = 0; i < n; i++) {
-        v[2 * i] = sqrt(tram__sq(P[i].m[0][3]) + tram__sq(P[i].m[1][3]) + tram__sq(P[i].m[2][3]));
-        v[2 * i + 1] =
-            sqrt(tram__sq(S[i].m[0][3]) + tram__sq(S[i].m[1][3]) + tram__sq(S[i].m[2][3]));
-    }
-    double m = tram__median(v, 2 * n);
-    tram__free(v);
+    if (n == 0) return 1.0;
+    scale_ctx c = {P, S};
+    double hi = tram__kth(2 * n, origin_distance, &c, n);
+    double m = 0.5 * (tram__kth(2 * n, origin_distance, &c, n - 1) + hi);
     return m > 0 ? m : 1.0;
 }
 
@@ -355,11 +392,15 @@ static tram_status refine_all(const tram_se3 *P, const tram_se3 *S, size_t n,
         sol->noise_angle_deg = pb.sigma_angle * 180.0 / TRAM_PI;
         sol->noise_length = pb.sigma_length;
         sol->noise_given = given;
-        double chi2 = tram__refine_chi2(&pb, w, &sol->X, &sol->Z);
+        double chi2 = 0;
+        st = tram__refine_chi2(&pb, w, &sol->X, &sol->Z, &chi2);
         double dof = 6.0 * (double)nin - 12.0;
         double s2 = dof > 0 ? chi2 / dof : 1.0;
-        if (tram__refine_covariance(&pb, w, &sol->X, &sol->Z, s2, sol->unc.cov,
-                                    &sol->condition) == TRAM_OK) {
+        tram_status cs = st == TRAM_OK ? tram__refine_covariance(&pb, w, &sol->X, &sol->Z, s2,
+                                                                 sol->unc.cov, &sol->condition)
+                                       : st;
+        if (cs == TRAM_ENOMEM) st = cs; /* an uncertainty lost to memory is a failure */
+        if (cs == TRAM_OK) {
             sol->unc.valid = 1;
             /* Public order: translation before rotation in each block. */
             double c[144];
@@ -373,7 +414,7 @@ static tram_status refine_all(const tram_se3 *P, const tram_se3 *S, size_t n,
         } else {
             sol->condition = INFINITY;
         }
-        if (opt->bootstrap > 0) {
+        if (st == TRAM_OK && opt->bootstrap > 0) {
             double sg[12], lo[12], hi[12];
             size_t used = 0;
             st = tram__refine_bootstrap(&pb, w, &sol->X, &sol->Z, opt->bootstrap, opt->seed,

@@ -18,8 +18,14 @@ tram_status tram__diag_add(tram_solution *s, const char *code, tram_severity sev
 tram_status tram__station_poses(const tram_records *r, tram_setup setup, tram_se3 **P,
                                 tram_se3 **S);
 
-/* Median of n values (copied; the input is not reordered).  0 for n = 0. */
+/* Median of n values (the input is not reordered, and nothing is
+ * allocated: a radix selection, tram__kth).  0 for n = 0. */
 double tram__median(const double *v, size_t n);
+
+/* The k-th smallest (0-based, k < n) of the n values get(ctx, 0 .. n-1),
+ * by a bitwise radix selection over the values' order-preserving 64-bit
+ * keys: 64 passes of n calls, no allocation, exact. */
+double tram__kth(size_t n, double (*get)(const void *ctx, size_t i), const void *ctx, size_t k);
 
 /* Robust per-axis noise from per-station residual norms of 3-vectors:
  * median / sqrt(median of chi-square with 3 dof). */

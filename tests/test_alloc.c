@@ -2,7 +2,8 @@
  * of the library, and every allocation cJSON makes for it, is made to fail
  * in turn, and each call must then return an error - never crash, never
  * report success with part of its work missing, never leak (the ASan build
- * of `make test` and `make valgrind` check the leaks).
+ * of `make test` and `make valgrind` check the leaks).  Only the frames
+ * picture may degrade instead (see test_writers_and_solvers).
  *
  * This file defines tram__malloc, tram__calloc, tram__realloc and
  * tram__free itself, so the linker takes these instead of alloc.o from
@@ -344,9 +345,11 @@ static void test_writers_and_solvers(void **state)
 {
     (void)state;
     exhaust("records write", op_records_write);
-    exhaust_mode("solve + bootstrap + calibration JSON", op_solve, 0);
-    exhaust_mode("solve with convention checks", op_solve_conventions, 0);
-    exhaust_mode("check + JSON", op_check, 0);
+    exhaust("solve + bootstrap + calibration JSON", op_solve);
+    exhaust("solve with convention checks", op_solve_conventions);
+    exhaust("check + JSON", op_check);
+    /* The frames picture falls back to a unit view box when its scene
+     * buffer cannot be had: a worse picture, not a wrong number. */
     exhaust_mode("plot frames", op_plot, 0);
 }
 
