@@ -4,6 +4,8 @@
 
 #include <cjson/cJSON.h>
 
+#include "solve_internal.h"
+
 typedef struct synth {
     size_t n;
     tram_se3 X, Z;          /* truth: T_flange_sensor, T_base_target */
@@ -347,6 +349,39 @@ static void test_json_schema(void **state)
     tram_records_destroy(r);
 }
 
+static int cmp_dbl(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return (x > y) - (x < y);
+}
+
+static double get_dbl(const void *ctx, size_t i) { return ((const double *)ctx)[i]; }
+
+/* The allocation-free median (radix selection) against sorting: random
+ * values of both signs over many magnitudes, ties, zeros of both signs. */
+static void test_median_selection(void **state)
+{
+    (void)state;
+    test_rng r = test_rng_seeded("median", 7010);
+    double v[257], c[257];
+    for (int trial = 0; trial < 200; trial++) {
+        size_t n = 1 + (size_t)(test_rng_uniform(&r) * 257);
+        for (size_t i = 0; i < n; i++) {
+            double u = test_rng_uniform(&r);
+            v[i] = u < 0.1 ? 0.0 : u < 0.15 ? -0.0 : u < 0.3 ? 3.5 : test_rng_normal(&r) * pow(10, 8 * (u - 0.6));
+        }
+        memcpy(c, v, n * sizeof *v);
+        qsort(c, n, sizeof *c, cmp_dbl);
+        double want = n % 2 ? c[n / 2] : 0.5 * (c[n / 2 - 1] + c[n / 2]);
+        double got = tram__median(v, n);
+        if (!(got == want)) fail_msg("trial %d (n %zu): median %.17g, sorting gives %.17g", trial, n, got, want);
+        size_t k = (size_t)(test_rng_uniform(&r) * (double)n);
+        assert_true(tram__median(v, n) == want); /* input not reordered */
+        assert_true(tram__kth(n, get_dbl, v, k) == c[k]);
+    }
+    assert_true(tram__median(v, 0) == 0.0);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -354,6 +389,6 @@ int main(void)
         cmocka_unit_test(test_refined_beats_closed_forms), cmocka_unit_test(test_interval_coverage),
         cmocka_unit_test(test_bootstrap_agrees),   cmocka_unit_test(test_outlier_flagged),
         cmocka_unit_test(test_planar_motion_undetermined), cmocka_unit_test(test_eye_to_hand),
-        cmocka_unit_test(test_json_schema)};
+        cmocka_unit_test(test_json_schema), cmocka_unit_test(test_median_selection)};
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
