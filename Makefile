@@ -172,7 +172,7 @@ valgrind: $(TESTS)
 # Benchmarks (not tests): make bench.  Each program writes its own JSON
 # array; bench/merge.py joins them into $(B)/bench.json.
 BENCHES := register solve records
-$(B)/bench_%: bench/bench_%.c $(B)/libtram.a
+$(B)/bench_%: bench/bench_%.c bench/bench_util.h $(B)/libtram.a
 	@echo "  CC      $<"
 	@$(CC) $(BASEFLAGS) -O2 $(PKG_CFLAGS) $< -o $@ $(B)/libtram.a $(PKG_LIBS)
 

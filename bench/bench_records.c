@@ -14,13 +14,7 @@
 #include <time.h>
 
 #include "tram/tram.h"
-
-static double now(void)
-{
-    struct timespec ts;
-    clock_gettime(CLOCK_MONOTONIC, &ts);
-    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
-}
+#include "bench_util.h"
 
 /* n stations with varied poses, written by the library's own writer. */
 static char *generate(size_t n, int json, size_t *len)

@@ -25,30 +25,11 @@
 #include <time.h>
 
 #include "tram/tram.h"
+#include "bench_util.h"
 
 #define THREADS 2
 #define REPS 5
 
-static uint64_t state = 20261202;
-static double uniform(void)
-{
-    uint64_t z = (state += 0x9E3779B97F4A7C15ULL);
-    z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9ULL;
-    z = (z ^ (z >> 27)) * 0x94D049BB133111EBULL;
-    return (double)((z ^ (z >> 31)) >> 11) * (1.0 / 9007199254740992.0);
-}
-static double normal(void)
-{
-    double u1 = uniform(), u2 = uniform();
-    return sqrt(-2.0 * log(u1 > 1e-300 ? u1 : 1e-300)) * cos(6.283185307179586 * u2);
-}
-
-static double now(void)
-{
-    struct timespec ts;
-    clock_gettime(CLOCK_MONOTONIC, &ts);
-    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
-}
 
 /* --- memory read bandwidth: THREADS threads each sum a share ---------- */
 typedef struct share {
@@ -152,7 +133,7 @@ int main(int argc, char **argv)
     for (int k = 0; k < 3; k++) {
         size_t n = sizes[k];
         double *from = xy, *to = xy + 3 * n;
-        state = 20261202;
+        bench_state = 20261202;
         for (size_t i = 0; i < n; i++) {
             double *x = from + 3 * i, *y = to + 3 * i;
             x[0] = 1000 + 2000 * (uniform() - 0.5);

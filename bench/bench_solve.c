@@ -15,20 +15,8 @@
 #include <time.h>
 
 #include "tram/tram.h"
+#include "bench_util.h"
 
-static uint64_t state = 12345;
-static double uniform(void)
-{
-    uint64_t z = (state += 0x9E3779B97F4A7C15ULL);
-    z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9ULL;
-    z = (z ^ (z >> 27)) * 0x94D049BB133111EBULL;
-    return (double)((z ^ (z >> 31)) >> 11) * (1.0 / 9007199254740992.0);
-}
-static double normal(void)
-{
-    double u1 = uniform(), u2 = uniform();
-    return sqrt(-2.0 * log(u1 > 1e-300 ? u1 : 1e-300)) * cos(6.283185307179586 * u2);
-}
 
 static void noisy(tram_se3 *T, double srad, double slen)
 {
@@ -76,13 +64,6 @@ static tram_records *make(size_t n)
         snprintf(r->stations[i].id, sizeof r->stations[i].id, "%zu", i + 1);
     }
     return r;
-}
-
-static double now(void)
-{
-    struct timespec ts;
-    clock_gettime(CLOCK_MONOTONIC, &ts);
-    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
 }
 
 static double time_solve(const tram_records *r, size_t bootstrap, int reps)
