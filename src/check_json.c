@@ -109,8 +109,10 @@ static double parse_utc(const char *s)
     }
     if (*s) return -1;
     long Y = f[0], M = f[1], D = f[2];
-    static const int mdays[12] = {31, 29, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31};
-    if (M < 1 || M > 12 || D < 1 || D > mdays[M - 1] || f[3] > 23 || f[4] > 59 || f[5] > 60)
+    static const int mdays[12] = {31, 28, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31};
+    int leap = (Y % 4 == 0 && Y % 100 != 0) || Y % 400 == 0;
+    if (M < 1 || M > 12 || D < 1 || D > mdays[M - 1] + (M == 2 && leap) || f[3] > 23 ||
+        f[4] > 59 || f[5] > 60)
         return -1;
     /* days from civil (Hinnant, "chrono-compatible low-level date algorithms") */
     Y -= M <= 2;

@@ -341,6 +341,7 @@ static void test_history_refused(void **state)
     } bad[] = {
         {"{\"timestamp_utc\":\"2026-13-01T22:40:00Z\",\"verdict\":\"ok\"}", "timestamp_utc", 0},
         {"{\"timestamp_utc\":\"2026-12-01 22:40:00\",\"verdict\":\"ok\"}", "timestamp_utc", 0},
+        {"{\"timestamp_utc\":\"2026-02-29T22:40:00Z\",\"verdict\":\"ok\"}", "timestamp_utc", 0},
         {"{\"timestamp_utc\":\"2026-12-01T22:40:00Z\",\"verdict\":\"fine\"}", "verdict", 0},
         {"{\"timestamp_utc\":\"2026-12-01T22:40:00Z\",\"verdict\":\"ok\",\"change\":{}}",
          "length_unit", 0},
@@ -375,6 +376,14 @@ static void test_history_refused(void **state)
     assert_true(fabs(h->translation_norm[1] - 0.0025) < 1e-15);
     assert_int_equal(h->verdict[1], TRAM_VERDICT_SENSOR_MOVED);
     assert_true(h->time_s[1] - h->time_s[0] == 4800.0);
+    tram_check_history_destroy(h);
+    /* a leap day: 2028-02-29T00:00:00Z is 1,835,395,200 s after the epoch
+     * (Python datetime(2028,2,29,tzinfo=timezone.utc).timestamp()) */
+    const char *leap = "{\"timestamp_utc\":\"2028-02-29T00:00:00Z\",\"verdict\":\"ok\","
+                       "\"length_unit\":\"mm\",\"change\":{\"translation_norm\":0,"
+                       "\"rotation_angle_deg\":0}}";
+    assert_int_equal(tram_check_history_read_buffer("h.jsonl", leap, strlen(leap), &h, &e), TRAM_OK);
+    assert_true(h->time_s[0] == 1835395200.0);
     tram_check_history_destroy(h);
     assert_int_equal(tram_check_history_read_buffer("h.jsonl", "\n \n", 3, &h, &e), TRAM_EINPUT);
     assert_non_null(strstr(e.message, "no check"));
