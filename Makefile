@@ -16,9 +16,10 @@ PYTHON  := /usr/bin/python3
 
 DEB_PKGS := liblapacke-dev libopenblas-dev libpng-dev libcjson-dev libcmocka-dev \
             libcairo2-dev libfontconfig-dev pkg-config python3-numpy python3-scipy \
-            clang libclang-rt-14-dev valgrind
-# only for make coverage
+            clang libclang-rt-14-dev
+# only for make coverage and make valgrind
 COV_PKGS := gcovr
+VG_PKGS  := valgrind
 PC_LIBS  := lapacke openblas libcjson cairo fontconfig libpng
 PC_TEST  := cmocka libcjson
 
@@ -44,7 +45,7 @@ FUZZ_NAMES := $(patsubst fuzz/fuzz_%.c,%,$(FUZZ_SRC))
 FUZZ_SECONDS ?= 60
 
 .PHONY: all deps test unit cli-tests ref-tests asan clang-check demo install install-check clean tools bench \
-        fuzz fuzz-lib fuzz-bin fuzz-replay coverage valgrind
+        fuzz fuzz-lib fuzz-bin fuzz-replay coverage valgrind valgrind-run
 
 all: $(B)/tram $(B)/libtram.a $(B)/libtram.so
 
@@ -161,7 +162,10 @@ coverage:
 # The unit tests under valgrind's memcheck: no invalid access, no leak.
 VALGRIND := valgrind --quiet --error-exitcode=99 --leak-check=full --errors-for-leak-kinds=definite,indirect \
             --suppressions=tests/valgrind.supp
-valgrind: $(TESTS)
+valgrind:
+	@$(MAKE) --no-print-directory deps NEED="$(DEB_PKGS) $(VG_PKGS)"
+	@$(MAKE) --no-print-directory valgrind-run
+valgrind-run: $(TESTS)
 	@set -e; for t in $(TESTS); do \
 	  echo "== valgrind $$t"; \
 	  OPENBLAS_NUM_THREADS=1 TRAM_ALLOC_SAMPLES=25 $(VALGRIND) $$t >$$t.valgrind.log 2>&1 \
