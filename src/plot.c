@@ -172,50 +172,67 @@ static void view_coords(int view, const double p[3], double *u, double *v)
     }
 }
 
-/* Every point the picture shows, for the common scale. */
-static size_t scene_points(const tram_plot_frames_data *d, double (*pts)[3], size_t cap)
+/* Every point the picture shows, handed to visit one at a time (no
+ * buffer: drawing never fails for want of memory). */
+typedef void (*point_visit)(void *ctx, const double p[3]);
+
+static void scene_points(const tram_plot_frames_data *d, point_visit visit, void *ctx)
 {
-    size_t k = 0;
-    pts[k][0] = pts[k][1] = pts[k][2] = 0;
-    k++;
-    for (size_t i = 0; i < d->n && k + 3 < cap; i++) {
-        for (int a = 0; a < 3; a++) pts[k][a] = d->T_base_flange[i].m[a][3];
-        k++;
+    const double origin[3] = {0, 0, 0};
+    visit(ctx, origin);
+    for (size_t i = 0; i < d->n; i++) {
+        double p[3];
+        for (int a = 0; a < 3; a++) p[a] = d->T_base_flange[i].m[a][3];
+        visit(ctx, p);
         if (d->has_solution) {
             tram_se3 A;
             if (d->setup == TRAM_SETUP_EYE_IN_HAND) tram_se3_compose(&d->T_base_flange[i], &d->X, &A);
             else tram_se3_compose(&d->T_base_flange[i], &d->Z, &A);
-            for (int a = 0; a < 3; a++) pts[k][a] = A.m[a][3];
-            k++;
+            for (int a = 0; a < 3; a++) p[a] = A.m[a][3];
+            visit(ctx, p);
         }
     }
-    if (d->has_solution && k < cap) {
+    if (d->has_solution) {
         const tram_se3 *F = d->setup == TRAM_SETUP_EYE_IN_HAND ? &d->Z : &d->X;
-        for (int a = 0; a < 3; a++) pts[k][a] = F->m[a][3];
-        k++;
+        double p[3] = {F->m[0][3], F->m[1][3], F->m[2][3]};
+        visit(ctx, p);
     }
-    for (size_t i = 0; d->links && i < d->n * d->links_per_station && k < cap; i++, k++)
-        for (int a = 0; a < 3; a++) pts[k][a] = d->links[i].m[a][3];
-    return k;
+    for (size_t i = 0; d->links && i < d->n * d->links_per_station; i++) {
+        double p[3] = {d->links[i].m[0][3], d->links[i].m[1][3], d->links[i].m[2][3]};
+        visit(ctx, p);
+    }
+}
+
+/* The bounds of the scene in each view's coordinates. */
+typedef struct view_bounds {
+    double umin[4], umax[4], vmin[4], vmax[4];
+} view_bounds;
+
+static void widen(void *ctx, const double p[3])
+{
+    view_bounds *b = ctx;
+    for (int view = 0; view < 4; view++) {
+        double u, v;
+        view_coords(view, p, &u, &v);
+        b->umin[view] = fmin(b->umin[view], u);
+        b->umax[view] = fmax(b->umax[view], u);
+        b->vmin[view] = fmin(b->vmin[view], v);
+        b->vmax[view] = fmax(b->vmax[view], v);
+    }
 }
 
 static void frame_views(const tram_plot_frames_data *d, int w, int h, fview v[4], double *extent)
 {
-    size_t cap = 3 * d->n + 8 + (d->links ? d->n * d->links_per_station : 0);
-    double(*pts)[3] = tram__malloc(cap * sizeof *pts);
-    size_t k = pts ? scene_points(d, pts, cap) : 0;
+    view_bounds bd;
+    for (int view = 0; view < 4; view++) {
+        bd.umin[view] = bd.vmin[view] = INFINITY;
+        bd.umax[view] = bd.vmax[view] = -INFINITY;
+    }
+    scene_points(d, widen, &bd);
     double pw = w / 2.0, ph = (h - 60) / 2.0, best = INFINITY, ext = 0;
     for (int view = 0; view < 4; view++) {
-        double umin = INFINITY, umax = -INFINITY, vmin = INFINITY, vmax = -INFINITY;
-        for (size_t i = 0; i < k; i++) {
-            double u, vv;
-            view_coords(view, pts[i], &u, &vv);
-            umin = fmin(umin, u);
-            umax = fmax(umax, u);
-            vmin = fmin(vmin, vv);
-            vmax = fmax(vmax, vv);
-        }
-        if (k == 0) umin = vmin = -1, umax = vmax = 1;
+        double umin = bd.umin[view], umax = bd.umax[view], vmin = bd.vmin[view],
+               vmax = bd.vmax[view];
         double span = fmax(umax - umin, vmax - vmin);
         ext = fmax(ext, span);
         double su = (pw - 90) / fmax(umax - umin, 1e-9), sv = (ph - 90) / fmax(vmax - vmin, 1e-9);
@@ -228,7 +245,6 @@ static void frame_views(const tram_plot_frames_data *d, int w, int h, fview v[4]
     if (!(ext > 0)) ext = 1;
     for (int view = 0; view < 4; view++) v[view].scale = isfinite(best) && best > 0 ? best : 1;
     *extent = ext;
-    tram__free(pts);
 }
 
 void tram_plot_frames_project(const tram_plot_frames_data *d, int width, int height, int view,
