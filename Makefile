@@ -43,6 +43,9 @@ HEADERS := $(wildcard include/tram/*.h) $(wildcard src/*.h) $(wildcard src/cli/*
 FUZZ_SRC   := $(sort $(wildcard fuzz/fuzz_*.c))
 FUZZ_NAMES := $(patsubst fuzz/fuzz_%.c,%,$(FUZZ_SRC))
 FUZZ_SECONDS ?= 60
+# libFuzzer's seed: 0 lets it choose one (printed in build-fuzz/NAME.log);
+# make test fixes it so that its short run is repeatable.
+FUZZ_SEED ?= 0
 
 .PHONY: all deps test unit cli-tests ref-tests asan clang-check demo install install-check clean tools bench \
         fuzz fuzz-lib fuzz-bin fuzz-replay coverage valgrind valgrind-run
@@ -132,7 +135,7 @@ fuzz: deps fuzz-bin
 	  mkdir -p build-fuzz/corpus/$$n; \
 	  dict=""; [ -f fuzz/$$n.dict ] && dict="-dict=fuzz/$$n.dict"; \
 	  if build-fuzz/fuzz_$$n build-fuzz/corpus/$$n fuzz/corpus/$$n $$dict -max_len=16384 \
-	       -max_total_time=$(FUZZ_SECONDS) -timeout=10 -print_final_stats=1 \
+	       -max_total_time=$(FUZZ_SECONDS) -timeout=10 -seed=$(FUZZ_SEED) -print_final_stats=1 \
 	       -artifact_prefix=build-fuzz/crashes/$$n- 2>build-fuzz/$$n.log; then \
 	    echo "fuzz $$n: $(FUZZ_SECONDS) s, $$(sed -n 's/^stat::number_of_executed_units: *//p' build-fuzz/$$n.log) runs, $$(grep -o 'cov: [0-9]*' build-fuzz/$$n.log | tail -1), no crash"; \
 	  else \
@@ -221,7 +224,7 @@ test:
 	@$(MAKE) --no-print-directory ref-tests
 	@$(MAKE) --no-print-directory install-check
 	@$(MAKE) --no-print-directory asan
-	@$(MAKE) --no-print-directory fuzz FUZZ_SECONDS=5
+	@$(MAKE) --no-print-directory fuzz FUZZ_SECONDS=5 FUZZ_SEED=20261202
 	@echo "make test: all suites passed"
 
 demo:
