@@ -112,8 +112,11 @@ $(B)/fuzz/replay_%: fuzz/fuzz_%.c fuzz/replay.c fuzz/fuzz_common.h $(B)/libtram.
 	  $(B)/libtram.a $(EXTRA_LDFLAGS) $(PKG_LIBS)
 
 # Replay every corpus file of every harness (past crashes stay fixed).
+# strict_string_checks: ASan checks whole strings handed to str* functions,
+# so a search that could run past an unterminated buffer is caught.
 fuzz-replay: $(patsubst %,$(B)/fuzz/replay_%,$(FUZZ_NAMES))
-	@set -e; for n in $(FUZZ_NAMES); do $(B)/fuzz/replay_$$n fuzz/corpus/$$n; done
+	@set -e; for n in $(FUZZ_NAMES); do \
+	  ASAN_OPTIONS=strict_string_checks=1 $(B)/fuzz/replay_$$n fuzz/corpus/$$n; done
 
 # libFuzzer (clang): the library built with coverage instrumentation and
 # ASan/UBSan in build-fuzz/, each harness run FUZZ_SECONDS over a working
@@ -134,7 +137,7 @@ fuzz: deps fuzz-bin
 	@failed=""; for n in $(FUZZ_NAMES); do \
 	  mkdir -p build-fuzz/corpus/$$n; \
 	  dict=""; [ -f fuzz/$$n.dict ] && dict="-dict=fuzz/$$n.dict"; \
-	  if build-fuzz/fuzz_$$n build-fuzz/corpus/$$n fuzz/corpus/$$n $$dict -max_len=16384 \
+	  if ASAN_OPTIONS=strict_string_checks=1 build-fuzz/fuzz_$$n build-fuzz/corpus/$$n fuzz/corpus/$$n $$dict -max_len=16384 \
 	       -max_total_time=$(FUZZ_SECONDS) -timeout=10 -seed=$(FUZZ_SEED) -print_final_stats=1 \
 	       -artifact_prefix=build-fuzz/crashes/$$n- 2>build-fuzz/$$n.log; then \
 	    echo "fuzz $$n: $(FUZZ_SECONDS) s, $$(sed -n 's/^stat::number_of_executed_units: *//p' build-fuzz/$$n.log) runs, $$(grep -o 'cov: [0-9]*' build-fuzz/$$n.log | tail -1), no crash"; \

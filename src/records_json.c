@@ -39,9 +39,14 @@ void tram__offset_pos(const char *data, size_t off, long *line, long *col)
  * the text that tracks nesting depth and strings. */
 static void station_lines(const char *data, size_t len, long *lines, size_t n)
 {
-    const char *p = strstr(data, "\"stations\"");
-    if (!p) return;
-    size_t i = (size_t)(p - data) + 10;
+    /* bounded search: data need not be NUL-terminated (found by
+     * fuzz/fuzz_records.c) */
+    static const char key[] = "\"stations\"";
+    const size_t kl = sizeof key - 1;
+    size_t i = 0;
+    while (i + kl <= len && memcmp(data + i, key, kl) != 0) i++;
+    if (i + kl > len) return;
+    i += kl;
     long line = 1;
     for (size_t k = 0; k < i; k++)
         if (data[k] == '\n') line++;
