@@ -5,6 +5,7 @@
  * and the transforms must be rigid.
  */
 #include "tram/check.h"
+#include "json_internal.h"
 #include "records_internal.h"
 
 #include <cjson/cJSON.h>
@@ -94,16 +95,9 @@ tram_status tram_calibration_read_buffer(const char *name, const char *data, siz
                                          tram_calibration **out, tram_error *err)
 {
     *out = NULL;
-    const char *end = NULL;
-    cJSON *root = cJSON_ParseWithLengthOpts(data, len, &end, 0);
-    if (!root) {
-        long l, c;
-        size_t off = end ? (size_t)(end - data) : 0;
-        tram__offset_pos(data, off > len ? len : off, &l, &c);
-        return tram__fail(err, TRAM_EINPUT, name, l, c,
-                          "damaged calibration file: malformed JSON");
-    }
-    tram_status st = TRAM_OK;
+    cJSON *root;
+    tram_status st = tram__json_parse(name, data, len, "damaged calibration file", &root, err);
+    if (st != TRAM_OK) return st;
     tram_calibration *c = tram__calloc(1, sizeof *c);
     if (!c) {
         cJSON_Delete(root);

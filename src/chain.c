@@ -20,6 +20,7 @@
  */
 #include "tram/chain.h"
 #include "tram/rotation.h"
+#include "json_internal.h"
 #include "records_internal.h"
 
 #include <cjson/cJSON.h>
@@ -338,14 +339,9 @@ tram_status tram_chain_read_buffer(const char *name, const char *data, size_t le
                                    tram_chain **out, tram_error *err)
 {
     *out = NULL;
-    const char *end = NULL;
-    cJSON *root = cJSON_ParseWithLengthOpts(data, len, &end, 0);
-    if (!root) {
-        long l, col;
-        size_t off = end ? (size_t)(end - data) : 0;
-        tram__offset_pos(data, off < len ? off : len, &l, &col);
-        return tram__fail(err, TRAM_EINPUT, name, l, col, "malformed JSON: expected a chain object");
-    }
+    cJSON *root;
+    tram_status pst = tram__json_parse(name, data, len, "chain file", &root, err);
+    if (pst != TRAM_OK) return pst;
     tram_chain *c = tram__calloc(1, sizeof *c);
     builder b = {c, 0};
     reader rd = {name, 1.0, err};

@@ -1,5 +1,6 @@
 /*
- * json_internal.h - building the library's JSON documents (solutions,
+ * json_internal.h - reading whole JSON documents strictly, and building
+ * the library's JSON documents (solutions,
  * calibration files, check results, record files) with cJSON so that no
  * failure goes unnoticed: cJSON's "add" calls drop an item silently when an
  * allocation fails, which would write a document with fields missing.
@@ -38,5 +39,12 @@ void tram__jb_matrix4(tram__jb *b, cJSON *parent, const char *key, const tram_se
  * any step of the build failed. */
 tram_status tram__jb_finish(tram__jb *b, cJSON *root, int formatted, int newline, char **text,
                             tram_error *err);
+
+/* Parse one whole JSON document of len bytes (no NUL needed).  On a
+ * syntax error, or text after the document, fail with TRAM_EINPUT naming
+ * name:line:column and "<what>: malformed JSON" / "text after the JSON
+ * document"; *out is NULL then.  The caller deletes *out. */
+tram_status tram__json_parse(const char *name, const char *data, size_t len, const char *what,
+                             cJSON **out, tram_error *err);
 
 #endif

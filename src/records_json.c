@@ -15,6 +15,7 @@
  * name the JSON path (stations[3].robot.qw) and the line where that
  * station's object starts, found by scanning the text.
  */
+#include "json_internal.h"
 #include "records_internal.h"
 
 #include <cjson/cJSON.h>
@@ -84,9 +85,9 @@ tram_status tram__records_read_json(const char *name, const char *data, size_t l
                                     const tram_read_options *opt, tram_records **out,
                                     tram_error *err)
 {
-    tram_status st = TRAM_OK;
-    const char *end = NULL;
-    cJSON *root = cJSON_ParseWithLengthOpts(data, len, &end, 0);
+    cJSON *root;
+    tram_status st = tram__json_parse(name, data, len, "record file", &root, err);
+    if (st != TRAM_OK) return st;
     tram_records *r = NULL;
     const char **names = NULL;
     long *lines = NULL;
@@ -96,13 +97,6 @@ tram_status tram__records_read_json(const char *name, const char *data, size_t l
     memset(&d, 0, sizeof d);
     d.euler[0] = d.euler[1] = TRAM_EULER_UNSET;
 
-    if (!root) {
-        long l, c;
-        size_t off = end ? (size_t)(end - data) : 0;
-        if (off > len) off = len;
-        tram__offset_pos(data, off, &l, &c);
-        return tram__fail(err, TRAM_EINPUT, name, l, c, "malformed JSON: expected a record object");
-    }
     if (!cJSON_IsObject(root)) {
         st = tram__fail(err, TRAM_EINPUT, name, 1, 1, "expected a JSON object at the top level");
         goto done;

@@ -234,6 +234,15 @@ static void test_calibration_refused(void **state)
     assert_int_equal(tram_calibration_read_buffer("c.json", t2, strlen(t2), &cal, &e), TRAM_EINPUT);
     assert_non_null(strstr(e.message, "newer"));
     free(t2);
+    /* damaged: a second document after the first (text after the JSON) */
+    size_t tl = strlen(text);
+    char *twice = malloc(2 * tl + 1);
+    memcpy(twice, text, tl);
+    memcpy(twice + tl, text, tl + 1);
+    assert_int_equal(tram_calibration_read_buffer("c.json", twice, 2 * tl, &cal, &e), TRAM_EINPUT);
+    assert_non_null(strstr(e.message, "damaged calibration file: text after the JSON document"));
+    assert_true(e.line > 1 && e.column == 1);
+    free(twice);
     /* damaged: truncated */
     assert_int_equal(tram_calibration_read_buffer("c.json", text, strlen(text) / 2, &cal, &e),
                      TRAM_EINPUT);

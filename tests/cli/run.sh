@@ -76,7 +76,10 @@ expect_error "directive conflict" 2 "dir2.csv:2:3: error: directive 'length-unit
 f=$(printf '# length-unit: furlong\n' | mk lu.csv)
 expect_error "bad unit" 2 "lu.csv:1:3: error: length-unit 'furlong': expected one of mm, cm, m, in" convert --to quat "$f"
 f=$(printf '{"format": "tram-records",\n "version": 1,\n "stations": [,]}\n' | mk bad.json)
-expect_error "malformed JSON" 2 "bad.json:3:[0-9]+: error: malformed JSON" convert --to quat "$f"
+expect_error "malformed JSON" 2 "bad.json:3:[0-9]+: error: record file: malformed JSON" convert --to quat "$f"
+# a second document (or anything) after the first is refused, not ignored
+f=$(printf '{"format": "tram-records", "version": 1, "length_unit": "mm",\n "stations": [{"robot": {"x": 1, "y": 2, "z": 3, "qw": 1, "qx": 0, "qy": 0, "qz": 0}}]}\n{"x": 1}\n' | mk two.json)
+expect_error "text after the JSON document" 2 "two.json:3:1: error: record file: text after the JSON document" convert --to quat "$f"
 expect_error "no such file" 2 "nosuch.csv: error: cannot open" convert --to quat "$tmp/nosuch.csv"
 expect_error "bad --to" 2 "expected quat, rotvec, matrix or euler:SEQ" convert --to euler:abc "$tmp/good.csv"
 expect_error "unknown subcommand" 2 "unknown subcommand" frobnicate
