@@ -154,15 +154,14 @@ static int history_grow(tram_check_history *h, size_t cap)
 static tram_status history_line(tram_check_history *h, const char *p, size_t len, long line,
                                 tram_error *err)
 {
-    const char *end = NULL;
-    cJSON *j = cJSON_ParseWithLengthOpts(p, len, &end, 0);
-    size_t off = end ? (size_t)(end - p) : 0;
-    while (j && off < len && (p[off] == ' ' || p[off] == '\t' || p[off] == '\r')) off++;
-    if (!j || off < len) {
-        cJSON_Delete(j);
-        return tram__fail(err, TRAM_EINPUT, h->source, line, (long)(off < len ? off : len) + 1,
-                          "expected one JSON object per line (a check-history line written by "
-                          "tram check --history)");
+    cJSON *j;
+    tram_status st = tram__json_parse(h->source, p, len,
+                                      "expected one JSON object per line (a check-history line "
+                                      "written by tram check --history)",
+                                      &j, err);
+    if (st != TRAM_OK) {
+        if (err) err->line = line; /* the slice holds one line: its column stands */
+        return st;
     }
     const char *what = NULL;
     const cJSON *ts = cJSON_GetObjectItemCaseSensitive(j, "timestamp_utc");

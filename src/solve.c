@@ -132,14 +132,28 @@ double tram__kth(size_t n, double (*get)(const void *ctx, size_t i), const void 
     return from_order_key(prefix);
 }
 
-static double array_get(const void *ctx, size_t i) { return ((const double *)ctx)[i]; }
-
-double tram__median(const double *v, size_t n)
+/* Median of get(ctx, 0 .. n-1); 0 for n = 0.  For even n the upper middle
+ * value follows from the lower in one more pass: the lower itself when it
+ * is repeated past the middle, else the smallest value above it. */
+static double median_of(size_t n, double (*get)(const void *ctx, size_t i), const void *ctx)
 {
     if (n == 0) return 0.0;
-    double hi = tram__kth(n, array_get, v, n / 2);
-    return n % 2 ? hi : 0.5 * (tram__kth(n, array_get, v, n / 2 - 1) + hi);
+    if (n % 2) return tram__kth(n, get, ctx, n / 2);
+    double lo = tram__kth(n, get, ctx, n / 2 - 1), hi = INFINITY;
+    unsigned long long klo = order_key(lo);
+    size_t at_most = 0;
+    for (size_t i = 0; i < n; i++) {
+        double x = get(ctx, i);
+        unsigned long long k = order_key(x);
+        if (k <= klo) at_most++;
+        else if (k < order_key(hi)) hi = x;
+    }
+    return 0.5 * (lo + (at_most > n / 2 ? lo : hi));
 }
+
+static double array_get(const void *ctx, size_t i) { return ((const double *)ctx)[i]; }
+
+double tram__median(const double *v, size_t n) { return median_of(n, array_get, v); }
 
 double tram__robust_sigma3(const double *norms, size_t n)
 {
@@ -161,10 +175,8 @@ static double origin_distance(const void *ctx, size_t i)
 
 static double length_scale(const tram_se3 *P, const tram_se3 *S, size_t n)
 {
-    if (n == 0) return 1.0;
     scale_ctx c = {P, S};
-    double hi = tram__kth(2 * n, origin_distance, &c, n);
-    double m = 0.5 * (tram__kth(2 * n, origin_distance, &c, n - 1) + hi);
+    double m = median_of(2 * n, origin_distance, &c);
     return m > 0 ? m : 1.0;
 }
 
