@@ -16,11 +16,11 @@ PYTHON  := /usr/bin/python3
 
 DEB_PKGS := liblapacke-dev libopenblas-dev libpng-dev libcjson-dev libcmocka-dev \
             libcairo2-dev libfontconfig-dev pkg-config python3-numpy python3-scipy \
-            clang libclang-rt-14-dev
+            clang libclang-rt-14-dev libjpeg-dev python3-pytest poppler-utils
 # only for make coverage and make valgrind
 COV_PKGS := gcovr
 VG_PKGS  := valgrind
-PC_LIBS  := lapacke openblas libcjson cairo fontconfig libpng
+PC_LIBS  := lapacke openblas libcjson cairo fontconfig libpng libjpeg
 PC_TEST  := cmocka libcjson
 
 WARN    := -Wall -Wextra -Wshadow -Wconversion -Werror
@@ -32,13 +32,13 @@ TEST_CFLAGS = $(shell pkg-config --cflags $(PC_TEST))
 TEST_LIBS   = $(shell pkg-config --libs $(PC_TEST))
 
 B       ?= build
-LIB_SRC := $(sort $(wildcard src/*.c))
+LIB_SRC := $(sort $(filter-out src/cli/%,$(wildcard src/*/*.c)))
 CLI_SRC := $(sort $(wildcard src/cli/*.c))
 TEST_SRC := $(sort $(wildcard tests/test_*.c))
 LIB_OBJ := $(patsubst src/%.c,$(B)/obj/%.o,$(LIB_SRC))
 CLI_OBJ := $(patsubst src/cli/%.c,$(B)/obj/cli/%.o,$(CLI_SRC))
 TESTS   := $(patsubst tests/%.c,$(B)/tests/%,$(TEST_SRC))
-HEADERS := $(wildcard include/tram/*.h) $(wildcard src/*.h) $(wildcard src/cli/*.h)
+HEADERS := $(wildcard include/tram/*.h) $(wildcard src/*/*.h)
 
 FUZZ_SRC   := $(sort $(wildcard fuzz/fuzz_*.c))
 FUZZ_NAMES := $(patsubst fuzz/fuzz_%.c,%,$(FUZZ_SRC))

@@ -1,0 +1,87 @@
+/*
+ * fileio.c - atomic output files: write to a temporary file beside the
+ * target, fsync, rename (rename(2) replaces the target atomically on POSIX
+ * file systems), and appends of whole lines with one O_APPEND write.
+ */
+#include "tram/fileio.h"
+#include "core/tram_internal.h"
+
+#include <errno.h>
+#include <fcntl.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+#include <unistd.h>
+
+static int write_all(int fd, const char *p, size_t len)
+{
+    while (len > 0) {
+        ssize_t w = write(fd, p, len);
+        if (w < 0) {
+            if (errno == EINTR) continue;
+            return -1;
+        }
+        p += w;
+        len -= (size_t)w;
+    }
+    return 0;
+}
+
+tram_status tram_file_write_atomic(const char *path, const char *data, size_t len, int overwrite,
+                                   tram_error *err)
+{
+    struct stat sb;
+    if (!overwrite && stat(path, &sb) == 0)
+        return tram__fail(err, TRAM_EINPUT, path, 0, 0,
+                          "already exists; not overwritten (pass --force to replace it)");
+    size_t pl = strlen(path);
+    char *tmp = tram__malloc(pl + 16);
+    if (!tmp) return tram__fail(err, TRAM_ENOMEM, path, 0, 0, "out of memory");
+    snprintf(tmp, pl + 16, "%s.tmp.XXXXXX", path);
+    int fd = mkstemp(tmp);
+    if (fd < 0) {
+        tram_status st = tram__fail(err, TRAM_EIO, path, 0, 0, "cannot create a temporary file: %s",
+                                    strerror(errno));
+        tram__free(tmp);
+        return st;
+    }
+    int bad = write_all(fd, data, len) != 0 || fsync(fd) != 0;
+    int saved = errno;
+    if (close(fd) != 0 && !bad) {
+        bad = 1;
+        saved = errno;
+    }
+    if (!bad && rename(tmp, path) != 0) {
+        bad = 1;
+        saved = errno;
+    }
+    if (bad) {
+        unlink(tmp);
+        tram__free(tmp);
+        return tram__fail(err, TRAM_EIO, path, 0, 0, "cannot write: %s", strerror(saved));
+    }
+    tram__free(tmp);
+    return TRAM_OK;
+}
+
+tram_status tram_file_append_line(const char *path, const char *line, tram_error *err)
+{
+    size_t n = strlen(line);
+    char *buf = tram__malloc(n + 1);
+    if (!buf) return tram__fail(err, TRAM_ENOMEM, path, 0, 0, "out of memory");
+    memcpy(buf, line, n);
+    buf[n] = '\n';
+    int fd = open(path, O_WRONLY | O_APPEND | O_CREAT, 0644);
+    if (fd < 0) {
+        tram__free(buf);
+        return tram__fail(err, TRAM_EIO, path, 0, 0, "cannot open for appending: %s",
+                          strerror(errno));
+    }
+    int bad = write_all(fd, buf, n + 1) != 0 || fsync(fd) != 0;
+    int saved = errno;
+    close(fd);
+    tram__free(buf);
+    if (bad) return tram__fail(err, TRAM_EIO, path, 0, 0, "cannot append: %s", strerror(saved));
+    return TRAM_OK;
+}

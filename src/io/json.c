@@ -1,0 +1,111 @@
+/*
+ * json_build.c - the JSON helpers of json_internal.h: a strict parse of a
+ * whole document, and the builder (cJSON under a sticky failure flag, so
+ * that a document with a dropped field is never written).
+ */
+#include "io/json_internal.h"
+
+#include <math.h>
+#include <stdio.h>
+#include <string.h>
+
+tram_status tram__json_parse(const char *name, const char *data, size_t len, const char *what,
+                             cJSON **out, tram_error *err)
+{
+    const char *end = NULL;
+    *out = cJSON_ParseWithLengthOpts(data, len, &end, 0);
+    size_t off = end && end >= data ? (size_t)(end - data) : 0;
+    if (off > len) off = len;
+    if (*out) /* only blanks may follow the document */
+        while (off < len && (data[off] == ' ' || data[off] == '\t' || data[off] == '\r' ||
+                             data[off] == '\n'))
+            off++;
+    if (*out && off == len) return TRAM_OK;
+    long line, col;
+    tram__offset_pos(data, off, &line, &col);
+    tram_status st = tram__fail(err, TRAM_EINPUT, name, line, col, "%s: %s", what,
+                                *out ? "text after the JSON document" : "malformed JSON");
+    cJSON_Delete(*out);
+    *out = NULL;
+    return st;
+}
+
+/* Add item to parent (under key, or appended when key is NULL); on any
+ * failure delete item, mark the builder and return NULL. */
+static cJSON *attach(tram__jb *b, cJSON *parent, const char *key, cJSON *item)
+{
+    cJSON_bool ok = item && parent &&
+                    (key ? cJSON_AddItemToObject(parent, key, item) : cJSON_AddItemToArray(parent, item));
+    if (!ok) {
+        cJSON_Delete(item);
+        b->failed = 1;
+        return NULL;
+    }
+    return item;
+}
+
+static cJSON *number(double v)
+{
+    if (!isfinite(v)) return cJSON_CreateNull();
+    char buf[40];
+    snprintf(buf, sizeof buf, "%.17g", v == 0.0 ? 0.0 : v);
+    return cJSON_CreateRaw(buf);
+}
+
+cJSON *tram__jb_obj(tram__jb *b, cJSON *parent, const char *key)
+{
+    return attach(b, parent, key, cJSON_CreateObject());
+}
+
+cJSON *tram__jb_arr(tram__jb *b, cJSON *parent, const char *key)
+{
+    return attach(b, parent, key, cJSON_CreateArray());
+}
+
+void tram__jb_str(tram__jb *b, cJSON *parent, const char *key, const char *v)
+{
+    attach(b, parent, key, cJSON_CreateString(v ? v : ""));
+}
+
+void tram__jb_num(tram__jb *b, cJSON *parent, const char *key, double v)
+{
+    attach(b, parent, key, number(v));
+}
+
+void tram__jb_bool(tram__jb *b, cJSON *parent, const char *key, int v)
+{
+    attach(b, parent, key, cJSON_CreateBool(v != 0));
+}
+
+void tram__jb_vec(tram__jb *b, cJSON *parent, const char *key, const double *v, int n, double f)
+{
+    cJSON *a = tram__jb_arr(b, parent, key);
+    for (int i = 0; a && i < n; i++) tram__jb_num(b, a, NULL, v[i] * f);
+}
+
+void tram__jb_matrix4(tram__jb *b, cJSON *parent, const char *key, const tram_se3 *T)
+{
+    cJSON *m = tram__jb_arr(b, parent, key);
+    for (int i = 0; m && i < 4; i++) tram__jb_vec(b, m, NULL, T->m[i], 4, 1.0);
+}
+
+tram_status tram__jb_finish(tram__jb *b, cJSON *root, int formatted, int newline, char **text,
+                            tram_error *err)
+{
+    *text = NULL;
+    char *out = NULL;
+    if (!b->failed && root) out = formatted ? cJSON_Print(root) : cJSON_PrintUnformatted(root);
+    cJSON_Delete(root);
+    if (out) {
+        size_t len = strlen(out);
+        *text = tram__malloc(len + 2);
+        if (*text) {
+            memcpy(*text, out, len);
+            if (newline) (*text)[len++] = '\n';
+            (*text)[len] = '\0';
+        }
+        cJSON_free(out);
+    }
+    if (!*text) return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
+    return TRAM_OK;
+}

@@ -1,0 +1,354 @@
+/*
+ * records_json.c - the JSON form of record files (format v1), parsed with
+ * cJSON.  Schema (docs/records.md):
+ *
+ *   {"format": "tram-records", "version": 1,
+ *    "length_unit": "mm", "angle_unit": "deg", "setup": "eye-in-hand",
+ *    "robot_pose": "flange-in-base", "sensor_pose": "target-in-sensor",
+ *    "robot_euler": "zyx-intrinsic", "sensor_euler": ...,
+ *    "stations": [{"station": "s1",
+ *                  "robot":  {"x":..,"y":..,"z":..,"qw":..,"qx":..,"qy":..,"qz":..},
+ *                  "sensor": {...}}, ...]}
+ *
+ * The keys mirror the CSV directives and column suffixes, and the same
+ * schema and checks apply.  cJSON keeps no positions, so semantic errors
+ * name the JSON path (stations[3].robot.qw) and the line where that
+ * station's object starts, found by scanning the text.
+ */
+#include "io/json_internal.h"
+#include "io/records_internal.h"
+
+#include <cjson/cJSON.h>
+#include <stdio.h>
+#include <string.h>
+
+void tram__offset_pos(const char *data, size_t off, long *line, long *col)
+{
+    long l = 1, c = 1;
+    for (size_t i = 0; i < off; i++) {
+        if (data[i] == '\n') {
+            l++;
+            c = 1;
+        } else
+            c++;
+    }
+    *line = l;
+    *col = c;
+}
+
+/* Line of the start of the k-th element of the "stations" array: a scan of
+ * the text that tracks nesting depth and strings. */
+static void station_lines(const char *data, size_t len, long *lines, size_t n)
+{
+    /* bounded search: data need not be NUL-terminated (found by
+     * fuzz/fuzz_records.c) */
+    static const char key[] = "\"stations\"";
+    const size_t kl = sizeof key - 1;
+    size_t i = 0;
+    while (i + kl <= len && memcmp(data + i, key, kl) != 0) i++;
+    if (i + kl > len) return;
+    i += kl;
+    long line = 1;
+    for (size_t k = 0; k < i; k++)
+        if (data[k] == '\n') line++;
+    while (i < len && data[i] != '[') {
+        if (data[i] == '\n') line++;
+        i++;
+    }
+    int depth = 0, in_str = 0;
+    size_t idx = 0;
+    for (; i < len && idx < n; i++) {
+        char ch = data[i];
+        if (ch == '\n') line++;
+        if (in_str) {
+            if (ch == '\\') i++;
+            else if (ch == '"') in_str = 0;
+            continue;
+        }
+        if (ch == '"') in_str = 1;
+        else if (ch == '[' || ch == '{') {
+            if (depth == 1 && ch == '{') lines[idx++] = line;
+            depth++;
+        } else if (ch == ']' || ch == '}') {
+            if (--depth == 0) break;
+        }
+    }
+}
+
+static const char *string_member(const cJSON *o, const char *key)
+{
+    const cJSON *v = cJSON_GetObjectItemCaseSensitive(o, key);
+    return cJSON_IsString(v) ? v->valuestring : NULL;
+}
+
+tram_status tram__records_read_json(const char *name, const char *data, size_t len,
+                                    const tram_read_options *opt, tram_records **out,
+                                    tram_error *err)
+{
+    cJSON *root;
+    tram_status st = tram__json_parse(name, data, len, "record file", &root, err);
+    if (st != TRAM_OK) return st;
+    tram_records *r = NULL;
+    const char **names = NULL;
+    long *lines = NULL;
+    rec_schema schema;
+    memset(&schema, 0, sizeof schema);
+    rec_directives d;
+    memset(&d, 0, sizeof d);
+    d.euler[0] = d.euler[1] = TRAM_EULER_UNSET;
+
+    if (!cJSON_IsObject(root)) {
+        st = tram__fail(err, TRAM_EINPUT, name, 1, 1, "expected a JSON object at the top level");
+        goto done;
+    }
+    r = tram__calloc(1, sizeof *r);
+    if (!r) {
+        st = tram__fail(err, TRAM_ENOMEM, name, 0, 0, "out of memory");
+        goto done;
+    }
+    snprintf(r->source, sizeof r->source, "%s", name);
+    r->checksum = tram__fnv1a64(data, len);
+
+    const char *fmt = string_member(root, "format");
+    if (!fmt || strcmp(fmt, "tram-records") != 0) {
+        st = tram__fail(err, TRAM_EINPUT, name, 1, 0,
+                        "\"format\": expected \"tram-records\"");
+        goto done;
+    }
+    const cJSON *ver = cJSON_GetObjectItemCaseSensitive(root, "version");
+    if (!cJSON_IsNumber(ver) || ver->valuedouble != (double)ver->valueint ||
+        ver->valueint < 1) {
+        st = tram__fail(err, TRAM_EINPUT, name, 1, 0, "\"version\": expected the integer 1");
+        goto done;
+    }
+    if (ver->valueint > 1) {
+        st = tram__fail(err, TRAM_EINPUT, name, 1, 0,
+                        "record format version %d is newer than this tram (%s) reads (1)",
+                        ver->valueint, TRAM_VERSION_STRING);
+        goto done;
+    }
+    /* Top-level keys: the directives, with '_' for '-'. */
+    static const char *const keys[][2] = {
+        {"length_unit", "length-unit"}, {"angle_unit", "angle-unit"},
+        {"robot_euler", "robot-euler"}, {"sensor_euler", "sensor-euler"},
+        {"robot_pose", "robot-pose"},   {"sensor_pose", "sensor-pose"},
+        {"robot_length_unit", "robot-length-unit"}, {"sensor_length_unit", "sensor-length-unit"},
+        {"robot_angle_unit", "robot-angle-unit"},   {"sensor_angle_unit", "sensor-angle-unit"},
+        {"setup", "setup"}};
+    const cJSON *item;
+    cJSON_ArrayForEach(item, root)
+    {
+        const char *k = item->string;
+        if (strcmp(k, "format") == 0 || strcmp(k, "version") == 0 || strcmp(k, "stations") == 0 ||
+            strcmp(k, "comment") == 0)
+            continue;
+        int found = 0;
+        for (size_t i = 0; i < sizeof keys / sizeof keys[0]; i++)
+            if (strcmp(k, keys[i][0]) == 0) {
+                found = 1;
+                if (!cJSON_IsString(item)) {
+                    st = tram__fail(err, TRAM_EINPUT, name, 0, 0, "\"%s\": expected a string", k);
+                    goto done;
+                }
+                st = tram__directive_apply(&d, name, 0, 0, keys[i][1], item->valuestring, err);
+                if (st != TRAM_OK) goto done;
+            }
+        if (!found) {
+            st = tram__fail(err, TRAM_EINPUT, name, 0, 0,
+                            "unknown key \"%s\" (known: format, version, length_unit, angle_unit, "
+                            "robot_euler, sensor_euler, robot_pose, sensor_pose, robot_length_unit, "
+                            "sensor_length_unit, robot_angle_unit, sensor_angle_unit, setup, "
+                            "comment, stations)",
+                            k);
+            goto done;
+        }
+    }
+    const cJSON *sts = cJSON_GetObjectItemCaseSensitive(root, "stations");
+    if (!cJSON_IsArray(sts) || cJSON_GetArraySize(sts) == 0) {
+        st = tram__fail(err, TRAM_EINPUT, name, 0, 0,
+                        "\"stations\": expected a non-empty array of station objects");
+        goto done;
+    }
+    size_t n = (size_t)cJSON_GetArraySize(sts);
+    lines = tram__calloc(n, sizeof *lines);
+    r->stations = tram__calloc(n, sizeof *r->stations);
+    names = tram__calloc(2 * TRAM_RAW_MAX + TRAM_JOINTS_MAX + 1, sizeof *names);
+    if (!lines || !r->stations || !names) {
+        st = tram__fail(err, TRAM_ENOMEM, name, 0, 0, "out of memory");
+        goto done;
+    }
+    station_lines(data, len, lines, n);
+    /* Schema from the first station's keys; every station must match it. */
+    char colnames[2 * TRAM_RAW_MAX + TRAM_JOINTS_MAX][24];
+    int ncol = 0;
+    const cJSON *first = cJSON_GetArrayItem(sts, 0);
+    static const char *const blocks[2] = {"robot", "sensor"};
+    for (int b = 0; b < 2; b++) {
+        const cJSON *blk = cJSON_IsObject(first) ? cJSON_GetObjectItemCaseSensitive(first, blocks[b]) : NULL;
+        if (!blk) continue;
+        if (!cJSON_IsObject(blk)) {
+            st = tram__fail(err, TRAM_EINPUT, name, lines[0], 0,
+                            "stations[0].%s: expected an object of pose numbers", blocks[b]);
+            goto done;
+        }
+        const cJSON *v;
+        cJSON_ArrayForEach(v, blk)
+        {
+            if (ncol >= 2 * TRAM_RAW_MAX) {
+                st = tram__fail(err, TRAM_EINPUT, name, lines[0], 0,
+                                "stations[0].%s: too many keys", blocks[b]);
+                goto done;
+            }
+            snprintf(colnames[ncol], sizeof colnames[ncol], "%s_%.8s", blocks[b], v->string);
+            names[ncol] = colnames[ncol];
+            ncol++;
+        }
+    }
+    const cJSON *j0 = cJSON_IsObject(first) ? cJSON_GetObjectItemCaseSensitive(first, "joints") : NULL;
+    int nj = 0;
+    if (j0) {
+        nj = cJSON_IsArray(j0) ? cJSON_GetArraySize(j0) : -1;
+        if (nj < 1 || nj > TRAM_JOINTS_MAX) {
+            st = tram__fail(err, TRAM_EINPUT, name, lines[0], 0,
+                            "stations[0].joints: expected an array of 1 to %d joint readings",
+                            TRAM_JOINTS_MAX);
+            goto done;
+        }
+        for (int j = 0; j < nj; j++) {
+            snprintf(colnames[ncol], sizeof colnames[ncol], "joint_%d", j + 1);
+            names[ncol] = colnames[ncol];
+            ncol++;
+        }
+    }
+    if (ncol == 0) {
+        st = tram__fail(err, TRAM_EINPUT, name, lines[0], 0,
+                        "stations[0]: expected \"robot\" (or \"joints\") and/or \"sensor\"");
+        goto done;
+    }
+    {
+        long hl[2 * TRAM_RAW_MAX + TRAM_JOINTS_MAX];
+        for (int i = 0; i < ncol; i++) hl[i] = lines[0];
+        st = tram__schema_build(name, names, hl, NULL, ncol, &schema, err);
+        if (st != TRAM_OK) goto done;
+    }
+    /* walk the list (cJSON_GetArrayItem would make the loop quadratic) */
+    const cJSON *so = sts->child;
+    for (size_t k = 0; k < n; k++, so = so->next) {
+        tram_station *s = &r->stations[k];
+        s->line = lines[k];
+        if (!cJSON_IsObject(so)) {
+            st = tram__fail(err, TRAM_EINPUT, name, lines[k], 0,
+                            "stations[%zu]: expected an object", k);
+            goto done;
+        }
+        snprintf(s->id, sizeof s->id, "%zu", k + 1);
+        const cJSON *idv = cJSON_GetObjectItemCaseSensitive(so, "station");
+        if (idv) {
+            if (cJSON_IsString(idv) && idv->valuestring[0] &&
+                strlen(idv->valuestring) < TRAM_STATION_ID_MAX)
+                snprintf(s->id, sizeof s->id, "%s", idv->valuestring);
+            else if (cJSON_IsNumber(idv) && idv->valuedouble == (double)idv->valueint)
+                snprintf(s->id, sizeof s->id, "%d", idv->valueint);
+            else {
+                st = tram__fail(err, TRAM_EINPUT, name, lines[k], 0,
+                                "stations[%zu].station: expected a non-empty string (at most %d "
+                                "characters) or an integer",
+                                k, TRAM_STATION_ID_MAX - 1);
+                goto done;
+            }
+        }
+        const cJSON *m;
+        cJSON_ArrayForEach(m, so)
+        {
+            if (strcmp(m->string, "station") && strcmp(m->string, "robot") &&
+                strcmp(m->string, "sensor") && strcmp(m->string, "joints")) {
+                st = tram__fail(err, TRAM_EINPUT, name, lines[k], 0,
+                                "stations[%zu]: unknown key \"%s\" (expected station, robot, "
+                                "joints, sensor)",
+                                k, m->string);
+                goto done;
+            }
+        }
+        const cJSON *jv = cJSON_GetObjectItemCaseSensitive(so, "joints");
+        if (nj > 0 || jv) {
+            if (!cJSON_IsArray(jv) || cJSON_GetArraySize(jv) != nj) {
+                st = tram__fail(err, TRAM_EINPUT, name, lines[k], 0,
+                                "stations[%zu].joints: expected %d joint readings as in "
+                                "stations[0]",
+                                k, nj);
+                goto done;
+            }
+            for (int j = 0; j < nj; j++) {
+                const cJSON *x = cJSON_GetArrayItem(jv, j);
+                if (!cJSON_IsNumber(x)) {
+                    st = tram__fail(err, TRAM_EINPUT, name, lines[k], 0,
+                                    "stations[%zu].joints[%d]: expected a finite number", k, j);
+                    goto done;
+                }
+                s->joints[j] = x->valuedouble;
+            }
+        }
+        for (int b = 0; b < 2; b++) {
+            const cJSON *blk = cJSON_GetObjectItemCaseSensitive(so, blocks[b]);
+            if (!schema.has_block[b]) {
+                if (blk) {
+                    st = tram__fail(err, TRAM_EINPUT, name, lines[k], 0,
+                                    "stations[%zu].%s: not in the first station; every station "
+                                    "must have the same blocks",
+                                    k, blocks[b]);
+                    goto done;
+                }
+                continue;
+            }
+            if (!cJSON_IsObject(blk)) {
+                st = tram__fail(err, TRAM_EINPUT, name, lines[k], 0,
+                                "stations[%zu].%s: missing; expected an object of pose numbers",
+                                k, blocks[b]);
+                goto done;
+            }
+            int count = 0;
+            const cJSON *v;
+            cJSON_ArrayForEach(v, blk) count++;
+            if (count != schema.nslots[b]) {
+                st = tram__fail(err, TRAM_EINPUT, name, lines[k], 0,
+                                "stations[%zu].%s: %d keys, expected %d as in stations[0]", k,
+                                blocks[b], count, schema.nslots[b]);
+                goto done;
+            }
+            for (int slot = 0; slot < schema.nslots[b]; slot++) {
+                const char *key = tram__rep_slot_name(schema.rep[b], slot);
+                v = cJSON_GetObjectItemCaseSensitive(blk, key);
+                if (!v) {
+                    st = tram__fail(err, TRAM_EINPUT, name, lines[k], 0,
+                                    "stations[%zu].%s.%s: missing (every station must use the "
+                                    "rotation set of stations[0])",
+                                    k, blocks[b], key);
+                    goto done;
+                }
+                if (!cJSON_IsNumber(v)) {
+                    st = tram__fail(err, TRAM_EINPUT, name, lines[k], 0,
+                                    "stations[%zu].%s.%s: expected a finite number", k, blocks[b],
+                                    key);
+                    goto done;
+                }
+                s->raw[b][slot] = v->valuedouble;
+            }
+        }
+        r->count++;
+    }
+    st = tram__check_unique_ids(r, err);
+    if (st != TRAM_OK) goto done;
+    st = tram__records_finish(r, &schema, &d, opt, lines[0], err);
+
+done:
+    cJSON_Delete(root);
+    tram__free(names);
+    tram__free(lines);
+    tram__schema_free(&schema);
+    if (st != TRAM_OK) {
+        tram_records_destroy(r);
+        return st;
+    }
+    *out = r;
+    return TRAM_OK;
+}

@@ -1,0 +1,44 @@
+/*
+ * linalg_internal.h - thin wrappers over LAPACKE used by the solvers: SVD,
+ * null vectors, linear least squares and symmetric eigenproblems.  All
+ * matrices are row-major and owned by the caller.  Each wrapper returns
+ * TRAM_OK, TRAM_ENOMEM or TRAM_ENUMERIC (LAPACK did not converge, or an
+ * input holds NaN or Inf - refused before LAPACK sees it).
+ */
+#ifndef TRAM_LINALG_INTERNAL_H
+#define TRAM_LINALG_INTERNAL_H
+
+#include "core/tram_internal.h"
+
+/* SVD of the m x n matrix A (not modified): s has min(m,n) values in
+ * decreasing order; U (m x m) and Vt (n x n) may be NULL when not wanted. */
+tram_status tram__svd(int m, int n, const double *A, double *U, double *s, double *Vt);
+
+/* Unit right singular vector of A (m x n, m >= n) for the smallest singular
+ * value, and optionally the two smallest singular values (s_min, s_next). */
+tram_status tram__nullvec(int m, int n, const double *A, double *v, double *s_min,
+                          double *s_next);
+
+/* The right singular vectors of A for its two smallest singular values
+ * (rows n-2 and n-1 of Vt), for problems with a two-dimensional null space. */
+tram_status tram__null2(int m, int n, const double *A, double *v1, double *v2);
+
+/* Least-squares x minimising |A x - b| (A m x n, m >= n, full column rank),
+ * via QR (LAPACKE_dgels).  A and b are not modified. */
+tram_status tram__lstsq(int m, int n, const double *A, const double *b, double *x);
+
+/* Eigen decomposition of the symmetric n x n matrix A: eigenvalues w in
+ * ascending order, eigenvectors as the columns of V (row-major n x n). */
+tram_status tram__symeig(int n, const double *A, double *w, double *V);
+
+/* Inverse of the symmetric positive definite n x n matrix A (Cholesky);
+ * TRAM_ENUMERIC when A is not positive definite. */
+tram_status tram__spd_inverse(int n, const double *A, double *out);
+
+
+/* Solve A x = b for the symmetric positive definite n x n A (Cholesky,
+ * LAPACKE_dposv).  A and b are not modified.  TRAM_ENUMERIC when A is not
+ * positive definite. */
+tram_status tram__spd_solve(int n, const double *A, const double *b, double *x);
+
+#endif

@@ -1,0 +1,421 @@
+/*
+ * refine.c - nonlinear least-squares refinement of P_i X S_i = Z over both
+ * unknowns, with a robust loss, the covariance of the result and a station
+ * bootstrap.
+ *
+ * Parameters: x = (w_X, dt_X, w_Z, dt_Z) with X(x) = (R_X exp(w_X), t_X + dt_X)
+ * and likewise Z (rotation perturbed on the right, about the solved frame's
+ * own axes; translation in the parent frame).  Residual of station i, with
+ * Zhat_i = P_i X S_i the target pose predicted by the station:
+ *     r_i = ( log(R_Z^T R_Zhat_i) / sigma_angle ,  (t_Zhat_i - t_Z) / sigma_length )
+ * i.e. the rotation and translation between prediction and observation,
+ * each scaled by its per-axis noise.  Minimised by Levenberg-Marquardt
+ * (Marquardt, SIAM J. Appl. Math. 11(2), 1963) with a central-difference
+ * Jacobian; the normal equations are solved through LAPACKE (dposv).
+ * The robust loss is Cauchy's, applied per station by iteratively
+ * reweighted least squares: w_i = 1 / (1 + (u_i / c)^2), u_i^2 = |r_i|^2 / 6,
+ * c = 2.3849 (95% efficiency at the normal; Holland & Welsch, Commun.
+ * Statist. A6(9), 1977).
+ * Covariance: Cov(x) = s^2 (J^T J)^-1 at the solution (s^2 = chi^2 / dof).
+ * Bootstrap: stations resampled with replacement (Efron, Ann. Statist. 7(1),
+ * 1979), each resample refined from the solution.
+ */
+#include "solve/refine_internal.h"
+#include "math/linalg_internal.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#define NP 12
+#define CAUCHY_C 2.3849
+
+void tram__refine_apply(const tram_se3 *X0, const tram_se3 *Z0, const double x[NP], tram_se3 *X,
+                        tram_se3 *Z)
+{
+    tram_mat3 R, E;
+    double t[3];
+    tram_se3_to_rt(X0, &R, t);
+    tram_so3_exp(x, &E);
+    tram_so3_mul(&R, &E, &R);
+    for (int i = 0; i < 3; i++) t[i] += x[3 + i];
+    tram_se3_from_rt(&R, t, X);
+    tram_se3_to_rt(Z0, &R, t);
+    tram_so3_exp(x + 6, &E);
+    tram_so3_mul(&R, &E, &R);
+    for (int i = 0; i < 3; i++) t[i] += x[9 + i];
+    tram_se3_from_rt(&R, t, Z);
+}
+
+void tram__refine_residual(const tram_se3 *P, const tram_se3 *S, const tram_se3 *X,
+                           const tram_se3 *Z, double r[6])
+{
+    tram_se3 PX, Zh;
+    tram_se3_compose(P, X, &PX);
+    tram_se3_compose(&PX, S, &Zh);
+    tram_mat3 RZ, RZt, Rh, D;
+    double tZ[3], th[3];
+    tram_se3_to_rt(Z, &RZ, tZ);
+    tram_se3_to_rt(&Zh, &Rh, th);
+    tram_so3_transpose(&RZ, &RZt);
+    tram_so3_mul(&RZt, &Rh, &D);
+    tram_so3_log(&D, r);
+    for (int i = 0; i < 3; i++) r[3 + i] = th[i] - tZ[i];
+}
+
+/* Weighted residual and its Jacobian (central differences) for one station. */
+void tram__refine_station_jacobian(const tram_se3 *P, const tram_se3 *S, const tram_se3 *X,
+                             const tram_se3 *Z, double inv_sa, double inv_sl, double ht,
+                             double r[6], double J[6][NP])
+{
+    tram__refine_residual(P, S, X, Z, r);
+    for (int k = 0; k < 3; k++) {
+        r[k] *= inv_sa;
+        r[3 + k] *= inv_sl;
+    }
+    for (int p = 0; p < NP; p++) {
+        double x[NP] = {0}, h = (p % 6) < 3 ? 1e-6 : ht, rp[6], rm[6];
+        tram_se3 Xp, Zp;
+        x[p] = h;
+        tram__refine_apply(X, Z, x, &Xp, &Zp);
+        tram__refine_residual(P, S, &Xp, &Zp, rp);
+        x[p] = -h;
+        tram__refine_apply(X, Z, x, &Xp, &Zp);
+        tram__refine_residual(P, S, &Xp, &Zp, rm);
+        for (int k = 0; k < 6; k++)
+            J[k][p] = (rp[k] - rm[k]) / (2 * h) * (k < 3 ? inv_sa : inv_sl);
+    }
+}
+
+static size_t nblocks(const tram_refine_problem *pb) { return pb->eval ? pb->nblocks : pb->n; }
+static int nparams(const tram_refine_problem *pb) { return pb->nfree > 0 ? pb->nfree : NP; }
+static size_t maxdim(const tram_refine_problem *pb) { return pb->eval ? pb->maxdim : 6; }
+
+/* Weighted residual of block i; returns its length. */
+static size_t block_eval(const tram_refine_problem *pb, size_t i, const tram_se3 *X,
+                         const tram_se3 *Z, double *r)
+{
+    if (pb->eval) return pb->eval(pb, i, X, Z, r);
+    tram__refine_residual(&pb->P[i], &pb->S[i], X, Z, r);
+    for (int k = 0; k < 3; k++) {
+        r[k] /= pb->sigma_angle;
+        r[3 + k] /= pb->sigma_length;
+    }
+    return 6;
+}
+
+static double block_cost(const tram_refine_problem *pb, size_t i, const tram_se3 *X,
+                         const tram_se3 *Z, double *buf, size_t *dim)
+{
+    size_t d = block_eval(pb, i, X, Z, buf);
+    double c = 0;
+    for (size_t k = 0; k < d; k++) c += buf[k] * buf[k];
+    if (dim) *dim = d;
+    return c;
+}
+
+static double total_cost(const tram_refine_problem *pb, const double *w, const tram_se3 *X,
+                         const tram_se3 *Z, double *buf)
+{
+    double c = 0;
+    for (size_t i = 0; i < nblocks(pb); i++)
+        if (w[i] > 0) c += w[i] * block_cost(pb, i, X, Z, buf, NULL);
+    return c;
+}
+
+/* Scratch for one block: r, r+, r-, and J (maxdim x NP). */
+typedef struct scratch {
+    double *r, *rp, *rm, *J;
+} scratch;
+
+static int scratch_alloc(const tram_refine_problem *pb, scratch *s)
+{
+    size_t m = maxdim(pb);
+    s->r = tram__malloc(m * (3 + NP) * sizeof *s->r);
+    if (!s->r) return -1;
+    s->rp = s->r + m;
+    s->rm = s->rp + m;
+    s->J = s->rm + m;
+    return 0;
+}
+
+/* Normal equations H = sum w J^T J, g = sum w J^T r at (X, Z), with the
+ * Jacobian by central differences over the free parameters. */
+static tram_status normal_equations(const tram_refine_problem *pb, const double *w,
+                                    const tram_se3 *X, const tram_se3 *Z, double H[NP * NP],
+                                    double g[NP])
+{
+    int np = nparams(pb);
+    memset(H, 0, NP * NP * sizeof *H);
+    memset(g, 0, NP * sizeof *g);
+    scratch sc;
+    if (scratch_alloc(pb, &sc)) return TRAM_ENOMEM;
+    double ht = 1e-4 * pb->length_scale;
+    for (size_t i = 0; i < nblocks(pb); i++) {
+        if (!(w[i] > 0)) continue;
+        size_t d = block_eval(pb, i, X, Z, sc.r);
+        for (int p = 0; p < np; p++) {
+            double x[NP] = {0}, h = (p % 6) < 3 ? 1e-6 : ht;
+            tram_se3 Xp, Zp;
+            x[p] = h;
+            tram__refine_apply(X, Z, x, &Xp, &Zp);
+            block_eval(pb, i, &Xp, &Zp, sc.rp);
+            x[p] = -h;
+            tram__refine_apply(X, Z, x, &Xp, &Zp);
+            block_eval(pb, i, &Xp, &Zp, sc.rm);
+            for (size_t k = 0; k < d; k++) sc.J[k * NP + (size_t)p] = (sc.rp[k] - sc.rm[k]) / (2 * h);
+        }
+        for (int a = 0; a < np; a++) {
+            double ga = 0;
+            for (size_t k = 0; k < d; k++) ga += sc.J[k * NP + (size_t)a] * sc.r[k];
+            g[a] += w[i] * ga;
+            for (int b = a; b < np; b++) {
+                double hsum = 0;
+                for (size_t k = 0; k < d; k++) hsum += sc.J[k * NP + (size_t)a] * sc.J[k * NP + (size_t)b];
+                H[a * np + b] += w[i] * hsum;
+            }
+        }
+    }
+    for (int a = 0; a < np; a++)
+        for (int b = 0; b < a; b++) H[a * np + b] = H[b * np + a];
+    tram__free(sc.r);
+    return TRAM_OK;
+}
+
+/* Levenberg-Marquardt with fixed block weights w. */
+static tram_status lm(const tram_refine_problem *pb, const double *w, int max_iter, tram_se3 *X,
+                      tram_se3 *Z, int *iters)
+{
+    int np = nparams(pb);
+    double H[NP * NP], g[NP], lambda = 1e-3;
+    double *buf = tram__malloc(maxdim(pb) * sizeof *buf);
+    if (!buf) return TRAM_ENOMEM;
+    double cost = total_cost(pb, w, X, Z, buf);
+    int it;
+    tram_status st = TRAM_OK;
+    for (it = 0; it < max_iter; it++) {
+        if ((st = normal_equations(pb, w, X, Z, H, g)) != TRAM_OK) break;
+        int accepted = 0, done = 0;
+        for (int tries = 0; tries < 12 && !accepted; tries++) {
+            double A[NP * NP], mg[NP], dx[NP] = {0};
+            memcpy(A, H, sizeof A);
+            for (int a = 0; a < np; a++) {
+                A[a * np + a] += lambda * (H[a * np + a] > 1e-300 ? H[a * np + a] : 1e-300);
+                mg[a] = -g[a];
+            }
+            if (tram__spd_solve(np, A, mg, dx) != TRAM_OK) {
+                lambda *= 10;
+                continue;
+            }
+            tram_se3 Xn, Zn;
+            tram__refine_apply(X, Z, dx, &Xn, &Zn);
+            double cn = total_cost(pb, w, &Xn, &Zn, buf);
+            if (cn <= cost) {
+                double rel = (cost - cn) / (cost > 1e-300 ? cost : 1e-300);
+                *X = Xn;
+                *Z = Zn;
+                cost = cn;
+                lambda = lambda / 10 > 1e-12 ? lambda / 10 : 1e-12;
+                accepted = 1;
+                double step = 0;
+                for (int a = 0; a < np; a++) step += dx[a] * dx[a];
+                if (rel < 1e-14 || step < 1e-26) done = 1;
+            } else {
+                lambda *= 10;
+            }
+        }
+        if (done) {
+            it++;
+            break;
+        }
+        if (!accepted) break; /* no descent direction left: converged */
+    }
+    if (iters) *iters = it;
+    tram__free(buf);
+    return st;
+}
+
+tram_status tram__refine_run(const tram_refine_problem *pb, const double *station_w, int robust,
+                             tram_se3 *X, tram_se3 *Z)
+{
+    size_t nb = nblocks(pb);
+    double *w = tram__malloc((nb ? nb : 1) * sizeof *w);
+    double *buf = tram__malloc(maxdim(pb) * sizeof *buf);
+    if (!w || !buf) {
+        tram__free(w);
+        tram__free(buf);
+        return TRAM_ENOMEM;
+    }
+    for (size_t i = 0; i < nb; i++) w[i] = station_w ? station_w[i] : 1.0;
+    tram_status st = TRAM_OK;
+    if (!robust) {
+        st = lm(pb, w, 100, X, Z, NULL);
+    } else {
+        /* IRLS: re-derive the Cauchy weights from the residuals, refit. */
+        for (int outer = 0; outer < 8 && st == TRAM_OK; outer++) {
+            tram_se3 X0 = *X;
+            for (size_t i = 0; i < nb; i++) {
+                double base = station_w ? station_w[i] : 1.0;
+                if (!(base > 0)) {
+                    w[i] = 0;
+                    continue;
+                }
+                size_t d;
+                double c = block_cost(pb, i, X, Z, buf, &d);
+                double u2 = c / (double)(d ? d : 1);
+                w[i] = base / (1.0 + u2 / (CAUCHY_C * CAUCHY_C));
+            }
+            st = lm(pb, w, 50, X, Z, NULL);
+            double ang, len;
+            tram_se3_distance(&X0, X, &ang, &len);
+            if (ang < 1e-9 && len < 1e-9 * pb->length_scale) break;
+        }
+    }
+    tram__free(w);
+    tram__free(buf);
+    return st;
+}
+
+tram_status tram__refine_covariance(const tram_refine_problem *pb, const double *station_w,
+                                    const tram_se3 *X, const tram_se3 *Z, double scale2,
+                                    double cov[NP * NP], double *condition)
+{
+    int np = nparams(pb);
+    size_t nb = nblocks(pb);
+    double *w = tram__malloc((nb ? nb : 1) * sizeof *w);
+    if (!w) return TRAM_ENOMEM;
+    for (size_t i = 0; i < nb; i++) w[i] = station_w ? station_w[i] : 1.0;
+    double H[NP * NP], g[NP];
+    tram_status st = normal_equations(pb, w, X, Z, H, g);
+    tram__free(w);
+    if (st != TRAM_OK) return st;
+    if (condition) {
+        /* Condition of the correlation form of H: independent of units. */
+        double C[NP * NP], ev[NP], V[NP * NP];
+        for (int a = 0; a < np; a++)
+            for (int b = 0; b < np; b++)
+                C[a * np + b] = H[a * np + b] / sqrt(H[a * np + a] * H[b * np + b]);
+        if (tram__symeig(np, C, ev, V) == TRAM_OK && ev[0] > 0)
+            *condition = sqrt(ev[np - 1] / ev[0]);
+        else
+            *condition = INFINITY;
+    }
+    double Ci[NP * NP];
+    st = tram__spd_inverse(np, H, Ci);
+    if (st != TRAM_OK) return st;
+    /* Into the 12x12 layout; parameters that were not free get NaN. */
+    for (int a = 0; a < NP; a++)
+        for (int b = 0; b < NP; b++)
+            cov[a * NP + b] = (a < np && b < np) ? Ci[a * np + b] * scale2 : NAN;
+    return TRAM_OK;
+}
+
+tram_status tram__refine_chi2(const tram_refine_problem *pb, const double *station_w,
+                              const tram_se3 *X, const tram_se3 *Z, double *chi2)
+{
+    double *buf = tram__malloc(maxdim(pb) * sizeof *buf);
+    if (!buf) return TRAM_ENOMEM;
+    double c = 0;
+    for (size_t i = 0; i < nblocks(pb); i++) {
+        double w = station_w ? station_w[i] : 1.0;
+        if (w > 0) c += w * block_cost(pb, i, X, Z, buf, NULL);
+    }
+    tram__free(buf);
+    *chi2 = c;
+    return TRAM_OK;
+}
+
+static int cmp_double(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return (x > y) - (x < y);
+}
+
+tram_status tram__refine_bootstrap(const tram_refine_problem *pb, const double *station_w,
+                                   const tram_se3 *X, const tram_se3 *Z, size_t resamples,
+                                   unsigned long long seed, tram__progress_fn progress,
+                                   void *ctx, double sigma[NP], double lo[NP], double hi[NP],
+                                   size_t *used)
+{
+    size_t nin = 0, nb = nblocks(pb);
+    for (size_t i = 0; i < nb; i++)
+        if (!station_w || station_w[i] > 0) nin++;
+    size_t *in = tram__malloc((nin ? nin : 1) * sizeof *in);
+    double *w = tram__malloc((nb ? nb : 1) * sizeof *w);
+    double *dev = tram__malloc((resamples ? resamples : 1) * NP * sizeof *dev);
+    double *col = tram__malloc((resamples ? resamples : 1) * sizeof *col);
+    if (!in || !w || !dev || !col) {
+        tram__free(in);
+        tram__free(w);
+        tram__free(dev);
+        tram__free(col);
+        return TRAM_ENOMEM;
+    }
+    size_t k = 0;
+    for (size_t i = 0; i < nb; i++)
+        if (!station_w || station_w[i] > 0) in[k++] = i;
+    unsigned long long state = seed;
+    size_t good = 0;
+    tram_mat3 RX, RZ;
+    double tX[3], tZ[3];
+    tram_se3_to_rt(X, &RX, tX);
+    tram_se3_to_rt(Z, &RZ, tZ);
+    for (size_t b = 0; b < resamples; b++) {
+        memset(w, 0, nb * sizeof *w);
+        size_t distinct = 0;
+        for (size_t j = 0; j < nin; j++) {
+            size_t pick = in[tram__splitmix64(&state) % nin];
+            if (w[pick] == 0) distinct++;
+            w[pick] += 1.0;
+        }
+        if (progress) progress(ctx, "bootstrap", b + 1, resamples);
+        if (distinct < 3) continue;
+        tram_se3 Xb = *X, Zb = *Z;
+        tram_status bs = lm(pb, w, 30, &Xb, &Zb, NULL);
+        if (bs == TRAM_ENOMEM) { /* not a failed resample: stop, do not under-report */
+            tram__free(in);
+            tram__free(w);
+            tram__free(dev);
+            tram__free(col);
+            return bs;
+        }
+        if (bs != TRAM_OK) continue;
+        tram_mat3 R, Rt, D;
+        double t[3], wv[3];
+        double *d = dev + good * NP;
+        tram_se3_to_rt(&Xb, &R, t);
+        tram_so3_transpose(&RX, &Rt);
+        tram_so3_mul(&Rt, &R, &D);
+        tram_so3_log(&D, wv);
+        for (int a = 0; a < 3; a++) {
+            d[a] = wv[a];
+            d[3 + a] = t[a] - tX[a];
+        }
+        tram_se3_to_rt(&Zb, &R, t);
+        tram_so3_transpose(&RZ, &Rt);
+        tram_so3_mul(&Rt, &R, &D);
+        tram_so3_log(&D, wv);
+        for (int a = 0; a < 3; a++) {
+            d[6 + a] = wv[a];
+            d[9 + a] = t[a] - tZ[a];
+        }
+        good++;
+    }
+    for (int a = 0; a < NP; a++) {
+        double m = 0, v = 0;
+        for (size_t b = 0; b < good; b++) m += dev[b * NP + (size_t)a];
+        m /= (double)(good ? good : 1);
+        for (size_t b = 0; b < good; b++) v += tram__sq(dev[b * NP + (size_t)a] - m);
+        sigma[a] = good > 1 ? sqrt(v / (double)(good - 1)) : 0.0;
+        for (size_t b = 0; b < good; b++) col[b] = dev[b * NP + (size_t)a];
+        qsort(col, good, sizeof *col, cmp_double);
+        lo[a] = good ? col[(size_t)(0.025 * (double)(good - 1))] : 0.0;
+        hi[a] = good ? col[(size_t)(0.975 * (double)(good - 1) + 0.5)] : 0.0;
+    }
+    *used = good;
+    tram__free(in);
+    tram__free(w);
+    tram__free(dev);
+    tram__free(col);
+    return TRAM_OK;
+}

@@ -1,0 +1,62 @@
+/*
+ * refine_internal.h - the refinement of P_i X S_i = Z (refine.c), shared
+ * with the solve pipeline and the convention checks.
+ */
+#ifndef TRAM_REFINE_INTERNAL_H
+#define TRAM_REFINE_INTERNAL_H
+
+#include "core/tram_internal.h"
+
+typedef struct tram_refine_problem {
+    const tram_se3 *P, *S; /* n stations */
+    size_t n;
+    double sigma_angle;    /* per-axis rotation noise (rad) used as weight  */
+    double sigma_length;   /* per-axis translation noise (length unit)      */
+    double length_scale;   /* typical translation size, for the FD step     */
+    /* Generic residual blocks.  eval == NULL: block i is station i's pose
+     * residual weighted by the sigmas.  Otherwise eval fills the weighted
+     * residual of block i (at most maxdim values) and returns its length. */
+    size_t (*eval)(const struct tram_refine_problem *pb, size_t block, const tram_se3 *X,
+                   const tram_se3 *Z, double *r);
+    size_t nblocks, maxdim;
+    const void *ctx;
+    int nfree;             /* free parameters: 12 (0 = 12), or 6 for X only */
+} tram_refine_problem;
+
+typedef void (*tram__progress_fn)(void *ctx, const char *what, size_t done, size_t total);
+
+/* Parameter order: w_X(3, rad), dt_X(3), w_Z(3, rad), dt_Z(3). */
+void tram__refine_apply(const tram_se3 *X0, const tram_se3 *Z0, const double x[12], tram_se3 *X,
+                        tram_se3 *Z);
+/* Unweighted residual of one station: rotation vector (rad), translation. */
+void tram__refine_residual(const tram_se3 *P, const tram_se3 *S, const tram_se3 *X,
+                           const tram_se3 *Z, double r[6]);
+/* Weighted residual r (rotation / sigma_angle, translation / sigma_length)
+ * of one station and its Jacobian with respect to the 12 parameters
+ * (central differences; ht is the translation step). */
+void tram__refine_station_jacobian(const tram_se3 *P, const tram_se3 *S, const tram_se3 *X,
+                                   const tram_se3 *Z, double inv_sa, double inv_sl, double ht,
+                                   double r[6], double J[6][12]);
+/* Refine X, Z in place.  station_w: per-station weights (NULL = 1; 0
+ * excludes a station).  robust: Cauchy IRLS on top of the weights. */
+tram_status tram__refine_run(const tram_refine_problem *pb, const double *station_w, int robust,
+                             tram_se3 *X, tram_se3 *Z);
+/* Covariance (12x12, parameter units) = scale2 * (J^T W J)^-1 and the
+ * condition number of the correlation form of J^T W J; entries of
+ * parameters that are not free are NaN. */
+tram_status tram__refine_covariance(const tram_refine_problem *pb, const double *station_w,
+                                    const tram_se3 *X, const tram_se3 *Z, double scale2,
+                                    double cov[144], double *condition);
+/* Weighted chi-square of the residuals into *chi2; TRAM_ENOMEM when the
+ * work buffer cannot be had. */
+tram_status tram__refine_chi2(const tram_refine_problem *pb, const double *station_w,
+                              const tram_se3 *X, const tram_se3 *Z, double *chi2);
+/* Station bootstrap: per-parameter standard deviation and 2.5 / 97.5
+ * percentiles of the resampled solutions' deviations from (X, Z). */
+tram_status tram__refine_bootstrap(const tram_refine_problem *pb, const double *station_w,
+                                   const tram_se3 *X, const tram_se3 *Z, size_t resamples,
+                                   unsigned long long seed, tram__progress_fn progress,
+                                   void *ctx, double sigma[12], double lo[12], double hi[12],
+                                   size_t *used);
+
+#endif

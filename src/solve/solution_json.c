@@ -1,0 +1,193 @@
+/*
+ * solution_json.c - the JSON document of a solution, and of a calibration
+ * file (the solution plus the station data a later mount check needs).
+ * Schema: docs/solve.md.  Numbers are printed with %.17g (exact round
+ * trip); values that are not defined are null.  Built through
+ * json_internal.h, so a failed allocation never yields a partial file.
+ */
+#include "tram/points.h"
+#include "tram/rotation.h"
+#include "io/json_internal.h"
+#include "solve/solve_internal.h"
+
+#include <math.h>
+#include <stdio.h>
+#include <string.h>
+
+#define RAD2DEG (180.0 / TRAM_PI)
+
+static void add_transform(tram__jb *b, cJSON *parent, const char *key, const tram_se3 *T)
+{
+    cJSON *o = tram__jb_obj(b, parent, key);
+    tram_mat3 R;
+    double t[3], w[3];
+    tram_quat_wxyz q;
+    tram_se3_to_rt(T, &R, t);
+    tram_quat_wxyz_from_mat3(&R, &q);
+    tram_so3_log(&R, w);
+    double qv[4] = {q.w, q.x, q.y, q.z};
+    tram__jb_matrix4(b, o, "matrix", T);
+    tram__jb_vec(b, o, "translation", t, 3, 1.0);
+    tram__jb_vec(b, o, "quaternion_wxyz", qv, 4, 1.0);
+    tram__jb_vec(b, o, "rotation_vector_deg", w, 3, RAD2DEG);
+}
+
+static void add_stats(tram__jb *b, cJSON *parent, const char *key, const tram_stats *s)
+{
+    cJSON *o = tram__jb_obj(b, parent, key);
+    tram__jb_num(b, o, "rms", s->rms);
+    tram__jb_num(b, o, "median", s->median);
+    tram__jb_num(b, o, "max", s->max);
+}
+
+static void add_unc(tram__jb *b, cJSON *parent, const char *key, const double *v, int off,
+                    int with95)
+{
+    cJSON *o = tram__jb_obj(b, parent, key);
+    double t[3], r[3];
+    for (int i = 0; i < 3; i++) {
+        t[i] = v[off + i];
+        r[i] = v[off + 3 + i];
+    }
+    tram__jb_vec(b, o, "translation_sigma", t, 3, 1.0);
+    tram__jb_vec(b, o, "rotation_sigma_deg", r, 3, 1.0);
+    if (with95) {
+        tram__jb_vec(b, o, "translation_95", t, 3, 1.96);
+        tram__jb_vec(b, o, "rotation_95_deg", r, 3, 1.96);
+    }
+}
+
+static const char *severity_name(tram_severity s)
+{
+    return s == TRAM_SEVERITY_ERROR ? "error" : s == TRAM_SEVERITY_WARNING ? "warning" : "info";
+}
+
+tram_status tram_solution_to_json(const tram_solution *s, const tram_records *r,
+                                  const char *method_name, int calibration, char **text,
+                                  tram_error *err)
+{
+    *text = NULL;
+    tram__jb jb = {0}, *b = &jb;
+    cJSON *root = cJSON_CreateObject();
+    if (!root) return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
+    tram__jb_str(b, root, "format", calibration ? "tram-calibration" : "tram-solution");
+    tram__jb_num(b, root, "version", 1);
+    tram__jb_str(b, root, "tool", "tram " TRAM_VERSION_STRING);
+    tram__jb_str(b, root, "setup", tram_setup_name(s->setup));
+    tram__jb_str(b, root, "method", method_name ? method_name : "auto");
+    tram__jb_str(b, root, "start_method", tram_method_name(s->start_method));
+    tram__jb_bool(b, root, "refined", s->refined);
+    tram__jb_str(b, root, "length_unit", tram_unit_length_name(s->length_unit));
+    tram__jb_bool(b, root, "solved", s->solved);
+    tram__jb_bool(b, root, "trustworthy", s->trustworthy);
+    /* tram never knows whether a result was verified on the cell. */
+    tram__jb_bool(b, root, "verified_on_cell", 0);
+    if (s->solved) {
+        cJSON *tr = tram__jb_obj(b, root, "transforms");
+        add_transform(b, tr, s->X_name, &s->X);
+        add_transform(b, tr, s->Z_name, &s->Z);
+        cJSON *res = tram__jb_obj(b, root, "residuals");
+        tram__jb_str(b, res, "definition",
+                     "per station: rotation angle and translation distance between "
+                     "the station's prediction of the fixed transform and the "
+                     "solution; statistics over stations not flagged as outliers");
+        add_stats(b, res, "rotation_deg", &s->rot_deg);
+        add_stats(b, res, "translation", &s->trans);
+        cJSON *arr = tram__jb_arr(b, res, "stations");
+        for (size_t i = 0; arr && i < s->n; i++) {
+            cJSON *o = tram__jb_obj(b, arr, NULL);
+            tram__jb_str(b, o, "station", r->stations[i].id);
+            tram__jb_num(b, o, "rotation_deg", s->stations[i].rot_deg);
+            tram__jb_num(b, o, "translation", s->stations[i].trans);
+            tram__jb_bool(b, o, "outlier", s->stations[i].outlier);
+            if (s->points) tram__jb_num(b, o, "point_rms", s->points->station_rms[i]);
+        }
+        if (s->points) {
+            const tram_point_result *pr = s->points;
+            add_stats(b, res, "point", &pr->point);
+            cJSON *pa = tram__jb_arr(b, res, "points");
+            for (size_t k = 0; pa && k < pr->npoints; k++) {
+                cJSON *o = tram__jb_obj(b, pa, NULL);
+                tram__jb_str(b, o, "point", pr->point_id[k]);
+                tram__jb_num(b, o, "rms", pr->point_rms[k]);
+            }
+            size_t nex = 0;
+            for (size_t k = 0; k < pr->nobs; k++) nex += (size_t)pr->excluded[k];
+            tram__jb_num(b, res, "excluded_observations", (double)nex);
+            cJSON *md = tram__jb_obj(b, root, "model");
+            tram__jb_str(b, md, "source", pr->with_model ? "given" : "solved");
+            tram__jb_str(b, md, "frame", "target");
+            cJSON *mp = tram__jb_arr(b, md, "points");
+            for (size_t k = 0; mp && k < pr->npoints; k++) {
+                cJSON *o = tram__jb_obj(b, mp, NULL);
+                tram__jb_str(b, o, "point", pr->point_id[k]);
+                tram__jb_vec(b, o, "xyz", pr->model_xyz + 3 * k, 3, 1.0);
+            }
+            tram__jb_num(b, md, "noise_length", pr->noise_length);
+        }
+        cJSON *u = tram__jb_obj(b, root, "uncertainty");
+        tram__jb_str(b, u, "definition",
+                     "1-sigma and 95% (1.96 sigma) per axis from the refinement's "
+                     "Jacobian scaled by the residual variance; translation along the "
+                     "parent frame's axes, rotation about the solved frame's own axes");
+        tram__jb_bool(b, u, "valid", s->unc.valid);
+        if (s->unc.valid) {
+            add_unc(b, u, s->X_name, s->unc.sigma, 0, 1);
+            add_unc(b, u, s->Z_name, s->unc.sigma, 6, 1);
+        }
+        if (s->unc.bootstrap_valid) {
+            cJSON *bs = tram__jb_obj(b, u, "bootstrap");
+            tram__jb_num(b, bs, "resamples", (double)s->unc.bootstrap_used);
+            add_unc(b, bs, s->X_name, s->unc.bootstrap_sigma, 0, 0);
+            add_unc(b, bs, s->Z_name, s->unc.bootstrap_sigma, 6, 0);
+        }
+        cJSON *nz = tram__jb_obj(b, root, "noise");
+        tram__jb_num(b, nz, "length", s->noise_length);
+        tram__jb_num(b, nz, "angle_deg", s->noise_angle_deg);
+        tram__jb_str(b, nz, "source", s->noise_given ? "given" : "estimated");
+    }
+    cJSON *ob = tram__jb_obj(b, root, "observability");
+    tram__jb_num(b, ob, "stations", (double)s->n);
+    tram__jb_num(b, ob, "outliers", (double)s->n_outliers);
+    tram__jb_num(b, ob, "motion_min_deg", s->motion_min_deg);
+    tram__jb_num(b, ob, "motion_max_deg", s->motion_max_deg);
+    tram__jb_num(b, ob, "axis_spread_deg", s->axis_spread_deg);
+    tram__jb_num(b, ob, "condition", s->refined ? s->condition : NAN);
+    if (s->solved) {
+        cJSON *cf = tram__jb_arr(b, root, "closed_forms");
+        for (int m = 1; cf && m < TRAM_METHOD_COUNT; m++) {
+            cJSON *o = tram__jb_obj(b, cf, NULL);
+            tram__jb_str(b, o, "method", tram_method_name((tram_method)m));
+            tram__jb_num(b, o, "rotation_rms_deg", s->closed_rot_rms_deg[m]);
+            tram__jb_num(b, o, "translation_rms", s->closed_trans_rms[m]);
+        }
+    }
+    cJSON *dg = tram__jb_arr(b, root, "diagnostics");
+    for (size_t i = 0; dg && i < s->ndiag; i++) {
+        cJSON *o = tram__jb_obj(b, dg, NULL);
+        tram__jb_str(b, o, "code", s->diag[i].code);
+        tram__jb_str(b, o, "severity", severity_name(s->diag[i].severity));
+        tram__jb_str(b, o, "message", s->diag[i].message);
+    }
+    tram__jb_str(b, root, "safety",
+                            "Computed from the data only; not verified on the cell. Verify at "
+                            "reduced speed, keep clear of the working envelope, and follow the "
+                            "applicable robot-safety standards and local codes.");
+    if (calibration) {
+        cJSON *in = tram__jb_obj(b, root, "input");
+        char hex[24];
+        snprintf(hex, sizeof hex, "%016llx", r->checksum);
+        tram__jb_str(b, in, "source", r->source);
+        tram__jb_str(b, in, "checksum_fnv1a64", hex);
+        cJSON *arr = tram__jb_arr(b, in, "stations");
+        for (size_t i = 0; arr && i < r->count; i++) {
+            cJSON *o = tram__jb_obj(b, arr, NULL);
+            tram__jb_str(b, o, "station", r->stations[i].id);
+            tram__jb_matrix4(b, o, "T_base_flange", &r->stations[i].T_base_flange);
+            if (r->has_block[TRAM_BLOCK_SENSOR])
+                tram__jb_matrix4(b, o, "T_sensor_target", &r->stations[i].T_sensor_target);
+        }
+        if (s->unc.valid) tram__jb_vec(b, root, "covariance", s->unc.cov, 144, 1.0);
+    }
+    return tram__jb_finish(b, root, 1, 1, text, err);
+}
