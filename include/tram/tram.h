@@ -18,5 +18,7 @@
 #include "tram/se3.h"
 #include "tram/so3.h"
 #include "tram/solve.h"
+#include "tram/image.h"
+#include "tram/camera.h"
 
 #endif

@@ -1,0 +1,81 @@
+/*
+ * tram/image.h - grey images, printed calibration boards and chessboard
+ * corner detection.
+ *
+ * Pixel convention (docs/images.md): the centre of the top-left pixel is
+ * (u, v) = (0, 0); u grows to the right, v grows down; a pixel covers
+ * [u - 0.5, u + 0.5] x [v - 0.5, v + 0.5].
+ *
+ * Board convention (chessboard, docs/images.md): inner corner (c, r), with
+ * c = 0 .. cols-1 and r = 0 .. rows-1, is at (c * s, r * s, 0) in the
+ * target frame, s the square size in the board's length unit; its point id
+ * is r * cols + c.  The square that touches corner (0, 0) on its -x,-y
+ * side is black.  z = x cross y points into the board (away from a camera
+ * that faces it).  One of cols and rows is odd and the other even, so the
+ * board has no 180-degree ambiguity; a symmetric board is refused.
+ *
+ * Ownership: every _read_* / _create result is freed by its _destroy;
+ * destroy(NULL) is a no-op.
+ */
+#ifndef TRAM_IMAGE_H
+#define TRAM_IMAGE_H
+
+#include "tram/common.h"
+
+#ifdef __cplusplus
+extern "C" {
+#endif
+
+/* Images larger than this many pixels are refused before any allocation. */
+#define TRAM_IMAGE_MAX_PIXELS 100000000ULL
+
+/* A grey image: width * height values, row-major, top row first, in grey
+ * levels 0 .. 255 (16-bit inputs keep their fraction: v16 / 257). */
+typedef struct tram_grey_image {
+    size_t width, height;
+    float *pixels;
+} tram_grey_image;
+
+/* A zero-filled image; TRAM_EINPUT for a zero or too large size. */
+TRAM_API tram_status tram_grey_image_create(size_t width, size_t height, tram_grey_image **out,
+                                       tram_error *err);
+/* Read a PNG (8/16 bit; grey, grey+alpha, RGB, RGBA, palette; interlaced)
+ * or a JPEG, chosen by the file's signature, and convert it to grey
+ * (ITU-R BT.601 luma weights).  Truncated, corrupt, zero-size, over-limit
+ * and non-image files are TRAM_EINPUT with the file named. */
+TRAM_API tram_status tram_grey_image_read_file(const char *path, tram_grey_image **out, tram_error *err);
+TRAM_API tram_status tram_grey_image_read_buffer(const char *name, const unsigned char *data,
+                                            size_t len, tram_grey_image **out, tram_error *err);
+TRAM_API void tram_grey_image_destroy(tram_grey_image *im);
+
+typedef enum tram_board_kind {
+    TRAM_BOARD_CHESSBOARD = 1
+} tram_board_kind;
+
+/* A printed board.  square is in `unit`. */
+typedef struct tram_board {
+    tram_board_kind kind;
+    int cols, rows;          /* inner corners */
+    double square;
+    tram_length_unit unit;
+} tram_board;
+
+/* Fill b after checking the numbers (positive square, at least 2 x 2
+ * inner corners, one of cols and rows odd and the other even). */
+TRAM_API tram_status tram_board_init(tram_board *b, int cols, int rows, double square,
+                                     tram_length_unit unit, tram_error *err);
+/* Board description files (JSON, format "tram-board", version 1). */
+TRAM_API tram_status tram_board_read_file(const char *path, tram_board *out, tram_error *err);
+TRAM_API tram_status tram_board_read_buffer(const char *name, const char *data, size_t len,
+                                            tram_board *out, tram_error *err);
+/* The board file's text (NUL-terminated, allocated; free it with free()). */
+TRAM_API tram_status tram_board_to_json(const tram_board *b, char **text, tram_error *err);
+/* Number of corners, and the position of corner `id` in the target frame
+ * (board length unit). */
+TRAM_API size_t tram_board_corner_count(const tram_board *b);
+TRAM_API void tram_board_corner(const tram_board *b, size_t id, double xyz[3]);
+
+#ifdef __cplusplus
+}
+#endif
+#endif
