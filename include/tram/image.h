@@ -75,6 +75,34 @@ TRAM_API tram_status tram_board_to_json(const tram_board *b, char **text, tram_e
 TRAM_API size_t tram_board_corner_count(const tram_board *b);
 TRAM_API void tram_board_corner(const tram_board *b, size_t id, double xyz[3]);
 
+/* Chessboard detection: a saddle-point (ChESS-style) corner response on a
+ * lightly smoothed image (Bennett and Lasenby 2014), recovery of the
+ * cols x rows lattice ordered by the board convention (the black square at
+ * corner 0), and sub-pixel refinement.  docs/images.md. */
+typedef struct tram_detect_options {
+    double min_square_px;   /* smallest square side looked for, pixels */
+    int threads;            /* worker threads (0: as many as cores, at most 2) */
+} tram_detect_options;
+
+TRAM_API void tram_detect_options_init(tram_detect_options *opt);
+
+/* One image's result.  A board is found whole or not at all. */
+typedef struct tram_detection {
+    int found;              /* 1: all cols*rows corners found and ordered  */
+    size_t ncorners;        /* cols*rows when found, else 0                */
+    double *uv;             /* 2*ncorners pixels: corner id i at uv[2i], uv[2i+1] */
+    size_t nseen;           /* corners of a lattice seen (also when not found) */
+    double sharpness;       /* mean edge sharpness at the corners (docs/images.md) */
+    char reason[256];       /* why not found; "" when found                */
+} tram_detection;
+
+/* Detect b in im.  A board not found is TRAM_OK with found = 0 and the
+ * reason; errors are bad arguments (TRAM_EINPUT) and TRAM_ENOMEM. */
+TRAM_API tram_status tram_detect_chessboard(const tram_grey_image *im, const tram_board *b,
+                                            const tram_detect_options *opt,
+                                            tram_detection **out, tram_error *err);
+TRAM_API void tram_detection_destroy(tram_detection *d);
+
 #ifdef __cplusplus
 }
 #endif
