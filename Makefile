@@ -47,7 +47,7 @@ FUZZ_SECONDS ?= 60
 # make test fixes it so that its short run is repeatable.
 FUZZ_SEED ?= 0
 
-.PHONY: all deps test unit cli-tests ref-tests asan clang-check demo install install-check clean tools bench \
+.PHONY: all deps layers test unit cli-tests ref-tests asan clang-check demo install install-check clean tools bench \
         fuzz fuzz-lib fuzz-bin fuzz-replay coverage valgrind valgrind-run
 
 all: $(B)/tram $(B)/libtram.a $(B)/libtram.so
@@ -218,8 +218,13 @@ clang-check:
 	  $(MAKE) B=build-clang CC=clang all; \
 	else echo "clang not installed: clang build skipped"; fi
 
+# The layering of src/ (docs/architecture.md), from the #include lines.
+layers:
+	@sh tools/check_layers.sh
+
 test:
 	@$(MAKE) --no-print-directory deps
+	@$(MAKE) --no-print-directory layers
 	@$(MAKE) --no-print-directory all
 	@$(MAKE) --no-print-directory clang-check
 	@$(MAKE) --no-print-directory unit

@@ -4,7 +4,7 @@
 
 #include <cjson/cJSON.h>
 
-#include "solve/solve_internal.h"
+#include "math/stats_internal.h"
 
 typedef struct synth {
     size_t n;

@@ -12,6 +12,7 @@
 #include "tram/handeye.h"
 #include "tram/plot.h"
 #include "tram/points.h"
+#include "tram/point_solve.h"
 #include "tram/records.h"
 #include "tram/register.h"
 #include "tram/rotation.h"

@@ -18,10 +18,11 @@
  *   joint j with axis z_j through p_j (base frame) and flange origin p_e,
  *   revolute: [z_j x (p_e - p_j); z_j], prismatic: [z_j; 0].
  */
+#include "math/so3_internal.h"
 #include "tram/chain.h"
 #include "tram/rotation.h"
 #include "io/json_internal.h"
-#include "io/records_internal.h"
+#include "io/text_internal.h"
 
 #include <cjson/cJSON.h>
 #include <math.h>

@@ -6,7 +6,7 @@
  */
 #include "tram/check.h"
 #include "io/json_internal.h"
-#include "io/records_internal.h"
+#include "io/text_internal.h"
 
 #include <cjson/cJSON.h>
 #include <math.h>

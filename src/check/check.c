@@ -27,10 +27,11 @@
  * "inconsistent" (a robot, detection or data problem).
  * Chi-square quantiles by the Wilson-Hilferty approximation (1931).
  */
+#include "math/so3_internal.h"
 #include "tram/check.h"
 #include "math/linalg_internal.h"
 #include "solve/refine_internal.h"
-#include "solve/solve_internal.h"
+#include "solve/pipeline_internal.h"
 
 #include <math.h>
 #include <stdio.h>

@@ -4,7 +4,7 @@
  * calibration file.
  */
 #include "cli.h"
-#include "tram/points.h"
+#include "tram/point_solve.h"
 
 #include <math.h>
 #include <stdlib.h>

@@ -116,3 +116,17 @@ double tram_unit_angle_in_rad(tram_angle_unit u)
 }
 
 const char *tram_version(void) { return TRAM_VERSION_STRING; }
+
+void tram__offset_pos(const char *data, size_t off, long *line, long *col)
+{
+    long l = 1, c = 1;
+    for (size_t i = 0; i < off; i++) {
+        if (data[i] == '\n') {
+            l++;
+            c = 1;
+        } else
+            c++;
+    }
+    *line = l;
+    *col = c;
+}

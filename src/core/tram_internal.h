@@ -6,8 +6,6 @@
 #define TRAM_INTERNAL_H
 
 #include "tram/common.h"
-#include "tram/so3.h"
-#include "tram/se3.h"
 
 #define TRAM_PI 3.14159265358979323846
 
@@ -33,7 +31,6 @@ static inline void tram__cross3(const double a[3], const double b[3], double out
     double c2 = a[0] * b[1] - a[1] * b[0];
     out[0] = c0; out[1] = c1; out[2] = c2;
 }
-double tram__norm3(const double a[3]);
 
 /* splitmix64 (Steele, Lea & Flood, OOPSLA 2014): a small seedable generator
  * for resampling; the state advances on every call. */
@@ -48,13 +45,6 @@ static inline unsigned long long tram__splitmix64(unsigned long long *s)
 /* Line and column (1-based) of byte offset off in data. */
 void tram__offset_pos(const char *data, size_t off, long *line, long *col);
 
-static inline double tram__det3(const tram_mat3 *M)
-{
-    const double(*a)[3] = M->m;
-    return a[0][0] * (a[1][1] * a[2][2] - a[1][2] * a[2][1]) -
-           a[0][1] * (a[1][0] * a[2][2] - a[1][2] * a[2][0]) +
-           a[0][2] * (a[1][0] * a[2][1] - a[1][1] * a[2][0]);
-}
 
 /* Allocation through one hook, so tests can make allocations fail. */
 void *tram__malloc(size_t n);

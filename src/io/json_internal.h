@@ -13,6 +13,7 @@
 
 #include <cjson/cJSON.h>
 
+#include "tram/se3.h"
 #include "core/tram_internal.h"
 
 typedef struct tram__jb {

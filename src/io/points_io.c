@@ -3,7 +3,7 @@
  * (docs/points.md), on the strict CSV tables of table.c.
  */
 #include "tram/points.h"
-#include "io/records_internal.h"
+#include "io/text_internal.h"
 #include "io/table_internal.h"
 
 #include <stdio.h>

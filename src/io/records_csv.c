@@ -9,7 +9,9 @@
  * Fields are trimmed of blanks; quoting is not supported.  Columns are
  * reported as the 1-based character position where the field starts.
  */
-#include "io/records_internal.h"
+#include "io/records_csv_internal.h"
+#include "io/records_schema_internal.h"
+#include "io/text_internal.h"
 
 #include <ctype.h>
 #include <stdio.h>
@@ -70,46 +72,6 @@ static int directive_split(char *text, char **key, char **value, long *col_off)
     *value = p;
     *col_off = (long)(k - text);
     return 1;
-}
-
-typedef struct id_ref {
-    const char *id;
-    size_t index;
-} id_ref;
-
-static int id_cmp(const void *a, const void *b)
-{
-    const id_ref *x = a, *y = b;
-    int c = strcmp(x->id, y->id);
-    if (c) return c;
-    return x->index < y->index ? -1 : (x->index > y->index);
-}
-
-/* Duplicate station ids: sort references, compare neighbours. */
-
-tram_status tram__check_unique_ids(tram_records *r, tram_error *err)
-{
-    if (r->count < 2) return TRAM_OK;
-    id_ref *refs = tram__malloc(r->count * sizeof *refs);
-    if (!refs) return tram__fail(err, TRAM_ENOMEM, r->source, 0, 0, "out of memory");
-    for (size_t i = 0; i < r->count; i++) {
-        refs[i].id = r->stations[i].id;
-        refs[i].index = i;
-    }
-    qsort(refs, r->count, sizeof *refs, id_cmp);
-    tram_status s = TRAM_OK;
-    for (size_t i = 1; i < r->count; i++)
-        if (strcmp(refs[i].id, refs[i - 1].id) == 0) {
-            const tram_station *a = &r->stations[refs[i - 1].index];
-            const tram_station *b = &r->stations[refs[i].index];
-            s = tram__fail(err, TRAM_EINPUT, r->source, b->line, 0,
-                           "duplicate station id '%s' (first at line %ld): station ids must be "
-                           "unique",
-                           b->id, a->line);
-            break;
-        }
-    tram__free(refs);
-    return s;
 }
 
 tram_status tram__records_read_csv(const char *name, const char *data, size_t len,

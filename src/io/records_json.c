@@ -16,25 +16,13 @@
  * station's object starts, found by scanning the text.
  */
 #include "io/json_internal.h"
-#include "io/records_internal.h"
+#include "io/records_json_internal.h"
+#include "io/records_schema_internal.h"
+#include "io/text_internal.h"
 
 #include <cjson/cJSON.h>
 #include <stdio.h>
 #include <string.h>
-
-void tram__offset_pos(const char *data, size_t off, long *line, long *col)
-{
-    long l = 1, c = 1;
-    for (size_t i = 0; i < off; i++) {
-        if (data[i] == '\n') {
-            l++;
-            c = 1;
-        } else
-            c++;
-    }
-    *line = l;
-    *col = c;
-}
 
 /* Line of the start of the k-th element of the "stations" array: a scan of
  * the text that tracks nesting depth and strings. */

@@ -9,7 +9,7 @@
  * for bit.
  */
 #include "io/json_internal.h"
-#include "io/records_internal.h"
+#include "io/records_schema_internal.h"
 #include "tram/rotation.h"
 
 #include <stdio.h>

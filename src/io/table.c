@@ -9,7 +9,7 @@
 #include <stdio.h>
 #include <string.h>
 
-#include "io/records_internal.h"
+#include "io/text_internal.h"
 
 void tram__table_free(tram__table *t)
 {

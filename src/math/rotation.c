@@ -12,6 +12,7 @@
  *     number of at least 1/2.
  *   Rotation vectors are the SO(3) exp/log maps (so3.c).
  */
+#include "math/so3_internal.h"
 #include "tram/rotation.h"
 #include "core/tram_internal.h"
 

@@ -9,6 +9,7 @@
  *   log inverts it with V^-1 = I - K/2 + (1/t^2)(1 - A/(2B)) K^2,
  *            A = sin t / t  (Barfoot 2017, section 7.1.3).
  */
+#include "math/so3_internal.h"
 #include "core/tram_internal.h"
 
 #include <math.h>

@@ -14,6 +14,7 @@
  *   mean   = nearest(sum w_i R_i): the chordal L2 mean (Hartley, Trumpf,
  *            Dai & Li, "Rotation averaging", IJCV 2013).
  */
+#include "math/so3_internal.h"
 #include "math/linalg_internal.h"
 
 #include <math.h>

@@ -18,6 +18,7 @@
  * Cov = s^2 (J^T W J)^-1 with s^2 the weighted residual sum over 3n - 6
  * (3D rigid; 3n - 7 with scale; 2n - 3 / 2n - 4 in 2D).
  */
+#include "math/so3_internal.h"
 #include "tram/register.h"
 #include "math/linalg_internal.h"
 

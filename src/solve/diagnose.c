@@ -22,7 +22,8 @@
 #include "tram/rotation.h"
 #include "solve/handeye_internal.h"
 #include "math/linalg_internal.h"
-#include "solve/solve_internal.h"
+#include "solve/diagnose_internal.h"
+#include "solve/pipeline_internal.h"
 
 #include <math.h>
 #include <stdio.h>

@@ -25,6 +25,7 @@
  *     (R_A (x) I - I (x) R_B^T) vec(R_X) = 0 (row-major vec), the null
  *     vector scaled to det +1 and projected onto SO(3).
  */
+#include "math/so3_internal.h"
 #include "tram/handeye.h"
 #include "tram/rotation.h"
 #include "solve/handeye_internal.h"

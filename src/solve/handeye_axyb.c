@@ -15,6 +15,7 @@
  *     from the scalar parts of the relative motions, which AX=XB forces to
  *     agree.  Translation as for Shah.
  */
+#include "math/so3_internal.h"
 #include "tram/rotation.h"
 #include "solve/handeye_internal.h"
 #include "math/linalg_internal.h"

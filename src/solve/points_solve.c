@@ -19,11 +19,13 @@
  * Observations whose residual exceeds 4.59 robust sigmas (as for stations
  * in solve.c) are excluded and the refinement repeated.
  */
-#include "tram/points.h"
+#include "tram/point_solve.h"
 #include "tram/register.h"
 #include "math/linalg_internal.h"
 #include "solve/refine_internal.h"
-#include "solve/solve_internal.h"
+#include "solve/diagnose_internal.h"
+#include "solve/pipeline_internal.h"
+#include "math/stats_internal.h"
 
 #include <math.h>
 #include <stdio.h>
@@ -32,18 +34,6 @@
 
 #define OUTLIER_K 4.5943
 #define CHI3_MEDIAN_SQRT 1.5381722
-
-void tram__point_result_free(struct tram_point_result *p)
-{
-    if (!p) return;
-    tram__free(p->station_rms);
-    tram__free(p->point_id);
-    tram__free(p->point_rms);
-    tram__free(p->residual);
-    tram__free(p->excluded);
-    tram__free(p->model_xyz);
-    tram__free(p);
-}
 
 typedef struct pctx {
     const tram_se3 *P;

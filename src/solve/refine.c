@@ -20,6 +20,7 @@
  * Bootstrap: stations resampled with replacement (Efron, Ann. Statist. 7(1),
  * 1979), each resample refined from the solution.
  */
+#include "tram/se3.h"
 #include "solve/refine_internal.h"
 #include "math/linalg_internal.h"
 

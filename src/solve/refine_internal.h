@@ -5,6 +5,7 @@
 #ifndef TRAM_REFINE_INTERNAL_H
 #define TRAM_REFINE_INTERNAL_H
 
+#include "tram/se3.h"
 #include "core/tram_internal.h"
 
 typedef struct tram_refine_problem {

@@ -5,10 +5,10 @@
  * trip); values that are not defined are null.  Built through
  * json_internal.h, so a failed allocation never yields a partial file.
  */
-#include "tram/points.h"
+#include "tram/point_solve.h"
 #include "tram/rotation.h"
 #include "io/json_internal.h"
-#include "solve/solve_internal.h"
+#include "solve/pipeline_internal.h"
 
 #include <math.h>
 #include <stdio.h>

@@ -24,7 +24,9 @@
  *  8. Convention and unit checks (diagnose.c).
  */
 #include "solve/refine_internal.h"
-#include "solve/solve_internal.h"
+#include "solve/diagnose_internal.h"
+#include "solve/pipeline_internal.h"
+#include "math/stats_internal.h"
 
 #include <math.h>
 #include <stdarg.h>
@@ -32,7 +34,6 @@
 #include <stdlib.h>
 #include <string.h>
 
-#define CHI3_MEDIAN_SQRT 1.5381722 /* sqrt(2.36597) */
 
 void tram_solve_options_init(tram_solve_options *opt)
 {
@@ -43,188 +44,6 @@ void tram_solve_options_init(tram_solve_options *opt)
     opt->pairs = TRAM_PAIRS_AUTO;
     opt->seed = 1;
     opt->check_conventions = 1;
-}
-
-tram_status tram__diag_add(tram_solution *s, const char *code, tram_severity sev,
-                           const char *fmt, ...)
-{
-    tram_diagnostic *d = tram__realloc(s->diag, (s->ndiag + 1) * sizeof *d);
-    if (!d) return TRAM_ENOMEM;
-    s->diag = d;
-    tram_diagnostic *x = &d[s->ndiag++];
-    snprintf(x->code, sizeof x->code, "%s", code);
-    x->severity = sev;
-    va_list ap;
-    va_start(ap, fmt);
-    vsnprintf(x->message, sizeof x->message, fmt, ap);
-    va_end(ap);
-    if (sev >= TRAM_SEVERITY_WARNING) s->trustworthy = 0;
-    return TRAM_OK;
-}
-
-void tram__point_result_free(struct tram_point_result *p);
-
-void tram_solution_destroy(tram_solution *s)
-{
-    if (!s) return;
-    tram__point_result_free(s->points);
-    tram__free(s->stations);
-    tram__free(s->diag);
-    tram__free(s);
-}
-
-tram_status tram__station_poses(const tram_records *r, tram_setup setup, tram_se3 **P,
-                                tram_se3 **S)
-{
-    *P = tram__malloc(r->count * sizeof **P);
-    *S = tram__malloc(r->count * sizeof **S);
-    if (!*P || !*S) {
-        tram__free(*P);
-        tram__free(*S);
-        *P = *S = NULL;
-        return TRAM_ENOMEM;
-    }
-    for (size_t i = 0; i < r->count; i++) {
-        if (setup == TRAM_SETUP_EYE_TO_HAND)
-            tram_se3_invert(&r->stations[i].T_base_flange, &(*P)[i]); /* T_flange_base */
-        else
-            (*P)[i] = r->stations[i].T_base_flange;
-        (*S)[i] = r->stations[i].T_sensor_target;
-    }
-    return TRAM_OK;
-}
-
-/* Order-preserving key of a double: negative numbers have every bit
- * flipped, others the sign bit set, so that unsigned order is numeric
- * order (-0 sorts just below +0). */
-static unsigned long long order_key(double x)
-{
-    unsigned long long u;
-    memcpy(&u, &x, sizeof u);
-    return (u >> 63) ? ~u : (u | 0x8000000000000000ULL);
-}
-
-static double from_order_key(unsigned long long k)
-{
-    unsigned long long u = (k >> 63) ? (k & 0x7FFFFFFFFFFFFFFFULL) : ~k;
-    double x;
-    memcpy(&x, &u, sizeof x);
-    return x;
-}
-
-double tram__kth(size_t n, double (*get)(const void *ctx, size_t i), const void *ctx, size_t k)
-{
-    /* Decide the result's key bit by bit from the top: count the values
-     * that share the bits decided so far and have a 0 in this one. */
-    unsigned long long prefix = 0;
-    for (int b = 63; b >= 0; b--) {
-        unsigned long long bit = 1ULL << b, above = b == 63 ? 0 : ~((bit << 1) - 1);
-        size_t zeros = 0;
-        for (size_t i = 0; i < n; i++) {
-            unsigned long long key = order_key(get(ctx, i));
-            zeros += (key & above) == prefix && !(key & bit);
-        }
-        if (k >= zeros) {
-            k -= zeros;
-            prefix |= bit;
-        }
-    }
-    return from_order_key(prefix);
-}
-
-/* Median of get(ctx, 0 .. n-1); 0 for n = 0.  For even n the upper middle
- * value follows from the lower in one more pass: the lower itself when it
- * is repeated past the middle, else the smallest value above it. */
-static double median_of(size_t n, double (*get)(const void *ctx, size_t i), const void *ctx)
-{
-    if (n == 0) return 0.0;
-    if (n % 2) return tram__kth(n, get, ctx, n / 2);
-    double lo = tram__kth(n, get, ctx, n / 2 - 1), hi = INFINITY;
-    unsigned long long klo = order_key(lo);
-    size_t at_most = 0;
-    for (size_t i = 0; i < n; i++) {
-        double x = get(ctx, i);
-        unsigned long long k = order_key(x);
-        if (k <= klo) at_most++;
-        else if (k < order_key(hi)) hi = x;
-    }
-    return 0.5 * (lo + (at_most > n / 2 ? lo : hi));
-}
-
-static double array_get(const void *ctx, size_t i) { return ((const double *)ctx)[i]; }
-
-double tram__median(const double *v, size_t n) { return median_of(n, array_get, v); }
-
-double tram__robust_sigma3(const double *norms, size_t n)
-{
-    return tram__median(norms, n) / CHI3_MEDIAN_SQRT;
-}
-
-/* Distances from their frames' origins of the flange (even i) and of the
- * target (odd i): the lengths whose median sets the problem's scale. */
-typedef struct scale_ctx {
-    const tram_se3 *P, *S;
-} scale_ctx;
-
-static double origin_distance(const void *ctx, size_t i)
-{
-    const scale_ctx *c = ctx;
-    const tram_se3 *T = i % 2 ? &c->S[i / 2] : &c->P[i / 2];
-    return sqrt(tram__sq(T->m[0][3]) + tram__sq(T->m[1][3]) + tram__sq(T->m[2][3]));
-}
-
-static double length_scale(const tram_se3 *P, const tram_se3 *S, size_t n)
-{
-    scale_ctx c = {P, S};
-    double m = median_of(2 * n, origin_distance, &c);
-    return m > 0 ? m : 1.0;
-}
-
-/* Residual norms of every station: rotation (rad) and translation. */
-static void residual_norms(const tram_se3 *P, const tram_se3 *S, size_t n, const tram_se3 *X,
-                           const tram_se3 *Z, double *rot, double *tr)
-{
-    tram_handeye_residuals(P, S, n, X, Z, rot, tr);
-}
-
-static void floor_noise(double *sa, double *sl, double lscale)
-{
-    /* Noise-free data: keep the weights finite. */
-    if (!(*sa > 1e-12)) *sa = 1e-12;
-    if (!(*sl > 1e-12 * lscale)) *sl = 1e-12 * lscale;
-}
-
-tram_status tram__quick_fit(const tram_se3 *P, const tram_se3 *S, size_t n, double *med_rot,
-                            double *med_trans, tram_se3 *Xo, tram_se3 *Zo)
-{
-    tram_pair *pairs;
-    size_t np;
-    if (tram_handeye_pairs(n, TRAM_PAIRS_AUTO, &pairs, &np) != TRAM_OK) return TRAM_ENOMEM;
-    tram_se3 X, Z;
-    tram_error e;
-    tram_status st =
-        tram_handeye_closed_form(TRAM_METHOD_PARK_MARTIN, P, S, n, pairs, np, &X, &Z, &e);
-    tram__free(pairs);
-    if (st != TRAM_OK) return st;
-    double *rot = tram__malloc(2 * n * sizeof *rot);
-    if (!rot) return TRAM_ENOMEM;
-    double *tr = rot + n;
-    residual_norms(P, S, n, &X, &Z, rot, tr);
-    tram_refine_problem pb = {.P = P, .S = S, .n = n,
-                              .sigma_angle = tram__robust_sigma3(rot, n),
-                              .sigma_length = tram__robust_sigma3(tr, n),
-                              .length_scale = length_scale(P, S, n)};
-    floor_noise(&pb.sigma_angle, &pb.sigma_length, pb.length_scale);
-    st = tram__refine_run(&pb, NULL, 1, &X, &Z);
-    if (st == TRAM_OK) {
-        residual_norms(P, S, n, &X, &Z, rot, tr);
-        *med_rot = tram__median(rot, n);
-        *med_trans = tram__median(tr, n);
-        if (Xo) *Xo = X;
-        if (Zo) *Zo = Z;
-    }
-    tram__free(rot);
-    return st;
 }
 
 /* RMS, median and max of v[i] * f over the stations not skipped;
@@ -285,7 +104,7 @@ static tram_status pick_start(const tram_se3 *P, const tram_se3 *S, size_t n,
             if (st == TRAM_ENOMEM) break;
             continue;
         }
-        residual_norms(P, S, n, &Xs[m], &Zs[m], rot, tr);
+        tram_handeye_residuals(P, S, n, &Xs[m], &Zs[m], rot, tr);
         tram_stats a, b;
         if (stats_of(rot, NULL, n, 180.0 / TRAM_PI, &a) != TRAM_OK ||
             stats_of(tr, NULL, n, 1.0, &b) != TRAM_OK) {
@@ -356,18 +175,18 @@ static tram_status refine_all(const tram_se3 *P, const tram_se3 *S, size_t n,
     double *tr = rot + n, *w = rot + 2 * n;
     tram_refine_problem pb = {.P = P, .S = S, .n = n, .sigma_angle = opt->noise_angle_rad,
                               .sigma_length = opt->noise_length,
-                              .length_scale = length_scale(P, S, n)};
+                              .length_scale = tram__length_scale(P, S, n)};
     int given = opt->noise_angle_rad > 0 && opt->noise_length > 0;
     tram_status st = TRAM_OK;
-    residual_norms(P, S, n, &sol->X, &sol->Z, rot, tr);
+    tram_handeye_residuals(P, S, n, &sol->X, &sol->Z, rot, tr);
     for (int round = 0; round < 2 && st == TRAM_OK; round++) {
         if (!given) {
             pb.sigma_angle = tram__robust_sigma3(rot, n);
             pb.sigma_length = tram__robust_sigma3(tr, n);
         }
-        floor_noise(&pb.sigma_angle, &pb.sigma_length, pb.length_scale);
+        tram__floor_noise(&pb.sigma_angle, &pb.sigma_length, pb.length_scale);
         st = tram__refine_run(&pb, NULL, opt->robust, &sol->X, &sol->Z);
-        residual_norms(P, S, n, &sol->X, &sol->Z, rot, tr);
+        tram_handeye_residuals(P, S, n, &sol->X, &sol->Z, rot, tr);
         if (!opt->robust) break;
     }
     if (st == TRAM_OK && opt->robust) {
@@ -382,7 +201,7 @@ static tram_status refine_all(const tram_se3 *P, const tram_se3 *S, size_t n,
     for (size_t i = 0; i < n; i++) nin += flag[i] ? 0 : 1;
     if (st == TRAM_OK) st = tram__refine_run(&pb, w, 0, &sol->X, &sol->Z);
     if (st == TRAM_OK) {
-        residual_norms(P, S, n, &sol->X, &sol->Z, rot, tr);
+        tram_handeye_residuals(P, S, n, &sol->X, &sol->Z, rot, tr);
         if (!given && nin > 2) {
             /* Per-axis noise from the inliers, 6 of the 12 parameters
              * charged to each of rotation and translation. */
@@ -394,9 +213,9 @@ static tram_status refine_all(const tram_se3 *P, const tram_se3 *S, size_t n,
                 }
             pb.sigma_angle = sqrt(sr / (double)(3 * nin - 6));
             pb.sigma_length = sqrt(stt / (double)(3 * nin - 6));
-            floor_noise(&pb.sigma_angle, &pb.sigma_length, pb.length_scale);
+            tram__floor_noise(&pb.sigma_angle, &pb.sigma_length, pb.length_scale);
             st = tram__refine_run(&pb, w, 0, &sol->X, &sol->Z);
-            residual_norms(P, S, n, &sol->X, &sol->Z, rot, tr);
+            tram_handeye_residuals(P, S, n, &sol->X, &sol->Z, rot, tr);
         }
     }
     if (st == TRAM_OK) {
@@ -529,7 +348,7 @@ tram_status tram_solve(const tram_records *r, tram_setup setup, const tram_solve
             tram__free(skip);
             goto nomem;
         }
-        residual_norms(P, S, n, &sol->X, &sol->Z, rot, rot + n);
+        tram_handeye_residuals(P, S, n, &sol->X, &sol->Z, rot, rot + n);
         for (size_t i = 0; i < n; i++) {
             sol->stations[i].rot_deg = rot[i] * 180.0 / TRAM_PI;
             sol->stations[i].trans = rot[n + i];

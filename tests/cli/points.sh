@@ -19,9 +19,7 @@ f=$(printf '# length-unit: mm\nfrom_x,from_y,from_z,to_x,to_y\n' | mk half.csv)
 expect_error "register z for one side" 2 "half.csv:2: error: from_z without to_z" register "$f"
 
 jin="$here/../../../shared/datasets/jin2023/eyeinhand_pattern"
-if [ ! -d "$jin" ]; then
-    bad "dataset missing: $jin"
-else
+if have_dataset "$jin"; then
     sh "$here/../../tools/jin2023_to_tram.sh" "$jin" "$tmp/jin" zyx-intrinsic
     # Declared with a wrong convention: the doctor names the right one (exit 3).
     "$TRAM" solve --points "$tmp/jin/points.csv" "$tmp/jin/records.csv" >"$tmp/out" 2>"$tmp/err"; rc=$?

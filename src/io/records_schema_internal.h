@@ -1,10 +1,11 @@
 /*
- * records_internal.h - pieces shared by the record-file readers (CSV and
- * JSON) and the writer: the column schema, the directive set, and the final
- * checks that turn raw numbers into poses.
+ * records_schema_internal.h - the bottom of record-file reading, shared by
+ * the CSV and JSON readers and the writer: the column schema, the
+ * directive set, the final checks that turn raw numbers into poses, and
+ * the unique-id check (records_schema.c).
  */
-#ifndef TRAM_RECORDS_INTERNAL_H
-#define TRAM_RECORDS_INTERNAL_H
+#ifndef TRAM_RECORDS_SCHEMA_INTERNAL_H
+#define TRAM_RECORDS_SCHEMA_INTERNAL_H
 
 #include "tram/records.h"
 #include "core/tram_internal.h"
@@ -61,21 +62,6 @@ const char *tram__rep_slot_name(tram_rep_kind k, int slot);
 tram_status tram__records_finish(tram_records *r, const rec_schema *s, const rec_directives *d,
                                  const tram_read_options *opt, long header_line,
                                  tram_error *err);
-
-tram_status tram__records_read_csv(const char *name, const char *data, size_t len,
-                                   const tram_read_options *opt, tram_records **out,
-                                   tram_error *err);
-tram_status tram__records_read_json(const char *name, const char *data, size_t len,
-                                    const tram_read_options *opt, tram_records **out,
-                                    tram_error *err);
-
-/* Parse a whole field as a finite double (no NaN, no Inf).  0 on success. */
-int tram__parse_double(const char *s, double *out);
-
-/* Read a whole file ("-" = stdin) into a NUL-terminated buffer. */
-tram_status tram__read_all(const char *path, char **data, size_t *len, tram_error *err);
-
-unsigned long long tram__fnv1a64(const char *data, size_t len);
 
 /* Error on the first repeated station id. */
 tram_status tram__check_unique_ids(tram_records *r, tram_error *err);
