@@ -253,179 +253,195 @@ static void print_summary(const tram_solution *s, const tram_records *r)
     printf("%s", cli_safety_text);
 }
 
-int cli_solve(int argc, char **argv)
-{
-    const char *file = NULL, *out_path = NULL, *v = NULL;
+/* Everything the command line asked for. */
+typedef struct solve_args {
+    const char *file, *out_path, *noise, *method, *pair_sel, *chain, *points, *model, *plot_dir;
     tram_solve_options so;
-    tram_solve_options_init(&so);
     tram_read_options ro;
-    memset(&ro, 0, sizeof ro);
-    tram_setup setup = TRAM_SETUP_UNSET;
-    int json = 0, force = 0, bad = 0;
-    const char *noise = NULL, *method = "auto", *pair_sel = NULL, *chain = NULL;
-    const char *points = NULL, *model = NULL, *plot_dir = NULL;
-    tram_pair *pair_list = NULL;
+    tram_setup setup;
+    int json, force;
+} solve_args;
+
+/* One option that takes a value of the solver's (method, pairs, counts,
+ * units).  Returns 1 when argv[*i] was such an option (then *rc is set on a
+ * bad value), 0 otherwise. */
+static int take_solver_option(int argc, char **argv, int *i, solve_args *a, int *bad, int *rc)
+{
+    const char *v = NULL;
+    char *end;
+    if (cli_take(argc, argv, i, "--setup", &v, bad)) {
+        if (*bad) return 1;
+        a->setup = tram_setup_parse(v);
+        if (a->setup == TRAM_SETUP_UNSET)
+            *rc = cli_usage_error("solve", "--setup '%s': expected eye-in-hand or eye-to-hand", v);
+    } else if (cli_take(argc, argv, i, "--method", &v, bad)) {
+        if (*bad) return 1;
+        a->so.method = tram_method_parse(v);
+        a->method = v;
+        if (a->so.method == TRAM_METHOD_COUNT)
+            *rc = cli_usage_error("solve",
+                                  "--method '%s': expected auto, tsai-lenz, park-martin, "
+                                  "horaud-dornaika, daniilidis, andreff, shah or zhuang",
+                                  v);
+    } else if (cli_take(argc, argv, i, "--pairs", &v, bad)) {
+        if (*bad) return 1;
+        if (strcmp(v, "auto") == 0) a->so.pairs = TRAM_PAIRS_AUTO;
+        else if (strcmp(v, "all") == 0) a->so.pairs = TRAM_PAIRS_ALL;
+        else if (strcmp(v, "consecutive") == 0) a->so.pairs = TRAM_PAIRS_CONSECUTIVE;
+        else if (strchr(v, ':')) a->pair_sel = v;
+        else *rc = cli_usage_error("solve", "--pairs '%s': expected auto, all, consecutive or ID:ID,...", v);
+    } else if (cli_take(argc, argv, i, "--bootstrap", &v, bad)) {
+        if (*bad) return 1;
+        long n = strtol(v, &end, 10);
+        if (*end || n < 0 || n > 1000000)
+            *rc = cli_usage_error("solve", "--bootstrap '%s': expected a count", v);
+        else a->so.bootstrap = (size_t)n;
+    } else if (cli_take(argc, argv, i, "--seed", &v, bad)) {
+        if (*bad) return 1;
+        a->so.seed = strtoull(v, &end, 10);
+        if (*end) *rc = cli_usage_error("solve", "--seed '%s': expected a number", v);
+    } else if (cli_take(argc, argv, i, "--length-unit", &v, bad)) {
+        if (*bad) return 1;
+        a->ro.length_unit = tram_unit_length_parse(v);
+        if (a->ro.length_unit == TRAM_LENGTH_UNSET)
+            *rc = cli_usage_error("solve", "--length-unit '%s': expected mm, cm, m or in", v);
+    } else if (cli_take(argc, argv, i, "--angle-unit", &v, bad)) {
+        if (*bad) return 1;
+        a->ro.angle_unit = tram_unit_angle_parse(v);
+        if (a->ro.angle_unit == TRAM_ANGLE_UNSET)
+            *rc = cli_usage_error("solve", "--angle-unit '%s': expected deg or rad", v);
+    } else {
+        return 0;
+    }
+    return 1;
+}
+
+/* One on/off flag; 1 when argv[i] was one. */
+static int take_flag(char **argv, int i, solve_args *a)
+{
+    if (cli_flag(argv, i, "--closed-form")) a->so.refine = 0;
+    else if (cli_flag(argv, i, "--no-robust")) a->so.robust = 0;
+    else if (cli_flag(argv, i, "--no-convention-check")) a->so.check_conventions = 0;
+    else if (cli_flag(argv, i, "--reorthonormalize")) a->ro.reorthonormalize = 1;
+    else if (cli_flag(argv, i, "--json")) a->json = 1;
+    else if (cli_flag(argv, i, "--force")) a->force = 1;
+    else return 0;
+    return 1;
+}
+
+/* Parse the command line into a; CLI_EXIT_OK or the exit status. */
+static int parse_args(int argc, char **argv, solve_args *a)
+{
+    memset(a, 0, sizeof *a);
+    tram_solve_options_init(&a->so);
+    a->setup = TRAM_SETUP_UNSET;
+    a->method = "auto";
+    int bad = 0;
     for (int i = 1; i < argc; i++) {
-        if (cli_take(argc, argv, &i, "--setup", &v, &bad)) {
-            if (bad) break;
-            setup = tram_setup_parse(v);
-            if (setup == TRAM_SETUP_UNSET)
-                return cli_usage_error("solve", "--setup '%s': expected eye-in-hand or eye-to-hand", v);
-        } else if (cli_take(argc, argv, &i, "--method", &v, &bad)) {
-            if (bad) break;
-            so.method = tram_method_parse(v);
-            method = v;
-            if (so.method == TRAM_METHOD_COUNT)
-                return cli_usage_error("solve",
-                                       "--method '%s': expected auto, tsai-lenz, park-martin, "
-                                       "horaud-dornaika, daniilidis, andreff, shah or zhuang",
-                                       v);
-        } else if (cli_take(argc, argv, &i, "--pairs", &v, &bad)) {
-            if (bad) break;
-            if (strcmp(v, "auto") == 0) so.pairs = TRAM_PAIRS_AUTO;
-            else if (strcmp(v, "all") == 0) so.pairs = TRAM_PAIRS_ALL;
-            else if (strcmp(v, "consecutive") == 0) so.pairs = TRAM_PAIRS_CONSECUTIVE;
-            else if (strchr(v, ':')) pair_sel = v;
-            else return cli_usage_error("solve", "--pairs '%s': expected auto, all, consecutive or ID:ID,...", v);
-        } else if (cli_take(argc, argv, &i, "--noise", &noise, &bad)) {
-        } else if (cli_take(argc, argv, &i, "--chain", &chain, &bad)) {
-        } else if (cli_take(argc, argv, &i, "--plot", &plot_dir, &bad)) {
-        } else if (cli_take(argc, argv, &i, "--points", &points, &bad)) {
-        } else if (cli_take(argc, argv, &i, "--model", &model, &bad)) {
-        } else if (cli_take(argc, argv, &i, "--bootstrap", &v, &bad)) {
-            if (bad) break;
-            char *end;
-            long n = strtol(v, &end, 10);
-            if (*end || n < 0 || n > 1000000)
-                return cli_usage_error("solve", "--bootstrap '%s': expected a count", v);
-            so.bootstrap = (size_t)n;
-        } else if (cli_take(argc, argv, &i, "--seed", &v, &bad)) {
-            if (bad) break;
-            char *end;
-            so.seed = strtoull(v, &end, 10);
-            if (*end) return cli_usage_error("solve", "--seed '%s': expected a number", v);
-        } else if (cli_take(argc, argv, &i, "--length-unit", &v, &bad)) {
-            if (bad) break;
-            ro.length_unit = tram_unit_length_parse(v);
-            if (ro.length_unit == TRAM_LENGTH_UNSET)
-                return cli_usage_error("solve", "--length-unit '%s': expected mm, cm, m or in", v);
-        } else if (cli_take(argc, argv, &i, "--angle-unit", &v, &bad)) {
-            if (bad) break;
-            ro.angle_unit = tram_unit_angle_parse(v);
-            if (ro.angle_unit == TRAM_ANGLE_UNSET)
-                return cli_usage_error("solve", "--angle-unit '%s': expected deg or rad", v);
-        } else if (cli_take(argc, argv, &i, "-o", &out_path, &bad)) {
-        } else if (cli_flag(argv, i, "--closed-form")) {
-            so.refine = 0;
-        } else if (cli_flag(argv, i, "--no-robust")) {
-            so.robust = 0;
-        } else if (cli_flag(argv, i, "--no-convention-check")) {
-            so.check_conventions = 0;
-        } else if (cli_flag(argv, i, "--reorthonormalize")) {
-            ro.reorthonormalize = 1;
-        } else if (cli_flag(argv, i, "--json")) {
-            json = 1;
-        } else if (cli_flag(argv, i, "--force")) {
-            force = 1;
+        int rc = CLI_EXIT_OK;
+        if (take_solver_option(argc, argv, &i, a, &bad, &rc)) {
+            if (rc != CLI_EXIT_OK) return rc;
+        } else if (cli_take(argc, argv, &i, "--noise", &a->noise, &bad)) {
+        } else if (cli_take(argc, argv, &i, "--chain", &a->chain, &bad)) {
+        } else if (cli_take(argc, argv, &i, "--plot", &a->plot_dir, &bad)) {
+        } else if (cli_take(argc, argv, &i, "--points", &a->points, &bad)) {
+        } else if (cli_take(argc, argv, &i, "--model", &a->model, &bad)) {
+        } else if (cli_take(argc, argv, &i, "-o", &a->out_path, &bad)) {
+        } else if (take_flag(argv, i, a)) {
         } else if (argv[i][0] == '-' && argv[i][1] != '\0') {
             return cli_usage_error("solve", "unknown option '%s'", argv[i]);
-        } else if (file) {
-            return cli_usage_error("solve", "one record file expected, got '%s' and '%s'", file,
+        } else if (a->file) {
+            return cli_usage_error("solve", "one record file expected, got '%s' and '%s'", a->file,
                                    argv[i]);
         } else {
-            file = argv[i];
+            a->file = argv[i];
         }
         if (bad) return CLI_EXIT_USAGE;
     }
-    if (bad) return CLI_EXIT_USAGE;
-    if (!file) return cli_usage_error("solve", "no record file (use '-' for stdin)");
-    tram_records *r = NULL;
-    tram_error err;
-    tram_error_clear(&err);
-    tram_status st = tram_records_read_file(file, &ro, &r, &err);
-    if (st != TRAM_OK) {
-        cli_report(&err);
-        return cli_exit_for(st);
-    }
-    if (cli_apply_chain(chain, r) != CLI_EXIT_OK) {
-        tram_records_destroy(r);
-        return CLI_EXIT_USAGE;
-    }
-    if (setup != TRAM_SETUP_UNSET && r->setup != TRAM_SETUP_UNSET && setup != r->setup) {
+    if (!a->file) return cli_usage_error("solve", "no record file (use '-' for stdin)");
+    if (a->model && !a->points) return cli_usage_error("solve", "--model goes with --points");
+    return CLI_EXIT_OK;
+}
+
+/* The setup from the file and --setup, which must agree; one of them must
+ * give it.  CLI_EXIT_OK or CLI_EXIT_USAGE (with the message). */
+static int resolve_setup(const tram_records *r, solve_args *a)
+{
+    if (a->setup != TRAM_SETUP_UNSET && r->setup != TRAM_SETUP_UNSET && a->setup != r->setup) {
         fprintf(stderr,
                 "%s: error: the file declares setup %s but --setup %s was given\n", r->source,
-                tram_setup_name(r->setup), tram_setup_name(setup));
-        tram_records_destroy(r);
+                tram_setup_name(r->setup), tram_setup_name(a->setup));
         return CLI_EXIT_USAGE;
     }
-    if (setup == TRAM_SETUP_UNSET) setup = r->setup;
-    if (setup == TRAM_SETUP_UNSET) {
+    if (a->setup == TRAM_SETUP_UNSET) a->setup = r->setup;
+    if (a->setup == TRAM_SETUP_UNSET) {
         fprintf(stderr,
                 "%s: error: no setup: add '# setup: eye-in-hand' (or eye-to-hand) or pass "
                 "--setup\n",
                 r->source);
-        tram_records_destroy(r);
         return CLI_EXIT_USAGE;
     }
-    if (noise) {
+    return CLI_EXIT_OK;
+}
+
+/* --noise and --pairs ID:ID, which need the records' unit and ids, into
+ * a->so (*pair_list owned by the caller). */
+static int apply_record_options(const tram_records *r, solve_args *a, tram_pair **pair_list)
+{
+    if (a->noise) {
         double len, ang;
         int given = 0;
         tram_length_unit nu;
-        if (parse_noise(noise, &len, &ang, r->length_unit, &given, &nu) != 0) {
-            tram_records_destroy(r);
+        if (parse_noise(a->noise, &len, &ang, r->length_unit, &given, &nu) != 0)
             return cli_usage_error("solve", "--noise '%s': expected LENGTH,ANGLE with units, e.g. "
-                                            "0.2mm,0.05deg", noise);
-        }
-        so.noise_length = len * tram_unit_length_factor(nu, r->length_unit);
-        so.noise_angle_rad = ang;
+                                            "0.2mm,0.05deg", a->noise);
+        a->so.noise_length = len * tram_unit_length_factor(nu, r->length_unit);
+        a->so.noise_angle_rad = ang;
     }
-    if (pair_sel) {
-        int prc = parse_pairs(pair_sel, r, &pair_list, &so.npair_list);
-        if (prc != CLI_EXIT_OK) {
-            tram_records_destroy(r);
-            return prc;
-        }
-        so.pair_list = pair_list;
+    if (a->pair_sel) {
+        int prc = parse_pairs(a->pair_sel, r, pair_list, &a->so.npair_list);
+        if (prc != CLI_EXIT_OK) return prc;
+        a->so.pair_list = *pair_list;
     }
-    if (isatty(STDERR_FILENO)) so.progress = progress;
-    tram_solution *s = NULL;
-    if (model && !points) {
-        tram_records_destroy(r);
-        free(pair_list);
-        return cli_usage_error("solve", "--model goes with --points");
-    }
-    if (points) {
-        tram_point_obs *obs = NULL;
-        tram_point_model *mdl = NULL;
-        st = tram_point_obs_read_file(points, r, &obs, &err);
-        if (st == TRAM_OK && model) st = tram_point_model_read_file(model, r, &mdl, &err);
-        if (st == TRAM_OK) st = tram_solve_points(r, setup, obs, mdl, &so, &s, &err);
-        tram_point_obs_destroy(obs);
-        tram_point_model_destroy(mdl);
-    } else {
-        st = tram_solve(r, setup, &so, &s, &err);
-    }
-    if ((st != TRAM_OK && st != TRAM_EUNDETERMINED) || !s) {
-        cli_report(&err);
-        tram_solution_destroy(s);
-        tram_records_destroy(r);
-        free(pair_list);
-        return st == TRAM_OK ? CLI_EXIT_USAGE : cli_exit_for(st);
-    }
+    if (isatty(STDERR_FILENO)) a->so.progress = progress;
+    return CLI_EXIT_OK;
+}
+
+/* The solve itself: from target poses, or from observed points. */
+static tram_status run_solve(const tram_records *r, const solve_args *a, tram_solution **s,
+                             tram_error *err)
+{
+    if (!a->points) return tram_solve(r, a->setup, &a->so, s, err);
+    tram_point_obs *obs = NULL;
+    tram_point_model *mdl = NULL;
+    tram_status st = tram_point_obs_read_file(a->points, r, &obs, err);
+    if (st == TRAM_OK && a->model) st = tram_point_model_read_file(a->model, r, &mdl, err);
+    if (st == TRAM_OK) st = tram_solve_points(r, a->setup, obs, mdl, &a->so, s, err);
+    tram_point_obs_destroy(obs);
+    tram_point_model_destroy(mdl);
+    return st;
+}
+
+/* Calibration file, report (text or JSON), warnings and pictures; the
+ * exit status.  The calibration file is written first: if it cannot be,
+ * stdout stays empty. */
+static int emit_results(const tram_records *r, const tram_solution *s, const solve_args *a)
+{
     char *text = NULL;
     int rc = CLI_EXIT_OK;
-    /* The calibration file first: if it cannot be written, stdout stays empty. */
-    if (out_path && s->solved) {
-        if (tram_solution_to_json(s, r, method, 1, &text, &err) != TRAM_OK ||
-            tram_file_write_atomic(out_path, text, strlen(text), force, &err) != TRAM_OK) {
+    tram_error err;
+    tram_error_clear(&err);
+    if (a->out_path && s->solved) {
+        if (tram_solution_to_json(s, r, a->method, 1, &text, &err) != TRAM_OK ||
+            tram_file_write_atomic(a->out_path, text, strlen(text), a->force, &err) != TRAM_OK) {
             cli_report(&err);
             rc = CLI_EXIT_USAGE;
         }
         free(text);
         text = NULL;
     }
-    if (rc == CLI_EXIT_OK && json) {
-        if (tram_solution_to_json(s, r, method, 0, &text, &err) != TRAM_OK) {
+    if (rc == CLI_EXIT_OK && a->json) {
+        if (tram_solution_to_json(s, r, a->method, 0, &text, &err) != TRAM_OK) {
             cli_report(&err);
             rc = CLI_EXIT_USAGE;
         } else {
@@ -434,17 +450,49 @@ int cli_solve(int argc, char **argv)
         free(text);
     } else if (rc == CLI_EXIT_OK) {
         print_summary(s, r);
-        if (out_path && s->solved) printf("calibration written to %s\n", out_path);
+        if (a->out_path && s->solved) printf("calibration written to %s\n", a->out_path);
     }
-    if (out_path && !s->solved)
+    if (a->out_path && !s->solved)
         fprintf(stderr, "tram solve: no calibration file written: nothing was determined\n");
     for (size_t i = 0; rc == CLI_EXIT_OK && i < s->ndiag; i++)
         if (s->diag[i].severity >= TRAM_SEVERITY_WARNING)
             fprintf(stderr, "tram solve: %s: %s\n",
                     s->diag[i].severity == TRAM_SEVERITY_ERROR ? "error" : "warning",
                     s->diag[i].message);
-    if (rc == CLI_EXIT_OK && plot_dir && s->solved) rc = cli_plot_solution(r, s, plot_dir, 1);
+    if (rc == CLI_EXIT_OK && a->plot_dir && s->solved) rc = cli_plot_solution(r, s, a->plot_dir, 1);
     if (rc == CLI_EXIT_OK && (!s->solved || !s->trustworthy)) rc = CLI_EXIT_UNDETERMINED;
+    return rc;
+}
+
+int cli_solve(int argc, char **argv)
+{
+    solve_args a;
+    int rc = parse_args(argc, argv, &a);
+    if (rc != CLI_EXIT_OK) return rc;
+    tram_records *r = NULL;
+    tram_error err;
+    tram_error_clear(&err);
+    tram_status st = tram_records_read_file(a.file, &a.ro, &r, &err);
+    if (st != TRAM_OK) {
+        cli_report(&err);
+        return cli_exit_for(st);
+    }
+    tram_pair *pair_list = NULL;
+    rc = cli_apply_chain(a.chain, r) != CLI_EXIT_OK ? CLI_EXIT_USAGE : resolve_setup(r, &a);
+    if (rc == CLI_EXIT_OK) rc = apply_record_options(r, &a, &pair_list);
+    if (rc != CLI_EXIT_OK) {
+        tram_records_destroy(r);
+        free(pair_list);
+        return rc;
+    }
+    tram_solution *s = NULL;
+    st = run_solve(r, &a, &s, &err);
+    if ((st != TRAM_OK && st != TRAM_EUNDETERMINED) || !s) {
+        cli_report(&err);
+        rc = st == TRAM_OK ? CLI_EXIT_USAGE : cli_exit_for(st);
+    } else {
+        rc = emit_results(r, s, &a);
+    }
     tram_solution_destroy(s);
     tram_records_destroy(r);
     free(pair_list);
