@@ -149,21 +149,197 @@ static int plot_history(const char *file, const char *tol, const char *o, int w,
     return rc;
 }
 
+/* Where and how big the picture goes. */
+typedef struct plot_out {
+    const char *path;
+    int w, h, force;
+} plot_out;
+
+/* The residual bars of a calibration file's residual table. */
+static int plot_residuals(const tram_calibration *cal, const char *calib, const plot_out *po)
+{
+    tram_error err;
+    tram_error_clear(&err);
+    size_t n = cal->nresiduals;
+    const char **ids = calloc(n ? n : 1, sizeof *ids);
+    double *rot = calloc(2 * (n ? n : 1), sizeof *rot);
+    int *out = calloc(n ? n : 1, sizeof *out), rc;
+    if (!ids || !rot || !out) {
+        fprintf(stderr, "tram plot: error: out of memory\n");
+        rc = CLI_EXIT_USAGE;
+    } else if (n == 0) {
+        rc = cli_usage_error("plot", "%s has no per-station residuals", calib);
+    } else {
+        for (size_t k = 0; k < n; k++) {
+            ids[k] = cal->residuals[k].station;
+            rot[k] = cal->residuals[k].rotation_deg;
+            rot[n + k] = cal->residuals[k].translation;
+            out[k] = cal->residuals[k].outlier;
+        }
+        tram_plot_residuals_data rd = {n, ids, rot, rot + n, NULL, out,
+                                       4.5943 * cal->noise_angle_rad * 180.0 / 3.14159265358979323846,
+                                       4.5943 * cal->noise_length, cal->length_unit, NULL};
+        tram_image *img = NULL;
+        rc = write_png(tram_plot_residuals(&rd, po->w, po->h, &img, &err), &img, po->path, po->force, &err);
+    }
+    free(ids);
+    free(rot);
+    free(out);
+    return rc;
+}
+
+/* Every station's link frames (c->n_joints + 2 each) in the records'
+ * length unit; NULL when out of memory. */
+static tram_se3 *chain_link_frames(const tram_records *r, const tram_chain *c)
+{
+    size_t per = c->n_joints + 2;
+    tram_se3 *links = malloc(r->count * per * sizeof *links);
+    double ang = tram_unit_angle_in_rad(r->angle_unit) / tram_unit_angle_in_rad(c->angle_unit);
+    double len = tram_unit_length_factor(r->length_unit, c->length_unit);
+    double back = tram_unit_length_factor(c->length_unit, r->length_unit);
+    for (size_t i = 0; links && i < r->count; i++) {
+        double q[TRAM_JOINTS_MAX];
+        size_t j = 0;
+        for (size_t e = 0; e < c->n_elements; e++)
+            if (c->elements[e].kind != TRAM_CHAIN_FIXED) {
+                q[j] = r->stations[i].joints[j] * (c->elements[e].kind == TRAM_CHAIN_REVOLUTE ? ang : len);
+                j++;
+            }
+        tram_se3 T;
+        tram_chain_forward(c, q, &T, links + i * per);
+        for (size_t f = 0; f < per; f++)
+            tram_se3_scale_translation(&links[i * per + f], back, &links[i * per + f]);
+    }
+    return links;
+}
+
+/* The frames picture of a record file (with a calibration's X and Z, and
+ * a chain's link frames, when given). */
+static int plot_frames(const char *file, const tram_calibration *cal, const char *chain,
+                       const plot_out *po)
+{
+    tram_error err;
+    tram_error_clear(&err);
+    tram_records *r = NULL;
+    if (!file) return cli_usage_error("plot", "frames needs a record file");
+    if (tram_records_read_file(file, NULL, &r, &err) != TRAM_OK) {
+        cli_report(&err);
+        return CLI_EXIT_USAGE;
+    }
+    tram_chain *c = NULL;
+    tram_se3 *links = NULL;
+    int rc = CLI_EXIT_OK;
+    if (chain) {
+        if (tram_chain_read_file(chain, &c, &err) != TRAM_OK || tram_records_apply_chain(r, c, &err) != TRAM_OK) {
+            cli_report(&err);
+            rc = CLI_EXIT_USAGE;
+        } else {
+            links = chain_link_frames(r, c);
+        }
+    }
+    if (rc == CLI_EXIT_OK && cal && cal->setup != r->setup && r->setup != TRAM_SETUP_UNSET)
+        rc = cli_usage_error("plot", "the records' setup differs from the calibration's");
+    if (rc == CLI_EXIT_OK && !r->has_block[TRAM_BLOCK_ROBOT])
+        rc = cli_usage_error("plot", "the record file has no robot poses (joint readings need --chain)");
+    if (rc == CLI_EXIT_OK) {
+        tram_se3 *F = malloc(r->count * sizeof *F);
+        const char **ids = malloc(r->count * sizeof *ids);
+        for (size_t i = 0; F && ids && i < r->count; i++) {
+            F[i] = r->stations[i].T_base_flange;
+            ids[i] = r->stations[i].id;
+        }
+        tram_plot_frames_data fd = {r->count, F, ids, NULL,
+                                    cal ? cal->setup : (r->setup ? r->setup : TRAM_SETUP_EYE_IN_HAND),
+                                    cal != NULL, cal ? cal->X : F[0], cal ? cal->Z : F[0], links,
+                                    c ? c->n_joints + 2 : 0, r->length_unit, NULL};
+        tram_image *img = NULL;
+        rc = write_png(tram_plot_frames(&fd, po->w, po->h, &img, &err), &img, po->path, po->force, &err);
+        free(F);
+        free(ids);
+    }
+    free(links);
+    tram_chain_destroy(c);
+    tram_records_destroy(r);
+    return rc;
+}
+
+/* frames or residuals: both may read a calibration file. */
+static int plot_calibration_kind(const char *kind, const char *file, const char *calib,
+                                 const char *chain, const plot_out *po)
+{
+    tram_error err;
+    tram_error_clear(&err);
+    tram_calibration *cal = NULL;
+    if (calib && tram_calibration_read_file(calib, &cal, &err) != TRAM_OK) {
+        cli_report(&err);
+        return CLI_EXIT_USAGE;
+    }
+    int rc;
+    if (strcmp(kind, "residuals") == 0)
+        rc = cal ? plot_residuals(cal, calib, po)
+                 : cli_usage_error("plot", "residuals needs --calibration");
+    else
+        rc = plot_frames(file, cal, chain, po);
+    tram_calibration_destroy(cal);
+    return rc;
+}
+
+/* The residuals of a point registration (robust when asked). */
+static int plot_points(const char *file, int robust, const plot_out *po)
+{
+    tram_error err;
+    tram_error_clear(&err);
+    if (!file) return cli_usage_error("plot", "points needs a point-pair file");
+    tram_point_pairs *p = NULL;
+    if (tram_point_pairs_read_file(file, TRAM_LENGTH_UNSET, &p, &err) != TRAM_OK) {
+        cli_report(&err);
+        return CLI_EXIT_USAGE;
+    }
+    int rc;
+    tram_register_options ro = {TRAM_REGISTER_SVD, 0, p->dim, 2};
+    tram_register_result res;
+    double *resid = malloc(p->n * sizeof *resid), thr = 0;
+    int *inl = malloc(p->n * sizeof *inl), *outl = malloc(p->n * sizeof *outl);
+    const char **ids = malloc(p->n * sizeof *ids);
+    tram_status st = robust ? tram_register_robust(p->from, p->to, p->weight, p->n, &ro, 0, 1, NULL, NULL, &res, inl, &thr, &err)
+                            : tram_register_points(p->from, p->to, p->weight, p->n, &ro, &res, &err);
+    if (st != TRAM_OK) {
+        cli_report(&err);
+        rc = cli_exit_for(st);
+    } else {
+        tram_register_residuals(p->from, p->to, p->n, p->dim, &res, resid);
+        for (size_t i = 0; i < p->n; i++) {
+            outl[i] = robust && !inl[i];
+            ids[i] = p->id[i];
+        }
+        tram_image *img = NULL;
+        rc = write_png(tram_plot_points(p->n, ids, resid, outl, thr, p->length_unit, NULL, po->w, po->h, &img, &err),
+                       &img, po->path, po->force, &err);
+    }
+    free(resid);
+    free(inl);
+    free(outl);
+    free(ids);
+    tram_point_pairs_destroy(p);
+    return rc;
+}
+
 int cli_plot(int argc, char **argv)
 {
     if (argc < 2) return cli_usage_error("plot", "expected frames, residuals, history or points");
-    const char *kind = argv[1], *file = NULL, *o = NULL, *calib = NULL, *chain = NULL, *tol = NULL, *v;
-    int w = 1600, h = 1000, force = 0, robust = 0, bad = 0;
+    const char *kind = argv[1], *file = NULL, *calib = NULL, *chain = NULL, *tol = NULL, *v;
+    plot_out po = {NULL, 1600, 1000, 0};
+    int robust = 0, bad = 0;
     for (int i = 2; i < argc; i++) {
-        if (cli_take(argc, argv, &i, "-o", &o, &bad)) {
+        if (cli_take(argc, argv, &i, "-o", &po.path, &bad)) {
         } else if (cli_take(argc, argv, &i, "--calibration", &calib, &bad)) {
         } else if (cli_take(argc, argv, &i, "--chain", &chain, &bad)) {
         } else if (cli_take(argc, argv, &i, "--tolerance", &tol, &bad)) {
         } else if (cli_take(argc, argv, &i, "--size", &v, &bad)) {
             if (bad) break;
-            if (sscanf(v, "%dx%d", &w, &h) != 2) return cli_usage_error("plot", "--size '%s': expected WxH", v);
+            if (sscanf(v, "%dx%d", &po.w, &po.h) != 2) return cli_usage_error("plot", "--size '%s': expected WxH", v);
         } else if (cli_flag(argv, i, "--force")) {
-            force = 1;
+            po.force = 1;
         } else if (cli_flag(argv, i, "--robust")) {
             robust = 1;
         } else if (argv[i][0] == '-' && argv[i][1]) {
@@ -175,147 +351,19 @@ int cli_plot(int argc, char **argv)
         }
         if (bad) return CLI_EXIT_USAGE;
     }
-    if (!o) return cli_usage_error("plot", "-o FILE.png is required");
-    tram_error err;
-    tram_error_clear(&err);
+    if (!po.path) return cli_usage_error("plot", "-o FILE.png is required");
     int rc;
     if (strcmp(kind, "history") == 0) {
         if (!file) return cli_usage_error("plot", "history needs a history file");
-        rc = plot_history(file, tol, o, w, h, force);
+        rc = plot_history(file, tol, po.path, po.w, po.h, po.force);
     } else if (strcmp(kind, "frames") == 0 || strcmp(kind, "residuals") == 0) {
-        tram_calibration *cal = NULL;
-        tram_records *r = NULL;
-        if (calib && tram_calibration_read_file(calib, &cal, &err) != TRAM_OK) {
-            cli_report(&err);
-            return CLI_EXIT_USAGE;
-        }
-        if (strcmp(kind, "residuals") == 0) {
-            if (!cal) return cli_usage_error("plot", "residuals needs --calibration");
-            /* the residual table of the calibration file */
-            size_t n = cal->nresiduals;
-            const char **ids = calloc(n ? n : 1, sizeof *ids);
-            double *rot = calloc(2 * (n ? n : 1), sizeof *rot);
-            int *out = calloc(n ? n : 1, sizeof *out);
-            if (!ids || !rot || !out) {
-                fprintf(stderr, "tram plot: error: out of memory\n");
-                rc = CLI_EXIT_USAGE;
-            } else if (n == 0) {
-                rc = cli_usage_error("plot", "%s has no per-station residuals", calib);
-            } else {
-                for (size_t k = 0; k < n; k++) {
-                    ids[k] = cal->residuals[k].station;
-                    rot[k] = cal->residuals[k].rotation_deg;
-                    rot[n + k] = cal->residuals[k].translation;
-                    out[k] = cal->residuals[k].outlier;
-                }
-                tram_plot_residuals_data rd = {n, ids, rot, rot + n, NULL, out,
-                                               4.5943 * cal->noise_angle_rad * 180.0 / 3.14159265358979323846,
-                                               4.5943 * cal->noise_length, cal->length_unit, NULL};
-                tram_image *img = NULL;
-                rc = write_png(tram_plot_residuals(&rd, w, h, &img, &err), &img, o, force, &err);
-            }
-            free(ids);
-            free(rot);
-            free(out);
-        } else {
-            if (!file) {
-                tram_calibration_destroy(cal);
-                return cli_usage_error("plot", "frames needs a record file");
-            }
-            if (tram_records_read_file(file, NULL, &r, &err) != TRAM_OK) {
-                cli_report(&err);
-                tram_calibration_destroy(cal);
-                return CLI_EXIT_USAGE;
-            }
-            tram_chain *c = NULL;
-            tram_se3 *links = NULL;
-            rc = CLI_EXIT_OK;
-            if (chain) {
-                if (tram_chain_read_file(chain, &c, &err) != TRAM_OK || tram_records_apply_chain(r, c, &err) != TRAM_OK) {
-                    cli_report(&err);
-                    rc = CLI_EXIT_USAGE;
-                } else {
-                    size_t per = c->n_joints + 2;
-                    links = malloc(r->count * per * sizeof *links);
-                    double ang = tram_unit_angle_in_rad(r->angle_unit) / tram_unit_angle_in_rad(c->angle_unit);
-                    double len = tram_unit_length_factor(r->length_unit, c->length_unit);
-                    double back = tram_unit_length_factor(c->length_unit, r->length_unit);
-                    for (size_t i = 0; links && i < r->count; i++) {
-                        double q[TRAM_JOINTS_MAX];
-                        size_t j = 0;
-                        for (size_t e = 0; e < c->n_elements; e++)
-                            if (c->elements[e].kind != TRAM_CHAIN_FIXED) {
-                                q[j] = r->stations[i].joints[j] * (c->elements[e].kind == TRAM_CHAIN_REVOLUTE ? ang : len);
-                                j++;
-                            }
-                        tram_se3 T;
-                        tram_chain_forward(c, q, &T, links + i * per);
-                        for (size_t f = 0; f < per; f++)
-                            tram_se3_scale_translation(&links[i * per + f], back, &links[i * per + f]);
-                    }
-                }
-            }
-            if (rc == CLI_EXIT_OK && cal && cal->setup != r->setup && r->setup != TRAM_SETUP_UNSET)
-                rc = cli_usage_error("plot", "the records' setup differs from the calibration's");
-            if (rc == CLI_EXIT_OK && !r->has_block[TRAM_BLOCK_ROBOT])
-                rc = cli_usage_error("plot", "the record file has no robot poses (joint readings need --chain)");
-            if (rc == CLI_EXIT_OK) {
-                tram_se3 *F = malloc(r->count * sizeof *F);
-                const char **ids = malloc(r->count * sizeof *ids);
-                for (size_t i = 0; F && ids && i < r->count; i++) {
-                    F[i] = r->stations[i].T_base_flange;
-                    ids[i] = r->stations[i].id;
-                }
-                tram_plot_frames_data fd = {r->count, F, ids, NULL,
-                                            cal ? cal->setup : (r->setup ? r->setup : TRAM_SETUP_EYE_IN_HAND),
-                                            cal != NULL, cal ? cal->X : F[0], cal ? cal->Z : F[0], links,
-                                            c ? c->n_joints + 2 : 0, r->length_unit, NULL};
-                tram_image *img = NULL;
-                rc = write_png(tram_plot_frames(&fd, w, h, &img, &err), &img, o, force, &err);
-                free(F);
-                free(ids);
-            }
-            free(links);
-            tram_chain_destroy(c);
-            tram_records_destroy(r);
-        }
-        tram_calibration_destroy(cal);
+        rc = plot_calibration_kind(kind, file, calib, chain, &po);
     } else if (strcmp(kind, "points") == 0) {
-        if (!file) return cli_usage_error("plot", "points needs a point-pair file");
-        tram_point_pairs *p = NULL;
-        if (tram_point_pairs_read_file(file, TRAM_LENGTH_UNSET, &p, &err) != TRAM_OK) {
-            cli_report(&err);
-            return CLI_EXIT_USAGE;
-        }
-        tram_register_options ro = {TRAM_REGISTER_SVD, 0, p->dim, 2};
-        tram_register_result res;
-        double *resid = malloc(p->n * sizeof *resid), thr = 0;
-        int *inl = malloc(p->n * sizeof *inl), *outl = malloc(p->n * sizeof *outl);
-        const char **ids = malloc(p->n * sizeof *ids);
-        tram_status st = robust ? tram_register_robust(p->from, p->to, p->weight, p->n, &ro, 0, 1, NULL, NULL, &res, inl, &thr, &err)
-                                : tram_register_points(p->from, p->to, p->weight, p->n, &ro, &res, &err);
-        if (st != TRAM_OK) {
-            cli_report(&err);
-            rc = cli_exit_for(st);
-        } else {
-            tram_register_residuals(p->from, p->to, p->n, p->dim, &res, resid);
-            for (size_t i = 0; i < p->n; i++) {
-                outl[i] = robust && !inl[i];
-                ids[i] = p->id[i];
-            }
-            tram_image *img = NULL;
-            rc = write_png(tram_plot_points(p->n, ids, resid, outl, thr, p->length_unit, NULL, w, h, &img, &err),
-                           &img, o, force, &err);
-        }
-        free(resid);
-        free(inl);
-        free(outl);
-        free(ids);
-        tram_point_pairs_destroy(p);
+        rc = plot_points(file, robust, &po);
     } else {
         return cli_usage_error("plot", "'%s': expected frames, residuals, history or points", kind);
     }
     tram_plot_shutdown();
-    if (rc == CLI_EXIT_OK) fprintf(stderr, "picture: %s\n", o);
+    if (rc == CLI_EXIT_OK) fprintf(stderr, "picture: %s\n", po.path);
     return rc;
 }
