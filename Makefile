@@ -194,7 +194,10 @@ bench: deps $(patsubst %,$(B)/bench_%,$(BENCHES))
 
 # Unit tests (cmocka), one binary per module.
 unit: $(TESTS)
-	@set -e; for t in $(TESTS); do echo "== $$t"; $$t; done
+	@set -e; for t in $(TESTS); do echo "== $$t"; rc=0; $$t >$$t.log 2>&1 || rc=$$?; cat $$t.log; [ $$rc -eq 0 ] || { echo "unit: $$t failed"; exit 1; }; done; \
+	p=$$(cat $(patsubst %,%.log,$(TESTS)) | sed -n 's/^\[  PASSED  \] \([0-9]*\) test.*/\1/p' | awk '{s+=$$1} END {print s+0}'); \
+	k=$$(cat $(patsubst %,%.log,$(TESTS)) | sed -n 's/^\[  SKIPPED \] \([0-9]*\) test.*/\1/p' | awk '{s+=$$1} END {print s+0}'); \
+	echo "unit: $$p passed, 0 failed, $$k skipped"
 
 # Command-line tests: exit codes, file:line:column messages, empty stdout.
 cli-tests: $(B)/tram $(B)/gen_demo
