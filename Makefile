@@ -47,7 +47,7 @@ FUZZ_SECONDS ?= 60
 # make test fixes it so that its short run is repeatable.
 FUZZ_SEED ?= 0
 
-.PHONY: all deps layers test unit cli-tests ref-tests asan clang-check demo install install-check clean tools bench \
+.PHONY: all deps layers test unit python-tests cli-tests ref-tests asan clang-check demo install install-check clean tools bench \
         fuzz fuzz-lib fuzz-bin fuzz-replay coverage valgrind valgrind-run
 
 all: $(B)/tram $(B)/libtram.a $(B)/libtram.so
@@ -211,6 +211,11 @@ ref-tests: $(B)/refhelper $(B)/tram
 	$(PYTHON) tests/ref/check_chain_scipy.py $(B)/tram
 	$(PYTHON) tests/ref/check_register_scipy.py $(B)/tram
 
+# The Python package (python/tram) against the command, SciPy and its docs.
+python-tests: $(B)/tram $(B)/libtram.so
+	@TRAM=$(abspath $(B)/tram) TRAM_LIBRARY=$(abspath $(B)/libtram.so) PYTHONPATH=$(abspath python) \
+	  $(PYTHON) -m pytest -q -p no:cacheprovider tests/python
+
 asan:
 	$(MAKE) B=build-asan OPT="-O1 -g -fno-omit-frame-pointer" \
 	  EXTRA_CFLAGS="-fsanitize=address,undefined -fno-sanitize-recover=all" \
@@ -233,6 +238,7 @@ test:
 	@$(MAKE) --no-print-directory unit
 	@$(MAKE) --no-print-directory cli-tests
 	@$(MAKE) --no-print-directory ref-tests
+	@$(MAKE) --no-print-directory python-tests
 	@$(MAKE) --no-print-directory install-check
 	@$(MAKE) --no-print-directory asan
 	@$(MAKE) --no-print-directory fuzz FUZZ_SECONDS=5 FUZZ_SEED=20261202
@@ -243,6 +249,10 @@ demo:
 	@$(MAKE) --no-print-directory all
 	@sh datasets/demo/run_demo.sh $(B)/tram
 
+# Where Debian's python3 finds packages under PREFIX: /usr/lib/python3/dist-packages
+# for /usr, PREFIX/lib/python3.X/dist-packages otherwise (Debian's /usr/local layout).
+PYDIR = $(if $(filter /usr,$(PREFIX)),$(PREFIX)/lib/python3/dist-packages,$(PREFIX)/lib/$(shell $(PYTHON) -c 'import sys; print("python3.%d" % sys.version_info[1])')/dist-packages)
+
 install: all
 	install -d $(DESTDIR)$(PREFIX)/bin $(DESTDIR)$(PREFIX)/lib $(DESTDIR)$(PREFIX)/include/tram \
 	  $(DESTDIR)$(PREFIX)/lib/pkgconfig $(DESTDIR)$(PREFIX)/share/man/man1
@@ -252,6 +262,8 @@ install: all
 	ln -sf libtram.so.0 $(DESTDIR)$(PREFIX)/lib/libtram.so
 	install -m 644 include/tram/*.h $(DESTDIR)$(PREFIX)/include/tram/
 	install -m 644 docs/tram.1 $(DESTDIR)$(PREFIX)/share/man/man1/tram.1
+	install -d $(DESTDIR)$(PYDIR)/tram
+	install -m 644 python/tram/*.py $(DESTDIR)$(PYDIR)/tram/
 	sed -e 's|@PREFIX@|$(PREFIX)|g' -e 's|@VERSION@|$(shell sed -n 's/.*TRAM_VERSION_STRING "\(.*\)"/\1/p' include/tram/common.h)|g' \
 	  tram.pc.in > $(DESTDIR)$(PREFIX)/lib/pkgconfig/tram.pc
 
@@ -264,7 +276,10 @@ install-check: all
 	@PKG_CONFIG_SYSROOT_DIR=$(abspath $(B)/stage) PKG_CONFIG_LIBDIR=$(abspath $(B)/stage)/usr/lib/pkgconfig:/usr/lib/x86_64-linux-gnu/pkgconfig:/usr/share/pkgconfig \
 	  $(CC) $(B)/stage/check.c -o $(B)/stage/check $$(PKG_CONFIG_SYSROOT_DIR=$(abspath $(B)/stage) PKG_CONFIG_LIBDIR=$(abspath $(B)/stage)/usr/lib/pkgconfig:/usr/lib/x86_64-linux-gnu/pkgconfig:/usr/share/pkgconfig pkg-config --cflags --libs --static tram)
 	@LD_LIBRARY_PATH=$(abspath $(B)/stage)/usr/lib $(B)/stage/check | grep -q '^[0-9.]* 1$$' && test -x $(B)/stage/usr/bin/tram && test -f $(B)/stage/usr/share/man/man1/tram.1 \
-	  && echo "install-check: 1 passed, 0 failed"
+	  && cd / && env -u TRAM_LIBRARY PYTHONPATH=$(abspath $(B)/stage)/usr/lib/python3/dist-packages $(PYTHON) -c \
+	    'import tram, sys; r = tram.solve(sys.argv[1]); assert r.trustworthy; print("installed package:", tram.version(), tram._lib.lib._name)' \
+	    $(abspath datasets/demo/wrist_camera.csv) | grep -q "stage/usr/lib/libtram.so.0" \
+	  && echo "install-check: 2 passed, 0 failed"
 
 clean:
 	rm -rf build build-asan build-clang build-fuzz build-cov

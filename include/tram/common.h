@@ -97,6 +97,10 @@ TRAM_API double tram_unit_angle_in_rad(tram_angle_unit u);
 /* The library's version string, e.g. "0.1.0". */
 TRAM_API const char *tram_version(void);
 
+/* Release what the library handed to the caller to free() (JSON texts,
+ * pair lists); for bindings that cannot call the C library's free(). */
+TRAM_API void tram_free(void *p);
+
 #ifdef __cplusplus
 }
 #endif

@@ -146,6 +146,30 @@ TRAM_API int tram_output_rep_parse(const char *s, tram_output_rep *out);
 TRAM_API tram_status tram_records_write(const tram_records *r, const tram_output_rep *rep,
                                         int json, FILE *f, tram_error *err);
 
+/* ---- plain-array access (for bindings; records_access.c) ----------- */
+
+/* Number of stations (0 for NULL). */
+TRAM_API size_t tram_records_count(const tram_records *r);
+/* Station i's id, or NULL when i is out of range. */
+TRAM_API const char *tram_records_station_id(const tram_records *r, size_t i);
+/* Station i's pose of block TRAM_BLOCK_ROBOT (T_base_flange) or
+ * TRAM_BLOCK_SENSOR (T_sensor_target) as a row-major 4x4 in the records'
+ * length unit; 1 on success, 0 when the block is absent or i is out of
+ * range. */
+TRAM_API int tram_records_pose(const tram_records *r, size_t i, int block, double T[16]);
+/* A record set from n row-major 4x4 poses per block (either may be NULL,
+ * not both) in length unit `unit` (required), with station ids (NULL:
+ * "1" .. "n") and an optional setup.  The poses go through the record
+ * reader's checks (opt as for tram_records_read_buffer; a matrix that is
+ * not a rotation is refused unless opt->reorthonormalize); messages name
+ * "<arrays>" and the line of the generated text (line 4 + i for station
+ * i, or 3 + i without a setup).  Caller frees *out. */
+TRAM_API tram_status tram_records_from_poses(size_t n, const char *const *ids,
+                                             const double *T_base_flange,
+                                             const double *T_sensor_target, tram_length_unit unit,
+                                             tram_setup setup, const tram_read_options *opt,
+                                             tram_records **out, tram_error *err);
+
 #ifdef __cplusplus
 }
 #endif

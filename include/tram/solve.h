@@ -43,6 +43,16 @@ typedef struct tram_solve_options {
 
 TRAM_API void tram_solve_options_init(tram_solve_options *opt);
 
+/* Options on the heap, initialised as by tram_solve_options_init, and
+ * set by name - for bindings, so that they never depend on the struct's
+ * layout.  Names: "method" (a tram_method value), "refine", "robust",
+ * "pairs" (a tram_pairs_mode value), "noise_length", "noise_angle_rad",
+ * "bootstrap", "seed", "check_conventions".  _set returns 0, or -1 for an
+ * unknown name or a value out of range.  destroy(NULL) is a no-op. */
+TRAM_API tram_solve_options *tram_solve_options_create(void);
+TRAM_API int tram_solve_options_set(tram_solve_options *opt, const char *name, double value);
+TRAM_API void tram_solve_options_destroy(tram_solve_options *opt);
+
 typedef enum tram_severity {
     TRAM_SEVERITY_INFO = 0,
     TRAM_SEVERITY_WARNING = 1, /* the result must not be used until explained */
@@ -118,6 +128,11 @@ TRAM_API tram_status tram_solve(const tram_records *r, tram_setup setup,
                                 tram_error *err);
 /* Free a solution.  NULL is a no-op. */
 TRAM_API void tram_solution_destroy(tram_solution *s);
+
+/* The 12 x 12 covariance of X and Z (tram_uncertainty's order and units:
+ * length and rad), row-major, into cov; 1 when it is valid, else 0 (cov
+ * untouched). */
+TRAM_API int tram_solution_covariance(const tram_solution *s, double cov[144]);
 
 /* The JSON document of a solution (docs/solve.md); with calibration != 0
  * also the per-station input poses, the input checksum and the tool

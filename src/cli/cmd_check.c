@@ -21,7 +21,7 @@ const char cli_check_help[] =
     "options:\n"
     "  --calibration FILE   the calibration file (required)\n"
     "  --tolerance L,A      ok means every station within L and A, e.g. 0.5mm,0.1deg\n"
-    "                       (default: a statistical test at a 1%% false-alarm rate)\n"
+    "                       (default: a statistical test at a 1% false-alarm rate)\n"
     "  --history FILE       append one JSON line per check (atomic append)\n"
     "  --json               print the result as JSON (docs/check.md)\n"
     "  --length-unit U, --angle-unit U, --reorthonormalize   as for tram solve\n\n"

@@ -8,6 +8,7 @@
 
 #include <stdarg.h>
 #include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
 
 void tram_error_clear(tram_error *err)
@@ -130,3 +131,7 @@ void tram__offset_pos(const char *data, size_t off, long *line, long *col)
     *line = l;
     *col = c;
 }
+
+/* For callers that cannot reach the C library's free() (bindings): the
+ * texts and arrays the library hands out are released with free(). */
+void tram_free(void *p) { free(p); }

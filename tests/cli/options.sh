@@ -45,3 +45,7 @@ expect_error "solve -o existing" 2 "cal.json: error: already exists" solve -o "$
 [ "$(cat "$tmp/cal.json")" = keep ] && ok || bad "solve -o replaced a file without --force"
 expect_error "solve -o into a missing directory" 2 "cannot create a temporary file" solve -o "$tmp/nodir/cal.json" "$demo/wrist_camera.csv"
 "$TRAM" solve --force -o "$tmp/cal.json" "$demo/wrist_camera.csv" >/dev/null 2>&1 && grep -q '"tram-calibration"' "$tmp/cal.json" && ok || bad "solve -o --force"
+# help texts are printed as they are: no printf escapes left in them
+for c in solve check register convert fk plot; do
+    "$TRAM" help "$c" 2>&1 | grep -q '%%' && bad "help $c prints a doubled percent sign" || ok
+done

@@ -1,0 +1,156 @@
+"""Loading libtram and the ctypes declarations of its public C API.
+
+The library is found by this rule (docs/python.md):
+  1. the file named by the environment variable TRAM_LIBRARY;
+  2. libtram.so.0 (or libtram.so) next to this package: in the package
+     folder, or in the lib/ folder of the same install prefix
+     (PREFIX/lib/python3/dist-packages/tram -> PREFIX/lib);
+  3. the system loader (ld.so's search path).
+
+Only small structs whose layout is part of the C contract are mirrored here
+(tram_error, tram_se3, the register and check options); solve options are
+set by name through tram_solve_options_set, and results come back as the
+library's own JSON documents, so that this package holds no logic.
+"""
+import ctypes
+import os
+
+_HERE = os.path.dirname(os.path.abspath(__file__))
+
+
+def _candidates():
+    env = os.environ.get("TRAM_LIBRARY")
+    if env:
+        return [env]
+    prefix_lib = os.path.normpath(os.path.join(_HERE, "..", "..", ".."))
+    names = ["libtram.so.0", "libtram.so"]
+    out = [os.path.join(_HERE, n) for n in names]
+    out += [os.path.join(prefix_lib, n) for n in names]
+    return out + names
+
+
+def _load():
+    errors = []
+    for path in _candidates():
+        if os.sep in path and not os.path.exists(path):
+            continue
+        try:
+            return ctypes.CDLL(path)
+        except OSError as e:
+            errors.append(f"{path}: {e}")
+            if os.environ.get("TRAM_LIBRARY"):
+                break
+    raise ImportError("libtram not found (set TRAM_LIBRARY to libtram.so): " + "; ".join(errors))
+
+
+lib = _load()
+
+c_double_p = ctypes.POINTER(ctypes.c_double)
+c_int_p = ctypes.POINTER(ctypes.c_int)
+
+
+class Error(ctypes.Structure):
+    _fields_ = [("status", ctypes.c_int), ("file", ctypes.c_char * 256), ("line", ctypes.c_long),
+                ("column", ctypes.c_long), ("message", ctypes.c_char * 768)]
+
+
+class SE3(ctypes.Structure):
+    _fields_ = [("m", (ctypes.c_double * 4) * 4)]
+
+
+class Mat3(ctypes.Structure):
+    _fields_ = [("m", (ctypes.c_double * 3) * 3)]
+
+
+class ReadOptions(ctypes.Structure):
+    _fields_ = [("length_unit", ctypes.c_int), ("angle_unit", ctypes.c_int),
+                ("reorthonormalize", ctypes.c_int), ("quat_norm_tol", ctypes.c_double),
+                ("matrix_tol", ctypes.c_double)]
+
+
+class RegisterOptions(ctypes.Structure):
+    _fields_ = [("method", ctypes.c_int), ("scale", ctypes.c_int), ("dim", ctypes.c_int),
+                ("threads", ctypes.c_int)]
+
+
+class RegisterResult(ctypes.Structure):
+    _fields_ = [("T_to_from", SE3), ("scale", ctypes.c_double), ("rms", ctypes.c_double),
+                ("weight_sum", ctypes.c_double), ("n", ctypes.c_size_t),
+                ("translation_sigma", ctypes.c_double * 3),
+                ("rotation_sigma_deg", ctypes.c_double * 3), ("scale_sigma", ctypes.c_double),
+                ("spread", ctypes.c_double * 3)]
+
+
+class CheckOptions(ctypes.Structure):
+    _fields_ = [("use_tolerance", ctypes.c_int), ("tol_length", ctypes.c_double),
+                ("tol_angle_rad", ctypes.c_double)]
+
+
+class ChainHead(ctypes.Structure):
+    """The leading fields of tram_chain (its units and joint count)."""
+    _fields_ = [("length_unit", ctypes.c_int), ("angle_unit", ctypes.c_int),
+                ("n_elements", ctypes.c_size_t), ("n_joints", ctypes.c_size_t)]
+
+
+def _fn(name, restype, *argtypes):
+    f = getattr(lib, name)
+    f.restype = restype
+    f.argtypes = list(argtypes)
+    return f
+
+
+V, P, S, I, D, Z = None, ctypes.c_void_p, ctypes.c_char_p, ctypes.c_int, ctypes.c_double, ctypes.c_size_t
+E = ctypes.POINTER(Error)
+PP = ctypes.POINTER(ctypes.c_void_p)
+
+version = _fn("tram_version", S)
+free = _fn("tram_free", V, P)
+unit_length_parse = _fn("tram_unit_length_parse", I, S)
+unit_length_name = _fn("tram_unit_length_name", S, I)
+unit_angle_parse = _fn("tram_unit_angle_parse", I, S)
+unit_angle_name = _fn("tram_unit_angle_name", S, I)
+setup_parse = _fn("tram_setup_parse", I, S)
+setup_name = _fn("tram_setup_name", S, I)
+method_parse = _fn("tram_method_parse", I, S)
+
+records_read_file = _fn("tram_records_read_file", I, S, ctypes.POINTER(ReadOptions), PP, E)
+records_from_poses = _fn("tram_records_from_poses", I, Z, ctypes.POINTER(S), c_double_p,
+                         c_double_p, I, I, ctypes.POINTER(ReadOptions), PP, E)
+records_destroy = _fn("tram_records_destroy", V, P)
+records_count = _fn("tram_records_count", Z, P)
+records_station_id = _fn("tram_records_station_id", S, P, Z)
+records_pose = _fn("tram_records_pose", I, P, Z, I, c_double_p)
+records_apply_chain = _fn("tram_records_apply_chain", I, P, P, E)
+
+solve_options_create = _fn("tram_solve_options_create", P)
+solve_options_set = _fn("tram_solve_options_set", I, P, S, D)
+solve_options_destroy = _fn("tram_solve_options_destroy", V, P)
+solve = _fn("tram_solve", I, P, I, P, PP, E)
+solution_destroy = _fn("tram_solution_destroy", V, P)
+solution_covariance = _fn("tram_solution_covariance", I, P, c_double_p)
+solution_to_json = _fn("tram_solution_to_json", I, P, P, S, I, ctypes.POINTER(ctypes.c_void_p), E)
+
+register_points = _fn("tram_register_points", I, c_double_p, c_double_p, c_double_p, Z,
+                      ctypes.POINTER(RegisterOptions), ctypes.POINTER(RegisterResult), E)
+register_residuals = _fn("tram_register_residuals", V, c_double_p, c_double_p, Z, I,
+                         ctypes.POINTER(RegisterResult), c_double_p)
+
+calibration_read_file = _fn("tram_calibration_read_file", I, S, PP, E)
+calibration_destroy = _fn("tram_calibration_destroy", V, P)
+check = _fn("tram_check", I, P, P, ctypes.POINTER(CheckOptions), PP, E)
+check_result_destroy = _fn("tram_check_result_destroy", V, P)
+check_result_to_json = _fn("tram_check_result_to_json", I, P, P, I, S,
+                           ctypes.POINTER(ctypes.c_void_p), E)
+
+chain_read_file = _fn("tram_chain_read_file", I, S, PP, E)
+chain_destroy = _fn("tram_chain_destroy", V, P)
+chain_forward = _fn("tram_chain_forward", V, P, c_double_p, ctypes.POINTER(SE3), P)
+chain_limit_violation = _fn("tram_chain_limit_violation", I, P, c_double_p)
+
+euler_parse = _fn("tram_euler_parse", I, S)
+euler_to_mat3 = _fn("tram_euler_to_mat3", V, I, c_double_p, ctypes.POINTER(Mat3))
+euler_from_mat3 = _fn("tram_euler_from_mat3", V, I, ctypes.POINTER(Mat3), c_double_p)
+quat_to_mat3 = _fn("tram_quat_wxyz_to_mat3", V, c_double_p, ctypes.POINTER(Mat3))
+quat_from_mat3 = _fn("tram_quat_wxyz_from_mat3", V, ctypes.POINTER(Mat3), c_double_p)
+rotvec_to_mat3 = _fn("tram_rotvec_to_mat3", V, c_double_p, ctypes.POINTER(Mat3))
+rotvec_from_mat3 = _fn("tram_rotvec_from_mat3", V, ctypes.POINTER(Mat3), c_double_p)
