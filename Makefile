@@ -107,6 +107,10 @@ $(B)/refhelper: tests/ref/refhelper.c $(B)/libtram.a
 	@echo "  CC      $<"
 	@$(CC) $(BASEFLAGS) $(OPT) $(EXTRA_CFLAGS) $(PKG_CFLAGS) $< -o $@ $(B)/libtram.a $(EXTRA_LDFLAGS) $(PKG_LIBS)
 
+$(B)/render_ref: tests/ref/render_ref.c $(RENDER_OBJ) $(B)/libtram.a
+	@echo "  CC      $<"
+	@$(CC) $(BASEFLAGS) -Itools $(OPT) $(EXTRA_CFLAGS) $(PKG_CFLAGS) $< -o $@ $(RENDER_OBJ) $(B)/libtram.a $(EXTRA_LDFLAGS) $(PKG_LIBS)
+
 tools: $(B)/gen_demo
 $(B)/gen_demo: tools/gen_demo.c $(B)/libtram.a
 	@echo "  CC      $<"
@@ -209,12 +213,13 @@ cli-tests: $(B)/tram $(B)/gen_demo
 	@TRAM=$(abspath $(B)/tram) GEN_DEMO=$(abspath $(B)/gen_demo) sh tests/cli/run.sh
 
 # Reference checks against SciPy / NumPy (Debian's python3-scipy).
-ref-tests: $(B)/refhelper $(B)/tram
+ref-tests: $(B)/refhelper $(B)/tram $(B)/render_ref
 	$(PYTHON) tests/ref/check_rotation_scipy.py $(B)/refhelper
 	$(PYTHON) tests/ref/check_solve_scipy.py $(B)/tram
 	$(PYTHON) tests/ref/check_stats_scipy.py $(B)/refhelper
 	$(PYTHON) tests/ref/check_chain_scipy.py $(B)/tram
 	$(PYTHON) tests/ref/check_register_scipy.py $(B)/tram
+	$(PYTHON) tests/ref/check_render_numpy.py $(B)/render_ref
 
 asan:
 	$(MAKE) B=build-asan OPT="-O1 -g -fno-omit-frame-pointer" \
