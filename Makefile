@@ -111,7 +111,10 @@ $(B)/render_ref: tests/ref/render_ref.c $(RENDER_OBJ) $(B)/libtram.a
 	@echo "  CC      $<"
 	@$(CC) $(BASEFLAGS) -Itools $(OPT) $(EXTRA_CFLAGS) $(PKG_CFLAGS) $< -o $@ $(RENDER_OBJ) $(B)/libtram.a $(EXTRA_LDFLAGS) $(PKG_LIBS)
 
-tools: $(B)/gen_demo
+tools: $(B)/gen_demo $(B)/gen_images
+$(B)/gen_images: tools/gen_images.c $(RENDER_OBJ) $(B)/libtram.a
+	@echo "  CC      $<"
+	@$(CC) $(BASEFLAGS) -Itools $(OPT) $(EXTRA_CFLAGS) $(PKG_CFLAGS) $< -o $@ $(RENDER_OBJ) $(B)/libtram.a $(EXTRA_LDFLAGS) $(PKG_LIBS)
 $(B)/gen_demo: tools/gen_demo.c $(B)/libtram.a
 	@echo "  CC      $<"
 	@$(CC) $(BASEFLAGS) $(OPT) $(EXTRA_CFLAGS) $(PKG_CFLAGS) $< -o $@ $(B)/libtram.a $(EXTRA_LDFLAGS) $(PKG_LIBS)
@@ -245,8 +248,8 @@ test:
 
 demo:
 	@$(MAKE) --no-print-directory deps
-	@$(MAKE) --no-print-directory all
-	@sh datasets/demo/run_demo.sh $(B)/tram
+	@$(MAKE) --no-print-directory all $(B)/gen_images
+	@GEN_IMAGES=$(B)/gen_images DEMO_IMAGES_OUT=$(B)/demo-images sh datasets/demo/run_demo.sh $(B)/tram
 
 install: all
 	install -d $(DESTDIR)$(PREFIX)/bin $(DESTDIR)$(PREFIX)/lib $(DESTDIR)$(PREFIX)/include/tram \

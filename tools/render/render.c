@@ -722,6 +722,7 @@ static int png_encode(const tram_grey_image *im, unsigned char *row, membuf *m)
     png_set_write_fn(png, m, png_mem_write, png_mem_flush);
     png_set_IHDR(png, info, (png_uint_32)im->width, (png_uint_32)im->height, 8, PNG_COLOR_TYPE_GRAY,
                  PNG_INTERLACE_NONE, PNG_COMPRESSION_TYPE_DEFAULT, PNG_FILTER_TYPE_DEFAULT);
+    png_set_compression_level(png, 1); /* noisy images hardly compress; write fast */
     png_write_info(png, info);
     for (size_t j = 0; j < im->height; j++) {
         const float *p = im->pixels + j * im->width;
