@@ -105,5 +105,12 @@ int main(void)
     render_scene_init(&s, &b2, &c3, &T);
     s.supersample = 4;
     fail |= emit("grazing", &s);
+
+    /* strong barrel distortion, the board in an image corner */
+    tram_camera c4 = camera(200, 150, 150, -0.35, 0.12, 0, 0, 0, 0);
+    render_pose_facing(&b, 520, 0.42, 0.3, 20, 135, 10, &T);
+    render_scene_init(&s, &b, &c4, &T);
+    s.supersample = 4;
+    fail |= emit("strong-barrel-corner", &s);
     return fail;
 }
