@@ -317,6 +317,13 @@ static void test_lighting_ramp(void **state)
     assert_close(im->pixels[319], 100.0, 1e-3);
     assert_close(im->pixels[239 * 320 + 160], 75.0 + 25.0 / 319.0, 1e-3);
     render_image_destroy(im);
+    /* vignetting 0.3 alone: 1 at the principal point, 0.7 at the far corner's edge */
+    s.gain_min = s.gain_max = 1.0;
+    s.vignetting = 0.3;
+    im = render_clean(&s, NULL);
+    assert_close(im->pixels[120 * 320 + 160], 100.0 * (1 - 0.3 * (0.25 + 0.25) / (160.0 * 160.0 + 120.0 * 120.0)), 1e-3);
+    assert_close(im->pixels[0], 100.0 * (1 - 0.3 * (159.5 * 159.5 + 119.5 * 119.5) / (160.0 * 160.0 + 120.0 * 120.0)), 1e-3);
+    render_image_destroy(im);
 }
 
 static void test_noise_sigma(void **state)

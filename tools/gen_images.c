@@ -99,7 +99,8 @@ typedef struct scene_file {
     tram_board board;
     tram_camera camera;
     tram_se3 T_base_target;
-    double seed, supersample, blur, noise, gain_min, gain_max, clutter, black, white, background;
+    double seed, supersample, blur, noise, gain_min, gain_max, vignetting, clutter, black, white,
+        background;
     cJSON *occluded; /* array of station ids, owned by doc */
     cJSON *doc;
 } scene_file;
@@ -135,6 +136,8 @@ static int read_scene(const char *path, scene_file *sf)
         fprintf(stderr, "gen_images: %s: bad camera distortion, image size or board size\n", path);
         return -1;
     }
+    const cJSON *vig = cJSON_GetObjectItemCaseSensitive(r, "vignetting"); /* optional */
+    sf->vignetting = cJSON_IsNumber(vig) ? vig->valuedouble : 0.0;
     cam->distortion = (tram_distortion)d;
     cam->width = (size_t)w;
     cam->height = (size_t)h;
@@ -190,6 +193,7 @@ static int do_station(const scene_file *sf, const tram_station *st, unsigned lon
     s.gain_min = sf->gain_min;
     s.gain_max = sf->gain_max;
     s.gain_angle_deg = (double)(s.seed % 360);
+    s.vignetting = sf->vignetting;
     s.clutter = (int)sf->clutter;
     s.black = sf->black;
     s.white = sf->white;

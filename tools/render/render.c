@@ -541,15 +541,21 @@ int render_truth_compute(const render_scene *s, render_truth *t)
  * Lighting, blur and noise. */
 static void apply_gain(const render_scene *s, float *img)
 {
-    if (s->gain_min == 1.0 && s->gain_max == 1.0) return;
+    if (s->gain_min == 1.0 && s->gain_max == 1.0 && s->vignetting == 0.0) return;
     size_t W = s->camera.width, H = s->camera.height;
     double ca = cos(s->gain_angle_deg * DEG), sa = sin(s->gain_angle_deg * DEG);
     double ext = fabs(ca) * (double)(W - 1) + fabs(sa) * (double)(H - 1);
     if (ext <= 0) ext = 1;
+    /* squared distance from the principal point to the farthest image corner */
+    double ex = fmax(s->camera.cx + 0.5, (double)W - 0.5 - s->camera.cx);
+    double ey = fmax(s->camera.cy + 0.5, (double)H - 0.5 - s->camera.cy);
+    double rc2 = ex * ex + ey * ey;
     for (size_t j = 0; j < H; j++)
         for (size_t i = 0; i < W; i++) {
             double t = ((double)i - 0.5 * (double)(W - 1)) * ca + ((double)j - 0.5 * (double)(H - 1)) * sa;
             double gain = s->gain_min + (s->gain_max - s->gain_min) * (t / ext + 0.5);
+            double du = (double)i - s->camera.cx, dv = (double)j - s->camera.cy;
+            gain *= 1.0 - s->vignetting * (du * du + dv * dv) / rc2;
             img[j * W + i] = (float)(img[j * W + i] * gain);
         }
 }
@@ -620,10 +626,11 @@ static tram_status check_scene(const render_scene *s, tram_error *err)
         return tram__fail(err, TRAM_EINPUT, "", 0, 0, "render: board of %d x %d corners, square %g",
                           s->board.cols, s->board.rows, s->board.square);
     if (s->supersample < 1 || s->supersample > 64 || s->border_squares < 1 ||
-        s->border_squares > 100 || s->clutter < 0 || s->blur_sigma_px > 50 || s->noise_sigma < 0)
+        s->border_squares > 100 || s->clutter < 0 || s->blur_sigma_px > 50 || s->noise_sigma < 0 ||
+        !(s->vignetting >= 0 && s->vignetting < 1))
         return tram__fail(err, TRAM_EINPUT, "", 0, 0,
                           "render: supersample 1..64, border 1..100 squares, clutter >= 0, "
-                          "blur <= 50 px, noise >= 0");
+                          "blur <= 50 px, noise >= 0, vignetting 0..1");
     return TRAM_OK;
 }
 
@@ -761,6 +768,7 @@ static void common_realism(render_scene *s, rng *r)
     s->gain_min = rng_range(r, 0.6, 0.8);
     s->gain_max = rng_range(r, 1.05, 1.25);
     s->gain_angle_deg = rng_range(r, 0, 360);
+    s->vignetting = rng_range(r, 0.0, 0.3);
 }
 
 /* Normalised image point of pixel (u, v). */
@@ -852,5 +860,6 @@ void render_scene_5mp(const tram_board *b, unsigned long long seed, render_scene
     s->gain_min = 0.7;
     s->gain_max = 1.2;
     s->gain_angle_deg = rng_range(&r, 0, 360);
+    s->vignetting = 0.2;
     s->clutter = 40;
 }

@@ -18,7 +18,8 @@
  *   3. The background layer: a constant grey, with optional clutter
  *      (rectangles, lines, blobs, small checker patches) drawn behind the
  *      board; optional occluder (a blob in front of the board).
- *   4. Lighting: a gain ramp across the image (gain_min .. gain_max).
+ *   4. Lighting: a gain ramp across the image (gain_min .. gain_max) and
+ *      an optional radial fall-off (vignetting).
  *   5. Optical blur: a Gaussian of blur_sigma_px.
  *   6. Sensor noise: additive Gaussian of noise_sigma grey levels
  *      (splitmix64 and Box-Muller), then clipping to 0 .. 255.
@@ -59,6 +60,9 @@ typedef struct render_scene {
     double blur_sigma_px;      /* Gaussian blur (0: none)                        */
     double gain_min, gain_max; /* lighting gain ramp across the image (1, 1)    */
     double gain_angle_deg;     /* ramp direction: 0 gain grows with u, 90 with v */
+    double vignetting;         /* smooth fall-off: gain x (1 - vignetting (r/rc)^2), r from
+                                  the principal point, rc its distance to the farthest
+                                  image corner (0: none; 0.3: corners at 70 %) */
     double noise_sigma;        /* additive Gaussian noise, grey levels (0)      */
     int clip;                  /* 1: clip to 0 .. 255 after the noise (1)      */
     int clutter;               /* number of clutter shapes behind the board (0)  */
@@ -126,7 +130,8 @@ tram_status render_negative(int i, const tram_board *b, const tram_camera *c,
 
 /* The detection benchmark's scene: a 2592 x 1944 (5 MP) camera (fx = fy =
  * 2200 px, k1 = -0.08), board b at a seeded oblique pose filling about
- * half the image, blur 0.8 px, noise 2 levels, gain 0.7 .. 1.2, clutter. */
+ * half the image, blur 0.8 px, noise 2 levels, gain 0.7 .. 1.2, vignetting
+ * 0.2, clutter. */
 void render_scene_5mp(const tram_board *b, unsigned long long seed, render_scene *s);
 
 #ifdef __cplusplus
