@@ -532,7 +532,7 @@ int render_truth_compute(const render_scene *s, render_truth *t)
             t->occluded[id] = sqrt(dx * dx + dy * dy) <= blob_radius(&occ, atan2(dy, dx)) + 3.0;
         }
         t->ninside += t->inside[id];
-        t->nvisible += t->inside[id] && !t->occluded[id];
+        t->nvisible += t->inside[id] && !t->occluded[id] && t->front;
     }
     return 0;
 }
