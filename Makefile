@@ -91,8 +91,8 @@ $(B)/tram: $(CLI_OBJ) $(B)/libtram.a
 
 # The test renderer (tools/render/, not part of libtram) is linked into
 # every test, benchmark and tool that may use it.
-RENDER_OBJ := $(B)/obj/tools/render.o
-$(RENDER_OBJ): tools/render/render.c tools/render/render.h $(HEADERS)
+RENDER_OBJ := $(B)/obj/tools/render.o $(B)/obj/tools/render_sets.o
+$(B)/obj/tools/%.o: tools/render/%.c tools/render/render.h tools/render/render_internal.h $(HEADERS)
 	@mkdir -p $(dir $@)
 	@echo "  CC      $<"
 	@$(CC) $(BASEFLAGS) -Itools $(OPT) $(EXTRA_CFLAGS) $(PKG_CFLAGS) -c $< -o $@
