@@ -91,8 +91,8 @@ $(B)/tram: $(CLI_OBJ) $(B)/libtram.a
 
 # The test renderer (tools/render/, not part of libtram) is linked into
 # every test, benchmark and tool that may use it.
-RENDER_OBJ := $(B)/obj/tools/render.o
-$(RENDER_OBJ): tools/render/render.c tools/render/render.h $(HEADERS)
+RENDER_OBJ := $(B)/obj/tools/render.o $(B)/obj/tools/render_sets.o
+$(B)/obj/tools/%.o: tools/render/%.c tools/render/render.h tools/render/render_internal.h $(HEADERS)
 	@mkdir -p $(dir $@)
 	@echo "  CC      $<"
 	@$(CC) $(BASEFLAGS) -Itools $(OPT) $(EXTRA_CFLAGS) $(PKG_CFLAGS) -c $< -o $@
@@ -196,15 +196,16 @@ valgrind-run: $(TESTS)
 
 # Benchmarks (not tests): make bench.  Each program writes its own JSON
 # array; bench/merge.py joins them into $(B)/bench.json.
-BENCHES := register solve records
-$(B)/bench_%: bench/bench_%.c bench/bench_util.h $(B)/libtram.a
+BENCHES := register solve records render
+$(B)/bench_%: bench/bench_%.c bench/bench_util.h $(B)/libtram.a $(RENDER_OBJ)
 	@echo "  CC      $<"
-	@$(CC) $(BASEFLAGS) -O2 $(PKG_CFLAGS) $< -o $@ $(B)/libtram.a $(PKG_LIBS)
+	@$(CC) $(BASEFLAGS) -Itools -O2 $(PKG_CFLAGS) $< -o $@ $(RENDER_OBJ) $(B)/libtram.a $(PKG_LIBS)
 
 bench: deps $(patsubst %,$(B)/bench_%,$(BENCHES))
 	$(B)/bench_register $(B)/bench_register.json bench/ref_register_numpy.py $(B)/bench_pairs.bin
 	$(B)/bench_solve $(B)/bench_solve.json
 	$(B)/bench_records $(B)/bench_records.json $(B)
+	$(B)/bench_render $(B)/bench_render.json
 	@$(PYTHON) bench/merge.py $(B)/bench.json $(patsubst %,$(B)/bench_%.json,$(BENCHES))
 
 # Unit tests (cmocka), one binary per module.

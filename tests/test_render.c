@@ -112,6 +112,7 @@ static void test_board_convention(void **state)
     s.T_sensor_target = Tb;
     im = render_clean(&s, &t);
     assert_int_equal(t.front, 0);
+    assert_int_equal(t.nvisible, 0); /* corners in the image, but not printed on this side */
     double uvc[2];
     project(&s, 100.0, 62.5, uvc);
     assert_close(pixel_at(im, uvc[0], uvc[1]), 140.0, 1e-4);

@@ -223,7 +223,7 @@ static int do_station(const scene_file *sf, const tram_station *st, unsigned lon
     cJSON *vis = tram__jb_arr(jb, o, "visible");
     for (size_t i = 0; i < t.ncorners; i++) {
         tram__jb_vec(jb, uv, NULL, &t.uv[2 * i], 2, 1.0);
-        tram__jb_bool(jb, vis, NULL, t.inside[i] && !t.occluded[i]);
+        tram__jb_bool(jb, vis, NULL, t.inside[i] && !t.occluded[i] && t.front);
     }
     printf("gen_images: %s: %zu of %zu corners in view%s, squares %.0f px\n", st->id, t.nvisible,
            t.ncorners, s.occluder ? " (part of the board covered)" : "", t.square_px);

@@ -80,7 +80,7 @@ typedef struct render_truth {
     unsigned char *inside;    /* 1: in front of the camera, 0 <= u <= W-1, 0 <= v <= H-1 */
     unsigned char *occluded;  /* 1: under the occluder or within 3 px of its edge */
     size_t ninside;           /* corners inside the image                       */
-    size_t nvisible;          /* inside and not occluded                       */
+    size_t nvisible;          /* inside, not occluded, printed side to the camera */
     int front;                /* 1: the camera sees the board's printed side   */
     double square_px;         /* mean distance between neighbouring corners, px */
 } render_truth;
