@@ -254,16 +254,17 @@ static tram_status read_members(reader *r, const where *w, const cJSON *root, tr
         if (it[k]) return fail_at(r, w, c, 0, "key \"%s\" given twice", c->string);
         it[k] = c;
     }
+    /* what the file is comes first, then what it lacks */
+    if (it[0] && (!cJSON_IsString(it[0]) || strcmp(it[0]->valuestring, "tram-board") != 0))
+        return fail_at(r, w, it[0], 1, "\"format\": expected \"tram-board\"");
+    if (it[1] && (!cJSON_IsNumber(it[1]) || it[1]->valuedouble != 1.0))
+        return fail_at(r, w, it[1], 1, "\"version\": expected 1 (this tram, %s, reads version 1)",
+                       TRAM_VERSION_STRING);
     static const char *const required[] = {"format", "version", "kind", "cols", "rows", "square",
                                            "length_unit"};
     for (size_t k = 0; k < sizeof required / sizeof required[0]; k++)
         if (!it[k])
             return tram__fail(r->err, TRAM_EINPUT, r->name, 1, 1, "missing key \"%s\"", required[k]);
-    if (!cJSON_IsString(it[0]) || strcmp(it[0]->valuestring, "tram-board") != 0)
-        return fail_at(r, w, it[0], 1, "\"format\": expected \"tram-board\"");
-    if (!cJSON_IsNumber(it[1]) || it[1]->valuedouble != 1.0)
-        return fail_at(r, w, it[1], 1, "\"version\": expected 1 (this tram, %s, reads version 1)",
-                       TRAM_VERSION_STRING);
     if (!cJSON_IsString(it[2]) || strcmp(it[2]->valuestring, "chessboard") != 0)
         return fail_at(r, w, it[2], 1, "\"kind\": expected \"chessboard\"");
     int cols, rows;

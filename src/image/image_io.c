@@ -322,6 +322,12 @@ tram_status tram_grey_image_read_buffer(const char *name, const unsigned char *d
     if (!name) name = "<image>";
     if (len == 0) return tram__fail(err, TRAM_EINPUT, name, 0, 0, "empty file: expected a PNG or JPEG image");
     if (len >= 8 && memcmp(data, png_sig, 8) == 0) {
+        /* the size from IHDR (bytes 16..23) before libpng reads on */
+        if (len >= 24 && memcmp(data + 12, "IHDR", 4) == 0) {
+            size_t w = ((size_t)data[16] << 24) | ((size_t)data[17] << 16) | ((size_t)data[18] << 8) | data[19];
+            size_t h = ((size_t)data[20] << 24) | ((size_t)data[21] << 16) | ((size_t)data[22] << 8) | data[23];
+            if (!size_ok(w, h)) return alloc_image(name, w, h, out, err);
+        }
         png_job j;
         memset(&j, 0, sizeof j);
         j.name = name;
