@@ -276,6 +276,28 @@ static void join(char *out, size_t size, const char *dir, const char *name)
     snprintf(out, size, "%.*s%s%s", (int)dl, dir, dir[dl - 1] == '/' ? "" : "/", name);
 }
 
+/* Refuse existing outputs before any work is done. */
+static int refuse_existing(const char *o, const char *dir, const shot *shots, int n, int force)
+{
+    struct stat sb;
+    if (force) return CLI_EXIT_OK;
+    if (o && stat(o, &sb) == 0) {
+        fprintf(stderr, "%s: error: already exists; not overwritten (pass --force to replace it)\n", o);
+        return CLI_EXIT_USAGE;
+    }
+    char path[4096];
+    for (int i = 0; dir && i <= n; i++) {
+        char name[200];
+        snprintf(name, sizeof name, "%s-corners.png", i < n ? shots[i].station : "");
+        join(path, sizeof path, dir, i < n ? name : "coverage.png");
+        if (stat(path, &sb) == 0) {
+            fprintf(stderr, "%s: error: already exists; not overwritten (pass --force to replace it)\n", path);
+            return CLI_EXIT_USAGE;
+        }
+    }
+    return CLI_EXIT_OK;
+}
+
 static int write_pictures(const char *dir, const tram_board *b, const shot *shots, int n, size_t w,
                           size_t h, int force)
 {
@@ -284,16 +306,6 @@ static int write_pictures(const char *dir, const tram_board *b, const shot *shot
         return CLI_EXIT_USAGE;
     }
     char path[4096];
-    for (int i = 0; i <= n; i++) { /* refuse existing pictures before drawing any */
-        char name[200];
-        snprintf(name, sizeof name, "%s-corners.png", i < n ? shots[i].station : "");
-        join(path, sizeof path, dir, i < n ? name : "coverage.png");
-        struct stat sb;
-        if (!force && stat(path, &sb) == 0) {
-            fprintf(stderr, "%s: error: already exists; not overwritten (pass --force to replace it)\n", path);
-            return CLI_EXIT_USAGE;
-        }
-    }
     tram_error err;
     tram_error_clear(&err);
     const tram_detection **dets = calloc((size_t)n, sizeof *dets);
@@ -361,13 +373,10 @@ static int run(const char *board_path, const char *o, const char *plot, int json
         cli_report(&err);
         return CLI_EXIT_USAGE;
     }
-    struct stat sb;
-    if (o && !force && stat(o, &sb) == 0) {
-        fprintf(stderr, "%s: error: already exists; not overwritten (pass --force to replace it)\n", o);
-        return CLI_EXIT_USAGE;
-    }
+    int rc = refuse_existing(o, plot, shots, n, force);
+    if (rc != CLI_EXIT_OK) return rc;
     size_t w = 0, h = 0;
-    int rc = detect_all(&b, shots, n, &w, &h);
+    rc = detect_all(&b, shots, n, &w, &h);
     if (rc != CLI_EXIT_OK) return rc;
     int found = 0;
     for (int i = 0; i < n; i++) found += shots[i].det->found != 0;
