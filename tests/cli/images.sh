@@ -109,3 +109,16 @@ else
     if [ "${CI:-}" = true ]; then bad "pdftoppm (poppler-utils) missing"; else echo "skipped: pdftoppm not installed (poppler-utils)"; fi
 fi
 fi
+
+# Every command example of docs/images.md (its sh blocks) runs, in order,
+# in an empty directory.
+docs_dir="$tmp/docs-images"
+mkdir -p "$docs_dir/bin"
+printf '#!/bin/sh\nexec "%s" "$@"\n' "$TRAM" >"$docs_dir/bin/tram"
+chmod +x "$docs_dir/bin/tram"
+awk '/^```sh$/ { on = 1; next } /^```/ { on = 0 } on' "$here/../../docs/images.md" >"$docs_dir/examples.sh"
+if [ -s "$docs_dir/examples.sh" ] && (cd "$docs_dir" && PATH="$docs_dir/bin:$PATH" sh -e examples.sh >/dev/null 2>"$docs_dir/err"); then
+    ok
+else
+    bad "docs/images.md examples"; cat "$docs_dir/err"
+fi
