@@ -11,6 +11,11 @@ mkdir -p "$im"
 close() { awk -v a="$1" -v b="$2" -v t="$3" 'BEGIN { d = a - b; if (d < 0) d = -d; exit !(d <= t) }'; }
 # pagesize PDF: "W H" in pt as pdfinfo reports it
 pagesize() { pdfinfo "$1" | sed -n 's/^Page size: *\([0-9.]*\) x \([0-9.]*\) pts.*/\1 \2/p'; }
+# pagecheck NAME PDF W H: pdfinfo's page size is W x H pt to 0.01 pt
+pagecheck() {
+    ps=$(pagesize "$2")
+    if [ -n "$ps" ] && close "${ps% *}" "$3" 0.01 && close "${ps#* }" "$4" 0.01; then ok; else bad "$1: page size '$ps' pt, expected $3 x $4"; fi
+}
 png_sig() { [ "$(head -c 8 "$1" | od -An -tx1 | tr -d ' \n')" = "89504e470d0a1a0a" ]; }
 
 if ! command -v pdfinfo >/dev/null 2>&1; then
@@ -22,18 +27,14 @@ else
     && ok || { bad "board with PDF and PNG"; cat "$tmp/err"; }
 grep -q '"format":[[:space:]]*"tram-board"' "$im/b.json" && grep -q '"convention"' "$im/b.json" && ok || bad "board file"
 # A4 (ISO 216: 210 x 297 mm) = 595.276 x 841.890 pt; this board is laid out landscape
-set -- $(pagesize "$im/b.pdf")
-close "$1" 841.890 0.01 && close "$2" 595.276 0.01 && ok || bad "A4 landscape page size: $1 x $2 pt"
+pagecheck "A4 landscape" "$im/b.pdf" 841.890 595.276
 "$TRAM" board --corners 5x4 --square 20mm -o "$im/p.json" --pdf "$im/p.pdf" 2>/dev/null
-set -- $(pagesize "$im/p.pdf")
-close "$1" 595.276 0.01 && close "$2" 841.890 0.01 && ok || bad "A4 portrait page size: $1 x $2 pt"
+pagecheck "A4 portrait" "$im/p.pdf" 595.276 841.890
 # US letter, 8.5 x 11 in = 612 x 792 pt; and a page given in mm
 "$TRAM" board --corners 5x4 --square 20mm -o "$im/l.json" --pdf "$im/l.pdf" --page letter 2>/dev/null
-set -- $(pagesize "$im/l.pdf")
-close "$1" 612 0.01 && close "$2" 792 0.01 && ok || bad "letter page size: $1 x $2 pt"
+pagecheck "letter" "$im/l.pdf" 612 792
 "$TRAM" board --corners 9x6 --square 25mm -o "$im/a3.json" --pdf "$im/a3.pdf" --page 420x297 2>/dev/null
-set -- $(pagesize "$im/a3.pdf")
-close "$1" 1190.551 0.01 && close "$2" 841.890 0.01 && ok || bad "420x297 mm page size: $1 x $2 pt"
+pagecheck "420x297 mm" "$im/a3.pdf" 1190.551 841.890
 pdftotext "$im/b.pdf" "$im/b.txt" && grep -q '9 x 6 inner corners' "$im/b.txt" && grep -q 'square 18 mm' "$im/b.txt" \
     && grep -q 'Print at 100% / actual size, no fit to page' "$im/b.txt" && grep -q 'must measure 100 mm' "$im/b.txt" \
     && ok || { bad "board parameters in the PDF text"; cat "$im/b.txt"; }
