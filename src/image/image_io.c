@@ -84,7 +84,7 @@ typedef struct png_job {
     const char *name;
     const unsigned char *data;
     size_t len, pos;
-    int truncated;
+    int truncated, nomem;
     char msg[200];
     unsigned char *raw;      /* whole decoded image (interlaced) or one row */
     png_bytep *rows;
@@ -119,8 +119,10 @@ static void png_read_fn(png_structp png, png_bytep out, size_t n)
 
 static void *png_alloc_fn(png_structp png, png_alloc_size_t n)
 {
-    (void)png;
-    return tram__malloc(n);
+    void *p = tram__malloc(n);
+    png_job *j = png_get_mem_ptr(png);
+    if (!p && j) j->nomem = 1; /* libpng then fails with its own message */
+    return p;
 }
 
 static void png_free_fn(png_structp png, png_voidp p)
@@ -150,7 +152,7 @@ static void png_row_to_grey(const unsigned char *row, size_t w, int channels, in
 static void png_decode(png_job *j)
 {
     png_structp png = png_create_read_struct_2(PNG_LIBPNG_VER_STRING, j, png_fail_fn, png_warn_fn,
-                                               NULL, png_alloc_fn, png_free_fn);
+                                               j, png_alloc_fn, png_free_fn);
     png_infop info = png ? png_create_info_struct(png) : NULL;
     if (!png || !info) {
         png_destroy_read_struct(png ? &png : NULL, NULL, NULL);
@@ -158,7 +160,9 @@ static void png_decode(png_job *j)
         return;
     }
     if (setjmp(png_jmpbuf(png))) {
-        if (j->st == TRAM_OK)
+        if (j->st == TRAM_OK && j->nomem)
+            j->st = tram__fail(j->err, TRAM_ENOMEM, j->name, 0, 0, "out of memory reading the PNG file");
+        else if (j->st == TRAM_OK)
             j->st = tram__fail(j->err, TRAM_EINPUT, j->name, 0, 0, "%s PNG file: %s",
                                j->truncated ? "truncated" : "corrupt", j->msg);
         tram__free(j->raw);
