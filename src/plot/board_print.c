@@ -104,7 +104,9 @@ static tram_status make_layout(const tram_board *b, const tram_plot_page *page, 
     L->square_mm = sq_mm;
     L->pw = pw * PT_PER_MM;
     L->ph = ph * PT_PER_MM;
-    L->sq = sq_mm * PT_PER_MM;
+    /* points straight from metres (1 pt = 0.0254 m / 72), so an inch is
+     * exactly 72 pt and no mm round trip rounds */
+    L->sq = b->square * tram_unit_length_in_m(b->unit) / 0.0254 * 72.0;
     double patw = (b->cols + 1) * L->sq, path = (b->rows + 1) * L->sq;
     L->label_y = L->ph - (PRINTER_MM + LABEL_MM) * PT_PER_MM;
     L->x0 = (L->pw - patw) / 2;
@@ -170,11 +172,13 @@ static void draw_page(cairo_t *cr, const tram_board *b, const layout *L)
     double y = L->label_y + 4 * mm;
     char line[320];
     cairo_select_font_face(cr, "sans-serif", CAIRO_FONT_SLANT_NORMAL, CAIRO_FONT_WEIGHT_NORMAL);
+    char in_mm[40] = "";
+    if (b->unit != TRAM_LENGTH_MM) snprintf(in_mm, sizeof in_mm, " = %.3f mm", L->square_mm);
     snprintf(line, sizeof line,
-             "tram chessboard: %d x %d inner corners (%d x %d squares), square %g %s = %.3f mm; "
+             "tram chessboard: %d x %d inner corners (%d x %d squares), square %g %s%s; "
              "pattern %.1f x %.1f mm",
              b->cols, b->rows, b->cols + 1, b->rows + 1, b->square, tram_unit_length_name(b->unit),
-             L->square_mm, (b->cols + 1) * L->square_mm, (b->rows + 1) * L->square_mm);
+             in_mm, (b->cols + 1) * L->square_mm, (b->rows + 1) * L->square_mm);
     label(cr, x, y, 7.0, line, 0.0);
     y += 3.5 * mm;
     label(cr, x, y, 7.0,
