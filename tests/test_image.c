@@ -330,6 +330,16 @@ static void test_refusals(void **state)
         }
     expect_refused(b.p, b.n, "big.jpg", "more than the 100000000 pixels");
     free(b.p);
+    /* and one whose frame header says width 0 */
+    write_jpeg(&b, 16, 16, 1, px, 90);
+    for (size_t i = 2; i + 9 < b.n; i++)
+        if (b.p[i] == 0xff && (b.p[i + 1] == 0xc0 || b.p[i + 1] == 0xc1)) {
+            b.p[i + 7] = 0;
+            b.p[i + 8] = 0;
+            break;
+        }
+    expect_refused(b.p, b.n, "zero.jpg", "Empty JPEG image");
+    free(b.p);
 }
 
 static void test_files_and_create(void **state)
