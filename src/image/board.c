@@ -12,9 +12,8 @@
  * version knows, so a file edited to mean another one is refused rather
  * than read under the wrong rule.  The reader is strict: unknown,
  * missing and duplicate keys, wrong types and non-finite numbers are
- * errors naming file:line:column.  cJSON keeps no positions, so they come
- * from a scan of the text that lists every key in document order, which
- * is the order of a pre-order walk of the parsed tree.
+ * errors naming file:line:column, located by the io layer's scan of the
+ * text (src/io/json_pos.c), which also refuses duplicate keys.
  *
  * Symmetry: the board has (cols + 1) x (rows + 1) squares and square (i, j)
  * is black when i + j is even.  A 180-degree turn maps square (i, j) onto
@@ -25,6 +24,7 @@
 #include "tram/image.h"
 #include "core/tram_internal.h"
 #include "io/json_internal.h"
+#include "io/json_pos_internal.h"
 #include "io/records_internal.h"
 
 #include <math.h>
@@ -123,77 +123,25 @@ tram_status tram_board_to_json(const tram_board *b, char **text, tram_error *err
 
 /* ---- reading --------------------------------------------------------- */
 
-/* Offsets of every key of the document and of its value, in text order. */
-typedef struct keypos {
-    size_t *key, *val, n, next;
-} keypos;
-
-static size_t skip_blank(const char *d, size_t len, size_t i)
-{
-    while (i < len && (d[i] == ' ' || d[i] == '\t' || d[i] == '\r' || d[i] == '\n')) i++;
-    return i;
-}
-
-/* One pass counts (out NULL), the second records.  The text parsed as
- * JSON, so a string followed by ':' is a key. */
-static size_t scan_keys(const char *d, size_t len, size_t *key, size_t *val)
-{
-    size_t n = 0;
-    for (size_t i = 0; i < len; i++) {
-        if (d[i] != '"') continue;
-        size_t start = i++;
-        while (i < len && d[i] != '"') i += d[i] == '\\' ? 2 : 1;
-        size_t after = skip_blank(d, len, i + 1);
-        if (after < len && d[after] == ':') {
-            if (key) {
-                key[n] = start;
-                val[n] = skip_blank(d, len, after + 1);
-            }
-            n++;
-        }
-    }
-    return n;
-}
-
 typedef struct reader {
-    const char *name, *data;
-    size_t len;
-    keypos kp;
+    const char *name;
+    tram__json_pos *pos; /* where each member is (src/io/json_pos.c) */
     tram_error *err;
 } reader;
 
-/* Pre-order index of each keyed item, matched to the text scan. */
-static void number_items(const cJSON *o, size_t *counter, const cJSON **items, size_t n)
+/* Fail at the value (or the key, key != 0) of path ("cols",
+ * "convention.point_id"). */
+static tram_status fail_at(reader *r, const char *path, int key, const char *fmt, ...)
+    TRAM_PRINTF(4, 5);
+static tram_status fail_at(reader *r, const char *path, int key, const char *fmt, ...)
 {
-    const cJSON *c;
-    cJSON_ArrayForEach(c, o)
-    {
-        if (c->string && *counter < n) items[(*counter)++] = c;
-        if (cJSON_IsObject(c) || cJSON_IsArray(c)) number_items(c, counter, items, n);
-    }
-}
-
-typedef struct where {
-    const cJSON **items;
-    size_t n;
-} where;
-
-static tram_status fail_at(reader *r, const where *w, const cJSON *item, int at_value,
-                           const char *fmt, ...) TRAM_PRINTF(5, 6);
-static tram_status fail_at(reader *r, const where *w, const cJSON *item, int at_value,
-                           const char *fmt, ...)
-{
-    long line = 0, col = 0;
-    for (size_t i = 0; item && i < w->n; i++)
-        if (w->items[i] == item) {
-            tram__offset_pos(r->data, at_value ? r->kp.val[i] : r->kp.key[i], &line, &col);
-            break;
-        }
     char msg[700];
     va_list ap;
     va_start(ap, fmt);
     vsnprintf(msg, sizeof msg, fmt, ap);
     va_end(ap);
+    long line, col;
+    tram__json_pos_where(r->pos, path, key, &line, &col);
     return tram__fail(r->err, TRAM_EINPUT, r->name, line, col, "%s", msg);
 }
 
@@ -201,64 +149,63 @@ static const char *const top_keys[] = {"format", "version", "kind", "cols", "row
                                        "length_unit", "convention", "comment"};
 #define NTOP (sizeof top_keys / sizeof top_keys[0])
 
-static tram_status check_convention(reader *r, const where *w, const cJSON *conv)
+static tram_status check_convention(reader *r, const cJSON *conv)
 {
-    if (!cJSON_IsObject(conv))
-        return fail_at(r, w, conv, 1, "\"convention\": expected an object of texts");
+    if (!cJSON_IsObject(conv)) return fail_at(r, "convention", 0, "\"convention\": expected an object of texts");
     const cJSON *c;
     int seen[NCONV] = {0};
     cJSON_ArrayForEach(c, conv)
     {
+        char path[160];
+        snprintf(path, sizeof path, "convention.%s", c->string);
         size_t k = 0;
         while (k < NCONV && strcmp(c->string, convention[k][0]) != 0) k++;
         if (k == NCONV)
-            return fail_at(r, w, c, 0,
+            return fail_at(r, path, 1,
                            "convention: unknown key \"%s\" (known: corner_position, point_id, "
                            "black_square, z_axis)",
                            c->string);
-        if (seen[k]++) return fail_at(r, w, c, 0, "convention: key \"%s\" given twice", c->string);
+        seen[k] = 1;
         if (!cJSON_IsString(c) || strcmp(c->valuestring, convention[k][1]) != 0)
-            return fail_at(r, w, c, 1,
+            return fail_at(r, path, 0,
                            "convention.%s: expected \"%s\" (version 1 boards have this one "
                            "convention; remove the object or restore its text)",
                            c->string, convention[k][1]);
     }
     for (size_t k = 0; k < NCONV; k++)
-        if (!seen[k])
-            return fail_at(r, w, conv, 1, "convention: missing key \"%s\"", convention[k][0]);
+        if (!seen[k]) return fail_at(r, "convention", 0, "convention: missing key \"%s\"", convention[k][0]);
     return TRAM_OK;
 }
 
-static tram_status integer_of(reader *r, const where *w, const cJSON *v, int *out)
+static tram_status integer_of(reader *r, const cJSON *v, int *out)
 {
     if (!cJSON_IsNumber(v) || !isfinite(v->valuedouble) || v->valuedouble != floor(v->valuedouble) ||
         fabs(v->valuedouble) > 1e6)
-        return fail_at(r, w, v, 1, "\"%s\": expected a whole number of inner corners", v->string);
+        return fail_at(r, v->string, 0, "\"%s\": expected a whole number of inner corners", v->string);
     *out = (int)v->valuedouble;
     return TRAM_OK;
 }
 
-static tram_status read_members(reader *r, const where *w, const cJSON *root, tram_board *out)
+static tram_status read_members(reader *r, const cJSON *root, tram_board *out)
 {
     const cJSON *it[NTOP] = {0};
     const cJSON *c;
-    cJSON_ArrayForEach(c, root)
+    cJSON_ArrayForEach(c, root) /* duplicates were refused by the scan */
     {
         size_t k = 0;
         while (k < NTOP && strcmp(c->string, top_keys[k]) != 0) k++;
         if (k == NTOP)
-            return fail_at(r, w, c, 0,
+            return fail_at(r, c->string, 1,
                            "unknown key \"%s\" (a board file has format, version, kind, cols, "
                            "rows, square, length_unit, convention, comment)",
                            c->string);
-        if (it[k]) return fail_at(r, w, c, 0, "key \"%s\" given twice", c->string);
         it[k] = c;
     }
     /* what the file is comes first, then what it lacks */
     if (it[0] && (!cJSON_IsString(it[0]) || strcmp(it[0]->valuestring, "tram-board") != 0))
-        return fail_at(r, w, it[0], 1, "\"format\": expected \"tram-board\"");
+        return fail_at(r, "format", 0, "\"format\": expected \"tram-board\"");
     if (it[1] && (!cJSON_IsNumber(it[1]) || it[1]->valuedouble != 1.0))
-        return fail_at(r, w, it[1], 1, "\"version\": expected 1 (this tram, %s, reads version 1)",
+        return fail_at(r, "version", 0, "\"version\": expected 1 (this tram, %s, reads version 1)",
                        TRAM_VERSION_STRING);
     static const char *const required[] = {"format", "version", "kind", "cols", "rows", "square",
                                            "length_unit"};
@@ -266,23 +213,22 @@ static tram_status read_members(reader *r, const where *w, const cJSON *root, tr
         if (!it[k])
             return tram__fail(r->err, TRAM_EINPUT, r->name, 1, 1, "missing key \"%s\"", required[k]);
     if (!cJSON_IsString(it[2]) || strcmp(it[2]->valuestring, "chessboard") != 0)
-        return fail_at(r, w, it[2], 1, "\"kind\": expected \"chessboard\"");
+        return fail_at(r, "kind", 0, "\"kind\": expected \"chessboard\"");
     int cols, rows;
-    tram_status st = integer_of(r, w, it[3], &cols);
-    if (st == TRAM_OK) st = integer_of(r, w, it[4], &rows);
+    tram_status st = integer_of(r, it[3], &cols);
+    if (st == TRAM_OK) st = integer_of(r, it[4], &rows);
     if (st != TRAM_OK) return st;
     if (!cJSON_IsNumber(it[5]) || !isfinite(it[5]->valuedouble) || !(it[5]->valuedouble > 0))
-        return fail_at(r, w, it[5], 1, "\"square\": expected a positive finite number");
+        return fail_at(r, "square", 0, "\"square\": expected a positive finite number");
     tram_length_unit u = cJSON_IsString(it[6]) ? tram_unit_length_parse(it[6]->valuestring)
                                                : TRAM_LENGTH_UNSET;
     if (u == TRAM_LENGTH_UNSET)
-        return fail_at(r, w, it[6], 1, "\"length_unit\": expected one of \"mm\", \"cm\", \"m\", \"in\"");
-    if (it[7] && (st = check_convention(r, w, it[7])) != TRAM_OK) return st;
-    if (it[8] && !cJSON_IsString(it[8]))
-        return fail_at(r, w, it[8], 1, "\"comment\": expected a string");
+        return fail_at(r, "length_unit", 0, "\"length_unit\": expected one of \"mm\", \"cm\", \"m\", \"in\"");
+    if (it[7] && (st = check_convention(r, it[7])) != TRAM_OK) return st;
+    if (it[8] && !cJSON_IsString(it[8])) return fail_at(r, "comment", 0, "\"comment\": expected a string");
     char why[400];
     if (board_problem(cols, rows, it[5]->valuedouble, u, why, sizeof why))
-        return fail_at(r, w, it[3], 1, "%s", why);
+        return fail_at(r, "cols", 0, "%s", why);
     return tram_board_init(out, cols, rows, it[5]->valuedouble, u, r->err);
 }
 
@@ -297,25 +243,15 @@ tram_status tram_board_read_buffer(const char *name, const char *data, size_t le
     if (!cJSON_IsObject(root)) {
         cJSON_Delete(root);
         long line, col;
-        tram__offset_pos(data, skip_blank(data, len, 0), &line, &col);
+        size_t at = 0;
+        while (at < len && (data[at] == ' ' || data[at] == '\t' || data[at] == '\r' || data[at] == '\n')) at++;
+        tram__offset_pos(data, at, &line, &col);
         return tram__fail(err, TRAM_EINPUT, name, line, col, "expected a JSON object (a tram-board file)");
     }
-    reader r = {name, data, len, {NULL, NULL, 0, 0}, err};
-    r.kp.n = scan_keys(data, len, NULL, NULL);
-    size_t nalloc = r.kp.n ? r.kp.n : 1;
-    r.kp.key = tram__malloc(nalloc * sizeof *r.kp.key);
-    r.kp.val = tram__malloc(nalloc * sizeof *r.kp.val);
-    where w = {tram__calloc(nalloc, sizeof(const cJSON *)), 0};
-    if (!r.kp.key || !r.kp.val || !w.items) {
-        st = tram__fail(err, TRAM_ENOMEM, name, 0, 0, "out of memory");
-    } else {
-        scan_keys(data, len, r.kp.key, r.kp.val);
-        number_items(root, &w.n, w.items, r.kp.n);
-        st = read_members(&r, &w, root, out);
-    }
-    tram__free(r.kp.key);
-    tram__free(r.kp.val);
-    tram__free((void *)w.items);
+    reader r = {name, NULL, err};
+    st = tram__json_pos_scan(name, data, len, &r.pos, err);
+    if (st == TRAM_OK) st = read_members(&r, root, out);
+    tram__json_pos_free(r.pos);
     cJSON_Delete(root);
     if (st != TRAM_OK) memset(out, 0, sizeof *out);
     return st;
