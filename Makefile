@@ -181,7 +181,7 @@ valgrind-run: $(TESTS)
 
 # Benchmarks (not tests): make bench.  Each program writes its own JSON
 # array; bench/merge.py joins them into $(B)/bench.json.
-BENCHES := register solve records
+BENCHES := register solve records detect
 $(B)/bench_%: bench/bench_%.c bench/bench_util.h $(B)/libtram.a
 	@echo "  CC      $<"
 	@$(CC) $(BASEFLAGS) -O2 $(PKG_CFLAGS) $< -o $@ $(B)/libtram.a $(PKG_LIBS)
@@ -190,6 +190,7 @@ bench: deps $(patsubst %,$(B)/bench_%,$(BENCHES))
 	$(B)/bench_register $(B)/bench_register.json bench/ref_register_numpy.py $(B)/bench_pairs.bin
 	$(B)/bench_solve $(B)/bench_solve.json
 	$(B)/bench_records $(B)/bench_records.json $(B)
+	$(B)/bench_detect $(B)/bench_detect.json $(B)
 	@$(PYTHON) bench/merge.py $(B)/bench.json $(patsubst %,$(B)/bench_%.json,$(BENCHES))
 
 # Unit tests (cmocka), one binary per module.

@@ -95,6 +95,7 @@ static int unproject(const scene *s, const double Hinv[3][3], double u, double v
             double fval = ru * (1 + s->k1 * ru * ru) - rd, fd = 1 + 3 * s->k1 * ru * ru;
             if (fd <= 0.05) return 0;
             ru -= fval / fd;
+            if (fabs(fval) < 1e-13) break;
         }
         if (fabs(ru * (1 + s->k1 * ru * ru) - rd) > 1e-9) return 0;
     }
@@ -109,11 +110,12 @@ static int unproject(const scene *s, const double Hinv[3][3], double u, double v
 
 static double board_colour(const scene *s, double X, double Y)
 {
-    double a = floor(X / s->square), b = floor(Y / s->square);
+    double fa = floor(X / s->square), fb = floor(Y / s->square);
+    if (!(fa >= -2 && fa <= s->cols && fb >= -2 && fb <= s->rows)) return -1.0;
+    long a = (long)fa, b = (long)fb;
     if (a >= -1 && a <= s->cols - 1 && b >= -1 && b <= s->rows - 1)
-        return fmod(fabs(a + b), 2.0) == 0.0 ? s->black : s->white;
-    if (a >= -2 && a <= s->cols && b >= -2 && b <= s->rows) return s->white;   /* margin */
-    return -1.0;
+        return ((a + b) & 1) == 0 ? s->black : s->white;
+    return s->white;   /* the margin */
 }
 
 static void inv3(double M[3][3], double out[3][3])
@@ -128,34 +130,36 @@ static void inv3(double M[3][3], double out[3][3])
         }
 }
 
+/* One Gaussian pass along rows of n values with stride `step` (edges clamped). */
+static void blur_line(const float *in, float *out, size_t n, size_t step, const float *k, int rad)
+{
+    for (size_t x = 0; x < n; x++) {
+        float a = 0;
+        if (x >= (size_t)rad && x + (size_t)rad < n) {
+            const float *p = in + (x - (size_t)rad) * step;
+            for (int i = 0; i <= 2 * rad; i++) a += k[i] * p[(size_t)i * step];
+        } else {
+            for (int i = -rad; i <= rad; i++) {
+                long xx = (long)x + i;
+                xx = xx < 0 ? 0 : xx >= (long)n ? (long)n - 1 : xx;
+                a += k[i + rad] * in[(size_t)xx * step];
+            }
+        }
+        out[x * step] = a;
+    }
+}
+
 static void blur_image(float *px, size_t W, size_t H, double sigma)
 {
     if (sigma <= 0) return;
     int rad = (int)ceil(3.5 * sigma);
-    double k[64], sum = 0;
-    for (int i = -rad; i <= rad; i++) sum += k[i + rad] = exp(-0.5 * i * i / (sigma * sigma));
-    for (int i = 0; i <= 2 * rad; i++) k[i] /= sum;
+    float k[64];
+    double sum = 0, kd[64];
+    for (int i = -rad; i <= rad; i++) sum += kd[i + rad] = exp(-0.5 * i * i / (sigma * sigma));
+    for (int i = 0; i <= 2 * rad; i++) k[i] = (float)(kd[i] / sum);
     float *tmp = malloc(W * H * sizeof *tmp);
-    for (size_t y = 0; y < H; y++)
-        for (size_t x = 0; x < W; x++) {
-            double a = 0;
-            for (int i = -rad; i <= rad; i++) {
-                long xx = (long)x + i;
-                xx = xx < 0 ? 0 : xx >= (long)W ? (long)W - 1 : xx;
-                a += k[i + rad] * px[y * W + (size_t)xx];
-            }
-            tmp[y * W + x] = (float)a;
-        }
-    for (size_t y = 0; y < H; y++)
-        for (size_t x = 0; x < W; x++) {
-            double a = 0;
-            for (int i = -rad; i <= rad; i++) {
-                long yy = (long)y + i;
-                yy = yy < 0 ? 0 : yy >= (long)H ? (long)H - 1 : yy;
-                a += k[i + rad] * tmp[(size_t)yy * W + x];
-            }
-            px[y * W + x] = (float)a;
-        }
+    for (size_t y = 0; y < H; y++) blur_line(px + y * W, tmp + y * W, W, 1, k, rad);
+    for (size_t x = 0; x < W; x++) blur_line(tmp + x, px + x, H, W, k, rad);
     free(tmp);
 }
 
@@ -240,8 +244,24 @@ static tram_grey_image *render(const scene *s, test_rng *rng, double *truth)
             im->pixels[y * W + x] = (float)(val * gain);
         }
     blur_image(im->pixels, W, H, s->blur);
+    double spare = 0;
+    int have = 0;
     for (size_t i = 0; i < W * H; i++) {
-        double v = im->pixels[i] + s->noise * test_rng_normal(rng);
+        double v = im->pixels[i];
+        if (s->noise > 0) {
+            /* Box and Muller (1958), both values of each pair */
+            if (!have) {
+                double u1 = test_rng_uniform(rng), u2 = test_rng_uniform(rng), m;
+                if (u1 < 1e-300) u1 = 1e-300;
+                m = sqrt(-2.0 * log(u1));
+                spare = m * sin(2.0 * M_PI * u2);
+                v += s->noise * m * cos(2.0 * M_PI * u2);
+                have = 1;
+            } else {
+                v += s->noise * spare;
+                have = 0;
+            }
+        }
         v = floor(v + 0.5);
         im->pixels[i] = (float)(v < 0 ? 0 : v > 255 ? 255 : v);
     }
