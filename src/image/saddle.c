@@ -1,20 +1,13 @@
 /*
  * saddle.c - chessboard corner candidates and their sub-pixel positions.
  *
- * Response: ChESS (Bennett and Lasenby, "ChESS - Quick and robust detection
- * of chess-board features", Computer Vision and Image Understanding 118,
- * 2014).  Sixteen samples I_0..I_15 on a ring of radius r around a pixel
- * give
- *     sum response   SR = sum_{n=0..3} |(I_n + I_{n+8}) - (I_{n+4} + I_{n+12})|
- *     diff response  DR = sum_{n=0..7} |I_n - I_{n+8}|
- *     mean response  MR = |mean of the ring - mean of the 5-pixel cross at the centre|
- *     R = SR - DR - 16 MR,
- * large at a chessboard corner (opposite sectors alike, neighbouring
- * sectors different), negative on edges and near zero on flat ground.  It
- * is computed on a lightly smoothed image (binomial 1-4-6-4-1, sigma 1)
- * reduced by 2x2 box averages until the smallest square looked for is
- * under 24 working pixels, so that the ring (radius 0.4 of that square,
- * 3 to 9 pixels) stays inside the four squares around a corner.
+ * Candidates: local maxima of the ChESS response (Bennett and Lasenby,
+ * "ChESS - Quick and robust detection of chess-board features", Computer
+ * Vision and Image Understanding 118, 2014; src/image/chess.c) on a lightly
+ * smoothed image (binomial 1-4-6-4-1, sigma 1) reduced by 2x2 box averages
+ * until the smallest square looked for is under 24 working pixels, so that
+ * the ring (radius 0.4 of that square, 3 to 9 pixels) stays inside the
+ * four squares around a corner.
  *
  * Candidates are local maxima of R above a threshold (a fixed floor and a
  * fraction of the strongest response); each keeps only if a finer ring of
@@ -36,7 +29,6 @@
 #include "image/saddle_internal.h"
 
 #include <math.h>
-#include <pthread.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -45,82 +37,6 @@
 
 #define RING_FINE 32
 #define MAX_CANDIDATES 40000
-
-/* ---- working image ------------------------------------------------------ */
-
-/* 2x2 box average (the last odd row or column is dropped). */
-static float *halve(const float *src, size_t w, size_t h, size_t *ow, size_t *oh)
-{
-    size_t w2 = w / 2, h2 = h / 2;
-    float *dst = tram__malloc(w2 * h2 * sizeof *dst);
-    if (!dst) return NULL;
-    for (size_t y = 0; y < h2; y++) {
-        const float *a = src + 2 * y * w, *b = a + w;
-        float *o = dst + y * w2;
-        for (size_t x = 0; x < w2; x++)
-            o[x] = 0.25f * (a[2 * x] + a[2 * x + 1] + b[2 * x] + b[2 * x + 1]);
-    }
-    *ow = w2;
-    *oh = h2;
-    return dst;
-}
-
-/* Binomial 1-4-6-4-1 / 16 in both directions, edges clamped. */
-static void smooth5(const float *src, float *tmp, float *dst, size_t w, size_t h)
-{
-    for (size_t y = 0; y < h; y++) {
-        const float *s = src + y * w;
-        float *t = tmp + y * w;
-        for (size_t x = 0; x < w; x++) {
-            size_t xm2 = x >= 2 ? x - 2 : 0, xm1 = x >= 1 ? x - 1 : 0;
-            size_t xp1 = x + 1 < w ? x + 1 : w - 1, xp2 = x + 2 < w ? x + 2 : w - 1;
-            t[x] = (s[xm2] + s[xp2] + 4.0f * (s[xm1] + s[xp1]) + 6.0f * s[x]) * (1.0f / 16.0f);
-        }
-    }
-    for (size_t y = 0; y < h; y++) {
-        size_t ym2 = y >= 2 ? y - 2 : 0, ym1 = y >= 1 ? y - 1 : 0;
-        size_t yp1 = y + 1 < h ? y + 1 : h - 1, yp2 = y + 2 < h ? y + 2 : h - 1;
-        const float *a = tmp + ym2 * w, *b = tmp + ym1 * w, *c = tmp + y * w;
-        const float *d = tmp + yp1 * w, *e = tmp + yp2 * w;
-        float *o = dst + y * w;
-        for (size_t x = 0; x < w; x++)
-            o[x] = (a[x] + e[x] + 4.0f * (b[x] + d[x]) + 6.0f * c[x]) * (1.0f / 16.0f);
-    }
-}
-
-static tram_status make_level(const tram_grey_image *im, double min_square_px, tram__level *lv)
-{
-    size_t w = im->width, h = im->height;
-    float *cur = im->pixels, *owned = NULL;
-    double scale = 1.0, sq = min_square_px;
-    while (sq >= 24.0 && scale < 8.0 && w >= 64 && h >= 64) {
-        size_t w2, h2;
-        float *next = halve(cur, w, h, &w2, &h2);
-        tram__free(owned);
-        if (!next) return TRAM_ENOMEM;
-        owned = cur = next;
-        w = w2;
-        h = h2;
-        scale *= 2.0;
-        sq *= 0.5;
-    }
-    float *tmp = tram__malloc(w * h * sizeof *tmp);
-    float *out = tram__malloc(w * h * sizeof *out);
-    if (!tmp || !out) {
-        tram__free(tmp);
-        tram__free(out);
-        tram__free(owned);
-        return TRAM_ENOMEM;
-    }
-    smooth5(cur, tmp, out, w, h);
-    tram__free(tmp);
-    tram__free(owned);
-    lv->w = w;
-    lv->h = h;
-    lv->px = out;
-    lv->scale = scale;
-    return TRAM_OK;
-}
 
 static double sample_level_px(const tram__level *lv, double x, double y)
 {
@@ -146,142 +62,7 @@ double tram__level_sample(const tram__level *lv, double u, double v)
     return sample_level_px(lv, (u - off) / lv->scale, (v - off) / lv->scale);
 }
 
-/* ---- ChESS response ------------------------------------------------------ */
-
-typedef struct resp_job {
-    const float *src;
-    float *dst;
-    size_t w, h, y0, y1, r;
-    ptrdiff_t off[16];
-    float max;
-} resp_job;
-
-static void *resp_rows(void *arg)
-{
-    resp_job *j = arg;
-    const size_t w = j->w, r = j->r;
-    const ptrdiff_t *off = j->off;
-    const ptrdiff_t sw = (ptrdiff_t)w;
-    float mx = 0.0f;
-    for (size_t y = j->y0; y < j->y1; y++) {
-        float *out = j->dst + y * w;
-        memset(out, 0, w * sizeof *out);
-        if (y < r || y + r >= j->h || w <= 2 * r) continue;
-        const float *row = j->src + y * w;
-        for (size_t x = r; x < w - r; x++) {
-            const float *p = row + x;
-            float s[16];
-            for (int k = 0; k < 16; k++) s[k] = p[off[k]];
-            float sr = 0.0f, dr = 0.0f, sum = 0.0f;
-            for (int n = 0; n < 4; n++) sr += fabsf(s[n] + s[n + 8] - s[n + 4] - s[n + 12]);
-            for (int n = 0; n < 8; n++) dr += fabsf(s[n] - s[n + 8]);
-            for (int k = 0; k < 16; k++) sum += s[k];
-            float local = (p[0] + p[-1] + p[1] + p[-sw] + p[sw]) * 0.2f;
-            float resp = sr - dr - fabsf(sum - 16.0f * local);
-            out[x] = resp;
-            if (resp > mx) mx = resp;
-        }
-    }
-    j->max = mx;
-    return NULL;
-}
-
-/* R for every working pixel (0 within r of the border); returns the max. */
-static float chess_response(const tram__level *lv, size_t r, int threads, float *dst)
-{
-    resp_job jobs[8];
-    pthread_t tid[8];
-    int started[8] = {0};
-    if (threads > 8) threads = 8;
-    if (threads < 1) threads = 1;
-    if (lv->w * lv->h < 500000) threads = 1;
-    for (int t = 0; t < threads; t++) {
-        resp_job *j = &jobs[t];
-        j->src = lv->px;
-        j->dst = dst;
-        j->w = lv->w;
-        j->h = lv->h;
-        j->r = r;
-        j->y0 = lv->h * (size_t)t / (size_t)threads;
-        j->y1 = lv->h * (size_t)(t + 1) / (size_t)threads;
-        for (int k = 0; k < 16; k++) {
-            double a = TRAM_PI * k / 8.0;
-            long dx = lround((double)r * cos(a)), dy = lround((double)r * sin(a));
-            j->off[k] = (ptrdiff_t)dy * (ptrdiff_t)lv->w + (ptrdiff_t)dx;
-        }
-    }
-    for (int t = 1; t < threads; t++)
-        started[t] = pthread_create(&tid[t], NULL, resp_rows, &jobs[t]) == 0;
-    resp_rows(&jobs[0]);
-    for (int t = 1; t < threads; t++) {
-        if (started[t]) pthread_join(tid[t], NULL);
-        else resp_rows(&jobs[t]);   /* no thread: do its rows here */
-    }
-    float mx = 0.0f;
-    for (int t = 0; t < threads; t++)
-        if (jobs[t].max > mx) mx = jobs[t].max;
-    return mx;
-}
-
 /* ---- candidates ---------------------------------------------------------- */
-
-typedef struct peak {
-    float resp;
-    unsigned x, y;
-} peak;
-
-static int peak_cmp(const void *a, const void *b)
-{
-    float ra = ((const peak *)a)->resp, rb = ((const peak *)b)->resp;
-    return (ra < rb) - (ra > rb);
-}
-
-/* Local maxima of R above thr within a (2k+1)^2 window (ties: the first in
- * raster order wins). */
-static tram_status find_peaks(const float *R, size_t w, size_t h, size_t border, size_t k,
-                              float thr, peak **out, size_t *n)
-{
-    size_t cap = 1024, cnt = 0;
-    peak *pk = tram__malloc(cap * sizeof *pk);
-    if (!pk) return TRAM_ENOMEM;
-    if (border < k) border = k;
-    for (size_t y = border; y + border < h; y++) {
-        const float *row = R + y * w;
-        for (size_t x = border; x + border < w; x++) {
-            float c = row[x];
-            if (c <= thr) continue;
-            int ok = 1;
-            for (size_t yy = y - k; yy <= y + k && ok; yy++) {
-                const float *q = R + yy * w;
-                for (size_t xx = x - k; xx <= x + k; xx++) {
-                    float o = q[xx];
-                    if (o > c || (o == c && (yy < y || (yy == y && xx < x)))) {
-                        ok = 0;
-                        break;
-                    }
-                }
-            }
-            if (!ok) continue;
-            if (cnt == cap) {
-                peak *np = tram__realloc(pk, 2 * cap * sizeof *pk);
-                if (!np) {
-                    tram__free(pk);
-                    return TRAM_ENOMEM;
-                }
-                pk = np;
-                cap *= 2;
-            }
-            pk[cnt].resp = c;
-            pk[cnt].x = (unsigned)x;
-            pk[cnt].y = (unsigned)y;
-            cnt++;
-        }
-    }
-    qsort(pk, cnt, sizeof *pk, peak_cmp);
-    *out = pk;
-    *n = cnt;
-    return TRAM_OK;
-}
 
 static double wrap2pi(double a)
 {
@@ -383,41 +164,22 @@ int tram__saddle_sector(const tram__saddle *s, double ang)
     return 3;
 }
 
-/* Sub-pixel peak of R by a parabola through the 3 samples on each axis. */
-static double peak_offset(float m, float c, float p)
-{
-    double den = 2.0 * (2.0 * c - m - p);
-    if (den <= 0) return 0.0;
-    double d = (double)(p - m) / den;
-    return d > 0.5 ? 0.5 : d < -0.5 ? -0.5 : d;
-}
-
 tram_status tram__saddles_find(const tram_grey_image *im, double min_square_px, int threads,
                                tram__saddles *out)
 {
     memset(out, 0, sizeof *out);
-    tram_status st = make_level(im, min_square_px, &out->level);
+    tram_status st = tram__chess_level(im, min_square_px, threads, &out->level);
     if (st != TRAM_OK) return st;
     const tram__level *lv = &out->level;
     double sq = min_square_px / lv->scale;
     long rr = lround(0.4 * sq);
     size_t r = (size_t)(rr < 3 ? 3 : rr > 9 ? 9 : rr);
     out->ring_px = (double)r * lv->scale;
-    if (lv->w <= 2 * r + 4 || lv->h <= 2 * r + 4) return TRAM_OK;
-    float *R = tram__malloc(lv->w * lv->h * sizeof *R);
-    if (!R) {
-        tram__saddles_free(out);
-        return TRAM_ENOMEM;
-    }
-    float mx = chess_response(lv, r, threads, R);
-    /* the floor: a corner of contrast ~10 grey levels */
-    float thr = 0.05f * mx;
-    if (thr < 40.0f) thr = 40.0f;
-    peak *pk = NULL;
+    /* the floor: a corner of contrast ~10 grey levels; and 5% of the strongest */
+    tram__peak *pk = NULL;
     size_t npk = 0;
-    st = find_peaks(R, lv->w, lv->h, r + 1, r / 2 > 1 ? r / 2 : 1, thr, &pk, &npk);
+    st = tram__chess_peaks(lv, r, r / 2, 40.0f, 0.05f, threads, &pk, &npk);
     if (st != TRAM_OK) {
-        tram__free(R);
         tram__saddles_free(out);
         return st;
     }
@@ -426,25 +188,19 @@ tram_status tram__saddles_find(const tram_grey_image *im, double min_square_px, 
     out->s = tram__malloc((npk ? npk : 1) * sizeof *out->s);
     if (!out->s) {
         tram__free(pk);
-        tram__free(R);
         tram__saddles_free(out);
         return TRAM_ENOMEM;
     }
     double off = 0.5 * (lv->scale - 1.0);
     for (size_t i = 0; i < npk; i++) {
-        size_t x = pk[i].x, y = pk[i].y, w = lv->w;
-        const float *c = R + y * w + x;
-        double fx = (double)x + peak_offset(c[-1], c[0], c[1]);
-        double fy = (double)y + peak_offset(c[-(ptrdiff_t)w], c[0], c[w]);
         tram__saddle s;
-        if (!ring_analyse(lv, fx, fy, (double)r, &s)) continue;
-        s.u = fx * lv->scale + off;
-        s.v = fy * lv->scale + off;
+        if (!ring_analyse(lv, pk[i].x, pk[i].y, (double)r, &s)) continue;
+        s.u = pk[i].x * lv->scale + off;
+        s.v = pk[i].y * lv->scale + off;
         s.response = pk[i].resp;
         out->s[out->n++] = s;
     }
     tram__free(pk);
-    tram__free(R);
     return TRAM_OK;
 }
 

@@ -13,15 +13,7 @@
 #ifndef TRAM_SADDLE_INTERNAL_H
 #define TRAM_SADDLE_INTERNAL_H
 
-#include "tram/image.h"
-
-/* The working image: the input reduced by `scale` (1, 2, 4 or 8; 2x2 box
- * averages) and smoothed by a 5-tap binomial kernel. */
-typedef struct tram__level {
-    size_t w, h;
-    float *px;
-    double scale;    /* full-resolution pixels per working pixel */
-} tram__level;
+#include "image/chess_internal.h"
 
 /* One saddle point: a local maximum of the response whose ring crosses
  * its mean exactly four times, the crossings near-opposite in pairs. */
