@@ -255,7 +255,7 @@ tram_status tram_plot_coverage(const tram_plot_coverage_data *d, tram_image **ou
         for (size_t k = 0; k < t->ncorners; k++) {
             double u = t->uv[2 * k] + 0.5, v = t->uv[2 * k + 1] + 0.5;
             int cx = (int)floor(u / (double)d->width * GRID_X), cy = (int)floor(v / (double)d->height * GRID_Y);
-            if (cx >= 0 && cx < GRID_X && cy >= 0 && cy < GRID_Y) cell[cy][cx] = 1;
+            if (cx >= 0 && cx < GRID_X && cy >= 0 && cy < GRID_Y) cell[cy][cx]++;
             corners++;
         }
     }
@@ -272,6 +272,15 @@ tram_status tram_plot_coverage(const tram_plot_coverage_data *d, tram_image **ou
                 cairo_rectangle(cr, x0 + cx * fw / GRID_X, y0 + cy * fh / GRID_Y, fw / GRID_X, fh / GRID_Y);
             }
     cairo_fill(cr);
+    /* each cell's corner count in its top-left, so a cell that one corner
+     * grazes reads differently from one that many boards cover */
+    cairo_set_source_rgb(cr, 0.35, 0.35, 0.35);
+    for (int cy = 0; cy < GRID_Y; cy++)
+        for (int cx = 0; cx < GRID_X; cx++) {
+            char num[16];
+            snprintf(num, sizeof num, "%d", cell[cy][cx]);
+            text_at(cr, x0 + cx * fw / GRID_X + 4, y0 + cy * fh / GRID_Y + 13, 11, num);
+        }
     cairo_set_source_rgb(cr, 0.6, 0.6, 0.6);
     cairo_set_line_width(cr, 0.8);
     for (int k = 1; k < GRID_X; k++) {
@@ -319,7 +328,8 @@ tram_status tram_plot_coverage(const tram_plot_coverage_data *d, tram_image **ou
              d->width, d->height);
     text_at(cr, x0, 24, 16, line);
     snprintf(line, sizeof line,
-             "%zu boards, %zu corners; corners in %d of %d cells of the %dx%d grid (shaded)", boards,
+             "%zu boards, %zu corners; corners in %d of %d cells of the %dx%d grid (shaded; "
+             "the number is the cell's corner count)", boards,
              corners, covered, GRID_X * GRID_Y, GRID_X, GRID_Y);
     text_at(cr, x0, y0 + fh + 24, 14, line);
     return pic_close(&p, out, err);
