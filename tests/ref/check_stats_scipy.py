@@ -47,7 +47,7 @@ def main():
         expect(f"chi2 quantile at p = {name}, k = 6..600", worst_hi <= 0.012 and worst_lo >= -0.001,
                f"relative error {worst_lo:+.4f} .. {worst_hi:+.4f}")
 
-    solve = open(os.path.join(root, "src", "solve.c")).read()
+    solve = open(os.path.join(root, "src", "solve", "solve.c")).read()
     check = open(os.path.join(root, "src", "check.c")).read()
     c1 = float(re.search(r"#define CHI3_MEDIAN_SQRT ([0-9.]+)", solve).group(1))
     c2 = float(re.search(r"#define OUTLIER_K ([0-9.]+)", solve).group(1))
