@@ -6,8 +6,8 @@ against SciPy's scipy.stats (Debian python3-scipy):
   Wilson & Hilferty 1931) at the tail probabilities it uses, for the degrees
   of freedom of 1 to 100 stations: within 1.2% of scipy.stats.chi2.ppf, and
   never below it by more than 0.1% (a test may be conservative, not lax);
-- the constants in src/solve.c: sqrt of the median of chi2(3) and sqrt of
-  its 0.9999 quantile; and the normal quantiles in src/check.c.
+- the constants in src/solve/solve.c: sqrt of the median of chi2(3) and sqrt of
+  its 0.9999 quantile; and the normal quantiles in src/check/check.c.
 """
 import os
 import re
@@ -48,7 +48,7 @@ def main():
                f"relative error {worst_lo:+.4f} .. {worst_hi:+.4f}")
 
     solve = open(os.path.join(root, "src", "solve", "solve.c")).read()
-    check = open(os.path.join(root, "src", "check.c")).read()
+    check = open(os.path.join(root, "src", "check", "check.c")).read()
     c1 = float(re.search(r"#define CHI3_MEDIAN_SQRT ([0-9.]+)", solve).group(1))
     c2 = float(re.search(r"#define OUTLIER_K ([0-9.]+)", solve).group(1))
     z1 = float(re.search(r"#define Z_ALPHA3 ([0-9.]+)", check).group(1))
