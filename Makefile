@@ -196,7 +196,7 @@ valgrind-run: $(TESTS)
 
 # Benchmarks (not tests): make bench.  Each program writes its own JSON
 # array; bench/merge.py joins them into $(B)/bench.json.
-BENCHES := register solve records render
+BENCHES := register solve records render detect
 $(B)/bench_%: bench/bench_%.c bench/bench_util.h $(B)/libtram.a $(RENDER_OBJ)
 	@echo "  CC      $<"
 	@$(CC) $(BASEFLAGS) -Itools -O2 $(PKG_CFLAGS) $< -o $@ $(RENDER_OBJ) $(B)/libtram.a $(PKG_LIBS)
@@ -206,6 +206,7 @@ bench: deps $(patsubst %,$(B)/bench_%,$(BENCHES))
 	$(B)/bench_solve $(B)/bench_solve.json
 	$(B)/bench_records $(B)/bench_records.json $(B)
 	$(B)/bench_render $(B)/bench_render.json
+	$(B)/bench_detect $(B)/bench_detect.json $(B)
 	@$(PYTHON) bench/merge.py $(B)/bench.json $(patsubst %,$(B)/bench_%.json,$(BENCHES))
 
 # Unit tests (cmocka), one binary per module.

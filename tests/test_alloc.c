@@ -59,6 +59,8 @@ static char *slurp(const char *path, size_t *len)
 /* Inputs shared by the operations, made before any failure is injected. */
 static struct {
     char *csv, *json, *cal_text, *chain_text, *recheck, *pairs, *obs, *model, *history;
+    char *png, *jpeg, *board;
+    size_t png_len, jpeg_len, board_len;
     size_t csv_len, json_len, chain_len, recheck_len, pairs_len, obs_len, model_len, history_len;
     tram_records *rec, *recheck_rec, *joints_rec, *fixed_rec;
     tram_solution *sol;
@@ -262,6 +264,29 @@ static tram_status op_plot(tram_error *err)
     return st;
 }
 
+static tram_status op_images(tram_error *err)
+{
+    tram_grey_image *im = NULL;
+    tram_status st = tram_grey_image_read_buffer("seed.png", (const unsigned char *)in.png, in.png_len,
+                                                 &im, err);
+    tram_grey_image_destroy(im);
+    im = NULL;
+    if (st == TRAM_OK)
+        st = tram_grey_image_read_buffer("seed.jpg", (const unsigned char *)in.jpeg, in.jpeg_len, &im, err);
+    tram_grey_image_destroy(im);
+    return st;
+}
+
+static tram_status op_board(tram_error *err)
+{
+    tram_board b;
+    char *text = NULL;
+    tram_status st = tram_board_read_buffer("board.json", in.board, in.board_len, &b, err);
+    if (st == TRAM_OK) st = tram_board_to_json(&b, &text, err);
+    free(text);
+    return st;
+}
+
 static int setup(void **state)
 {
     (void)state;
@@ -276,6 +301,9 @@ static int setup(void **state)
     in.obs = slurp("fuzz/corpus/point_obs/three_stations.csv", &in.obs_len);
     in.model = slurp("fuzz/corpus/point_model/board.csv", &in.model_len);
     in.history = slurp("fuzz/corpus/history/two_checks.jsonl", &in.history_len);
+    in.png = slurp("fuzz/corpus/image/rgb8_interlaced.png", &in.png_len);
+    in.jpeg = slurp("fuzz/corpus/image/progressive.jpg", &in.jpeg_len);
+    in.board = slurp("fuzz/corpus/board/written.json", &in.board_len);
     size_t jl;
     char *joints = slurp("datasets/demo/wrist_camera_joints.csv", &jl);
     static const char fixed[] =
@@ -310,6 +338,9 @@ static int teardown(void **state)
     free(in.obs);
     free(in.model);
     free(in.history);
+    free(in.png);
+    free(in.jpeg);
+    free(in.board);
     free(in.cal_text);
     tram_records_destroy(in.rec);
     tram_records_destroy(in.recheck_rec);
@@ -331,6 +362,8 @@ static void test_readers(void **state)
     exhaust("chain file + joints", op_chain);
     exhaust("point files + RANSAC", op_points);
     exhaust("check history", op_history);
+    exhaust("PNG and JPEG images", op_images);
+    exhaust("board file + JSON", op_board);
 }
 
 static void test_writers_and_solvers(void **state)

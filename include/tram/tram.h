@@ -21,5 +21,6 @@
 #include "tram/solve.h"
 #include "tram/image.h"
 #include "tram/camera.h"
+#include "tram/pixels.h"
 
 #endif
