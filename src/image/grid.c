@@ -437,8 +437,9 @@ static void partial_reason(const grid *g, const tram_board *b, size_t seen_cells
     (void)g;
     if ((ni > maxdim || nj > maxdim) || (ni > mindim && nj > mindim)) {
         snprintf(res->reason, sizeof res->reason,
-                 "a lattice of %d x %d corners was found, larger than the board's %d x %d: "
-                 "another chessboard pattern next to it?", ni, nj, b->cols, b->rows);
+                 "a lattice of %d x %d corners was found, larger than the board's %d x %d: check "
+                 "the board's size (inner corners, not squares) or look for another chessboard "
+                 "pattern next to it", ni, nj, b->cols, b->rows);
         return;
     }
     char edges[96] = "";
@@ -452,7 +453,12 @@ static void partial_reason(const grid *g, const tram_board *b, size_t seen_cells
                  names[k]);
         put_n++;
     }
-    if (nf)
+    if (!nf && seen_cells == (size_t)ni * (size_t)nj)
+        snprintf(res->reason, sizeof res->reason,
+                 "%zu of %zu corners found, a whole %d x %d lattice with nothing more around it: "
+                 "check the board's size (inner corners, not squares), or part of the board is "
+                 "covered", seen_cells, N, ni, nj);
+    else if (nf)
         snprintf(res->reason, sizeof res->reason, "%zu of %zu corners found: the board runs off the %s edge%s",
                  seen_cells, N, edges, nf > 1 ? "s" : "");
     else
