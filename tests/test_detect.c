@@ -309,6 +309,20 @@ static void test_large_squares(void **state)
     tram_grey_image *im = render_or_fail(&s, &t);
     expect_found_in("150 px squares, blur 1.5 px", im, &t, &b, 12, 0.2, NULL, NULL);
     expect_found_in("150 px squares, blur 1.5 px, min_square_px 60", im, &t, &b, 60, 0.2, NULL, NULL);
+    /* one thread and two give the same corners, bit for bit */
+    tram_detection *d1 = NULL, *d2 = NULL;
+    tram_detect_options o1, o2;
+    tram_error err;
+    tram_detect_options_init(&o1);
+    o2 = o1;
+    o1.threads = 1;
+    o2.threads = 2;
+    assert_int_equal(tram_detect_chessboard(im, &b, &o1, &d1, &err), TRAM_OK);
+    assert_int_equal(tram_detect_chessboard(im, &b, &o2, &d2, &err), TRAM_OK);
+    assert_true(d1->found && d2->found);
+    assert_memory_equal(d1->uv, d2->uv, 2 * d1->ncorners * sizeof *d1->uv);
+    tram_detection_destroy(d1);
+    tram_detection_destroy(d2);
     render_image_destroy(im);
     render_truth_free(&t);
 }

@@ -79,13 +79,13 @@ static double ang_dist(double a, double b)
 
 /* The ring of 32 samples at radius rho (working pixels) around (x, y):
  * four crossings of the mean with hysteresis, pairwise near-opposite. */
-static int ring_analyse(const tram__level *lv, double x, double y, double rho, tram__saddle *s)
+static int ring_analyse(const tram__level *lv, double x, double y, const double ring[RING_FINE][2],
+                        tram__saddle *s)
 {
     double val[RING_FINE], mean = 0.0, lo = 1e30, hi = -1e30;
     int cls[RING_FINE];
     for (int k = 0; k < RING_FINE; k++) {
-        double a = 2.0 * TRAM_PI * k / RING_FINE;
-        val[k] = sample_level_px(lv, x + rho * cos(a), y + rho * sin(a));
+        val[k] = sample_level_px(lv, x + ring[k][0], y + ring[k][1]);
         mean += val[k];
         if (val[k] < lo) lo = val[k];
         if (val[k] > hi) hi = val[k];
@@ -191,10 +191,15 @@ tram_status tram__saddles_find(const tram_grey_image *im, double min_square_px, 
         tram__saddles_free(out);
         return TRAM_ENOMEM;
     }
-    double off = 0.5 * (lv->scale - 1.0);
+    double off = 0.5 * (lv->scale - 1.0), ring[RING_FINE][2];
+    for (int k = 0; k < RING_FINE; k++) {
+        double a = 2.0 * TRAM_PI * k / RING_FINE;
+        ring[k][0] = (double)r * cos(a);
+        ring[k][1] = (double)r * sin(a);
+    }
     for (size_t i = 0; i < npk; i++) {
         tram__saddle s;
-        if (!ring_analyse(lv, pk[i].x, pk[i].y, (double)r, &s)) continue;
+        if (!ring_analyse(lv, pk[i].x, pk[i].y, ring, &s)) continue;
         s.u = pk[i].x * lv->scale + off;
         s.v = pk[i].y * lv->scale + off;
         s.response = pk[i].resp;
