@@ -201,6 +201,11 @@ $(B)/bench_%: bench/bench_%.c bench/bench_util.h $(B)/libtram.a $(RENDER_OBJ)
 	@echo "  CC      $<"
 	@$(CC) $(BASEFLAGS) -Itools -O2 $(PKG_CFLAGS) $< -o $@ $(RENDER_OBJ) $(B)/libtram.a $(PKG_LIBS)
 
+# the detection benchmark renders its 5 MP scene with the test renderer
+$(B)/bench_detect: bench/bench_detect.c bench/bench_util.h $(B)/libtram.a $(RENDER_OBJ)
+	@echo "  CC      $<"
+	@$(CC) $(BASEFLAGS) -Itools -O2 $(PKG_CFLAGS) $< -o $@ $(RENDER_OBJ) $(B)/libtram.a $(PKG_LIBS)
+
 bench: deps $(patsubst %,$(B)/bench_%,$(BENCHES))
 	$(B)/bench_register $(B)/bench_register.json bench/ref_register_numpy.py $(B)/bench_pairs.bin
 	$(B)/bench_solve $(B)/bench_solve.json

@@ -1,8 +1,10 @@
 /*
  * bench_detect.c - benchmark of chessboard detection (tram_detect_chessboard)
- * against the PNG decode of the same image: a board drawn with cairo
- * (rotated, sheared, with clutter and Gaussian noise), written as an 8-bit
- * grey PNG by libpng, then timed (median of repeats) for
+ * against the PNG decode of the same image: the 5 MP scene of the test
+ * renderer (render_scene_5mp: an oblique 15 x 10 board, k1 -0.08, blur,
+ * noise, uneven light, clutter) and boards drawn with cairo (rotated,
+ * sheared, with clutter and Gaussian noise), each written as an 8-bit grey
+ * PNG, then timed (median of repeats) for
  *   decode:  libpng reading the file to 8-bit rows, converted to float grey
  *            levels (what reading a grey PNG into a tram_grey_image costs);
  *   detect:  tram_detect_chessboard on that image, 1 thread and the default.
@@ -20,6 +22,7 @@
 
 #include "tram/tram.h"
 #include "bench_util.h"
+#include "render/render.h"
 
 /* A cols x rows board (black square at corner 0's -x,-y side) with squares
  * of sq pixels, turned by `angle`, on a cluttered background; grey levels
@@ -128,16 +131,10 @@ static double median(double *v, int n)
 
 #define REPS 9
 
-static void bench_size(FILE *out, const char *dir, int W, int H, int cols, int rows, double sq, int last)
+/* Time the decode of path and the detection of a cols x rows board in it. */
+static void bench_file(FILE *out, const char *path, const char *scene, int W, int H, int cols, int rows,
+                       double sq, int last)
 {
-    char path[512];
-    snprintf(path, sizeof path, "%s/bench_detect_%dx%d.png", dir, W, H);
-    unsigned char *grey = draw(W, H, cols, rows, sq, 0.35);
-    if (write_png(path, grey, W, H) != 0) {
-        fprintf(stderr, "bench: cannot write %s\n", path);
-        exit(1);
-    }
-    free(grey);
     float *px = malloc((size_t)W * (size_t)H * sizeof *px);
     double dec[REPS], det1[REPS], det[REPS];
     for (int k = 0; k < REPS; k++) {
@@ -166,17 +163,50 @@ static void bench_size(FILE *out, const char *dir, int W, int H, int cols, int r
         }
     }
     double md = median(dec, REPS), m1 = median(det1, REPS), m = median(det, REPS);
-    printf("%dx%d (%.1f MP), %dx%d corners, %.0f px squares: PNG decode %.1f ms, detect %.1f ms "
+    printf("%s %dx%d (%.1f MP), %dx%d corners, %.0f px squares: PNG decode %.1f ms, detect %.1f ms "
            "(1 thread %.1f ms), detect/decode %.2f%s\n",
-           W, H, W * (double)H * 1e-6, cols, rows, sq, 1e3 * md, 1e3 * m, 1e3 * m1, m / md,
+           scene, W, H, W * (double)H * 1e-6, cols, rows, sq, 1e3 * md, 1e3 * m, 1e3 * m1, m / md,
            found ? "" : " [NOT FOUND]");
     fprintf(out,
-            "  {\"name\": \"detect_chessboard\", \"n\": %d, \"width\": %d, \"height\": %d, "
+            "  {\"name\": \"detect_chessboard_%s\", \"n\": %d, \"width\": %d, \"height\": %d, "
             "\"seconds\": %.6g, \"seconds_1_thread\": %.6g, \"decode_seconds\": %.6g, "
             "\"ratio_vs_decode\": %.4g, \"found\": %s}%s\n",
-            W * H, W, H, m, m1, md, m / md, found ? "true" : "false", last ? "" : ",");
+            scene, W * H, W, H, m, m1, md, m / md, found ? "true" : "false", last ? "" : ",");
     remove(path);
     free(px);
+}
+
+static void bench_cairo(FILE *out, const char *dir, int W, int H, int cols, int rows, double sq, int last)
+{
+    char path[512];
+    snprintf(path, sizeof path, "%s/bench_detect_%dx%d.png", dir, W, H);
+    unsigned char *grey = draw(W, H, cols, rows, sq, 0.35);
+    if (write_png(path, grey, W, H) != 0) {
+        fprintf(stderr, "bench: cannot write %s\n", path);
+        exit(1);
+    }
+    free(grey);
+    bench_file(out, path, "cairo", W, H, cols, rows, sq, last);
+}
+
+static void bench_render_5mp(FILE *out, const char *dir)
+{
+    char path[512];
+    snprintf(path, sizeof path, "%s/bench_detect_5mp.png", dir);
+    tram_board b = {TRAM_BOARD_CHESSBOARD, 15, 10, 20.0, TRAM_LENGTH_MM};
+    render_scene s;
+    render_scene_5mp(&b, 20261202, &s);
+    tram_grey_image *im = NULL;
+    render_truth t;
+    tram_error e;
+    if (render_chessboard(&s, &im, &t, &e) != TRAM_OK || render_png_write(im, path, &e) != TRAM_OK) {
+        fprintf(stderr, "bench: render: %s\n", e.message);
+        exit(1);
+    }
+    double sq = t.square_px;
+    render_image_destroy(im);
+    render_truth_free(&t);
+    bench_file(out, path, "render_5mp", (int)s.camera.width, (int)s.camera.height, b.cols, b.rows, sq, 0);
 }
 
 int main(int argc, char **argv)
@@ -187,9 +217,10 @@ int main(int argc, char **argv)
     FILE *out = fopen(json, "w");
     if (!out) return 1;
     fprintf(out, "[\n");
-    bench_size(out, dir, 1280, 960, 9, 6, 60, 0);
-    bench_size(out, dir, 2592, 1944, 15, 10, 70, 0);
-    bench_size(out, dir, 2592, 1944, 29, 20, 30, 1);
+    bench_render_5mp(out, dir);
+    bench_cairo(out, dir, 1280, 960, 9, 6, 60, 0);
+    bench_cairo(out, dir, 2592, 1944, 15, 10, 70, 0);
+    bench_cairo(out, dir, 2592, 1944, 29, 20, 30, 1);
     fprintf(out, "]\n");
     fclose(out);
     return 0;

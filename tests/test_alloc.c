@@ -17,6 +17,8 @@
 
 #include <cjson/cJSON.h>
 
+#include "render/render.h"
+
 /* The allocation that fails: the fail_at-th (0-based) since counting
  * started; -1: none fails. */
 static long fail_at = -1, calls, failed;
@@ -287,6 +289,44 @@ static tram_status op_board(tram_error *err)
     return st;
 }
 
+/* A test render of a 5 x 4 board (tools/render/), made before any failure
+ * is injected: the detector's allocations are the ones made to fail. */
+static tram_grey_image *detect_im;
+
+static tram_status op_detect(tram_error *err)
+{
+    tram_board b = {TRAM_BOARD_CHESSBOARD, 5, 4, 20.0, TRAM_LENGTH_MM};
+    if (!detect_im) {
+        tram_camera c;
+        memset(&c, 0, sizeof c);
+        c.width = 320;
+        c.height = 240;
+        c.fx = c.fy = 300;
+        c.cx = 160;
+        c.cy = 120;
+        tram_se3 T;
+        render_pose_facing(&b, 300.0 * 20 / 30, 0, 0, 20, 30, 10, &T);
+        render_scene s;
+        render_scene_init(&s, &b, &c, &T);
+        s.noise_sigma = 2;
+        s.blur_sigma_px = 0.6;
+        long keep = fail_at;
+        fail_at = -1;
+        tram_status st = render_chessboard(&s, &detect_im, NULL, err);
+        fail_at = keep;
+        if (st != TRAM_OK) return st;
+    }
+    tram_detection *d = NULL;
+    tram_status st = tram_detect_chessboard(detect_im, &b, NULL, &d, err);
+    if (st == TRAM_OK && !d->found) {
+        /* not found is a success of the call, but here it means lost work */
+        err->status = st = TRAM_EUNDETERMINED;
+        snprintf(err->message, sizeof err->message, "board not found: %s", d->reason);
+    }
+    tram_detection_destroy(d);
+    return st;
+}
+
 static int setup(void **state)
 {
     (void)state;
@@ -374,6 +414,9 @@ static void test_writers_and_solvers(void **state)
     exhaust("solve with convention checks", op_solve_conventions);
     exhaust("check + JSON", op_check);
     exhaust("plot frames", op_plot);
+    exhaust("chessboard detection", op_detect);
+    render_image_destroy(detect_im);
+    detect_im = NULL;
 }
 
 int main(void)

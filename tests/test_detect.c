@@ -205,6 +205,83 @@ static void test_tilt(void **state)
     }
 }
 
+/* Beyond the 60 degrees asked for: at 70 degrees the far corners' edge
+ * lines crowd together; a corner is still located, or the board is not
+ * found - never found with a misplaced corner. */
+static void test_steep(void **state)
+{
+    (void)state;
+    printf("[ seed     ] test_steep: scene seed 310\n");
+    tram_board b = board_of(9, 6);
+    tram_camera c = camera_of(800, 600, 700, 0.0);
+    render_scene s = scene_of(&b, &c, 40, 0.01, 0.02, 70, 30, 10, 2.0, 310);
+    render_truth t;
+    tram_grey_image *im = render_or_fail(&s, &t);
+    double rms, mx;
+    char why[256];
+    int f = detect(im, &t, &b, 12, &rms, &mx, why, sizeof why);
+    printf("[ figures  ] tilt 70 deg: %s, RMS %.4f px, max %.4f px %s\n", f ? "found" : "not found", rms, mx, why);
+    if (f) assert_true(mx <= 0.3);
+    render_image_destroy(im);
+    render_truth_free(&t);
+}
+
+/* sharpness follows the blur: about sqrt(sigma^2 + 1/12) for a Gaussian of
+ * sigma (the 1/12 from the pixel's area; common practice). */
+static void test_sharpness(void **state)
+{
+    (void)state;
+    printf("[ seed     ] test_sharpness: scene seed 800\n");
+    tram_board b = board_of(7, 6);
+    tram_camera c = camera_of(640, 480, 600, 0.0);
+    static const double sig[3] = {0.6, 1.2, 2.4};
+    double prev = 0;
+    for (int k = 0; k < 3; k++) {
+        render_scene s = scene_of(&b, &c, 40, 0, 0, 15, 30, 12, 2.0, 800);
+        s.blur_sigma_px = sig[k];
+        render_truth t;
+        tram_grey_image *im = render_or_fail(&s, &t);
+        tram_detection *d = NULL;
+        tram_error err;
+        assert_int_equal(tram_detect_chessboard(im, &b, NULL, &d, &err), TRAM_OK);
+        assert_true(d->found);
+        double expect = sqrt(sig[k] * sig[k] + 1.0 / 12.0);
+        printf("[ figures  ] blur sigma %.1f px: sharpness %.3f px (sqrt(sigma^2 + 1/12) = %.3f)\n", sig[k],
+               d->sharpness, expect);
+        assert_true(d->sharpness > prev);
+        assert_true(fabs(d->sharpness - expect) <= 0.2 * expect);
+        prev = d->sharpness;
+        tram_detection_destroy(d);
+        render_image_destroy(im);
+        render_truth_free(&t);
+    }
+}
+
+/* A board file of the wrong size: not found, and the reason says to check it. */
+static void test_wrong_size(void **state)
+{
+    (void)state;
+    printf("[ seed     ] test_wrong_size: scene seed 900\n");
+    tram_board b = board_of(9, 6);
+    tram_camera c = camera_of(640, 480, 600, 0.0);
+    render_scene s = scene_of(&b, &c, 35, 0, 0, 15, 30, 12, 2.0, 900);
+    render_truth t;
+    tram_grey_image *im = render_or_fail(&s, &t);
+    static const int dims[3][2] = {{8, 5}, {11, 6}, {9, 8}};
+    for (int k = 0; k < 3; k++) {
+        tram_board w = board_of(dims[k][0], dims[k][1]);
+        tram_detection *d = NULL;
+        tram_error err;
+        assert_int_equal(tram_detect_chessboard(im, &w, NULL, &d, &err), TRAM_OK);
+        printf("[ figures  ] a 9 x 6 board detected as %d x %d: %s\n", w.cols, w.rows, d->reason);
+        assert_int_equal(d->found, 0);
+        assert_non_null(strstr(d->reason, "check the board's size"));
+        tram_detection_destroy(d);
+    }
+    render_image_destroy(im);
+    render_truth_free(&t);
+}
+
 static void test_small_squares(void **state)
 {
     (void)state;
@@ -232,6 +309,20 @@ static void test_large_squares(void **state)
     tram_grey_image *im = render_or_fail(&s, &t);
     expect_found_in("150 px squares, blur 1.5 px", im, &t, &b, 12, 0.2, NULL, NULL);
     expect_found_in("150 px squares, blur 1.5 px, min_square_px 60", im, &t, &b, 60, 0.2, NULL, NULL);
+    /* one thread and two give the same corners, bit for bit */
+    tram_detection *d1 = NULL, *d2 = NULL;
+    tram_detect_options o1, o2;
+    tram_error err;
+    tram_detect_options_init(&o1);
+    o2 = o1;
+    o1.threads = 1;
+    o2.threads = 2;
+    assert_int_equal(tram_detect_chessboard(im, &b, &o1, &d1, &err), TRAM_OK);
+    assert_int_equal(tram_detect_chessboard(im, &b, &o2, &d2, &err), TRAM_OK);
+    assert_true(d1->found && d2->found);
+    assert_memory_equal(d1->uv, d2->uv, 2 * d1->ncorners * sizeof *d1->uv);
+    tram_detection_destroy(d1);
+    tram_detection_destroy(d2);
     render_image_destroy(im);
     render_truth_free(&t);
 }
@@ -344,6 +435,9 @@ int main(void)
         cmocka_unit_test(test_accuracy),
         cmocka_unit_test(test_order),
         cmocka_unit_test(test_tilt),
+        cmocka_unit_test(test_steep),
+        cmocka_unit_test(test_sharpness),
+        cmocka_unit_test(test_wrong_size),
         cmocka_unit_test(test_small_squares),
         cmocka_unit_test(test_large_squares),
         cmocka_unit_test(test_lighting),

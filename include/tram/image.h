@@ -92,7 +92,11 @@ typedef struct tram_detection {
     size_t ncorners;        /* cols*rows when found, else 0                */
     double *uv;             /* 2*ncorners pixels: corner id i at uv[2i], uv[2i+1] */
     size_t nseen;           /* corners of a lattice seen (also when not found) */
-    double sharpness;       /* mean edge sharpness at the corners (docs/images.md) */
+    double sharpness;       /* edge blur, pixels, lower is sharper: the standard deviation
+                               of the grey-level derivative across each board edge at its
+                               midpoint between two corners (its main peak), averaged over
+                               the board; about sqrt(sigma^2 + 1/12) for a step blurred by
+                               a Gaussian of sigma pixels.  -1 when not found (docs/images.md) */
     char reason[256];       /* why not found; "" when found                */
 } tram_detection;
 

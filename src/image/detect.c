@@ -58,9 +58,39 @@ static tram_status check_args(const tram_grey_image *im, const tram_board *b,
     return TRAM_OK;
 }
 
-/* Refine every corner of the ordered lattice in place; the window is set
- * by the nearest lattice neighbour so that no other corner enters it.
- * Returns the id of a corner that could not be measured, or -1. */
+/* The distance from corner (c, r) to the nearest other lattice line: the
+ * row lines through its column neighbours and the column lines through
+ * its row neighbours (in a steep view these come much closer than the
+ * neighbours themselves). */
+static double line_clearance(const double *P, int cols, int rows, int c, int r)
+{
+    const double *p = P + 2 * ((size_t)r * (size_t)cols + (size_t)c);
+#define Q(cc, rr) (P + 2 * ((size_t)(rr) * (size_t)cols + (size_t)(cc)))
+    const double *e0 = c > 0 ? Q(c - 1, r) : p, *e1 = c + 1 < cols ? Q(c + 1, r) : p;
+    const double *f0 = r > 0 ? Q(c, r - 1) : p, *f1 = r + 1 < rows ? Q(c, r + 1) : p;
+#undef Q
+    double ex = e1[0] - e0[0], ey = e1[1] - e0[1], le = hypot(ex, ey);
+    double fx = f1[0] - f0[0], fy = f1[1] - f0[1], lf = hypot(fx, fy);
+    double h = 1e300;
+    if (!(le > 0) || !(lf > 0)) return 0.0;
+    /* column neighbours from the row line, row neighbours from the column line */
+    const double *fq[2] = {f0, f1}, *eq[2] = {e0, e1};
+    for (int k = 0; k < 2; k++) {
+        if (fq[k] != p) {
+            double d = fabs(ex * (fq[k][1] - p[1]) - ey * (fq[k][0] - p[0])) / le;
+            if (d < h) h = d;
+        }
+        if (eq[k] != p) {
+            double d = fabs(fx * (eq[k][1] - p[1]) - fy * (eq[k][0] - p[0])) / lf;
+            if (d < h) h = d;
+        }
+    }
+    return h;
+}
+
+/* Refine every corner of the ordered lattice in place; the window keeps
+ * clear of the other lattice lines.  Returns the id of a corner that could
+ * not be measured, or -1 (-2: out of memory). */
 static long refine_all(const tram_grey_image *im, const tram_board *b, double *uv)
 {
     int cols = b->cols, rows = b->rows;
@@ -72,23 +102,17 @@ static long refine_all(const tram_grey_image *im, const tram_board *b, double *u
         for (int c = 0; c < cols; c++) {
             size_t id = (size_t)r * (size_t)cols + (size_t)c;
             const double *p = start + 2 * id;
-            double dmin = 1e300;
-            static const int nb[4][2] = {{-1, 0}, {1, 0}, {0, -1}, {0, 1}};
-            for (int k = 0; k < 4; k++) {
-                int cc = c + nb[k][0], rr = r + nb[k][1];
-                if (cc < 0 || rr < 0 || cc >= cols || rr >= rows) continue;
-                const double *q = start + 2 * ((size_t)rr * (size_t)cols + (size_t)cc);
-                double d = hypot(q[0] - p[0], q[1] - p[1]);
-                if (d < dmin) dmin = d;
-            }
-            double R = 0.7 * dmin - 1.5;
+            double R = 0.7 * line_clearance(start, cols, rows, c, r) - 1.5;
             if (R > 15.0) R = 15.0;
             double border = p[0];
             if (p[1] < border) border = p[1];
             if ((double)im->width - 1 - p[0] < border) border = (double)im->width - 1 - p[0];
             if ((double)im->height - 1 - p[1] < border) border = (double)im->height - 1 - p[1];
             if (R > border - 3.5) R = border - 3.5;
-            if (R < 2.5 || !tram__corner_refine(im, R, uv + 2 * id)) {
+            /* a smaller window when the first does not settle */
+            int ok = R >= 2.5 && tram__corner_refine(im, R, uv + 2 * id);
+            if (!ok && 0.6 * R >= 2.5) ok = tram__corner_refine(im, 0.6 * R, uv + 2 * id);
+            if (!ok) {
                 tram__free(start);
                 return (long)id;
             }
@@ -163,7 +187,7 @@ tram_status tram_detect_chessboard(const tram_grey_image *im, const tram_board *
     if (bad >= 0) {
         snprintf(d->reason, sizeof d->reason,
                  "corner %ld (column %ld, row %ld) could not be located to sub-pixel precision "
-                 "(too near the image edge or another corner)",
+                 "(too near the image edge, or the board is seen too obliquely)",
                  bad, bad % b->cols, bad / b->cols);
         tram__free(g.uv);
         *out = d;

@@ -147,8 +147,9 @@ static int nearest_linked(const grid *g, double u, double v, double rad, const i
                 int i = (int)g->bitem[q];
                 if (g->owner[i] >= 0) continue;
                 const tram__saddle *s = &g->S->s[i];
-                double d = hypot(s->u - u, s->v - v);
-                if (d > rad) continue;
+                double du = s->u - u, dv = s->v - v, d2 = du * du + dv * dv;
+                if (d2 > rad * rad) continue;
+                double d = sqrt(d2);
                 if (ray >= 0 && (d < g->dmin || ang_dist(atan2(s->v - v, s->u - u), ray) > RAY_TOL))
                     continue;
                 /* keep the 64 nearest, sorted */
@@ -346,6 +347,7 @@ static tram_status order(const grid *g, const tram_board *b, tram__grid_result *
     size_t N = (size_t)cols * (size_t)rows;
     int best_f = -1;
     size_t best_agree = 0;
+    double csum = 0, cmin = 1e300;   /* diagonal contrast at each corner */
     for (int f = 0; f < 4; f++) {
         int fc = f & 1, fr = f >> 1;
         double handed = 0;
@@ -381,11 +383,25 @@ static tram_status order(const grid *g, const tram_board *b, tram__grid_result *
                             tram__level_sample(lv, P[0] - 0.3 * (ex - fx), P[1] - 0.3 * (ey - fy));
                 /* square (c, r) .. (c+1, r+1) is black when c + r is even */
                 if ((d1 < d2) == ((c + r) % 2 == 0)) agree++;
+                if (f == 0) {
+                    double dc = fabs(d1 - d2);
+                    csum += dc;
+                    if (dc < cmin) cmin = dc;
+                }
             }
         if (handed > 0 && (best_f < 0 || agree > best_agree)) {
             best_f = f;
             best_agree = agree;
         }
+    }
+    /* every corner must show its squares about as clearly as the board does
+     * on average (uneven light halves it at most; a chance lattice in
+     * texture does not) */
+    if (cmin < 0.2 * csum / (double)N) {
+        snprintf(res->reason, sizeof res->reason,
+                 "a %d x %d lattice of corners was found but its squares are not clear at every "
+                 "corner (shadow, glare or a pattern that is not the board)", cols, rows);
+        return TRAM_OK;
     }
     if (best_f < 0 || best_agree * 10 < N * 9) {
         snprintf(res->reason, sizeof res->reason,
@@ -434,11 +450,22 @@ static void partial_reason(const grid *g, const tram_board *b, size_t seen_cells
     size_t N = (size_t)b->cols * (size_t)b->rows;
     int maxdim = b->cols > b->rows ? b->cols : b->rows, mindim = b->cols + b->rows - maxdim;
     static const char *names[4] = {"left", "right", "top", "bottom"};
-    (void)g;
-    if ((ni > maxdim || nj > maxdim) || (ni > mindim && nj > mindim)) {
+    int large = (ni > maxdim || nj > maxdim) || (ni > mindim && nj > mindim);
+    if (large && 5 * seen_cells >= 4 * (size_t)ni * (size_t)nj) {
         snprintf(res->reason, sizeof res->reason,
-                 "a lattice of %d x %d corners was found, larger than the board's %d x %d: "
-                 "another chessboard pattern next to it?", ni, nj, b->cols, b->rows);
+                 "a lattice of %d x %d corners was found, larger than the board's %d x %d: check "
+                 "the board's size (inner corners, not squares) or look for another chessboard "
+                 "pattern next to it", ni, nj, b->cols, b->rows);
+        return;
+    }
+    /* a lattice with many holes, more corners than the board or only a
+     * few corners is a chance alignment in texture or clutter as likely as
+     * part of a board */
+    if (large || 5 * seen_cells < 3 * (size_t)ni * (size_t)nj || seen_cells > N ||
+        (4 * seen_cells < N && !(flags[0] | flags[1] | flags[2] | flags[3])) || seen_cells < 6) {
+        snprintf(res->reason, sizeof res->reason,
+                 "no board found: %zu saddle points, the largest lattice among them has %zu",
+                 g->S->n, seen_cells);
         return;
     }
     char edges[96] = "";
@@ -452,7 +479,12 @@ static void partial_reason(const grid *g, const tram_board *b, size_t seen_cells
                  names[k]);
         put_n++;
     }
-    if (nf)
+    if (!nf && seen_cells == (size_t)ni * (size_t)nj)
+        snprintf(res->reason, sizeof res->reason,
+                 "%zu of %zu corners found, a whole %d x %d lattice with nothing more around it: "
+                 "check the board's size (inner corners, not squares), or part of the board is "
+                 "covered", seen_cells, N, ni, nj);
+    else if (nf)
         snprintf(res->reason, sizeof res->reason, "%zu of %zu corners found: the board runs off the %s edge%s",
                  seen_cells, N, edges, nf > 1 ? "s" : "");
     else
@@ -489,7 +521,7 @@ tram_status tram__grid_find(const tram__saddles *S, const tram_board *b, size_t 
     for (int k = 0; k < g.G * g.G; k++) g.cell[k] = -1;
     for (size_t k = 0; k < S->n; k++) g.owner[k] = -1;
     size_t N = (size_t)b->cols * (size_t)b->rows, best = 0;
-    int best_ni = 0, best_nj = 0, best_flags[4] = {0, 0, 0, 0};
+    int best_ni = 0, best_nj = 0, best_flags[4] = {0, 0, 0, 0}, best_dense = 0;
     int seeds = 0;
     for (size_t a = 0; a < S->n && seeds < MAX_SEEDS; a++) {
         if (tried[a]) continue;
@@ -506,8 +538,12 @@ tram_status tram__grid_find(const tram__saddles *S, const tram_board *b, size_t 
         for (int j = g.jmin; j <= g.jmax; j++)
             for (int i = g.imin; i <= g.imax; i++)
                 if (get(&g, i, j) >= 0) tried[get(&g, i, j)] = 1;
-        if (g.count > best) {
+        /* the best lattice: dense ones (few holes) before scattered ones,
+         * then the larger */
+        int dense = 5 * g.count >= 3 * (size_t)ni * (size_t)nj;
+        if (dense > best_dense || (dense == best_dense && g.count > best)) {
             best = g.count;
+            best_dense = dense;
             best_ni = ni;
             best_nj = nj;
             memset(best_flags, 0, sizeof best_flags);

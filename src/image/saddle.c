@@ -79,13 +79,13 @@ static double ang_dist(double a, double b)
 
 /* The ring of 32 samples at radius rho (working pixels) around (x, y):
  * four crossings of the mean with hysteresis, pairwise near-opposite. */
-static int ring_analyse(const tram__level *lv, double x, double y, double rho, tram__saddle *s)
+static int ring_analyse(const tram__level *lv, double x, double y, const double ring[RING_FINE][2],
+                        tram__saddle *s)
 {
     double val[RING_FINE], mean = 0.0, lo = 1e30, hi = -1e30;
     int cls[RING_FINE];
     for (int k = 0; k < RING_FINE; k++) {
-        double a = 2.0 * TRAM_PI * k / RING_FINE;
-        val[k] = sample_level_px(lv, x + rho * cos(a), y + rho * sin(a));
+        val[k] = sample_level_px(lv, x + ring[k][0], y + ring[k][1]);
         mean += val[k];
         if (val[k] < lo) lo = val[k];
         if (val[k] > hi) hi = val[k];
@@ -191,10 +191,15 @@ tram_status tram__saddles_find(const tram_grey_image *im, double min_square_px, 
         tram__saddles_free(out);
         return TRAM_ENOMEM;
     }
-    double off = 0.5 * (lv->scale - 1.0);
+    double off = 0.5 * (lv->scale - 1.0), ring[RING_FINE][2];
+    for (int k = 0; k < RING_FINE; k++) {
+        double a = 2.0 * TRAM_PI * k / RING_FINE;
+        ring[k][0] = (double)r * cos(a);
+        ring[k][1] = (double)r * sin(a);
+    }
     for (size_t i = 0; i < npk; i++) {
         tram__saddle s;
-        if (!ring_analyse(lv, pk[i].x, pk[i].y, (double)r, &s)) continue;
+        if (!ring_analyse(lv, pk[i].x, pk[i].y, ring, &s)) continue;
         s.u = pk[i].x * lv->scale + off;
         s.v = pk[i].y * lv->scale + off;
         s.response = pk[i].resp;
@@ -248,7 +253,9 @@ int tram__corner_refine(const tram_grey_image *im, double radius_px, double uv[2
             }
         A[2] = A[1];
         double q[2];
-        if (A[0] * A[3] - A[1] * A[1] <= 1e-9 * (A[0] + A[3]) * (A[0] + A[3])) return 0;
+        /* edges meeting at a very sharp angle leave p badly determined along
+         * their bisector: refuse eigenvalue ratios under about 1:50 */
+        if (A[0] * A[3] - A[1] * A[1] <= 0.02 * (A[0] + A[3]) * (A[0] + A[3])) return 0;
         if (tram__spd_solve(2, A, b, q) != TRAM_OK) return 0;
         double step = hypot(q[0] - p[0], q[1] - p[1]);
         p[0] = q[0];
@@ -280,11 +287,23 @@ double tram__edge_blur(const tram_grey_image *im, const double a[2], const doubl
     for (int i = -n - 1; i <= n + 1; i++)
         prof[i + n + 1] = sample_image(im, mx + i * h * nx, my + i * h * ny);
     double sgn = prof[2 * n + 2] > prof[0] ? 1.0 : -1.0;
-    double s0 = 0, s1 = 0, s2 = 0;
+    double D[2 * 32 + 1], dmax = 0;
+    int imax = 0;
     for (int i = -n; i <= n; i++) {
-        double d = sgn * (prof[i + n + 2] - prof[i + n]) / (2.0 * h);
-        if (d <= 0) continue;
-        double t = i * h;
+        D[i + n] = sgn * (prof[i + n + 2] - prof[i + n]) / (2.0 * h);
+        if (D[i + n] > dmax) {
+            dmax = D[i + n];
+            imax = i;
+        }
+    }
+    /* the moments of the derivative's main peak only: the run around its
+     * maximum above a tenth of it (noise in the tails would dominate) */
+    int lo = imax, hi = imax;
+    while (lo > -n && D[lo - 1 + n] > 0.1 * dmax) lo--;
+    while (hi < n && D[hi + 1 + n] > 0.1 * dmax) hi++;
+    double s0 = 0, s1 = 0, s2 = 0;
+    for (int i = lo; i <= hi; i++) {
+        double d = D[i + n], t = i * h;
         s0 += d;
         s1 += d * t;
         s2 += d * t * t;
