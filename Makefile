@@ -89,11 +89,19 @@ $(B)/libtram.so: $(LIB_OBJ)
 $(B)/tram: $(CLI_OBJ) $(B)/libtram.a
 	$(CC) $(EXTRA_LDFLAGS) -o $@ $(CLI_OBJ) $(B)/libtram.a $(PKG_LIBS)
 
-$(B)/tests/%: tests/%.c tests/test_util.h $(B)/libtram.a
+# The test renderer (tools/render/, not part of libtram) is linked into
+# every test, benchmark and tool that may use it.
+RENDER_OBJ := $(B)/obj/tools/render.o
+$(RENDER_OBJ): tools/render/render.c tools/render/render.h $(HEADERS)
 	@mkdir -p $(dir $@)
 	@echo "  CC      $<"
-	@$(CC) $(BASEFLAGS) $(OPT) $(EXTRA_CFLAGS) -Itests $(PKG_CFLAGS) $(TEST_CFLAGS) $< -o $@ \
-	  $(B)/libtram.a $(EXTRA_LDFLAGS) $(TEST_LIBS) $(PKG_LIBS)
+	@$(CC) $(BASEFLAGS) -Itools $(OPT) $(EXTRA_CFLAGS) $(PKG_CFLAGS) -c $< -o $@
+
+$(B)/tests/%: tests/%.c tests/test_util.h $(B)/libtram.a $(RENDER_OBJ)
+	@mkdir -p $(dir $@)
+	@echo "  CC      $<"
+	@$(CC) $(BASEFLAGS) $(OPT) $(EXTRA_CFLAGS) -Itests -Itools $(PKG_CFLAGS) $(TEST_CFLAGS) $< -o $@ \
+	  $(RENDER_OBJ) $(B)/libtram.a $(EXTRA_LDFLAGS) $(TEST_LIBS) $(PKG_LIBS)
 
 $(B)/refhelper: tests/ref/refhelper.c $(B)/libtram.a
 	@echo "  CC      $<"
