@@ -201,7 +201,7 @@ tram_status tram__bundle_refine(const tram__bundle *b, tram__bundle_state *s, co
             }
             double c2 = ss == TRAM_OK ? (step(b, s, delta, &trial), cost_of(b, &trial, w, huber_px)) : HUGE_VAL;
             if (c2 < cost) {
-                converged = cost - c2 <= 1e-13 * cost;
+                converged = cost - c2 <= 1e-16 * cost;
                 s->cam = trial.cam;
                 memcpy(s->R, trial.R, b->nviews * sizeof *s->R);
                 memcpy(s->t, trial.t, b->nviews * sizeof *s->t);
