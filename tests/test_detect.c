@@ -3,8 +3,8 @@
  *
  * The images are test renders of our own (invented scenes): a board under
  * a pinhole camera with the radial term k1 of the Brown-Conrady model
- * (Brown 1966, "Decentering distortion of lenses"), supersampled 8 x 8 at
- * the edges, blurred by a Gaussian, lit unevenly, with Gaussian noise and
+ * (Brown 1966, "Decentering distortion of lenses"), supersampled at the edges
+ * (89 samples of a Fibonacci lattice per pixel), blurred by a Gaussian, lit unevenly, with Gaussian noise and
  * quantised to 8 bits.  The outside reference for the accuracy is the
  * analytic position of each corner: the published pinhole and
  * Brown-Conrady projection of the board point (c s, r s, 0), independent
@@ -193,7 +193,7 @@ static tram_grey_image *render(const scene *s, test_rng *rng, double *truth)
         rect[i][3] = v0 + 20 + test_rng_uniform(rng) * 0.3 * (double)H;
         rect[i][4] = 20 + 220 * test_rng_uniform(rng);
     }
-    const int SS = 8;
+    const int SS = 89;
     for (size_t y = 0; y < H; y++)
         for (size_t x = 0; x < W; x++) {
             size_t c00 = y * CW + x, c10 = c00 + 1, c01 = c00 + CW, c11 = c01 + 1;
@@ -205,14 +205,23 @@ static tram_grey_image *render(const scene *s, test_rng *rng, double *truth)
                 col[2] = board_colour(s, XY[2 * c01], XY[2 * c01 + 1]);
                 col[3] = board_colour(s, XY[2 * c11], XY[2 * c11 + 1]);
             }
-            double val;
-            if (all && col[0] >= 0 && col[0] == col[1] && col[0] == col[2] && col[0] == col[3]) {
-                val = col[0];
+            double val, bgv = s->bg;
+            for (int i = 0; i < nrect; i++) {
+                /* painter's order, by the area of the pixel the rectangle covers */
+                double ox = fmin((double)x + 0.5, rect[i][2]) - fmax((double)x - 0.5, rect[i][0]);
+                double oy = fmin((double)y + 0.5, rect[i][3]) - fmax((double)y - 0.5, rect[i][1]);
+                if (ox > 0 && oy > 0) bgv += ox * oy * (rect[i][4] - bgv);
+            }
+            if (col[0] != -2 && col[0] == col[1] && col[0] == col[2] && col[0] == col[3]) {
+                val = col[0] >= 0 ? col[0] : bgv;
+            } else if (!all && !ok[c00] && !ok[c10] && !ok[c01] && !ok[c11]) {
+                val = bgv;
             } else {
                 double acc = 0;
-                for (int sy = 0; sy < SS; sy++)
-                    for (int sx = 0; sx < SS; sx++) {
-                        double fx = (sx + 0.5) / SS, fy = (sy + 0.5) / SS, c = -1;
+                for (int k = 0; k < SS; k++) {
+                        /* Fibonacci lattice: every sample on its own row and column, so
+                         * edges along the pixel axes are not quantised to a coarse step */
+                        double fx = (k + 0.5) / SS, fy = ((k * 55) % SS + 0.5) / SS, c = -1;
                         if (all) {
                             double X = (1 - fy) * ((1 - fx) * XY[2 * c00] + fx * XY[2 * c10]) +
                                        fy * ((1 - fx) * XY[2 * c01] + fx * XY[2 * c11]);
@@ -220,16 +229,9 @@ static tram_grey_image *render(const scene *s, test_rng *rng, double *truth)
                                        fy * ((1 - fx) * XY[2 * c01 + 1] + fx * XY[2 * c11 + 1]);
                             c = board_colour(s, X, Y);
                         }
-                        if (c < 0) {
-                            double u = (double)x - 0.5 + fx, v = (double)y - 0.5 + fy;
-                            c = s->bg;
-                            for (int i = 0; i < nrect; i++)
-                                if (u >= rect[i][0] && u < rect[i][2] && v >= rect[i][1] && v < rect[i][3])
-                                    c = rect[i][4];
-                        }
-                        acc += c;
+                        acc += c < 0 ? bgv : c;
                     }
-                val = acc / (SS * SS);
+                val = acc / SS;
             }
             if (s->occlude && (double)x >= s->occ[0] && (double)x < s->occ[2] && (double)y >= s->occ[1] &&
                 (double)y < s->occ[3])
@@ -332,10 +334,208 @@ static void test_accuracy(void **state)
     }
 }
 
+/* Found with every corner within tol pixels of the truth (the order
+ * included); prints the RMS. */
+static void expect_found(const char *what, const scene *s, test_rng *rng, double min_sq, double tol)
+{
+    double rms = 0, mx = 0;
+    char why[256];
+    int found = run_scene(s, rng, min_sq, &rms, &mx, why, sizeof why);
+    if (!found) fail_msg("%s: not found: %s", what, why);
+    printf("[ figures  ] %s: found, RMS %.4f px, max %.4f px\n", what, rms, mx);
+    if (!(mx <= tol)) fail_msg("%s: max error %.3g px (tol %g)", what, mx, tol);
+}
+
+static void test_order(void **state)
+{
+    (void)state;
+    test_rng rng = test_rng_seeded("test_order", 7);
+    /* quarter turns of the board, both parities of cols, a near-square board */
+    static const int dims[4][2] = {{9, 6}, {6, 9}, {7, 8}, {5, 4}};
+    for (int k = 0; k < 4; k++)
+        for (int q = 0; q < 4; q++) {
+            double roll = q * M_PI / 2 + 0.05 * k;
+            scene s = make_scene(640, 480, dims[k][0], dims[k][1], 30, roll, 0.2, -0.15, 320, 240);
+            s.noise = 1.0;
+            char what[64];
+            snprintf(what, sizeof what, "%d x %d, roll %.0f deg", dims[k][0], dims[k][1], roll * 180 / M_PI);
+            expect_found(what, &s, &rng, 12, 0.1);
+        }
+}
+
+static void test_tilt(void **state)
+{
+    (void)state;
+    test_rng rng = test_rng_seeded("test_tilt", 60);
+    static const double tilt[4][3] = {{60, 0, 0}, {0, 60, 20}, {42.4, 42.4, 45}, {-60, 0, -30}};
+    for (int k = 0; k < 4; k++) {
+        scene s = make_scene(1280, 960, 9, 6, 60, tilt[k][2] * M_PI / 180, tilt[k][0] * M_PI / 180,
+                             tilt[k][1] * M_PI / 180, 640, 480);
+        s.noise = 2.0;
+        char what[64];
+        snprintf(what, sizeof what, "tilt %.0f/%.0f deg, roll %.0f", tilt[k][0], tilt[k][1], tilt[k][2]);
+        expect_found(what, &s, &rng, 12, 0.2);
+    }
+}
+
+static void test_small_squares(void **state)
+{
+    (void)state;
+    test_rng rng = test_rng_seeded("test_small_squares", 12);
+    for (int k = 0; k < 3; k++) {
+        scene s = make_scene(640, 480, 11, 8, 12.5, 0.3 * k, 0.1 * k, 0.0, 300, 250);
+        s.noise = 2.0;
+        char what[64];
+        snprintf(what, sizeof what, "12 px squares, pose %d", k);
+        expect_found(what, &s, &rng, 12, 0.25);
+    }
+}
+
+static void test_large_squares(void **state)
+{
+    (void)state;
+    test_rng rng = test_rng_seeded("test_large_squares", 150);
+    scene s = make_scene(1280, 960, 5, 4, 150, 0.2, 0.2, 0.1, 640, 480);
+    s.noise = 2.0;
+    s.blur = 1.5;
+    expect_found("150 px squares, blur 1.5 px", &s, &rng, 12, 0.2);
+    s.blur = 0.6;
+    expect_found("150 px squares, min_square_px 60", &s, &rng, 60, 0.2);
+}
+
+static void test_lighting(void **state)
+{
+    (void)state;
+    test_rng rng = test_rng_seeded("test_lighting", 21);
+    scene s = make_scene(1280, 960, 9, 6, 70, 0.1, 0.3, 0.2, 640, 480);
+    s.noise = 2.0;
+    s.light0 = 0.5;
+    s.light1 = 1.0;
+    expect_found("light 1:2 across the image", &s, &rng, 12, 0.15);
+    s.light0 = 1.1;
+    s.light1 = 0.45;
+    s.bg = 200;
+    expect_found("light 2.4:1, bright background", &s, &rng, 12, 0.15);
+}
+
+static void test_distortion(void **state)
+{
+    (void)state;
+    test_rng rng = test_rng_seeded("test_distortion", 35);
+    /* the board fills most of the view, where k1 = -0.35 bends it most */
+    for (int k = 0; k < 3; k++) {
+        scene s = make_scene(1280, 960, 13, 10, 70, 0.1 * k, 0.15 * k, -0.1 * k, 640, 480);
+        s.f = 1400;
+        double Z = s.f * s.square / 70;
+        /* keep the board's centre on the optical axis region */
+        double ctr[3] = {0.5 * (s.cols - 1) * s.square, 0.5 * (s.rows - 1) * s.square, 0};
+        for (int i = 0; i < 3; i++) {
+            s.t[i] = (i == 2 ? Z : 0.0) + (i == 0 ? 12.0 * k : 0.0);
+            for (int j = 0; j < 3; j++) s.t[i] -= s.R[i][j] * ctr[j];
+        }
+        s.k1 = -0.35;
+        s.noise = 2.0;
+        char what[64];
+        snprintf(what, sizeof what, "k1 -0.35, pose %d", k);
+        expect_found(what, &s, &rng, 12, 0.2);
+    }
+}
+
+/* 20 images with no board or only part of one: nothing is found. */
+static void test_no_false_detection(void **state)
+{
+    (void)state;
+    test_rng rng = test_rng_seeded("test_no_false_detection", 404);
+    int found = 0;
+    for (int k = 0; k < 20; k++) {
+        scene s;
+        const char *kind;
+        if (k < 6) {
+            /* no board: clutter of rectangles only */
+            s = make_scene(640, 480, 9, 6, 30, 0, 0, 0, 5000, 5000);
+            s.clutter = 10 + 5 * (k % 3);
+            kind = "no board, clutter";
+        } else if (k < 14) {
+            /* the board runs off one image edge (cycling left, right, top, bottom) */
+            static const double at[4][2] = {{60, 240}, {580, 240}, {320, 50}, {320, 430}};
+            s = make_scene(640, 480, 9, 6, 35, 0.1 * k, 0.2, 0.1, at[k % 4][0], at[k % 4][1]);
+            s.clutter = k % 2 ? 8 : 0;
+            kind = "board off an edge";
+        } else {
+            /* a grey patch covers part of the board */
+            s = make_scene(640, 480, 9, 6, 35, 0.1 * k, -0.2, 0.1, 320, 240);
+            s.occlude = 1;
+            s.occ[0] = 300 + 10 * (k - 14);
+            s.occ[1] = 100;
+            s.occ[2] = 640;
+            s.occ[3] = 480;
+            kind = "board partly covered";
+        }
+        s.noise = 2.0;
+        double rms, mx;
+        char why[256];
+        int f = run_scene(&s, &rng, 12, &rms, &mx, why, sizeof why);
+        printf("[ figures  ] image %2d (%s): %s\n", k, kind, f ? "FOUND" : why);
+        found += f;
+        if (k >= 6 && k < 14 && !f) {
+            static const char *edge[4] = {"left edge", "right edge", "top edge", "bottom edge"};
+            if (!strstr(why, edge[k % 4])) fail_msg("image %d: reason \"%s\" does not name the %s", k, why, edge[k % 4]);
+        }
+    }
+    printf("[ figures  ] false detections: %d of 20\n", found);
+    assert_int_equal(found, 0);
+}
+
+static void test_arguments(void **state)
+{
+    (void)state;
+    float px[64 * 64];
+    memset(px, 0, sizeof px);
+    tram_grey_image im = {64, 64, px};
+    tram_board b = board_of(9, 6);
+    tram_detection *d = (tram_detection *)1;
+    tram_error err;
+    assert_int_equal(tram_detect_chessboard(NULL, &b, NULL, &d, &err), TRAM_EINPUT);
+    assert_null(d);
+    assert_int_equal(tram_detect_chessboard(&im, NULL, NULL, &d, &err), TRAM_EINPUT);
+    tram_board sym = board_of(6, 6);
+    assert_int_equal(tram_detect_chessboard(&im, &sym, NULL, &d, &err), TRAM_EINPUT);
+    assert_non_null(strstr(err.message, "6 x 6"));
+    tram_detect_options opt;
+    tram_detect_options_init(&opt);
+    assert_true(opt.min_square_px == 12.0 && opt.threads == 0);
+    opt.min_square_px = NAN;
+    assert_int_equal(tram_detect_chessboard(&im, &b, &opt, &d, &err), TRAM_EINPUT);
+    opt.min_square_px = 12;
+    opt.threads = -1;
+    assert_int_equal(tram_detect_chessboard(&im, &b, &opt, &d, &err), TRAM_EINPUT);
+    /* a blank image: not found, a reason, no corners */
+    assert_int_equal(tram_detect_chessboard(&im, &b, NULL, &d, &err), TRAM_OK);
+    assert_int_equal(d->found, 0);
+    assert_int_equal(d->ncorners, 0);
+    assert_null(d->uv);
+    assert_true(d->reason[0] != '\0');
+    tram_detection_destroy(d);
+    tram_detection_destroy(NULL);
+    /* a tiny image */
+    tram_grey_image tiny = {3, 2, px};
+    assert_int_equal(tram_detect_chessboard(&tiny, &b, NULL, &d, &err), TRAM_OK);
+    assert_int_equal(d->found, 0);
+    tram_detection_destroy(d);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_accuracy),
+        cmocka_unit_test(test_order),
+        cmocka_unit_test(test_tilt),
+        cmocka_unit_test(test_small_squares),
+        cmocka_unit_test(test_large_squares),
+        cmocka_unit_test(test_lighting),
+        cmocka_unit_test(test_distortion),
+        cmocka_unit_test(test_no_false_detection),
+        cmocka_unit_test(test_arguments),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

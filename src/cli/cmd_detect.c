@@ -9,6 +9,7 @@
  * read of each image, so that only the detections stay in memory.
  */
 #include "cli.h"
+#include "tram/pixels.h"
 
 #include <cjson/cJSON.h>
 #include <errno.h>
@@ -41,7 +42,7 @@ const char cli_detect_help[] =
 
 typedef struct shot {
     const char *path;
-    char station[128];
+    char station[TRAM_PIXEL_STATION_ID_MAX + 8]; /* longer ids are refused by the writer */
     tram_detection *det;
 } shot;
 
@@ -55,7 +56,7 @@ static const char *base_name(const char *path)
  * character, and not empty. */
 static int station_ok(const char *s)
 {
-    if (!*s || *s == '#') return 0;
+    if (!*s || *s == '#' || *s == ' ' || strlen(s) >= TRAM_PIXEL_STATION_ID_MAX) return 0;
     for (; *s; s++)
         if (*s == ',' || *s == '"' || (unsigned char)*s < 0x20) return 0;
     return 1;
@@ -97,8 +98,9 @@ static int read_stations(const char *file, shot *shots, int n)
         }
         char *comma = strchr(line, ',');
         if (!comma || strchr(comma + 1, ',') || comma == line || !station_ok(comma + 1)) {
-            fprintf(stderr, "%s:%ld: error: expected IMAGE,STATION (a station id without commas, "
-                            "quotes or control characters)\n", file, ln);
+            fprintf(stderr, "%s:%ld: error: expected IMAGE,STATION (a station id of at most %d "
+                            "characters without commas, quotes or control characters)\n",
+                    file, ln, TRAM_PIXEL_STATION_ID_MAX - 1);
             rc = CLI_EXIT_USAGE;
             break;
         }
@@ -173,7 +175,7 @@ static void report_text(const shot *shots, int n, size_t w, size_t h, int found)
     for (int i = 0; i < n; i++) {
         const tram_detection *d = shots[i].det;
         if (d->found)
-            fprintf(stderr, "%s: station %s: found, %zu corners, sharpness %.2f\n", shots[i].path,
+            fprintf(stderr, "%s: station %s: found, %zu corners, edge blur %.2f px\n", shots[i].path,
                     shots[i].station, d->ncorners, d->sharpness);
         else
             fprintf(stderr, "%s: station %s: not found (%s); %zu corners of a lattice seen\n",
@@ -226,7 +228,8 @@ static int report_json(const shot *shots, int n, size_t w, size_t h, int found, 
         cJSON_AddBoolToObject(o, "found", d->found);
         cJSON_AddNumberToObject(o, "corners", (double)d->ncorners);
         cJSON_AddNumberToObject(o, "corners_seen", (double)d->nseen);
-        cJSON_AddItemToObject(o, "sharpness", num(d->sharpness));
+        /* the detector's sharpness: edge blur in pixels, lower is sharper */
+        cJSON_AddItemToObject(o, "edge_blur_px", d->found ? num(d->sharpness) : cJSON_CreateNull());
         if (!d->found) cJSON_AddStringToObject(o, "reason", d->reason);
     }
     char *text = cJSON_Print(root);
@@ -240,28 +243,29 @@ static int report_json(const shot *shots, int n, size_t w, size_t h, int found, 
     return CLI_EXIT_OK;
 }
 
-/* The observation file (format tram-pixels-1).  A small writer of the
- * command's own until the io layer's tram_pixel_obs_write is merged. */
-static char *obs_text(const shot *shots, int n, size_t w, size_t h, const char *board_path)
+/* The observation file (format tram-pixels-1), through the io layer's
+ * writer so that the format is produced and read by one module. */
+static char *obs_text(const shot *shots, int n, size_t w, size_t h, const char *board_path,
+                      tram_error *err)
 {
-    char *buf = NULL;
-    size_t len = 0;
-    FILE *f = open_memstream(&buf, &len);
-    if (!f) return NULL;
-    fprintf(f, "# format: tram-pixels-1\n# pixel-origin: top-left-pixel-centre\n# image-size: %zux%zu\n",
-            w, h);
-    if (!strpbrk(board_path, "\r\n")) fprintf(f, "# board: %s\n", board_path);
-    fprintf(f, "station,point,u,v\n");
-    for (int i = 0; i < n; i++) {
+    tram_pixel_obs *obs = NULL;
+    char *text = NULL;
+    /* the board directive is informational and short: the path as given,
+     * else its file name, else left out */
+    const char *bname = strlen(board_path) < 80 ? board_path : base_name(board_path);
+    if (strlen(bname) >= 80 || strpbrk(bname, "\r\n")) bname = NULL;
+    tram_status st = tram_pixel_obs_create(w, h, bname, &obs, err);
+    for (int i = 0; st == TRAM_OK && i < n; i++) {
         const tram_detection *d = shots[i].det;
-        for (size_t k = 0; d->found && k < d->ncorners; k++)
-            fprintf(f, "%s,%zu,%.4f,%.4f\n", shots[i].station, k, d->uv[2 * k], d->uv[2 * k + 1]);
+        for (size_t k = 0; st == TRAM_OK && d->found && k < d->ncorners; k++) {
+            char id[24];
+            snprintf(id, sizeof id, "%zu", k);
+            st = tram_pixel_obs_add(obs, shots[i].station, id, d->uv[2 * k], d->uv[2 * k + 1], err);
+        }
     }
-    if (fclose(f) != 0) {
-        free(buf);
-        return NULL;
-    }
-    return buf;
+    if (st == TRAM_OK) st = tram_pixel_obs_write(obs, &text, err);
+    tram_pixel_obs_destroy(obs);
+    return st == TRAM_OK ? text : NULL;
 }
 
 /* DIR and NAME joined with one slash. */
@@ -272,6 +276,28 @@ static void join(char *out, size_t size, const char *dir, const char *name)
     snprintf(out, size, "%.*s%s%s", (int)dl, dir, dir[dl - 1] == '/' ? "" : "/", name);
 }
 
+/* Refuse existing outputs before any work is done. */
+static int refuse_existing(const char *o, const char *dir, const shot *shots, int n, int force)
+{
+    struct stat sb;
+    if (force) return CLI_EXIT_OK;
+    if (o && stat(o, &sb) == 0) {
+        fprintf(stderr, "%s: error: already exists; not overwritten (pass --force to replace it)\n", o);
+        return CLI_EXIT_USAGE;
+    }
+    char path[4096];
+    for (int i = 0; dir && i <= n; i++) {
+        char name[200];
+        snprintf(name, sizeof name, "%s-corners.png", i < n ? shots[i].station : "");
+        join(path, sizeof path, dir, i < n ? name : "coverage.png");
+        if (stat(path, &sb) == 0) {
+            fprintf(stderr, "%s: error: already exists; not overwritten (pass --force to replace it)\n", path);
+            return CLI_EXIT_USAGE;
+        }
+    }
+    return CLI_EXIT_OK;
+}
+
 static int write_pictures(const char *dir, const tram_board *b, const shot *shots, int n, size_t w,
                           size_t h, int force)
 {
@@ -280,16 +306,6 @@ static int write_pictures(const char *dir, const tram_board *b, const shot *shot
         return CLI_EXIT_USAGE;
     }
     char path[4096];
-    for (int i = 0; i <= n; i++) { /* refuse existing pictures before drawing any */
-        char name[200];
-        snprintf(name, sizeof name, "%s-corners.png", i < n ? shots[i].station : "");
-        join(path, sizeof path, dir, i < n ? name : "coverage.png");
-        struct stat sb;
-        if (!force && stat(path, &sb) == 0) {
-            fprintf(stderr, "%s: error: already exists; not overwritten (pass --force to replace it)\n", path);
-            return CLI_EXIT_USAGE;
-        }
-    }
     tram_error err;
     tram_error_clear(&err);
     const tram_detection **dets = calloc((size_t)n, sizeof *dets);
@@ -331,8 +347,10 @@ static int check_stations(const shot *shots, int n)
     for (int i = 0; i < n; i++) {
         if (!station_ok(shots[i].station)) {
             fprintf(stderr, "%s: error: station id '%s' (from the file name) cannot be written to "
-                            "the observation file (empty, or a comma, quote or control character); "
-                            "name it with --stations\n", shots[i].path, shots[i].station);
+                            "the observation file (empty, longer than %d characters, a leading blank or '#', "
+                            "a comma, quote or control character); "
+                            "name it with --stations\n", shots[i].path, shots[i].station,
+                    TRAM_PIXEL_STATION_ID_MAX - 1);
             return CLI_EXIT_USAGE;
         }
         for (int k = 0; k < i; k++)
@@ -355,13 +373,10 @@ static int run(const char *board_path, const char *o, const char *plot, int json
         cli_report(&err);
         return CLI_EXIT_USAGE;
     }
-    struct stat sb;
-    if (o && !force && stat(o, &sb) == 0) {
-        fprintf(stderr, "%s: error: already exists; not overwritten (pass --force to replace it)\n", o);
-        return CLI_EXIT_USAGE;
-    }
+    int rc = refuse_existing(o, plot, shots, n, force);
+    if (rc != CLI_EXIT_OK) return rc;
     size_t w = 0, h = 0;
-    int rc = detect_all(&b, shots, n, &w, &h);
+    rc = detect_all(&b, shots, n, &w, &h);
     if (rc != CLI_EXIT_OK) return rc;
     int found = 0;
     for (int i = 0; i < n; i++) found += shots[i].det->found != 0;
@@ -377,10 +392,10 @@ static int run(const char *board_path, const char *o, const char *plot, int json
                 found, found == 1 ? "" : "s", MIN_BOARDS);
         return CLI_EXIT_UNDETERMINED;
     }
-    char *text = obs_text(shots, n, w, h, board_path);
+    char *text = obs_text(shots, n, w, h, board_path, &err);
     if (!text) {
-        fprintf(stderr, "tram detect: error: out of memory\n");
-        return CLI_EXIT_USAGE;
+        cli_report(&err);
+        return cli_exit_for(err.status);
     }
     if (o) {
         if (tram_file_write_atomic(o, text, strlen(text), force, &err) != TRAM_OK) {

@@ -145,7 +145,7 @@ static void scale_bar(cairo_t *cr, double x, double y)
         cairo_line_to(cr, x + k * mm, y - len * mm);
         cairo_stroke(cr);
         if (k % 10 == 0) {
-            char t[8];
+            char t[16];
             snprintf(t, sizeof t, "%d", k);
             label(cr, x + k * mm, y + 3.0 * mm, 6.0, t, 0.5);
         }

@@ -76,6 +76,21 @@ static void text_at(cairo_t *cr, double x, double y, double size, const char *s)
     cairo_show_text(cr, s);
 }
 
+/* Text with a white halo, readable over the image. */
+static void text_halo(cairo_t *cr, double x, double y, double size, const char *s)
+{
+    double r, g, b, a;
+    cairo_pattern_get_rgba(cairo_get_source(cr), &r, &g, &b, &a);
+    cairo_set_font_size(cr, size);
+    cairo_move_to(cr, x, y);
+    cairo_text_path(cr, s);
+    cairo_set_source_rgb(cr, 1, 1, 1);
+    cairo_set_line_width(cr, 3);
+    cairo_stroke(cr);
+    cairo_set_source_rgba(cr, r, g, b, a);
+    text_at(cr, x, y, size, s);
+}
+
 /* Scale that brings the long side into 640 .. 1600 picture pixels. */
 static double fit_scale(size_t w, size_t h)
 {
@@ -137,7 +152,7 @@ static void arrow(cairo_t *cr, double x0, double y0, double x1, double y1, const
     cairo_line_to(cr, x1 - head * dx + 0.5 * head * dy, y1 - head * dy - 0.5 * head * dx);
     cairo_close_path(cr);
     cairo_fill(cr);
-    text_at(cr, x1 + 6 * dx - 4, y1 + 6 * dy + 5, 16, name);
+    text_halo(cr, x1 + 8 * dx - 4, y1 + 10 * dy + 5, 16, name);
 }
 
 static void draw_lattice(cairo_t *cr, const tram_board *b, const tram_detection *d, double s,
@@ -178,7 +193,7 @@ static void draw_lattice(cairo_t *cr, const tram_board *b, const tram_detection 
     cairo_new_sub_path(cr);
     cairo_arc(cr, PX(0), PY(0), 9, 0, 2 * TRAM_PI);
     cairo_stroke(cr);
-    text_at(cr, PX(0) - 22, PY(0) - 10, 16, "0");
+    text_halo(cr, PX(0) - 22, PY(0) - 10, 16, "0");
 #undef PX
 #undef PY
 }
@@ -206,7 +221,7 @@ tram_status tram_plot_detection(const tram_grey_image *im, const tram_board *b,
     cairo_set_source_rgb(cr, 0, 0, 0);
     if (title) text_at(cr, 8, 24, 16, title);
     if (whole)
-        snprintf(line, sizeof line, "found: %zu corners, sharpness %.2f; corner 0 ringed, x red, y green",
+        snprintf(line, sizeof line, "found: %zu corners, edge blur %.2f px; corner 0 ringed, x red, y green",
                  d->ncorners, d->sharpness);
     else
         snprintf(line, sizeof line, "not found: %s (%zu corners of a lattice seen)",
