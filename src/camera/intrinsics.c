@@ -617,6 +617,8 @@ tram_status tram_intrinsics_calibrate(const tram_pixel_obs *obs, const tram_plan
     }
     work_free(&w);
     if (st != TRAM_OK) {
+        /* a message about the data as a whole names the observation file */
+        if (err && !err->file[0]) snprintf(err->file, sizeof err->file, "%s", obs->source);
         tram_intrinsics_result_destroy(r);
         return st;
     }

@@ -143,7 +143,7 @@ static const char *warning_text(unsigned bit)
         return "rms: the reprojection error is over 1 px - check the board's flatness, the "
                "square size, focus and motion blur";
     case TRAM_INTRINSICS_WARN_TILT:
-        return "tilt: no view is tilted 15 degrees or more about one of the image axes; the "
+        return "tilt: about one of the image axes no view is tilted 15 degrees or more, so the "
                "focal length rests on little tilt - tilt the board 20-45 degrees about both "
                "image axes";
     case TRAM_INTRINSICS_WARN_OUTLIERS:

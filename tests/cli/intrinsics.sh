@@ -5,21 +5,6 @@
 
 zhang="$here/../../../shared/datasets/zhang1998"
 
-# zhang_convert DIR OUT: model.txt -> OUT/model.csv (point,x,y,z in inches,
-# point id 4*line+corner), dataN.txt -> OUT/obs.csv (stations view1..view5).
-zhang_convert() {
-    awk 'BEGIN { print "# length-unit: in"; print "point,x,y,z" }
-         { gsub("\r", ""); for (k = 0; k < 4; k++) printf "%d,%s,%s,0\n", (NR - 1) * 4 + k, $(2 * k + 1), $(2 * k + 2) }' \
-        "$1/model.txt" >"$2/model.csv"
-    {
-        printf '# format: tram-pixels-1\n# pixel-origin: top-left-pixel-centre\n# image-size: 640x480\nstation,point,u,v\n'
-        for i in 1 2 3 4 5; do
-            awk -v s="$i" '{ gsub("\r", ""); for (k = 0; k < 4; k++) printf "view%d,%d,%s,%s\n", s, (NR - 1) * 4 + k, $(2 * k + 1), $(2 * k + 2) }' \
-                "$1/data$i.txt"
-        done
-    } >"$2/obs.csv"
-}
-
 # zhang_check JSON LABEL: compare a --json report with the published
 # calibration (calib_results.txt) and print the figures.
 zhang_check() {
@@ -65,7 +50,7 @@ if [ ! -d "$zhang" ]; then
     if [ "${CI:-}" = true ]; then bad "dataset not present ($zhang)"; else echo "skipped: dataset not present ($zhang)"; fi
 else
     mkdir -p "$tmp/zhang"
-    zhang_convert "$zhang" "$tmp/zhang"
+    sh "$here/../../tools/zhang1998_to_tram.sh" "$zhang" "$tmp/zhang"
     # default loss (Huber at 5 robust sigmas, outliers over 8 left out)
     "$TRAM" intrinsics --model "$tmp/zhang/model.csv" --free-skew --json -o "$tmp/zhang/camera.json" \
         "$tmp/zhang/obs.csv" >"$tmp/zhang/r.json" 2>"$tmp/err"
@@ -98,16 +83,16 @@ PY
     expect_error "intrinsics -o exists" 2 "camera.json: error: already exists" \
         intrinsics --model "$tmp/zhang/model.csv" -o "$tmp/zhang/camera.json" "$tmp/zhang/obs.csv"
     # a point id that is not on the model: exit 2 at the observation's line
-    sed '10s/^view1,5,/view1,999,/' "$tmp/zhang/obs.csv" >"$tmp/zhang/unknown.csv"
-    expect_error "intrinsics unknown point" 2 "unknown.csv:10: error: point '999' of station 'view1' is not a point of the target" \
+    sed '11s/^view1,5,/view1,999,/' "$tmp/zhang/obs.csv" >"$tmp/zhang/unknown.csv"
+    expect_error "intrinsics unknown point" 2 "unknown.csv:11: error: point '999' of station 'view1' is not a point of the target" \
         intrinsics --model "$tmp/zhang/model.csv" "$tmp/zhang/unknown.csv"
     # two image sizes in one file
-    sed '3a# image-size: 800x600' "$tmp/zhang/obs.csv" >"$tmp/zhang/sizes.csv"
-    expect_error "intrinsics mixed image sizes" 2 "sizes.csv:4:3: error: directive 'image-size' given twice" \
+    sed '4a# image-size: 800x600' "$tmp/zhang/obs.csv" >"$tmp/zhang/sizes.csv"
+    expect_error "intrinsics mixed image sizes" 2 "sizes.csv:5:3: error: directive 'image-size' given twice" \
         intrinsics --model "$tmp/zhang/model.csv" "$tmp/zhang/sizes.csv"
     # a model that is not planar
-    sed '7s/,0$/,0.25/' "$tmp/zhang/model.csv" >"$tmp/zhang/bent.csv"
-    expect_error "intrinsics non-planar model" 2 "bent.csv:7: error: point '4' has z = 6.35 mm" \
+    sed '8s/,0$/,0.25/' "$tmp/zhang/model.csv" >"$tmp/zhang/bent.csv"
+    expect_error "intrinsics non-planar model" 2 "bent.csv:8: error: point '4' has z = 6.35 mm" \
         intrinsics --model "$tmp/zhang/bent.csv" "$tmp/zhang/obs.csv"
     # two views: exit 3
     grep -v '^view[345],' "$tmp/zhang/obs.csv" >"$tmp/zhang/two.csv"
@@ -115,14 +100,14 @@ PY
         intrinsics --model "$tmp/zhang/model.csv" "$tmp/zhang/two.csv"
     # five fronto-parallel views (only moved and rolled): exit 3 with the advice
     awk 'BEGIN { srand(7); print "# pixel-origin: top-left-pixel-centre"; print "# image-size: 640x480"; print "station,point,u,v" }
-         FNR > 2 { split($0, f, ","); p[f[1]] = f[2] " " f[3] }
+         FNR > 3 { split($0, f, ","); p[f[1]] = f[2] " " f[3] }
          END { for (v = 0; v < 5; v++) { th = 0.3 * v; z = 12 + v
                  for (id in p) { split(p[id], xy, " "); x = xy[1] * cos(th) - xy[2] * sin(th) - 3; y = xy[1] * sin(th) + xy[2] * cos(th) + 3
                    printf "f%d,%s,%.4f,%.4f\n", v, id, 320 + 830 * x / z + 0.1 * (rand() - 0.5), 240 + 830 * y / z + 0.1 * (rand() - 0.5) } } }' \
         "$tmp/zhang/model.csv" >"$tmp/zhang/flat.csv"
     expect_error "intrinsics parallel views" 3 "error: .*tilt the board 20-45 degrees about both image axes" \
         intrinsics --model "$tmp/zhang/model.csv" "$tmp/zhang/flat.csv"
-    expect_error "intrinsics no pixel-origin" 2 "noorigin.csv:3: error: no pixel-origin" \
+    expect_error "intrinsics no pixel-origin" 2 "noorigin.csv:4: error: no pixel-origin" \
         intrinsics --model "$tmp/zhang/model.csv" "$(grep -v pixel-origin "$tmp/zhang/obs.csv" | mk noorigin.csv)"
 fi
 expect_error "intrinsics both targets" 2 "exactly one of --board FILE and --model FILE" intrinsics --board a --model b o.csv
@@ -130,3 +115,18 @@ expect_error "intrinsics no target" 2 "exactly one of --board FILE and --model F
 expect_error "intrinsics bad distortion" 2 "--distortion 'radial4': expected none, radial2, radial3 or full" \
     intrinsics --distortion radial4 --model m.csv o.csv
 "$TRAM" help intrinsics | grep -q 'usage: tram intrinsics' && ok || bad "help intrinsics"
+
+# Every command example of docs/camera.md (its sh blocks) runs, in order,
+# from the repository root (they convert Zhang's example into build/zhang).
+if [ -d "$zhang" ]; then
+    cam_docs="$tmp/docs-camera"
+    mkdir -p "$cam_docs/bin"
+    printf '#!/bin/sh\nexec "%s" "$@"\n' "$TRAM" >"$cam_docs/bin/tram"
+    chmod +x "$cam_docs/bin/tram"
+    awk '/^```sh$/ { on = 1; next } /^```/ { on = 0 } on' "$here/../../docs/camera.md" >"$cam_docs/examples.sh"
+    if [ -s "$cam_docs/examples.sh" ] && (cd "$here/../.." && PATH="$cam_docs/bin:$PATH" sh -e "$cam_docs/examples.sh" >/dev/null 2>"$cam_docs/err"); then
+        ok
+    else
+        bad "docs/camera.md examples"; cat "$cam_docs/err"
+    fi
+fi
