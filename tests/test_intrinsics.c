@@ -359,7 +359,7 @@ static void test_refusals(void **state)
         for (size_t i = 0; i < g.t.n; i++) {
             double X[3] = {g.xy[2 * i], g.xy[2 * i + 1], 0}, uv[2];
             assert_true(tram_camera_reproject(&c, &T, X, uv));
-            char sid[8];
+            char sid[16];
             snprintf(sid, sizeof sid, "f%d", k);
             assert_int_equal(tram_pixel_obs_add(o, sid, g.ids[i], uv[0] + 0.1 * test_rng_normal(&rng),
                                                 uv[1] + 0.1 * test_rng_normal(&rng), &err), TRAM_OK);

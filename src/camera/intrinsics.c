@@ -460,9 +460,12 @@ static tram_status coverage(const tram_pixel_obs *obs, const work *w, double *ou
 }
 
 /* Per-view RMS, tilt, and the warnings. */
-static void views_and_warnings(const tram_pixel_obs *obs, const work *w, tram_intrinsics_result *r)
+static tram_status views_and_warnings(const tram_pixel_obs *obs, const work *w,
+                                      tram_intrinsics_result *r)
 {
     size_t nv = w->b.nviews;
+    double *ss = tram__calloc(nv, sizeof *ss);
+    if (!ss) return TRAM_ENOMEM;
     for (size_t k = 0; k < nv; k++) {
         tram_intrinsics_view *v = &r->views[k];
         snprintf(v->id, sizeof v->id, "%s", obs->station_id[k]);
@@ -475,7 +478,6 @@ static void views_and_warnings(const tram_pixel_obs *obs, const work *w, tram_in
         r->max_tilt_x_deg = fmax(r->max_tilt_x_deg, fabs(v->tilt_x_deg));
         r->max_tilt_y_deg = fmax(r->max_tilt_y_deg, fabs(v->tilt_y_deg));
     }
-    double *ss = tram__calloc(nv, sizeof *ss);
     size_t nout = 0;
     for (size_t i = 0; i < w->b.nobs; i++) {
         tram_intrinsics_view *v = &r->views[w->view[i]];
@@ -483,13 +485,13 @@ static void views_and_warnings(const tram_pixel_obs *obs, const work *w, tram_in
         if (r->outlier[i]) {
             v->noutliers++;
             nout++;
-        } else if (ss) {
+        } else {
             ss[w->view[i]] += w->e[i] * w->e[i];
         }
     }
     for (size_t k = 0; k < nv; k++) {
         size_t m = r->views[k].nobs - r->views[k].noutliers;
-        r->views[k].rms_px = ss && m ? sqrt(ss[k] / (double)m) : NAN;
+        r->views[k].rms_px = m ? sqrt(ss[k] / (double)m) : NAN;
     }
     tram__free(ss);
     if (r->coverage < 0.5) r->warnings |= TRAM_INTRINSICS_WARN_COVERAGE;
@@ -497,6 +499,7 @@ static void views_and_warnings(const tram_pixel_obs *obs, const work *w, tram_in
     if (r->max_tilt_x_deg < 15.0 || r->max_tilt_y_deg < 15.0) r->warnings |= TRAM_INTRINSICS_WARN_TILT;
     if ((double)nout > 0.05 * (double)w->b.nobs) r->warnings |= TRAM_INTRINSICS_WARN_OUTLIERS;
     r->calib.noutliers = nout;
+    return TRAM_OK;
 }
 
 static tram_status check_inputs(const tram_pixel_obs *obs, const tram_planar_target *tg,
@@ -607,9 +610,9 @@ tram_status tram_intrinsics_calibrate(const tram_pixel_obs *obs, const tram_plan
                  "Zhang 2000 closed form, Levenberg-Marquardt, %s loss", opt.robust ? "Huber" : "squared");
         r->calib.nviews = w.b.nviews;
         r->calib.npoints = w.b.nobs;
-        views_and_warnings(obs, &w, r);
+        if (views_and_warnings(obs, &w, r) != TRAM_OK) st = tram__fail(err, TRAM_ENOMEM, "", 0, 0, "out of memory");
         r->calib.rms_px = r->rms_px;
-        st = focal_fixed(r, &opt, err);
+        if (st == TRAM_OK) st = focal_fixed(r, &opt, err);
     }
     if (st == TRAM_OK) {
         r->covariance = w.cov;
