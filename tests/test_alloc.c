@@ -69,6 +69,12 @@ static struct {
     tram_calibration *cal;
     tram_check_result *check;
     tram_chain *chain;
+    char *pixels, *camera;
+    size_t pixels_len, camera_len;
+    tram_pixel_obs *views;          /* 4 views of a 7 x 6 grid (invented) */
+    char grid_ids[42][8];
+    const char *grid_idp[42];
+    double grid_xy[84];
 } in;
 
 typedef tram_status (*op_fn)(tram_error *err);
@@ -289,6 +295,31 @@ static tram_status op_board(tram_error *err)
     return st;
 }
 
+static tram_status op_pixels(tram_error *err)
+{
+    tram_pixel_obs *o = NULL, *b = NULL;
+    char *text = NULL;
+    tram_status st = tram_pixel_obs_read_buffer("pixels.csv", in.pixels, in.pixels_len, &o, err);
+    if (st == TRAM_OK) st = tram_pixel_obs_write(o, &text, err);
+    if (st == TRAM_OK) st = tram_pixel_obs_read_buffer("back.csv", text, strlen(text), &b, err);
+    if (st == TRAM_OK) st = tram_pixel_obs_add(b, "new", "p", 1.0, 2.0, err);
+    free(text);
+    tram_pixel_obs_destroy(o);
+    tram_pixel_obs_destroy(b);
+    return st;
+}
+
+static tram_status op_camera(tram_error *err)
+{
+    tram_camera c;
+    tram_camera_calib cal;
+    char *text = NULL;
+    tram_status st = tram_camera_read_buffer("camera.json", in.camera, in.camera_len, &c, &cal, err);
+    if (st == TRAM_OK) st = tram_camera_to_json(&c, &cal, &text, err);
+    free(text);
+    return st;
+}
+
 /* A test render of a 5 x 4 board (tools/render/), made before any failure
  * is injected: the detector's allocations are the ones made to fail. */
 static tram_grey_image *detect_im;
@@ -327,6 +358,28 @@ static tram_status op_detect(tram_error *err)
     return st;
 }
 
+static tram_status op_intrinsics(tram_error *err)
+{
+    tram_planar_target t = {42, in.grid_idp, in.grid_xy};
+    tram_intrinsics_options o;
+    tram_intrinsics_options_init(&o);
+    o.distortion = TRAM_DISTORTION_FULL;
+    tram_intrinsics_result *r = NULL;
+    tram_status st = tram_intrinsics_calibrate(in.views, &t, &o, &r, err);
+    tram_image *img = NULL;
+    if (st == TRAM_OK) {
+        tram_plot_reprojection_data d = {640, 480, in.views->n, in.views->uv, r->residual_px, r->outlier,
+                                         r->rms_px, NULL};
+        st = tram_plot_reprojection(&d, &img, err);
+        tram_image_destroy(img);
+        img = NULL;
+    }
+    if (st == TRAM_OK) st = tram_plot_distortion(&r->camera, NULL, &img, err);
+    tram_image_destroy(img);
+    tram_intrinsics_result_destroy(r);
+    return st;
+}
+
 static int setup(void **state)
 {
     (void)state;
@@ -344,6 +397,37 @@ static int setup(void **state)
     in.png = slurp("fuzz/corpus/image/rgb8_interlaced.png", &in.png_len);
     in.jpeg = slurp("fuzz/corpus/image/progressive.jpg", &in.jpeg_len);
     in.board = slurp("fuzz/corpus/board/written.json", &in.board_len);
+    in.pixels = slurp("fuzz/corpus/pixels/two_views.csv", &in.pixels_len);
+    in.camera = slurp("fuzz/corpus/camera/radial2_calibrated.json", &in.camera_len);
+    {
+        /* 4 tilted views of a 7 x 6 grid of 20 mm through a known camera */
+        tram_camera c = {800, 805, 322, 241, 0, -0.1, 0.02, 0, 0, 0, TRAM_DISTORTION_RADIAL2, 640, 480};
+        if (tram_pixel_obs_create(640, 480, NULL, &in.views, &e) != TRAM_OK) fail_msg("%s", e.message);
+        for (int i = 0; i < 42; i++) {
+            snprintf(in.grid_ids[i], sizeof in.grid_ids[i], "%d", i);
+            in.grid_idp[i] = in.grid_ids[i];
+            in.grid_xy[2 * i] = 20.0 * (i % 7) - 60;
+            in.grid_xy[2 * i + 1] = 20.0 * (i / 7) - 50;
+        }
+        for (int k = 0; k < 4; k++) {
+            double w[3] = {k % 2 ? 0.5 : -0.4, k < 2 ? 0.45 : -0.5, 0.1 * k}, t[3] = {0, 0, 500.0 + 20 * k};
+            tram_mat3 R;
+            tram_se3 T;
+            tram_so3_exp(w, &R);
+            tram_se3_from_rt(&R, t, &T);
+            for (int i = 0; i < 42; i++) {
+                double X[3] = {in.grid_xy[2 * i], in.grid_xy[2 * i + 1], 0}, uv[2];
+                char sid[8];
+                snprintf(sid, sizeof sid, "v%d", k);
+                tram_camera_reproject(&c, &T, X, uv);
+                /* a fixed small pattern of errors, so the fit has a residual */
+                uv[0] += 0.05 * sin(1.7 * i + k);
+                uv[1] += 0.05 * cos(2.3 * i - k);
+                if (tram_pixel_obs_add(in.views, sid, in.grid_ids[i], uv[0], uv[1], &e) != TRAM_OK)
+                    fail_msg("%s", e.message);
+            }
+        }
+    }
     size_t jl;
     char *joints = slurp("datasets/demo/wrist_camera_joints.csv", &jl);
     static const char fixed[] =
@@ -381,6 +465,9 @@ static int teardown(void **state)
     free(in.png);
     free(in.jpeg);
     free(in.board);
+    free(in.pixels);
+    free(in.camera);
+    tram_pixel_obs_destroy(in.views);
     free(in.cal_text);
     tram_records_destroy(in.rec);
     tram_records_destroy(in.recheck_rec);
@@ -404,6 +491,8 @@ static void test_readers(void **state)
     exhaust("check history", op_history);
     exhaust("PNG and JPEG images", op_images);
     exhaust("board file + JSON", op_board);
+    exhaust("pixel observations write + read", op_pixels);
+    exhaust("camera file read + write", op_camera);
 }
 
 static void test_writers_and_solvers(void **state)
@@ -417,6 +506,7 @@ static void test_writers_and_solvers(void **state)
     exhaust("chessboard detection", op_detect);
     render_image_destroy(detect_im);
     detect_im = NULL;
+    exhaust("intrinsics + pictures", op_intrinsics);
 }
 
 int main(void)

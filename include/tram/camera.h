@@ -21,6 +21,8 @@
 #define TRAM_CAMERA_H
 
 #include "tram/common.h"
+#include "tram/pixels.h"
+#include "tram/se3.h"
 
 #ifdef __cplusplus
 extern "C" {
@@ -116,6 +118,103 @@ TRAM_API tram_status tram_camera_read_buffer(const char *name, const char *data,
  * free().  TRAM_EINPUT for a camera that the reader would refuse. */
 TRAM_API tram_status tram_camera_to_json(const tram_camera *cam, const tram_camera_calib *calib,
                                          char **text, tram_error *err);
+
+/* ---- Intrinsic calibration from a planar target (docs/camera.md) -------
+ *
+ * Zhang (2000), "A flexible new technique for camera calibration", IEEE
+ * PAMI 22(11): a homography per view by the normalised DLT (Hartley 1997),
+ * the closed form for the intrinsic matrix from the homographies, each
+ * view's pose from its homography, then Levenberg-Marquardt (Marquardt
+ * 1963) over the intrinsics, the distortion and every view's pose, with a
+ * Huber loss (Huber 1964) and a per-point outlier flag. */
+
+/* The planar target: n points with ids (matching the pixel file's point
+ * column) at (x, y, 0) in the target frame.  Lengths in any one unit; the
+ * poses of the result are in the same unit. */
+typedef struct tram_planar_target {
+    size_t n;
+    const char *const *id;    /* n ids                                       */
+    const double *xy;         /* 2n coordinates, target frame, z = 0          */
+} tram_planar_target;
+
+typedef struct tram_intrinsics_options {
+    tram_distortion distortion;   /* coefficients to estimate (default radial2) */
+    int free_skew;                /* 1: estimate the skew; 0: hold it at 0      */
+    int robust;                   /* 1: Huber loss (default); 0: squared loss   */
+    double huber_k;               /* Huber threshold in robust sigmas (5)      */
+    double outlier_k;             /* outlier flag threshold in robust sigmas (8) */
+    int max_iterations;           /* of Levenberg-Marquardt (200)              */
+    double max_relative_sigma_f;  /* 1-sigma of fx or fy above this fraction of
+                                     it: the views cannot fix the focal length
+                                     (TRAM_EUNDETERMINED; default 0.01)        */
+} tram_intrinsics_options;
+
+TRAM_API void tram_intrinsics_options_init(tram_intrinsics_options *opt);
+
+/* Warnings of a calibration (bit flags). */
+enum {
+    TRAM_INTRINSICS_WARN_COVERAGE = 1,  /* the boards cover under half the image    */
+    TRAM_INTRINSICS_WARN_RMS = 2,       /* RMS reprojection error over 1 pixel      */
+    TRAM_INTRINSICS_WARN_TILT = 4,      /* no view tilted 15 degrees or more about
+                                           one of the image axes                    */
+    TRAM_INTRINSICS_WARN_OUTLIERS = 8   /* more than 5% of the points flagged       */
+};
+
+typedef struct tram_intrinsics_view {
+    char id[TRAM_PIXEL_STATION_ID_MAX];
+    size_t nobs, noutliers;
+    double rms_px;                 /* RMS reprojection error of the inliers        */
+    tram_se3 T_sensor_target;      /* the target's pose in the sensor frame        */
+    double sigma_rot_deg[3];       /* 1-sigma of the rotation (left perturbation
+                                      about the sensor's x, y, z axes), degrees  */
+    double sigma_t[3];             /* 1-sigma of the translation, target units   */
+    double tilt_x_deg, tilt_y_deg; /* the target normal's tilt about the image x
+                                      and y axes (signed), degrees               */
+} tram_intrinsics_view;
+
+typedef struct tram_intrinsics_result {
+    tram_camera camera;            /* the optimum                                 */
+    tram_camera_calib calib;       /* sigmas, RMS, counts                          */
+    tram_camera initial;           /* Zhang's closed form (no distortion)          */
+    size_t nviews;
+    tram_intrinsics_view *views;   /* nviews, in order of first appearance         */
+    size_t nobs;                   /* = obs->n, in the order of the pixel file     */
+    size_t *obs_view;              /* nobs: the view of each observation           */
+    double *residual_px;           /* 2 nobs: observed minus projected (u, v)      */
+    int *outlier;                  /* nobs flags                                   */
+    double rms_px;                 /* RMS of the inliers' residual lengths         */
+    double noise_px;               /* robust sigma per axis: median residual
+                                      length / sqrt(2 ln 2)                       */
+    double huber_px;               /* the Huber threshold used (0: squared loss)   */
+    double outlier_px;             /* the outlier threshold on residual length     */
+    double coverage;               /* fraction of the image inside a view's board  */
+    double max_tilt_x_deg, max_tilt_y_deg;
+    int iterations;
+    unsigned warnings;             /* TRAM_INTRINSICS_WARN_* */
+    size_t nparam;
+    double *covariance;            /* nparam^2, row-major: the free intrinsic
+                                      parameters in the order of TRAM_CAM_*, then
+                                      per view (rotation 3, translation 3)        */
+} tram_intrinsics_result;
+
+/* Calibrate from the pixel observations of a planar target.  Every
+ * station of obs is one view; every observation's point id must be a
+ * target id (else TRAM_EINPUT naming obs's file:line).  TRAM_EUNDETERMINED
+ * (with the reason and what to add) for fewer than 3 views, a view with
+ * under 6 points or points on a line, a closed form that is not positive
+ * definite, or views that cannot fix the focal length.  The result is
+ * freed by tram_intrinsics_result_destroy (NULL is a no-op). */
+TRAM_API tram_status tram_intrinsics_calibrate(const tram_pixel_obs *obs,
+                                               const tram_planar_target *target,
+                                               const tram_intrinsics_options *opt,
+                                               tram_intrinsics_result **out, tram_error *err);
+TRAM_API void tram_intrinsics_result_destroy(tram_intrinsics_result *r);
+
+/* The pixel of the target point xyz_target (target frame) when the
+ * target is at T_sensor_target.  Returns 0, uv untouched, when the point
+ * is behind the camera. */
+TRAM_API int tram_camera_reproject(const tram_camera *c, const tram_se3 *T_sensor_target,
+                                   const double xyz_target[3], double uv[2]);
 
 #ifdef __cplusplus
 }

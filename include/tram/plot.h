@@ -10,6 +10,7 @@
 #ifndef TRAM_PLOT_H
 #define TRAM_PLOT_H
 
+#include "tram/camera.h"
 #include "tram/image.h"
 #include "tram/records.h"
 #include "tram/se3.h"
@@ -153,6 +154,36 @@ typedef struct tram_plot_coverage_data {
 
 TRAM_API tram_status tram_plot_coverage(const tram_plot_coverage_data *d, tram_image **out,
                                         tram_error *err);
+
+/* ---- camera calibration (src/plot/camera_plot.c, docs/camera.md) ---- */
+
+/* Reprojection residuals of one view (or of all views together) over the
+ * image frame width x height: a dot at every observed corner and an arrow
+ * from it along the residual (observed minus projected) magnified by a
+ * round factor chosen so that the largest residual spans about a tenth of
+ * the frame; the factor is printed with a 1-pixel key arrow.  Outliers are
+ * vermillion, inliers blue.  Long sides are drawn at 640 .. 1600 picture
+ * pixels. */
+typedef struct tram_plot_reprojection_data {
+    size_t width, height;         /* image size, pixels                      */
+    size_t n;
+    const double *uv;             /* 2n observed pixels                       */
+    const double *residual_px;    /* 2n residuals, observed minus projected   */
+    const int *outlier;           /* n flags, or NULL                         */
+    double rms_px;                /* printed in the footer (NaN: not printed) */
+    const char *title;
+} tram_plot_reprojection_data;
+
+TRAM_API tram_status tram_plot_reprojection(const tram_plot_reprojection_data *d,
+                                            tram_image **out, tram_error *err);
+
+/* The camera's distortion field: on a grid over the image, an arrow from
+ * where the pinhole alone would put a ray's pixel to where the distortion
+ * puts it (magnified by a printed round factor), over a shading of the
+ * displacement's length in bands of a round step in pixels (the band
+ * edges are its contours). */
+TRAM_API tram_status tram_plot_distortion(const tram_camera *c, const char *title,
+                                          tram_image **out, tram_error *err);
 
 /* Release cairo's and fontconfig's static data (for leak checkers at exit). */
 TRAM_API void tram_plot_shutdown(void);

@@ -10,6 +10,7 @@
 #include <math.h>
 #include <string.h>
 
+#include "camera/camera_internal.h"
 #include "tram/camera.h"
 
 static const char *const distortion_names[] = {"none", "radial2", "radial3", "full"};
@@ -49,7 +50,7 @@ int tram_camera_project(const tram_camera *c, const double p[3], double uv[2])
 }
 
 /* Jacobian of the distortion at (x, y): J = d(xd, yd) / d(x, y). */
-static void distort_jacobian(const tram_camera *c, double x, double y, double J[4])
+void tram__camera_distort_jacobian(const tram_camera *c, double x, double y, double J[4])
 {
     double r2 = x * x + y * y;
     double radial = 1.0 + r2 * (c->k1 + r2 * (c->k2 + r2 * c->k3));
@@ -75,7 +76,7 @@ int tram_camera_unproject(const tram_camera *c, const double uv[2], double xy[2]
             xy[1] = y;
             return 1;
         }
-        distort_jacobian(c, x, y, J);
+        tram__camera_distort_jacobian(c, x, y, J);
         double det = J[0] * J[3] - J[1] * J[2];
         if (!(fabs(det) > 1e-300)) break;
         x -= (J[3] * ex - J[1] * ey) / det;
@@ -84,4 +85,11 @@ int tram_camera_unproject(const tram_camera *c, const double uv[2], double xy[2]
     xy[0] = x;
     xy[1] = y;
     return 0;
+}
+
+int tram_camera_reproject(const tram_camera *c, const tram_se3 *T, const double X[3], double uv[2])
+{
+    double p[3];
+    tram_se3_apply_point(T, X, p);
+    return tram_camera_project(c, p, uv);
 }

@@ -34,6 +34,7 @@ int cli_check(int argc, char **argv);
 int cli_fk(int argc, char **argv);
 int cli_register(int argc, char **argv);
 int cli_plot(int argc, char **argv);
+int cli_intrinsics(int argc, char **argv);
 int cli_board(int argc, char **argv);
 int cli_detect(int argc, char **argv);
 /* The standard pictures of a solve into DIR (frames.png, residuals.png). */
@@ -44,6 +45,7 @@ extern const char cli_check_help[];
 extern const char cli_fk_help[];
 extern const char cli_register_help[];
 extern const char cli_plot_help[];
+extern const char cli_intrinsics_help[];
 extern const char cli_board_help[];
 extern const char cli_detect_help[];
 

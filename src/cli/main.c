@@ -26,6 +26,8 @@ static const cli_command commands[] = {
     {"detect", cli_detect, "find a chessboard's corners in images; write pixel observations",
      cli_detect_help},
     {"fk", cli_fk, "flange poses from joint readings and a kinematic chain", cli_fk_help},
+    {"intrinsics", cli_intrinsics, "camera intrinsics and lens distortion from views of a planar target",
+     cli_intrinsics_help},
     {"help", cli_help, "show help for a subcommand", "usage: tram help SUBCOMMAND\n"},
 };
 #define NCOMMANDS (sizeof commands / sizeof commands[0])
@@ -38,7 +40,7 @@ static void usage(FILE *f)
             "tram finds where a sensor sits on or around a robot and checks whether it moved.\n\n"
             "subcommands:\n");
     for (size_t i = 0; i < NCOMMANDS; i++)
-        fprintf(f, "  %-9s %s\n", commands[i].name, commands[i].summary);
+        fprintf(f, "  %-10s %s\n", commands[i].name, commands[i].summary);
     fprintf(f,
             "\nexit status: 0 success, 1 check verdict other than ok, 2 usage or input error,\n"
             "3 the data cannot determine a trustworthy answer.\n"

@@ -41,4 +41,9 @@ tram_status tram__spd_inverse(int n, const double *A, double *out);
  * positive definite. */
 tram_status tram__spd_solve(int n, const double *A, const double *b, double *x);
 
+/* The same for any n, without copies: A is overwritten by its Cholesky
+ * factor and bx (b on entry) by x.  For the dense normal equations of
+ * bundle problems (camera/intrinsics_lm.c). */
+tram_status tram__spd_solve_overwrite(int n, double *A, double *bx);
+
 #endif
