@@ -20,5 +20,6 @@
 #include "tram/solve.h"
 #include "tram/image.h"
 #include "tram/camera.h"
+#include "tram/pose.h"
 
 #endif
