@@ -57,6 +57,66 @@ TRAM_API int tram_camera_project(const tram_camera *c, const double p_sensor[3],
  * 0 when it did not reach 1e-12 in 50 steps). */
 TRAM_API int tram_camera_unproject(const tram_camera *c, const double uv[2], double xy[2]);
 
+
+/* ---- Camera files (docs/camera.md) -------------------------------------
+ *
+ * JSON, format "tram-camera", version 1:
+ *   {"format": "tram-camera", "version": 1,
+ *    "pixel_origin": "top-left-pixel-centre",
+ *    "image_size": {"width": W, "height": H},
+ *    "intrinsics": {"fx": .., "fy": .., "cx": .., "cy": .., "skew": ..},
+ *    "distortion": {"model": "radial2", "k1": .., "k2": ..},
+ *    "calibration": {...}}                      (optional; see below)
+ * The distortion object holds exactly the coefficients of its model
+ * (none: none; radial2: k1 k2; radial3: k1 k2 k3; full: k1 k2 k3 p1 p2).
+ * "calibration", written when the camera came from tram intrinsics, holds
+ * the method, the number of views, points and outliers, the RMS
+ * reprojection error in pixels, and "sigma": the 1-sigma of every free
+ * parameter by name, with "fixed" listing the parameters held fixed. */
+
+/* Parameter indices, in the order of tram_camera_param_name. */
+enum {
+    TRAM_CAM_FX = 0, TRAM_CAM_FY, TRAM_CAM_CX, TRAM_CAM_CY, TRAM_CAM_SKEW,
+    TRAM_CAM_K1, TRAM_CAM_K2, TRAM_CAM_K3, TRAM_CAM_P1, TRAM_CAM_P2,
+    TRAM_CAM_NPARAM
+};
+/* "fx", "fy", "cx", "cy", "skew", "k1", "k2", "k3", "p1", "p2"; "?" otherwise. */
+TRAM_API const char *tram_camera_param_name(int param);
+/* The value of parameter `param` of c (NaN for an unknown index). */
+TRAM_API double tram_camera_param(const tram_camera *c, int param);
+/* 1 when the distortion model d has coefficient `param` (the five
+ * intrinsic parameters are in every model). */
+TRAM_API int tram_distortion_has(tram_distortion d, int param);
+
+/* How a camera was calibrated (all zero / NaN when it was not). */
+typedef struct tram_camera_calib {
+    int present;                     /* 1: the fields below are filled          */
+    char method[128];                /* e.g. "Zhang 2000 + Levenberg-Marquardt" */
+    size_t nviews, npoints, noutliers;
+    double rms_px;                   /* RMS reprojection error of the inliers   */
+    int free_param[TRAM_CAM_NPARAM]; /* 1: estimated; 0: held fixed            */
+    double sigma[TRAM_CAM_NPARAM];   /* 1-sigma of the free parameters (pixels for
+                                        fx..skew, unitless for k, p); 0 for fixed */
+} tram_camera_calib;
+
+/* Read a camera file ("-": standard input) or a buffer of len bytes.
+ * calib may be NULL; otherwise it is filled (present = 0 when the file has
+ * no calibration block).  Strict: an unknown or duplicate key, a missing
+ * key, a wrong format, version or pixel_origin, an unknown distortion
+ * model, a coefficient missing for the model or not of it, a non-positive
+ * focal length or image size, a non-finite number are TRAM_EINPUT naming
+ * file:line:column.  TRAM_EIO when the file cannot be read. */
+TRAM_API tram_status tram_camera_read_file(const char *path, tram_camera *cam,
+                                           tram_camera_calib *calib, tram_error *err);
+TRAM_API tram_status tram_camera_read_buffer(const char *name, const char *data, size_t len,
+                                             tram_camera *cam, tram_camera_calib *calib,
+                                             tram_error *err);
+/* The camera file's text (indented JSON, final newline; numbers exact to
+ * the last bit).  calib may be NULL.  *text is allocated; free it with
+ * free().  TRAM_EINPUT for a camera that the reader would refuse. */
+TRAM_API tram_status tram_camera_to_json(const tram_camera *cam, const tram_camera_calib *calib,
+                                         char **text, tram_error *err);
+
 #ifdef __cplusplus
 }
 #endif

@@ -21,5 +21,6 @@
 #include "tram/image.h"
 #include "tram/camera.h"
 #include "tram/pose.h"
+#include "tram/pixels.h"
 
 #endif

@@ -1,0 +1,40 @@
+/*
+ * json_pos_internal.h - where the members of a JSON document are in its
+ * text, and refusal of duplicate keys.  cJSON keeps neither the position
+ * of an item nor the second of two equal keys (it returns the first), so
+ * strict readers scan the text once more, after cJSON has accepted it, to
+ * name file:line:column in their messages.
+ *
+ * Paths: members as "a.b.c", array elements as "a[3]", the root as "".
+ */
+#ifndef TRAM_JSON_POS_INTERNAL_H
+#define TRAM_JSON_POS_INTERNAL_H
+
+#include "core/tram_internal.h"
+
+typedef struct tram__json_item {
+    char path[120];      /* "" for a path that did not fit */
+    size_t key_off;      /* offset of the key's opening quote (= val_off for elements) */
+    size_t val_off;      /* offset of the value's first character */
+} tram__json_item;
+
+typedef struct tram__json_pos {
+    const char *data;    /* the text (borrowed: must outlive this) */
+    size_t len, n, cap;
+    tram__json_item *item;
+} tram__json_pos;
+
+/* Scan data (a document cJSON has parsed).  TRAM_EINPUT naming
+ * name:line:column of the second key when an object holds a key twice;
+ * TRAM_ENOMEM.  Free with tram__json_pos_free. */
+tram_status tram__json_pos_scan(const char *name, const char *data, size_t len,
+                                tram__json_pos **out, tram_error *err);
+void tram__json_pos_free(tram__json_pos *p);
+
+/* Line and column (1-based) of the value at path, or of its key when
+ * key != 0.  When path is not there, the position of its nearest parent
+ * that is (the root at worst). */
+void tram__json_pos_where(const tram__json_pos *p, const char *path, int key, long *line,
+                          long *col);
+
+#endif
