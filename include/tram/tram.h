@@ -22,5 +22,6 @@
 #include "tram/camera.h"
 #include "tram/pose.h"
 #include "tram/pixels.h"
+#include "tram/pixel_solve.h"
 
 #endif

@@ -41,4 +41,8 @@ tram_status tram__spd_inverse(int n, const double *A, double *out);
  * positive definite. */
 tram_status tram__spd_solve(int n, const double *A, const double *b, double *x);
 
+/* As tram__spd_solve for any n (the solves of math/lm.c), factorising A in
+ * place: A is overwritten. */
+tram_status tram__spd_solve_inplace(int n, double *A, const double *b, double *x);
+
 #endif

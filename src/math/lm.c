@@ -5,7 +5,7 @@
  * (J^T J + lambda diag(J^T J)) dx = -J^T r; a step that lowers the cost is
  * taken and lambda divided by 10, a step that does not is refused and
  * lambda multiplied by 10.  The normal equations go through LAPACKE
- * (tram__spd_solve, dposv).  Stops when the relative decrease of the cost
+ * (tram__spd_solve_inplace, dposv).  Stops when the relative decrease of the cost
  * falls below 1e-15, the step below 1e-14 (parameter units), or no damping
  * gives a descent.
  */
@@ -89,7 +89,7 @@ tram_status tram__lm_run(const tram__lm_problem *pb, int max_iter, tram__lm_info
                 A[a * np + a] += lambda * (d > 1e-300 ? d : 1e-300);
                 mg[a] = -g[a];
             }
-            if (tram__spd_solve(np, A, mg, dx) != TRAM_OK) {
+            if (tram__spd_solve_inplace(np, A, mg, dx) != TRAM_OK) {
                 lambda *= 10;
                 continue;
             }

@@ -25,6 +25,7 @@
  */
 #include "solve/refine_internal.h"
 #include "solve/solve_internal.h"
+#include "solve/pixels_solve_internal.h"
 
 #include <math.h>
 #include <stdarg.h>
@@ -68,6 +69,7 @@ void tram_solution_destroy(tram_solution *s)
 {
     if (!s) return;
     tram__point_result_free(s->points);
+    tram__pixel_result_free(s->pixels);
     tram__free(s->stations);
     tram__free(s->diag);
     tram__free(s);
