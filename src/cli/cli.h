@@ -34,6 +34,7 @@ int cli_check(int argc, char **argv);
 int cli_fk(int argc, char **argv);
 int cli_register(int argc, char **argv);
 int cli_plot(int argc, char **argv);
+int cli_pose(int argc, char **argv);
 /* The standard pictures of a solve into DIR (frames.png, residuals.png). */
 int cli_plot_solution(const tram_records *r, const tram_solution *s, const char *dir, int force);
 extern const char cli_convert_help[];
@@ -42,6 +43,7 @@ extern const char cli_check_help[];
 extern const char cli_fk_help[];
 extern const char cli_register_help[];
 extern const char cli_plot_help[];
+extern const char cli_pose_help[];
 
 /* Read --chain FILE (if given) and turn the records' joint columns into
  * robot poses; returns CLI_EXIT_OK or prints the error and returns 2. */
@@ -64,6 +66,15 @@ int cli_usage_error(const char *cmd, const char *fmt, ...)
     ;
 /* Map a library status to an exit code. */
 int cli_exit_for(tram_status s);
+
+/* tram solve --pixels (cmd_solve_pixels.c). */
+typedef struct cli_pixel_args {
+    const char *pixels, *camera, *board, *model;
+    int refine_intrinsics;
+} cli_pixel_args;
+tram_status cli_solve_pixels(const tram_records *r, tram_setup setup, const cli_pixel_args *a,
+                             const tram_solve_options *so, tram_solution **s, tram_error *err);
+void cli_print_pixels(const tram_solution *s, const tram_records *r);
 
 /* The safety caution printed with every solved or checked result. */
 extern const char cli_safety_text[];

@@ -43,6 +43,10 @@ const char cli_solve_help[] =
     "                    in the sensor frame) instead of sensor_ pose columns\n"
     "  --model FILE      the target's points in its own frame (point,x,y,z); without it\n"
     "                    the points' positions are solved too (docs/points.md)\n"
+    "  --pixels FILE     the corners seen in each station's image (tram-pixels-1) instead\n"
+    "                    of sensor_ columns; with --camera FILE and --board FILE (or\n"
+    "                    --model FILE); refined on the reprojection error (docs/pixels.md)\n"
+    "  --refine-intrinsics   with --pixels: refine the camera's parameters too\n"
     "  --json            print the result as JSON (schema: docs/solve.md)\n"
     "  -o FILE           write the calibration file (JSON) atomically\n"
     "  --force           allow -o to replace an existing file\n"
@@ -221,6 +225,7 @@ static void print_summary(const tram_solution *s, const tram_records *r)
                            pr->model_xyz[3 * k + 1], pr->model_xyz[3 * k + 2]);
             }
         }
+        cli_print_pixels(s, r);
         printf("\nnoise per axis (%s): %.4g deg, %.4g %s\n",
                s->noise_given ? "given" : "estimated from the residuals", s->noise_angle_deg,
                s->noise_length, u);
@@ -265,6 +270,7 @@ int cli_solve(int argc, char **argv)
     const char *noise = NULL, *method = "auto", *pair_sel = NULL, *chain = NULL;
     const char *points = NULL, *model = NULL, *plot_dir = NULL;
     tram_pair *pair_list = NULL;
+    cli_pixel_args pix = {0};
     for (int i = 1; i < argc; i++) {
         if (cli_take(argc, argv, &i, "--setup", &v, &bad)) {
             if (bad) break;
@@ -292,6 +298,11 @@ int cli_solve(int argc, char **argv)
         } else if (cli_take(argc, argv, &i, "--plot", &plot_dir, &bad)) {
         } else if (cli_take(argc, argv, &i, "--points", &points, &bad)) {
         } else if (cli_take(argc, argv, &i, "--model", &model, &bad)) {
+        } else if (cli_take(argc, argv, &i, "--pixels", &pix.pixels, &bad)) {
+        } else if (cli_take(argc, argv, &i, "--camera", &pix.camera, &bad)) {
+        } else if (cli_take(argc, argv, &i, "--board", &pix.board, &bad)) {
+        } else if (cli_flag(argv, i, "--refine-intrinsics")) {
+            pix.refine_intrinsics = 1;
         } else if (cli_take(argc, argv, &i, "--bootstrap", &v, &bad)) {
             if (bad) break;
             char *end;
@@ -389,12 +400,20 @@ int cli_solve(int argc, char **argv)
     }
     if (isatty(STDERR_FILENO)) so.progress = progress;
     tram_solution *s = NULL;
-    if (model && !points) {
+    if (pix.pixels && (points || !pix.camera || !pix.board == !model))
+        return cli_usage_error("solve", "--pixels needs --camera FILE and one of --board FILE and "
+                                        "--model FILE (and no --points)");
+    if (!pix.pixels && (pix.camera || pix.board || pix.refine_intrinsics))
+        return cli_usage_error("solve", "--camera, --board and --refine-intrinsics go with --pixels");
+    pix.model = model;
+    if (model && !points && !pix.pixels) {
         tram_records_destroy(r);
         free(pair_list);
         return cli_usage_error("solve", "--model goes with --points");
     }
-    if (points) {
+    if (pix.pixels) {
+        st = cli_solve_pixels(r, setup, &pix, &so, &s, &err);
+    } else if (points) {
         tram_point_obs *obs = NULL;
         tram_point_model *mdl = NULL;
         st = tram_point_obs_read_file(points, r, &obs, &err);
