@@ -207,6 +207,7 @@ ref-tests: $(B)/refhelper $(B)/tram
 	$(PYTHON) tests/ref/check_stats_scipy.py $(B)/refhelper
 	$(PYTHON) tests/ref/check_chain_scipy.py $(B)/tram
 	$(PYTHON) tests/ref/check_register_scipy.py $(B)/tram
+	$(PYTHON) tests/ref/check_pixels_scipy.py $(B)/tram
 
 asan:
 	$(MAKE) B=build-asan OPT="-O1 -g -fno-omit-frame-pointer" \
