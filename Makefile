@@ -89,17 +89,32 @@ $(B)/libtram.so: $(LIB_OBJ)
 $(B)/tram: $(CLI_OBJ) $(B)/libtram.a
 	$(CC) $(EXTRA_LDFLAGS) -o $@ $(CLI_OBJ) $(B)/libtram.a $(PKG_LIBS)
 
-$(B)/tests/%: tests/%.c tests/test_util.h $(B)/libtram.a
+# The test renderer (tools/render/, not part of libtram) is linked into
+# every test, benchmark and tool that may use it.
+RENDER_OBJ := $(B)/obj/tools/render.o
+$(RENDER_OBJ): tools/render/render.c tools/render/render.h $(HEADERS)
 	@mkdir -p $(dir $@)
 	@echo "  CC      $<"
-	@$(CC) $(BASEFLAGS) $(OPT) $(EXTRA_CFLAGS) -Itests $(PKG_CFLAGS) $(TEST_CFLAGS) $< -o $@ \
-	  $(B)/libtram.a $(EXTRA_LDFLAGS) $(TEST_LIBS) $(PKG_LIBS)
+	@$(CC) $(BASEFLAGS) -Itools $(OPT) $(EXTRA_CFLAGS) $(PKG_CFLAGS) -c $< -o $@
+
+$(B)/tests/%: tests/%.c tests/test_util.h $(B)/libtram.a $(RENDER_OBJ)
+	@mkdir -p $(dir $@)
+	@echo "  CC      $<"
+	@$(CC) $(BASEFLAGS) $(OPT) $(EXTRA_CFLAGS) -Itests -Itools $(PKG_CFLAGS) $(TEST_CFLAGS) $< -o $@ \
+	  $(RENDER_OBJ) $(B)/libtram.a $(EXTRA_LDFLAGS) $(TEST_LIBS) $(PKG_LIBS)
 
 $(B)/refhelper: tests/ref/refhelper.c $(B)/libtram.a
 	@echo "  CC      $<"
 	@$(CC) $(BASEFLAGS) $(OPT) $(EXTRA_CFLAGS) $(PKG_CFLAGS) $< -o $@ $(B)/libtram.a $(EXTRA_LDFLAGS) $(PKG_LIBS)
 
-tools: $(B)/gen_demo
+$(B)/render_ref: tests/ref/render_ref.c $(RENDER_OBJ) $(B)/libtram.a
+	@echo "  CC      $<"
+	@$(CC) $(BASEFLAGS) -Itools $(OPT) $(EXTRA_CFLAGS) $(PKG_CFLAGS) $< -o $@ $(RENDER_OBJ) $(B)/libtram.a $(EXTRA_LDFLAGS) $(PKG_LIBS)
+
+tools: $(B)/gen_demo $(B)/gen_images
+$(B)/gen_images: tools/gen_images.c $(RENDER_OBJ) $(B)/libtram.a
+	@echo "  CC      $<"
+	@$(CC) $(BASEFLAGS) -Itools $(OPT) $(EXTRA_CFLAGS) $(PKG_CFLAGS) $< -o $@ $(RENDER_OBJ) $(B)/libtram.a $(EXTRA_LDFLAGS) $(PKG_LIBS)
 $(B)/gen_demo: tools/gen_demo.c $(B)/libtram.a
 	@echo "  CC      $<"
 	@$(CC) $(BASEFLAGS) $(OPT) $(EXTRA_CFLAGS) $(PKG_CFLAGS) $< -o $@ $(B)/libtram.a $(EXTRA_LDFLAGS) $(PKG_LIBS)
@@ -201,13 +216,14 @@ cli-tests: $(B)/tram $(B)/gen_demo
 	@TRAM=$(abspath $(B)/tram) GEN_DEMO=$(abspath $(B)/gen_demo) sh tests/cli/run.sh
 
 # Reference checks against SciPy / NumPy (Debian's python3-scipy).
-ref-tests: $(B)/refhelper $(B)/tram
+ref-tests: $(B)/refhelper $(B)/tram $(B)/render_ref
 	$(PYTHON) tests/ref/check_rotation_scipy.py $(B)/refhelper
 	$(PYTHON) tests/ref/check_solve_scipy.py $(B)/tram
 	$(PYTHON) tests/ref/check_stats_scipy.py $(B)/refhelper
 	$(PYTHON) tests/ref/check_chain_scipy.py $(B)/tram
 	$(PYTHON) tests/ref/check_register_scipy.py $(B)/tram
 	$(PYTHON) tests/ref/check_pixels_scipy.py $(B)/tram
+	$(PYTHON) tests/ref/check_render_numpy.py $(B)/render_ref
 
 asan:
 	$(MAKE) B=build-asan OPT="-O1 -g -fno-omit-frame-pointer" \
@@ -233,8 +249,8 @@ test:
 
 demo:
 	@$(MAKE) --no-print-directory deps
-	@$(MAKE) --no-print-directory all
-	@sh datasets/demo/run_demo.sh $(B)/tram
+	@$(MAKE) --no-print-directory all $(B)/gen_images
+	@GEN_IMAGES=$(B)/gen_images DEMO_IMAGES_OUT=$(B)/demo-images sh datasets/demo/run_demo.sh $(B)/tram
 
 install: all
 	install -d $(DESTDIR)$(PREFIX)/bin $(DESTDIR)$(PREFIX)/lib $(DESTDIR)$(PREFIX)/include/tram \

@@ -26,10 +26,28 @@ echo "=== 4. after a bumped bracket: tram check $here/wrist_bumped.csv (expected
 [ $? -eq 1 ] || status=1
 "$tram" plot history --force --tolerance 0.5mm,0.1deg -o "$out/wrist_camera_history.png" \
     "$out/wrist_camera.history.jsonl" 2>/dev/null || status=1
+# 5. The wrist camera's images at the same stations, rendered with known
+# truth (tools/gen_images.c, truth_images.json); make demo passes GEN_IMAGES.
+gen_images=${GEN_IMAGES:-}
+imgout=${DEMO_IMAGES_OUT:-build/demo-images}
+if [ -n "$gen_images" ] && [ -x "$gen_images" ]; then
+    echo
+    echo "=== 5. the wrist camera's images (rendered, invented scene): $imgout/"
+    mkdir -p "$imgout"
+    "$gen_images" "$here" "$imgout" >"$imgout/gen_images.log" || status=1
+    tail -n 1 "$imgout/gen_images.log"
+    if "$tram" help detect >/dev/null 2>&1; then
+        "$tram" board --corners 9x6 --square 25mm --page 420x297 --pdf "$imgout/board.pdf" \
+            -o "$imgout/board.json" --force || status=1
+        "$tram" detect --board "$imgout/board.json" --plot "$imgout/detect" --force \
+            -o "$imgout/wrist_camera.pixels.csv" "$imgout"/p*.png || status=1
+    fi
+fi
 echo
 echo "pictures: $out/wrist_camera/frames.png $out/wrist_camera/residuals.png"
 echo "          $out/overhead_camera/frames.png $out/overhead_camera/residuals.png"
 echo "          $out/wrist_camera_history.png"
+[ -n "$gen_images" ] && echo "images:   $imgout/p01.png ... (ground truth $imgout/truth.json)"
 echo "ground truth of the invented scenario: $here/truth.json, $here/truth_bump.json"
 echo "written: $out/wrist_camera.calibration.json $out/overhead_camera.calibration.json"
 echo "         $out/wrist_camera.history.jsonl"
