@@ -10,6 +10,7 @@
 #ifndef TRAM_PLOT_H
 #define TRAM_PLOT_H
 
+#include "tram/image.h"
 #include "tram/records.h"
 #include "tram/se3.h"
 
@@ -91,6 +92,67 @@ TRAM_API tram_status tram_plot_points(size_t n, const char *const *ids, const do
                                       const int *outlier, double threshold,
                                       tram_length_unit unit, const char *title, int width,
                                       int height, tram_image **out, tram_error *err);
+
+/* ---- printable boards (src/plot/board_print.c, docs/images.md) ------- */
+
+/* A paper size in millimetres (width across, height down the page). */
+typedef struct tram_plot_page {
+    double width_mm, height_mm;
+    int named;        /* 1: a4 or letter (either orientation may be used) */
+    char name[24];    /* "a4", "letter" or "WxH" as given                 */
+} tram_plot_page;
+
+/* Parse "a4" (ISO 216: 210 x 297 mm), "letter" (8.5 x 11 in) or "WxH" in
+ * millimetres (e.g. "420x297", each side 50 to 2000 mm). */
+TRAM_API tram_status tram_plot_page_parse(const char *s, tram_plot_page *out, tram_error *err);
+
+/* The board as a one-page PDF at true scale: 1 PDF unit = 1 pt = 1/72 in,
+ * each square exactly b->square in b->unit.  The pattern is centred with
+ * a white margin of at least one square; below it the board's numbers,
+ * "print at 100% / actual size", and a 100 mm scale bar with millimetre
+ * ticks to check the print with a ruler.  A named page is turned to
+ * landscape when the pattern fits only that way.  A board that does not
+ * fit is TRAM_EINPUT with the needed and available sizes in mm.  The file
+ * is rendered in memory and written atomically (an existing path is
+ * refused unless overwrite). */
+TRAM_API tram_status tram_plot_board_write_pdf(const tram_board *b, const tram_plot_page *page,
+                                               const char *path, int overwrite, tram_error *err);
+/* Whether the board fits the page as tram_plot_board_write_pdf lays it
+ * out (the same refusal, nothing drawn). */
+TRAM_API tram_status tram_plot_board_check_page(const tram_board *b, const tram_plot_page *page,
+                                                tram_error *err);
+/* The same page as an 8-bit grey PNG at dpi pixels per inch (50 to 2400;
+ * its pHYs chunk records the resolution), at most TRAM_IMAGE_MAX_PIXELS
+ * pixels. */
+TRAM_API tram_status tram_plot_board_write_png(const tram_board *b, const tram_plot_page *page,
+                                               double dpi, const char *path, int overwrite,
+                                               tram_error *err);
+
+/* ---- detected corners (src/plot/detect_plot.c, docs/images.md) ------ */
+
+/* One image with its detection: the image in grey, every corner found
+ * (blue) on the board's lattice, corner 0 ringed in orange, and the
+ * target frame's x (red) and y (green) directions as arrows from corner 0.
+ * Pixel (u, v) of the image (centre of the top-left pixel (0, 0)) is drawn
+ * at the centre of its square.  Long sides over 1600 pixels are scaled
+ * down, under 640 up.  title: a line above the image (NULL: none). */
+TRAM_API tram_status tram_plot_detection(const tram_grey_image *im, const tram_board *b,
+                                         const tram_detection *d, const char *title,
+                                         tram_image **out, tram_error *err);
+
+/* Coverage of the image frame: every corner of every board found (one
+ * colour per image) over the frame width x height, each board's outline,
+ * and an 8 x 6 grid with the cells that hold a corner shaded. */
+typedef struct tram_plot_coverage_data {
+    size_t width, height;                 /* image size, pixels             */
+    size_t n;                             /* detections                     */
+    const tram_detection *const *det;     /* n detections; found ones drawn */
+    const tram_board *board;              /* for the outlines (NULL: none)  */
+    const char *title;
+} tram_plot_coverage_data;
+
+TRAM_API tram_status tram_plot_coverage(const tram_plot_coverage_data *d, tram_image **out,
+                                        tram_error *err);
 
 /* Release cairo's and fontconfig's static data (for leak checkers at exit). */
 TRAM_API void tram_plot_shutdown(void);

@@ -23,6 +23,10 @@ static const cli_command commands[] = {
      cli_pose_help},
     {"plot", cli_plot, "pictures of frames, residuals, check histories and point residuals",
      cli_plot_help},
+    {"board", cli_board, "a chessboard's description file and the board to print (PDF, PNG)",
+     cli_board_help},
+    {"detect", cli_detect, "find a chessboard's corners in images; write pixel observations",
+     cli_detect_help},
     {"fk", cli_fk, "flange poses from joint readings and a kinematic chain", cli_fk_help},
     {"help", cli_help, "show help for a subcommand", "usage: tram help SUBCOMMAND\n"},
 };

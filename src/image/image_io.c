@@ -26,10 +26,10 @@
 #include "core/tram_internal.h"
 #include "io/records_internal.h"
 
+#include <stdio.h> /* before jpeglib.h, which needs FILE and size_t */
 #include <jpeglib.h>
 #include <png.h>
 #include <setjmp.h>
-#include <stdio.h>
 #include <string.h>
 
 #define W_R 0.299
