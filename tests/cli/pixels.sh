@@ -62,3 +62,16 @@ PY
 rc=$?
 [ $rc -eq 3 ] && grep -qi "axis" "$tmp/out" && ok || { bad "pixels: one-axis motion exit $rc"; cat "$tmp/err"; }
 expect_error "pixels without camera" 2 "needs --camera" solve --pixels "$px/pixels.csv" --board "$px/board.json" "$px/robot.csv"
+# Every command example of docs/pixels.md (its sh blocks) runs, in order, in
+# an empty directory that links the repository's tests/ for the example data.
+pdocs="$tmp/docs-pixels"
+mkdir -p "$pdocs/bin"
+printf '#!/bin/sh\nexec "%s" "$@"\n' "$TRAM" >"$pdocs/bin/tram"
+chmod +x "$pdocs/bin/tram"
+ln -s "$here/.." "$pdocs/tests"
+awk '/^```sh$/ { on = 1; next } /^```/ { on = 0 } on' "$here/../../docs/pixels.md" >"$pdocs/examples.sh"
+if [ -s "$pdocs/examples.sh" ] && (cd "$pdocs" && PATH="$pdocs/bin:$PATH" sh -e examples.sh >/dev/null 2>"$pdocs/err"); then
+    ok
+else
+    bad "docs/pixels.md examples"; cat "$pdocs/err"
+fi
