@@ -349,6 +349,12 @@ int cli_solve(int argc, char **argv)
         if (bad) return CLI_EXIT_USAGE;
     }
     if (bad) return CLI_EXIT_USAGE;
+    if (pix.pixels && (points || !pix.camera || !pix.board == !model))
+        return cli_usage_error("solve", "--pixels needs --camera FILE and one of --board FILE and "
+                                        "--model FILE (and no --points)");
+    if (!pix.pixels && (pix.camera || pix.board || pix.refine_intrinsics))
+        return cli_usage_error("solve", "--camera, --board and --refine-intrinsics go with --pixels");
+    pix.model = model;
     if (!file) return cli_usage_error("solve", "no record file (use '-' for stdin)");
     tram_records *r = NULL;
     tram_error err;
@@ -400,12 +406,6 @@ int cli_solve(int argc, char **argv)
     }
     if (isatty(STDERR_FILENO)) so.progress = progress;
     tram_solution *s = NULL;
-    if (pix.pixels && (points || !pix.camera || !pix.board == !model))
-        return cli_usage_error("solve", "--pixels needs --camera FILE and one of --board FILE and "
-                                        "--model FILE (and no --points)");
-    if (!pix.pixels && (pix.camera || pix.board || pix.refine_intrinsics))
-        return cli_usage_error("solve", "--camera, --board and --refine-intrinsics go with --pixels");
-    pix.model = model;
     if (model && !points && !pix.pixels) {
         tram_records_destroy(r);
         free(pair_list);
