@@ -281,19 +281,22 @@ static int finite_all(const double *v, size_t n)
 }
 
 /* Covariance s^2 (J^T J)^-1 at T. */
-static void pose_covariance(const tram_camera *cam, const double *xyz, const double *uv, size_t n,
-                            tram_pose_result *out)
+static tram_status pose_covariance(const tram_camera *cam, const double *xyz, const double *uv,
+                                   size_t n, tram_pose_result *out)
 {
     pose_ctx c = {cam, xyz, uv, NULL, n, out->T_sensor_target};
     tram__lm_problem pb = {6, 2 * n, pose_eval, pose_commit, &c};
     double H[36], g[6], r2, Hi[36];
     out->cov_valid = 0;
     out->sigma_px = NAN;
-    if (tram__lm_normal(&pb, H, g, &r2) != TRAM_OK) return;
+    tram_status st = tram__lm_normal(&pb, H, g, &r2);
+    if (st == TRAM_ENOMEM) return st;
+    if (st != TRAM_OK) return TRAM_OK;
     if (2 * n > 6) out->sigma_px = sqrt(r2 / (double)(2 * n - 6));
-    if (!(isfinite(out->sigma_px)) || tram__spd_inverse(6, H, Hi) != TRAM_OK) return;
+    if (!(isfinite(out->sigma_px)) || tram__spd_inverse(6, H, Hi) != TRAM_OK) return TRAM_OK;
     for (int k = 0; k < 36; k++) out->cov[k] = Hi[k] * out->sigma_px * out->sigma_px;
     out->cov_valid = 1;
+    return TRAM_OK;
 }
 
 tram_status tram_pose_from_pixels(const tram_camera *cam, const double *xyz, const double *uv,
@@ -395,7 +398,8 @@ tram_status tram_pose_from_pixels(const tram_camera *cam, const double *xyz, con
     }
     out->n = n;
     out->rms_px = sqrt(ss / (double)n);
-    pose_covariance(cam, xyz, uv, n, out);
+    if (pose_covariance(cam, xyz, uv, n, out) != TRAM_OK)
+        st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
 out:
     tram__free(xy);
     tram__free(res);

@@ -343,7 +343,7 @@ static void stats_of(const double *v, const int *skip, size_t n, double *scratch
 }
 
 /* Covariance of the pixel model into sol->unc (and the camera's sigmas). */
-static void pixel_covariance(pctx *c, work *wk, tram_solution *sol, tram_pixel_result *pr)
+static tram_status pixel_covariance(pctx *c, work *wk, tram_solution *sol, tram_pixel_result *pr)
 {
     int np = 12 + c->ncam;
     double H[TRAM__LM_MAX_PARAMS * TRAM__LM_MAX_PARAMS], g[TRAM__LM_MAX_PARAMS], r2;
@@ -354,17 +354,21 @@ static void pixel_covariance(pctx *c, work *wk, tram_solution *sol, tram_pixel_r
     sol->unc.valid = 0;
     sol->unc.bootstrap_valid = 0; /* a bootstrap of the pose path would not describe this fit */
     pr->sigma_px = NAN;
-    if (c->nused == 0 || tram__lm_normal(&pb, H, g, &r2) != TRAM_OK) return;
+    if (c->nused == 0) return TRAM_OK;
+    tram_status st = tram__lm_normal(&pb, H, g, &r2);
+    if (st != TRAM_OK) return st == TRAM_ENOMEM ? st : TRAM_OK;
     double dof = 2.0 * (double)c->nused - (double)np;
-    if (!(dof > 0)) return;
+    if (!(dof > 0)) return TRAM_OK;
     double s2 = r2 / dof;
     pr->sigma_px = sqrt(s2);
     double C[TRAM__LM_MAX_PARAMS * TRAM__LM_MAX_PARAMS], ev[TRAM__LM_MAX_PARAMS];
     double V[TRAM__LM_MAX_PARAMS * TRAM__LM_MAX_PARAMS];
     for (int a = 0; a < np; a++)
         for (int b = 0; b < np; b++) C[a * np + b] = H[a * np + b] / sqrt(H[a * np + a] * H[b * np + b]);
-    sol->condition = tram__symeig(np, C, ev, V) == TRAM_OK && ev[0] > 0 ? sqrt(ev[np - 1] / ev[0]) : INFINITY;
-    if (tram__spd_inverse(np, H, Hi) != TRAM_OK) return;
+    st = tram__symeig(np, C, ev, V);
+    if (st == TRAM_ENOMEM) return st;
+    sol->condition = st == TRAM_OK && ev[0] > 0 ? sqrt(ev[np - 1] / ev[0]) : INFINITY;
+    if (tram__spd_inverse(np, H, Hi) != TRAM_OK) return TRAM_OK;
     for (int a = 0; a < 12; a++) {
         double sd = sqrt(fmax(Hi[a * np + a] * s2, 0.0));
         sol->unc.sigma[a] = (a % 6) >= 3 ? sd * 180.0 / TRAM_PI : sd;
@@ -373,6 +377,7 @@ static void pixel_covariance(pctx *c, work *wk, tram_solution *sol, tram_pixel_r
     sol->unc.valid = 1;
     for (int k = 0; k < c->ncam; k++)
         pr->camera_sigma[c->cam_idx[k]] = sqrt(fmax(Hi[(12 + k) * np + 12 + k] * s2, 0.0));
+    return TRAM_OK;
 }
 
 /* Observed stations of r: each observation's station in r, or an error. */
@@ -686,7 +691,7 @@ tram_status tram_solve_pixels(const tram_records *r, tram_setup setup, const tra
             st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
             goto out;
         }
-        if (opt->refine) pixel_covariance(&c, &wk, sol, pr);
+        if (opt->refine && pixel_covariance(&c, &wk, sol, pr) != TRAM_OK) goto nomem;
         sol->refined = sol->refined || opt->refine;
         if (tram__diag_add(sol, "pixel-refinement", TRAM_SEVERITY_INFO,
                            "refined on the reprojection error of %zu corner(s) of %zu station(s): "
