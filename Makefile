@@ -232,6 +232,7 @@ ref-tests: $(B)/refhelper $(B)/tram $(B)/render_ref
 	$(PYTHON) tests/ref/check_stats_scipy.py $(B)/refhelper
 	$(PYTHON) tests/ref/check_chain_scipy.py $(B)/tram
 	$(PYTHON) tests/ref/check_register_scipy.py $(B)/tram
+	$(PYTHON) tests/ref/check_pixels_scipy.py $(B)/tram
 	$(PYTHON) tests/ref/check_render_numpy.py $(B)/render_ref
 	$(PYTHON) tests/ref/check_intrinsics_scipy.py $(B)/tram
 

@@ -480,6 +480,61 @@ static int teardown(void **state)
     return 0;
 }
 
+/* The solve from pixels on the command-line tests' scene (its inputs read
+ * before failures are injected: their readers are not under test here). */
+static struct {
+    tram_records *rec;
+    tram_pixel_obs *obs;
+    tram_camera cam;
+    double *xyz;
+} px;
+
+static tram_status op_pixel_solve(tram_error *err)
+{
+    tram_solve_options so;
+    tram_solve_options_init(&so);
+    so.check_conventions = 0;
+    tram_solution *s = NULL;
+    tram_pixel_solve_options po = {1};
+    tram_status st = tram_solve_pixels(px.rec, TRAM_SETUP_EYE_IN_HAND, &px.cam, px.obs, px.xyz, &so,
+                                       &po, &s, err);
+    char *text = NULL;
+    if (st == TRAM_OK) st = tram_solution_to_json(s, px.rec, "auto", 0, &text, err);
+    free(text);
+    tram_solution_destroy(s);
+    if (st == TRAM_OK) {
+        tram_pose_result pr;
+        st = tram_pose_from_pixels(&px.cam, px.xyz, px.obs->uv, 20, &pr, err);
+    }
+    return st;
+}
+
+static void test_pixels(void **state)
+{
+    (void)state;
+    tram_error e;
+    tram_board b;
+    fail_at = -1;
+    assert_int_equal(tram_records_read_file("tests/cli/data/pixels/robot.csv", NULL, &px.rec, &e), TRAM_OK);
+    assert_int_equal(tram_pixel_obs_read_file("tests/cli/data/pixels/pixels.csv", &px.obs, &e), TRAM_OK);
+    assert_int_equal(tram_camera_read_file("tests/cli/data/pixels/camera.json", &px.cam, NULL, &e), TRAM_OK);
+    assert_int_equal(tram_board_read_file("tests/cli/data/pixels/board.json", &b, &e), TRAM_OK);
+    /* a smaller set keeps the thousand runs short: 5 stations, corners 0..19 */
+    tram_pixel_obs *all = px.obs;
+    assert_int_equal(tram_pixel_obs_create(all->width, all->height, NULL, &px.obs, &e), TRAM_OK);
+    for (size_t i = 0; i < all->n; i++) {
+        const char *sid = all->station_id[all->station[i]], *pid = all->point_id[all->point[i]];
+        if (strcmp(sid, "s05") > 0 || atoi(pid) >= 20) continue;
+        assert_int_equal(tram_pixel_obs_add(px.obs, sid, pid, all->uv[2 * i], all->uv[2 * i + 1], &e), TRAM_OK);
+    }
+    tram_pixel_obs_destroy(all);
+    assert_int_equal(tram_pixel_target_from_board(px.obs, &b, TRAM_LENGTH_MM, &px.xyz, &e), TRAM_OK);
+    exhaust("solve from pixels (camera refined) + JSON + pose", op_pixel_solve);
+    tram_pixel_target_free(px.xyz);
+    tram_pixel_obs_destroy(px.obs);
+    tram_records_destroy(px.rec);
+}
+
 static void test_readers(void **state)
 {
     (void)state;
@@ -512,7 +567,8 @@ static void test_writers_and_solvers(void **state)
 int main(void)
 {
     const struct CMUnitTest tests[] = {cmocka_unit_test(test_readers),
-                                       cmocka_unit_test(test_writers_and_solvers)};
+                                       cmocka_unit_test(test_writers_and_solvers),
+                                       cmocka_unit_test(test_pixels)};
 
     return cmocka_run_group_tests(tests, setup, teardown);
 }

@@ -116,6 +116,7 @@ typedef struct tram_solution {
     size_t ndiag;
     tram_diagnostic *diag;
     struct tram_point_result *points; /* solves from observed points (tram/points.h) */
+    struct tram_pixel_result *pixels; /* solves from pixels (tram/pixel_solve.h) */
 } tram_solution;
 
 /* Solve.  `setup` must be set (from the records' directive or the caller).

@@ -21,6 +21,8 @@
 #include "tram/solve.h"
 #include "tram/image.h"
 #include "tram/camera.h"
+#include "tram/pose.h"
 #include "tram/pixels.h"
+#include "tram/pixel_solve.h"
 
 #endif

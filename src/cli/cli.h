@@ -35,6 +35,7 @@ int cli_fk(int argc, char **argv);
 int cli_register(int argc, char **argv);
 int cli_plot(int argc, char **argv);
 int cli_intrinsics(int argc, char **argv);
+int cli_pose(int argc, char **argv);
 int cli_board(int argc, char **argv);
 int cli_detect(int argc, char **argv);
 /* The standard pictures of a solve into DIR (frames.png, residuals.png). */
@@ -46,6 +47,7 @@ extern const char cli_fk_help[];
 extern const char cli_register_help[];
 extern const char cli_plot_help[];
 extern const char cli_intrinsics_help[];
+extern const char cli_pose_help[];
 extern const char cli_board_help[];
 extern const char cli_detect_help[];
 
@@ -70,6 +72,15 @@ int cli_usage_error(const char *cmd, const char *fmt, ...)
     ;
 /* Map a library status to an exit code. */
 int cli_exit_for(tram_status s);
+
+/* tram solve --pixels (cmd_solve_pixels.c). */
+typedef struct cli_pixel_args {
+    const char *pixels, *camera, *board, *model;
+    int refine_intrinsics;
+} cli_pixel_args;
+tram_status cli_solve_pixels(const tram_records *r, tram_setup setup, const cli_pixel_args *a,
+                             const tram_solve_options *so, tram_solution **s, tram_error *err);
+void cli_print_pixels(const tram_solution *s, const tram_records *r);
 
 /* The safety caution printed with every solved or checked result. */
 extern const char cli_safety_text[];

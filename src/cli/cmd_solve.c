@@ -43,6 +43,10 @@ const char cli_solve_help[] =
     "                    in the sensor frame) instead of sensor_ pose columns\n"
     "  --model FILE      the target's points in its own frame (point,x,y,z); without it\n"
     "                    the points' positions are solved too (docs/points.md)\n"
+    "  --pixels FILE     the corners seen in each station's image (tram-pixels-1) instead\n"
+    "                    of sensor_ columns; with --camera FILE and --board FILE (or\n"
+    "                    --model FILE); refined on the reprojection error (docs/pixels.md)\n"
+    "  --refine-intrinsics   with --pixels: refine the camera's parameters too\n"
     "  --json            print the result as JSON (schema: docs/solve.md)\n"
     "  -o FILE           write the calibration file (JSON) atomically\n"
     "  --force           allow -o to replace an existing file\n"
@@ -221,6 +225,7 @@ static void print_summary(const tram_solution *s, const tram_records *r)
                            pr->model_xyz[3 * k + 1], pr->model_xyz[3 * k + 2]);
             }
         }
+        cli_print_pixels(s, r);
         printf("\nnoise per axis (%s): %.4g deg, %.4g %s\n",
                s->noise_given ? "given" : "estimated from the residuals", s->noise_angle_deg,
                s->noise_length, u);
@@ -260,6 +265,7 @@ typedef struct solve_args {
     tram_read_options ro;
     tram_setup setup;
     int json, force;
+    cli_pixel_args pix;
 } solve_args;
 
 /* One option that takes a value of the solver's (method, pairs, counts,
@@ -346,6 +352,11 @@ static int parse_args(int argc, char **argv, solve_args *a)
         } else if (cli_take(argc, argv, &i, "--plot", &a->plot_dir, &bad)) {
         } else if (cli_take(argc, argv, &i, "--points", &a->points, &bad)) {
         } else if (cli_take(argc, argv, &i, "--model", &a->model, &bad)) {
+        } else if (cli_take(argc, argv, &i, "--pixels", &a->pix.pixels, &bad)) {
+        } else if (cli_take(argc, argv, &i, "--camera", &a->pix.camera, &bad)) {
+        } else if (cli_take(argc, argv, &i, "--board", &a->pix.board, &bad)) {
+        } else if (cli_flag(argv, i, "--refine-intrinsics")) {
+            a->pix.refine_intrinsics = 1;
         } else if (cli_take(argc, argv, &i, "-o", &a->out_path, &bad)) {
         } else if (take_flag(argv, i, a)) {
         } else if (argv[i][0] == '-' && argv[i][1] != '\0') {
@@ -358,8 +369,15 @@ static int parse_args(int argc, char **argv, solve_args *a)
         }
         if (bad) return CLI_EXIT_USAGE;
     }
+    if (a->pix.pixels && (a->points || !a->pix.camera || !a->pix.board == !a->model))
+        return cli_usage_error("solve", "--pixels needs --camera FILE and one of --board FILE and "
+                                        "--model FILE (and no --points)");
+    if (!a->pix.pixels && (a->pix.camera || a->pix.board || a->pix.refine_intrinsics))
+        return cli_usage_error("solve", "--camera, --board and --refine-intrinsics go with --pixels");
+    a->pix.model = a->model;
     if (!a->file) return cli_usage_error("solve", "no record file (use '-' for stdin)");
-    if (a->model && !a->points) return cli_usage_error("solve", "--model goes with --points");
+    if (a->model && !a->points && !a->pix.pixels)
+        return cli_usage_error("solve", "--model goes with --points");
     return CLI_EXIT_OK;
 }
 
@@ -411,6 +429,7 @@ static int apply_record_options(const tram_records *r, solve_args *a, tram_pair 
 static tram_status run_solve(const tram_records *r, const solve_args *a, tram_solution **s,
                              tram_error *err)
 {
+    if (a->pix.pixels) return cli_solve_pixels(r, a->setup, &a->pix, &a->so, s, err);
     if (!a->points) return tram_solve(r, a->setup, &a->so, s, err);
     tram_point_obs *obs = NULL;
     tram_point_model *mdl = NULL;

@@ -19,6 +19,8 @@ static const cli_command commands[] = {
      cli_check_help},
     {"register", cli_register, "rigid or similarity transform between two point lists",
      cli_register_help},
+    {"pose", cli_pose, "the target's pose in each image from its pixels (a record file's sensor block)",
+     cli_pose_help},
     {"plot", cli_plot, "pictures of frames, residuals, check histories and point residuals",
      cli_plot_help},
     {"board", cli_board, "a chessboard's description file and the board to print (PDF, PNG)",

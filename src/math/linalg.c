@@ -173,3 +173,10 @@ tram_status tram__spd_solve_overwrite(int n, double *A, double *bx)
     if (!all_finite(A, (size_t)n * (size_t)n) || !all_finite(bx, (size_t)n)) return TRAM_ENUMERIC;
     return status_of(LAPACKE_dposv(LAPACK_ROW_MAJOR, 'U', n, 1, A, n, bx, 1));
 }
+
+tram_status tram__spd_solve_inplace(int n, double *A, const double *b, double *x)
+{
+    if (!all_finite(A, (size_t)n * (size_t)n) || !all_finite(b, (size_t)n)) return TRAM_ENUMERIC;
+    memcpy(x, b, (size_t)n * sizeof *x);
+    return status_of(LAPACKE_dposv(LAPACK_ROW_MAJOR, 'U', n, 1, A, n, x, 1));
+}

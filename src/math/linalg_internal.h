@@ -45,5 +45,8 @@ tram_status tram__spd_solve(int n, const double *A, const double *b, double *x);
  * factor and bx (b on entry) by x.  For the dense normal equations of
  * bundle problems (camera/intrinsics_lm.c). */
 tram_status tram__spd_solve_overwrite(int n, double *A, double *bx);
+/* As tram__spd_solve for any n (the solves of math/lm.c), factorising A in
+ * place: A is overwritten. */
+tram_status tram__spd_solve_inplace(int n, double *A, const double *b, double *x);
 
 #endif

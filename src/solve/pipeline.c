@@ -10,6 +10,7 @@
 #include "solve/refine_internal.h"
 #include "math/stats_internal.h"
 #include "tram/point_solve.h"
+#include "tram/pixel_solve.h"
 
 #include <math.h>
 #include <stdarg.h>
@@ -45,10 +46,25 @@ void tram__point_result_free(struct tram_point_result *p)
     tram__free(p);
 }
 
+/* The pixel part of a solution (tram solve --pixels). */
+void tram__pixel_result_free(struct tram_pixel_result *p)
+{
+    if (!p) return;
+    tram__free(p->nobs_station);
+    tram__free(p->nused_station);
+    tram__free(p->station_rms_px);
+    tram__free(p->pose_rms_px);
+    tram__free(p->station_excluded);
+    tram__free(p->residual_px);
+    tram__free(p->excluded);
+    tram__free(p);
+}
+
 void tram_solution_destroy(tram_solution *s)
 {
     if (!s) return;
     tram__point_result_free(s->points);
+    tram__pixel_result_free(s->pixels);
     tram__free(s->stations);
     tram__free(s->diag);
     tram__free(s);

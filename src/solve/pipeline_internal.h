@@ -10,6 +10,7 @@
 #include "core/tram_internal.h"
 
 struct tram_point_result;
+struct tram_pixel_result;
 
 /* Append a diagnostic; returns TRAM_ENOMEM when it cannot. */
 tram_status tram__diag_add(tram_solution *s, const char *code, tram_severity sev,
@@ -28,6 +29,8 @@ tram_status tram__quick_fit(const tram_se3 *P, const tram_se3 *S, size_t n, doub
 
 /* Free a point-solve result (NULL is a no-op). */
 void tram__point_result_free(struct tram_point_result *p);
+/* Free a pixel-solve result (NULL is a no-op). */
+void tram__pixel_result_free(struct tram_pixel_result *p);
 
 /* Median distance of the flange and target origins from their frames'
  * origins: the problem's length scale (1 when it is 0). */

@@ -9,6 +9,7 @@
 #include "tram/rotation.h"
 #include "io/json_internal.h"
 #include "solve/pipeline_internal.h"
+#include "solve/pixels_solve_internal.h"
 
 #include <math.h>
 #include <stdio.h>
@@ -125,6 +126,7 @@ tram_status tram_solution_to_json(const tram_solution *s, const tram_records *r,
             }
             tram__jb_num(b, md, "noise_length", pr->noise_length);
         }
+        tram__pixel_result_json(b, root, s, r);
         cJSON *u = tram__jb_obj(b, root, "uncertainty");
         tram__jb_str(b, u, "definition",
                      "1-sigma and 95% (1.96 sigma) per axis from the refinement's "

@@ -1,0 +1,59 @@
+/*
+ * cmd_solve_pixels.c - the --pixels part of "tram solve": reading the
+ * pixel observations, the camera and the target (board or model), the
+ * solve refined on pixels (tram/pixel_solve.h) and its summary lines.
+ */
+#include "cli.h"
+
+#include <math.h>
+#include <string.h>
+
+tram_status cli_solve_pixels(const tram_records *r, tram_setup setup, const cli_pixel_args *a,
+                             const tram_solve_options *so, tram_solution **s, tram_error *err)
+{
+    tram_pixel_obs *obs = NULL;
+    tram_point_model *mdl = NULL;
+    tram_camera cam;
+    tram_board board;
+    double *xyz = NULL;
+    tram_status st = tram_pixel_obs_read_file(a->pixels, &obs, err);
+    if (st == TRAM_OK) st = tram_camera_read_file(a->camera, &cam, NULL, err);
+    if (st == TRAM_OK && a->board) {
+        st = tram_board_read_file(a->board, &board, err);
+        if (st == TRAM_OK) st = tram_pixel_target_from_board(obs, &board, r->length_unit, &xyz, err);
+    } else if (st == TRAM_OK) {
+        st = tram_point_model_read_file(a->model, r, &mdl, err);
+        if (st == TRAM_OK) st = tram_pixel_target_from_model(obs, mdl, &xyz, err);
+    }
+    tram_pixel_solve_options po = {a->refine_intrinsics};
+    if (st == TRAM_OK) st = tram_solve_pixels(r, setup, &cam, obs, xyz, so, &po, s, err);
+    tram_pixel_target_free(xyz);
+    tram_point_model_destroy(mdl);
+    tram_pixel_obs_destroy(obs);
+    return st;
+}
+
+void cli_print_pixels(const tram_solution *s, const tram_records *r)
+{
+    const tram_pixel_result *p = s->pixels;
+    if (!p) return;
+    printf("\nreprojection residuals (pixels; corners of the target projected through X, Z and "
+           "the camera)\n");
+    printf("  %-16s %8s %10s %12s %14s\n", "station", "corners", "rms px", "pose rms px", "");
+    for (size_t i = 0; i < p->nstations && i < r->count; i++)
+        printf("  %-16s %3zu/%-4zu %10.4f %12.4f %14s\n", r->stations[i].id, p->nused_station[i],
+               p->nobs_station[i], p->station_rms_px[i], p->pose_rms_px[i],
+               p->nobs_station[i] == 0 ? "no pixels" : p->station_excluded[i] ? "OUTLIER (excluded)" : "");
+    printf("  overall: rms %.4f px, median %.4f px, max %.4f px over the corners used; pixel "
+           "noise per coordinate %.4g px\n",
+           p->px.rms, p->px.median, p->px.max, p->sigma_px);
+    printf("  %zu corner(s) and %zu station(s) flagged as outliers and left out\n",
+           p->n_corner_outliers, p->n_station_outliers);
+    if (p->intrinsics_refined) {
+        const tram_camera *c = &p->camera;
+        printf("  camera refined with the mount (1-sigma): fx %.4f (%.3g) fy %.4f (%.3g) cx %.4f "
+               "(%.3g) cy %.4f (%.3g) px; k1 %.6g k2 %.6g k3 %.6g p1 %.6g p2 %.6g\n",
+               c->fx, p->camera_sigma[0], c->fy, p->camera_sigma[1], c->cx, p->camera_sigma[2],
+               c->cy, p->camera_sigma[3], c->k1, c->k2, c->k3, c->p1, c->p2);
+    }
+}

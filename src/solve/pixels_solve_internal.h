@@ -1,0 +1,17 @@
+/*
+ * pixels_solve_internal.h - hooks of the solve from pixels
+ * (pixels_solve.c) used by the rest of the solve layer: freeing the pixel
+ * results with the solution (solve.c) and their JSON (solution_json.c).
+ */
+#ifndef TRAM_PIXELS_SOLVE_INTERNAL_H
+#define TRAM_PIXELS_SOLVE_INTERNAL_H
+
+#include "tram/pixel_solve.h"
+#include "io/json_internal.h"
+
+/* The "pixels" member of a solution document (nothing when s->pixels is
+ * NULL); station ids from r when given, else the solution's order. */
+void tram__pixel_result_json(tram__jb *b, cJSON *root, const tram_solution *s,
+                             const tram_records *r);
+
+#endif

@@ -1,0 +1,77 @@
+# tests/cli/pixels.sh - tram pose and tram solve --pixels on the synthetic
+# scene in tests/cli/data/pixels (10 eye-in-hand stations, a 9x6 board of
+# 25 mm squares, 0.2 px noise; X = T_flange_sensor has translation
+# 35, -60, 110 mm - a scenario of our own).
+px="$here/data/pixels"
+# tram pose writes a record file that the records reader takes as it is.
+"$TRAM" pose --camera "$px/camera.json" --board "$px/board.json" "$px/pixels.csv" >"$tmp/poses.csv" 2>"$tmp/err" \
+    && "$TRAM" convert --to quat "$tmp/poses.csv" >/dev/null 2>>"$tmp/err" \
+    && grep -q '^# sensor-pose: target-in-sensor' "$tmp/poses.csv" \
+    && grep -q '^# Station s01: reprojection RMS 0\.[0-9]* px' "$tmp/poses.csv" && ok || { bad "tram pose output read back"; cat "$tmp/err"; }
+# Joined with the robot poses, the pose path solves.
+"$TRAM" pose --camera "$px/camera.json" --board "$px/board.json" --robot "$px/robot.csv" "$px/pixels.csv" \
+    -o "$tmp/joined.csv" >"$tmp/out" 2>"$tmp/err" && "$TRAM" solve --json "$tmp/joined.csv" >"$tmp/pose.json" 2>>"$tmp/err" \
+    && ok || { bad "pose path solve"; cat "$tmp/err"; }
+expect_error "pose -o exists" 2 "exists" pose --camera "$px/camera.json" --board "$px/board.json" "$px/pixels.csv" -o "$tmp/joined.csv"
+# The pixel path: exit 0, residuals in px, and X closer to the truth than the pose path here.
+"$TRAM" solve --json --pixels "$px/pixels.csv" --camera "$px/camera.json" --board "$px/board.json" "$px/robot.csv" \
+    >"$tmp/pix.json" 2>"$tmp/err" && /usr/bin/python3 - "$tmp/pix.json" "$tmp/pose.json" <<'PY' && ok || { bad "solve --pixels"; cat "$tmp/err"; }
+import json, sys, math
+a = json.load(open(sys.argv[1])); b = json.load(open(sys.argv[2]))
+def err(d):
+    m = d["transforms"]["T_flange_sensor"]["matrix"]
+    return math.dist([m[0][3], m[1][3], m[2][3]], [35.0, -60.0, 110.0])
+p = a["pixels"]
+assert p["unit"] == "px" and len(p["stations"]) == 10 and 0.1 < p["residual"]["rms"] < 0.5, p
+print("  pixels.sh: X translation error: --pixels %.4f mm, pose path %.4f mm; rms %.4f px" % (err(a), err(b), p["residual"]["rms"]))
+assert err(a) <= err(b)
+PY
+"$TRAM" solve --pixels "$px/pixels.csv" --camera "$px/camera.json" --board "$px/board.json" --refine-intrinsics "$px/robot.csv" \
+    >"$tmp/out" 2>"$tmp/err" && grep -q "camera refined with the mount" "$tmp/out" && ok || { bad "refine-intrinsics"; cat "$tmp/err"; }
+# Bad input: a station with pixels but no robot pose; a point id not on the board.
+{ cat "$px/pixels.csv"; echo "s77,3,100.5,100.5"; } >"$tmp/extra.csv"
+n=$(wc -l <"$tmp/extra.csv" | tr -d ' ')
+expect_error "pixels: station without robot pose" 2 "extra.csv:$n: error: station 's77' has pixels but no robot pose" \
+    solve --pixels "$tmp/extra.csv" --camera "$px/camera.json" --board "$px/board.json" "$px/robot.csv"
+expect_error "pose: station without robot pose" 2 "extra.csv:$n: error: station 's77'" \
+    pose --robot "$px/robot.csv" --camera "$px/camera.json" --board "$px/board.json" "$tmp/extra.csv"
+{ cat "$px/pixels.csv"; echo "s01,54,100.5,100.5"; } >"$tmp/offboard.csv"
+expect_error "pixels: point not on the board" 2 "offboard.csv:$n: error: point '54' is not a corner of the 9x6 board" \
+    solve --pixels "$tmp/offboard.csv" --camera "$px/camera.json" --board "$px/board.json" "$px/robot.csv"
+expect_error "pose: point not on the board" 2 "offboard.csv:$n: error: point '54'" \
+    pose --camera "$px/camera.json" --board "$px/board.json" "$tmp/offboard.csv"
+# A degenerate view: station s02 keeps only its first row of corners (collinear).
+awk -F, '/^s02,/ { if ($2 + 0 >= 9) next } { print }' "$px/pixels.csv" >"$tmp/line.csv"
+expect_error "pixels: collinear view" 3 "station 's02'.*one line" \
+    solve --pixels "$tmp/line.csv" --camera "$px/camera.json" --board "$px/board.json" "$px/robot.csv"
+expect_error "pose: collinear view" 3 "station 's02'.*one line" \
+    pose --camera "$px/camera.json" --board "$px/board.json" "$tmp/line.csv"
+# Unobservable motion: every station rotated about one axis only.
+/usr/bin/python3 - "$px/robot.csv" "$tmp/oneaxis.csv" <<'PY'
+import sys, math
+out = []
+for line in open(sys.argv[1]):
+    if line.startswith("#") or line.startswith("station"):
+        out.append(line.rstrip("\n")); continue
+    f = line.strip().split(","); k = int(f[0][1:])
+    a = 0.3 * k
+    out.append("%s,%.6f,%.6f,%.6f,%.12f,0,0,%.12f" % (f[0], 500 + 10 * k, 20 * k, 300, math.cos(a / 2), math.sin(a / 2)))
+open(sys.argv[2], "w").write("\n".join(out) + "\n")
+PY
+"$TRAM" solve --pixels "$px/pixels.csv" --camera "$px/camera.json" --board "$px/board.json" "$tmp/oneaxis.csv" >"$tmp/out" 2>"$tmp/err"
+rc=$?
+[ $rc -eq 3 ] && grep -qi "axis" "$tmp/out" && ok || { bad "pixels: one-axis motion exit $rc"; cat "$tmp/err"; }
+expect_error "pixels without camera" 2 "needs --camera" solve --pixels "$px/pixels.csv" --board "$px/board.json" "$px/robot.csv"
+# Every command example of docs/pixels.md (its sh blocks) runs, in order, in
+# an empty directory that links the repository's tests/ for the example data.
+pdocs="$tmp/docs-pixels"
+mkdir -p "$pdocs/bin"
+printf '#!/bin/sh\nexec "%s" "$@"\n' "$TRAM" >"$pdocs/bin/tram"
+chmod +x "$pdocs/bin/tram"
+ln -s "$here/.." "$pdocs/tests"
+awk '/^```sh$/ { on = 1; next } /^```/ { on = 0 } on' "$here/../../docs/pixels.md" >"$pdocs/examples.sh"
+if [ -s "$pdocs/examples.sh" ] && (cd "$pdocs" && PATH="$pdocs/bin:$PATH" sh -e examples.sh >/dev/null 2>"$pdocs/err"); then
+    ok
+else
+    bad "docs/pixels.md examples"; cat "$pdocs/err"
+fi
