@@ -16,7 +16,8 @@ PYTHON  := /usr/bin/python3
 
 DEB_PKGS := liblapacke-dev libopenblas-dev libpng-dev libcjson-dev libcmocka-dev \
             libcairo2-dev libfontconfig-dev pkg-config python3-numpy python3-scipy \
-            clang libclang-rt-14-dev libjpeg-dev python3-pytest poppler-utils
+            clang libclang-rt-14-dev libjpeg-dev python3-pytest poppler-utils \
+            g++ libfast-float-dev
 # only for make coverage and make valgrind
 COV_PKGS := gcovr
 VG_PKGS  := valgrind
@@ -33,9 +34,13 @@ TEST_LIBS   = $(shell pkg-config --libs $(PC_TEST))
 
 B       ?= build
 LIB_SRC := $(sort $(filter-out src/cli/%,$(wildcard src/*/*.c)))
+# C++ only as the shim to the header-only fast_float (src/io/number_shim.cc)
+LIB_CXX_SRC := $(sort $(wildcard src/*/*.cc))
+CXX     ?= g++
+CXXFLAGS_TRAM := -std=c++11 -fno-exceptions -fno-rtti $(WARN) -Iinclude -Isrc
 CLI_SRC := $(sort $(wildcard src/cli/*.c))
 TEST_SRC := $(sort $(wildcard tests/test_*.c))
-LIB_OBJ := $(patsubst src/%.c,$(B)/obj/%.o,$(LIB_SRC))
+LIB_OBJ := $(patsubst src/%.c,$(B)/obj/%.o,$(LIB_SRC)) $(patsubst src/%.cc,$(B)/obj/%.o,$(LIB_CXX_SRC))
 CLI_OBJ := $(patsubst src/cli/%.c,$(B)/obj/cli/%.o,$(CLI_SRC))
 TESTS   := $(patsubst tests/%.c,$(B)/tests/%,$(TEST_SRC))
 HEADERS := $(wildcard include/tram/*.h) $(wildcard src/*/*.h)
@@ -73,6 +78,11 @@ $(B)/obj/%.o: src/%.c $(HEADERS)
 	@mkdir -p $(dir $@)
 	@echo "  CC      $<"
 	@$(CC) $(BASEFLAGS) $(OPT) $(EXTRA_CFLAGS) -fPIC -fvisibility=hidden -DTRAM_BUILDING_LIBRARY $(PKG_CFLAGS) -c $< -o $@
+
+$(B)/obj/%.o: src/%.cc $(HEADERS)
+	@mkdir -p $(dir $@)
+	@echo "  CXX     $<"
+	@$(CXX) $(CXXFLAGS_TRAM) $(OPT) $(EXTRA_CFLAGS) -fPIC -fvisibility=hidden -DTRAM_BUILDING_LIBRARY -c $< -o $@
 
 $(B)/obj/cli/%.o: src/cli/%.c $(HEADERS)
 	@mkdir -p $(dir $@)
@@ -138,7 +148,7 @@ fuzz-replay: $(patsubst %,$(B)/fuzz/replay_%,$(FUZZ_NAMES))
 # copy of its corpus; new crashes land in build-fuzz/crashes/.
 FUZZ_SAN := -fsanitize=address,undefined -fno-sanitize-recover=all
 fuzz-lib:
-	@$(MAKE) --no-print-directory B=build-fuzz CC=clang OPT="-O1 -g" \
+	@$(MAKE) --no-print-directory B=build-fuzz CC=clang CXX=clang++ OPT="-O1 -g" \
 	  EXTRA_CFLAGS="$(FUZZ_SAN) -fsanitize=fuzzer-no-link" build-fuzz/libtram.a
 fuzz-bin: fuzz-lib
 	@set -e; for n in $(FUZZ_NAMES); do \
@@ -248,7 +258,7 @@ asan:
 
 clang-check:
 	@if command -v clang >/dev/null 2>&1; then \
-	  $(MAKE) B=build-clang CC=clang all; \
+	  $(MAKE) B=build-clang CC=clang CXX=clang++ all; \
 	else echo "clang not installed: clang build skipped"; fi
 
 # The layering of src/ (docs/architecture.md), from the #include lines.

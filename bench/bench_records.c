@@ -103,7 +103,7 @@ int main(int argc, char **argv)
                         "\"mb_per_s\": %.4g},\n",
                         name, sizes[k], s, len, mb / s);
             }
-            remove(path);
+            if (!getenv("BENCH_KEEP")) remove(path);
             free(buf);
         }
     }

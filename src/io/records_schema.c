@@ -511,42 +511,47 @@ tram_status tram__records_finish(tram_records *r, const rec_schema *s, const rec
 
 /* ---- station ids ---------------------------------------------------- */
 
-typedef struct id_ref {
-    const char *id;
-    size_t index;
-} id_ref;
-
-static int id_cmp(const void *a, const void *b)
+/* FNV-1a 64 of a NUL-terminated id (the parameters of text.c). */
+static unsigned long long id_hash(const char *s)
 {
-    const id_ref *x = a, *y = b;
-    int c = strcmp(x->id, y->id);
-    if (c) return c;
-    return x->index < y->index ? -1 : (x->index > y->index);
+    unsigned long long h = 1469598103934665603ULL;
+    for (; *s; s++) {
+        h ^= (unsigned char)*s;
+        h *= 1099511628211ULL;
+    }
+    return h;
 }
 
-/* Duplicate station ids: sort references, compare neighbours. */
-
+/* Duplicate station ids: one pass in file order through an open-addressing
+ * hash table of station indices (at most half full), so the first row
+ * that repeats an earlier id is the one reported.  Linear time; the table
+ * is 2-4 size_t per station, freed before returning. */
 tram_status tram__check_unique_ids(tram_records *r, tram_error *err)
 {
     if (r->count < 2) return TRAM_OK;
-    id_ref *refs = tram__malloc(r->count * sizeof *refs);
-    if (!refs) return tram__fail(err, TRAM_ENOMEM, r->source, 0, 0, "out of memory");
-    for (size_t i = 0; i < r->count; i++) {
-        refs[i].id = r->stations[i].id;
-        refs[i].index = i;
-    }
-    qsort(refs, r->count, sizeof *refs, id_cmp);
+    size_t cap = 16;
+    while (cap < 2 * r->count) cap *= 2;
+    size_t *slot = tram__malloc(cap * sizeof *slot);
+    if (!slot) return tram__fail(err, TRAM_ENOMEM, r->source, 0, 0, "out of memory");
+    const size_t empty = (size_t)-1;
+    for (size_t i = 0; i < cap; i++) slot[i] = empty;
     tram_status s = TRAM_OK;
-    for (size_t i = 1; i < r->count; i++)
-        if (strcmp(refs[i].id, refs[i - 1].id) == 0) {
-            const tram_station *a = &r->stations[refs[i - 1].index];
-            const tram_station *b = &r->stations[refs[i].index];
-            s = tram__fail(err, TRAM_EINPUT, r->source, b->line, 0,
-                           "duplicate station id '%s' (first at line %ld): station ids must be "
-                           "unique",
-                           b->id, a->line);
-            break;
+    for (size_t i = 0; i < r->count && s == TRAM_OK; i++) {
+        const tram_station *b = &r->stations[i];
+        size_t h = (size_t)id_hash(b->id) & (cap - 1);
+        while (slot[h] != empty) {
+            const tram_station *a = &r->stations[slot[h]];
+            if (strcmp(a->id, b->id) == 0) {
+                s = tram__fail(err, TRAM_EINPUT, r->source, b->line, 0,
+                               "duplicate station id '%s' (first at line %ld): station ids must "
+                               "be unique",
+                               b->id, a->line);
+                break;
+            }
+            h = (h + 1) & (cap - 1);
         }
-    tram__free(refs);
+        slot[h] = i;
+    }
+    tram__free(slot);
     return s;
 }

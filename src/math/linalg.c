@@ -180,3 +180,53 @@ tram_status tram__spd_solve_inplace(int n, double *A, const double *b, double *x
     memcpy(x, b, (size_t)n * sizeof *x);
     return status_of(LAPACKE_dposv(LAPACK_ROW_MAJOR, 'U', n, 1, A, n, x, 1));
 }
+
+/* ---- streaming QR (tram__qrs) ------------------------------------- */
+
+void tram__qrs_init(tram__qrs *q, int n)
+{
+    q->n = n;
+    q->rows = 0;
+    q->st = n > 0 && n <= TRAM__QRS_MAXN ? TRAM_OK : TRAM_ENUMERIC;
+}
+
+/* Replace the rows held by R of their QR factorisation (at most n rows). */
+static void qrs_fold(tram__qrs *q)
+{
+    int m = q->rows, n = q->n;
+    if (q->st != TRAM_OK || m <= n) return;
+    if (!all_finite(q->a, (size_t)m * (size_t)n)) {
+        q->st = TRAM_ENUMERIC;
+        return;
+    }
+    double tau[TRAM__QRS_MAXN];
+    lapack_int info = LAPACKE_dgeqrf(LAPACK_ROW_MAJOR, m, n, q->a, n, tau);
+    if (info != 0) {
+        q->st = status_of(info);
+        return;
+    }
+    /* keep the upper triangle; below the diagonal dgeqrf left reflectors */
+    for (int i = 1; i < n; i++)
+        for (int j = 0; j < i; j++) q->a[(size_t)i * (size_t)n + (size_t)j] = 0.0;
+    q->rows = n;
+}
+
+double *tram__qrs_rows(tram__qrs *q, int k)
+{
+    if (q->st != TRAM_OK || k < 0 || k > TRAM__QRS_BLOCK) {
+        if (q->st == TRAM_OK) q->st = TRAM_ENUMERIC;
+        return NULL;
+    }
+    if (q->rows + k > TRAM__QRS_MAXN + TRAM__QRS_BLOCK) qrs_fold(q);
+    if (q->st != TRAM_OK) return NULL;
+    double *r = q->a + (size_t)q->rows * (size_t)q->n;
+    memset(r, 0, (size_t)k * (size_t)q->n * sizeof *r);
+    q->rows += k;
+    return r;
+}
+
+tram_status tram__qrs_finish(tram__qrs *q)
+{
+    qrs_fold(q);
+    return q->st;
+}

@@ -49,4 +49,30 @@ tram_status tram__spd_solve_overwrite(int n, double *A, double *bx);
  * place: A is overwritten. */
 tram_status tram__spd_solve_inplace(int n, double *A, const double *b, double *x);
 
+/* Streaming QR of a tall m x n matrix given a block of rows at a time, for
+ * the closed forms' null vectors: only the n x n triangle R (A = Q R) is
+ * kept, so a problem of any height needs (n + TRAM__QRS_BLOCK) x n doubles
+ * and no copy or transpose of the tall matrix.  A and R have the same
+ * right singular vectors and singular values, so tram__nullvec(n, n, R)
+ * answers for A without squaring the condition number (as A^T A would).
+ * Each flush stacks [R; block] and re-factors it (LAPACKE_dgeqrf). */
+#define TRAM__QRS_MAXN 18
+#define TRAM__QRS_BLOCK 72
+typedef struct tram__qrs {
+    int n;        /* columns                                          */
+    int rows;     /* rows held in a (the triangle, then the new block) */
+    tram_status st;
+    double a[(TRAM__QRS_MAXN + TRAM__QRS_BLOCK) * TRAM__QRS_MAXN]; /* row-major, n columns */
+} tram__qrs;
+
+void tram__qrs_init(tram__qrs *q, int n);
+/* Room for k <= TRAM__QRS_BLOCK more rows (n doubles each, zeroed), which
+ * the caller fills before the next call; a full buffer is folded into R
+ * first.  NULL (and the status kept for tram__qrs_finish) when a
+ * factorisation failed. */
+double *tram__qrs_rows(tram__qrs *q, int k);
+/* Fold the last rows in: q->a then holds q->rows <= n rows of R.  Returns
+ * the first failure (TRAM_ENOMEM, TRAM_ENUMERIC for NaN or Inf). */
+tram_status tram__qrs_finish(tram__qrs *q);
+
 #endif

@@ -66,6 +66,7 @@ static int moments_finite(const moments *m)
 }
 
 #if defined(__x86_64__) && defined(__GNUC__)
+#include <immintrin.h>
 #define HAVE_AVX2_PASS 1
 /* Unweighted 3D block with AVX2/FMA, chosen at run time when the processor
  * has them: each point's offsets dx, dy are held as 4-lane vectors (the
@@ -73,9 +74,21 @@ static int moments_finite(const moments *m)
  * row k of sum dx dx^T is sum dx_k dx, row k of sum dx dy^T is sum dx_k dy
  * - nine independent vector sums, so the pass runs at memory speed
  * (docs/performance.md).  Lane 3 is not used.  Same sums as the portable
- * loop, in another order of rounding.  n: the number of points in the
+ * loop, in another order of rounding (and with fused multiply-adds).  n: the number of points in the
  * arrays (for the last one no load may reach past the end). */
 typedef double v4d __attribute__((vector_size(32)));
+
+/* a + b * c with one rounding (vfmadd).  -std=c11 turns off the compiler's
+ * contraction of a + b * c, so the fused form is asked for explicitly. */
+__attribute__((target("avx2,fma"))) static inline v4d fma4(v4d a, v4d b, v4d c)
+{
+    return (v4d)_mm256_fmadd_pd((__m256d)b, (__m256d)c, (__m256d)a);
+}
+
+__attribute__((target("avx2,fma"))) static inline v4d splat4(double x)
+{
+    return (v4d)_mm256_set1_pd(x);
+}
 
 __attribute__((target("avx2,fma"))) static void block3_avx2(const double *from, const double *to,
                                                              size_t n, size_t b0, size_t b1,
@@ -100,13 +113,14 @@ __attribute__((target("avx2,fma"))) static void block3_avx2(const double *from, 
         dy -= oy;
         sx += dx;
         sy += dy;
-        a0 += dx[0] * dx;
-        a1 += dx[1] * dx;
-        a2 += dx[2] * dx;
-        c0 += dx[0] * dy;
-        c1 += dx[1] * dy;
-        c2 += dx[2] * dy;
-        yy += dy * dy;
+        const v4d d0 = splat4(dx[0]), d1 = splat4(dx[1]), d2 = splat4(dx[2]);
+        a0 = fma4(a0, d0, dx);
+        a1 = fma4(a1, d1, dx);
+        a2 = fma4(a2, d2, dx);
+        c0 = fma4(c0, d0, dy);
+        c1 = fma4(c1, d1, dy);
+        c2 = fma4(c2, d2, dy);
+        yy = fma4(yy, dy, dy);
     }
     m->W = (double)(b1 - b0);
     for (int k = 0; k < 3; k++) {

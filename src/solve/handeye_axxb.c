@@ -181,20 +181,22 @@ static tram_status rot_park_martin(const motion *m, size_t n, tram_mat3 *RX)
 
 static tram_status rot_horaud_dornaika(const motion *m, size_t n, tram_mat3 *RX)
 {
-    size_t rows = 4 * n;
-    double *A = tram__malloc(rows * 4 * sizeof *A);
-    if (!A) return TRAM_ENOMEM;
+    /* the 4n x 4 system L(q_A) - R(q_B), streamed into its QR triangle */
+    tram__qrs qr;
+    tram__qrs_init(&qr, 4);
     for (size_t k = 0; k < n; k++) {
         double qa[4], qb[4], L[16], R[16];
+        double *A = tram__qrs_rows(&qr, 4);
+        if (!A) break;
         quat_of(&m[k].RA, qa);
         quat_of(&m[k].RB, qb);
         tram__quat_left(qa, L);
         tram__quat_right(qb, R);
-        for (int i = 0; i < 16; i++) A[16 * k + (size_t)i] = L[i] - R[i];
+        for (int i = 0; i < 16; i++) A[i] = L[i] - R[i];
     }
     double q[4];
-    tram_status st = tram__nullvec((int)rows, 4, A, q, NULL, NULL);
-    tram__free(A);
+    tram_status st = tram__qrs_finish(&qr);
+    if (st == TRAM_OK) st = tram__nullvec(qr.rows, 4, qr.a, q, NULL, NULL);
     if (st != TRAM_OK) return st;
     mat_of_quat(q, RX);
     return TRAM_OK;
@@ -210,11 +212,13 @@ static void skew_into(double *A, size_t ld, size_t r0, size_t c0, const double v
 
 static tram_status solve_daniilidis(const motion *m, size_t n, tram_mat3 *RX, double tX[3])
 {
-    size_t rows = 6 * n;
-    double *T = tram__calloc(rows * 8, sizeof *T);
-    if (!T) return TRAM_ENOMEM;
+    /* the 6n x 8 system, streamed into its QR triangle 6 rows a motion */
+    tram__qrs qr;
+    tram__qrs_init(&qr, 8);
     for (size_t k = 0; k < n; k++) {
         double qa[4], qb[4], da[4], db[4];
+        double *T = tram__qrs_rows(&qr, 6);
+        if (!T) break;
         quat_of(&m[k].RA, qa);
         quat_of(&m[k].RB, qb);
         /* dual parts q' = 0.5 (0, t) q */
@@ -236,7 +240,7 @@ static tram_status solve_daniilidis(const motion *m, size_t n, tram_mat3 *RX, do
             dd[i] = da[1 + i] - db[1 + i];
             ds[i] = da[1 + i] + db[1 + i];
         }
-        size_t r0 = 6 * k;
+        const size_t r0 = 0;
         for (int i = 0; i < 3; i++) {
             T[(r0 + (size_t)i) * 8 + 0] = d[i];
             T[(r0 + 3 + (size_t)i) * 8 + 0] = dd[i];
@@ -247,8 +251,8 @@ static tram_status solve_daniilidis(const motion *m, size_t n, tram_mat3 *RX, do
         skew_into(T, 8, r0 + 3, 5, s, 1.0);
     }
     double v7[8], v8[8];
-    tram_status st = tram__null2((int)rows, 8, T, v7, v8);
-    tram__free(T);
+    tram_status st = tram__qrs_finish(&qr);
+    if (st == TRAM_OK) st = tram__null2(qr.rows, 8, qr.a, v7, v8);
     if (st != TRAM_OK) return st;
     const double *u1 = v7, *w1 = v7 + 4, *u2 = v8, *w2 = v8 + 4;
     double a = 0, b = 0, c = 0, uu11 = 0, uu12 = 0, uu22 = 0;
@@ -306,21 +310,24 @@ static tram_status solve_daniilidis(const motion *m, size_t n, tram_mat3 *RX, do
 
 static tram_status rot_andreff(const motion *m, size_t n, tram_mat3 *RX)
 {
-    size_t rows = 9 * n;
-    double *A = tram__malloc(rows * 9 * sizeof *A);
-    if (!A) return TRAM_ENOMEM;
-    for (size_t k = 0; k < n; k++)
+    /* the 9n x 9 system, streamed into its QR triangle 9 rows a motion */
+    tram__qrs qr;
+    tram__qrs_init(&qr, 9);
+    for (size_t k = 0; k < n; k++) {
+        double *A = tram__qrs_rows(&qr, 9);
+        if (!A) break;
         for (int i = 0; i < 3; i++)
             for (int kk = 0; kk < 3; kk++)
                 for (int j = 0; j < 3; j++)
                     for (int l = 0; l < 3; l++) {
                         /* (R_A (x) I - I (x) R_B^T)[(i,kk),(j,l)] */
                         double v = m[k].RA.m[i][j] * (kk == l) - (i == j) * m[k].RB.m[l][kk];
-                        A[(9 * k + (size_t)(3 * i + kk)) * 9 + (size_t)(3 * j + l)] = v;
+                        A[(size_t)(3 * i + kk) * 9 + (size_t)(3 * j + l)] = v;
                     }
+    }
     double x[9];
-    tram_status st = tram__nullvec((int)rows, 9, A, x, NULL, NULL);
-    tram__free(A);
+    tram_status st = tram__qrs_finish(&qr);
+    if (st == TRAM_OK) st = tram__nullvec(qr.rows, 9, qr.a, x, NULL, NULL);
     if (st != TRAM_OK) return st;
     tram_mat3 M;
     for (int i = 0; i < 9; i++) M.m[i / 3][i % 3] = x[i];

@@ -117,23 +117,26 @@ static tram_status axyb_translation(const tram_se3 *A, const tram_se3 *B, size_t
 static tram_status rot_shah(const tram_se3 *A, const tram_se3 *B, size_t n, tram_mat3 *RX,
                             tram_mat3 *RZ)
 {
-    size_t rows = 9 * n;
-    double *K = tram__malloc(rows * 18 * sizeof *K);
-    if (!K) return TRAM_ENOMEM;
-    for (size_t k = 0; k < n; k++)
+    /* the 9n x 18 system, streamed into its QR triangle 9 rows a station */
+    tram__qrs qr;
+    tram__qrs_init(&qr, 18);
+    for (size_t k = 0; k < n; k++) {
+        double *K = tram__qrs_rows(&qr, 9);
+        if (!K) break;
         for (int i = 0; i < 3; i++)
             for (int kk = 0; kk < 3; kk++)
                 for (int j = 0; j < 3; j++)
                     for (int l = 0; l < 3; l++) {
-                        size_t row = (9 * k + (size_t)(3 * i + kk)) * 18;
+                        size_t row = (size_t)(3 * i + kk) * 18;
                         /* vec(R_A R_X I) = (R_A (x) I) vec R_X;
                          * vec(I R_Z R_B) = (I (x) R_B^T) vec R_Z */
                         K[row + (size_t)(3 * j + l)] = A[k].m[i][j] * (kk == l);
                         K[row + 9 + (size_t)(3 * j + l)] = -(double)(i == j) * B[k].m[l][kk];
                     }
+    }
     double v[18];
-    tram_status st = tram__nullvec((int)rows, 18, K, v, NULL, NULL);
-    tram__free(K);
+    tram_status st = tram__qrs_finish(&qr);
+    if (st == TRAM_OK) st = tram__nullvec(qr.rows, 18, qr.a, v, NULL, NULL);
     if (st != TRAM_OK) return st;
     tram_mat3 MX, MZ;
     for (int i = 0; i < 9; i++) {
@@ -157,10 +160,8 @@ static tram_status rot_zhuang(const tram_se3 *A, const tram_se3 *B, size_t n, tr
                               tram_mat3 *RZ)
 {
     double *qa = tram__malloc(n * 4 * sizeof *qa), *qb = tram__malloc(n * 4 * sizeof *qb);
-    double *M = tram__calloc(n * 4 * 8, sizeof *M);
-    int *fixed = tram__calloc(n, sizeof *fixed);
     tram_status st = TRAM_OK;
-    if (!qa || !qb || !M || !fixed) {
+    if (!qa || !qb) {
         st = TRAM_ENOMEM;
         goto out;
     }
@@ -172,12 +173,22 @@ static tram_status rot_zhuang(const tram_se3 *A, const tram_se3 *B, size_t n, tr
         qvec(&R, qb + 4 * k);
     }
     /* Sign of each q_B relative to station 0: scalar(q_Aj* q_Ai) must equal
-     * scalar(q_Bj* q_Bi) once the signs agree; the scalar of p* q is p.q. */
-    fixed[0] = 1;
+     * scalar(q_Bj* q_Bi) once the signs agree; the scalar of p* q is p.q.
+     * The sign is read off the most telling station already fixed (largest
+     * |p.q| on both sides), searched among at most ZHUANG_ANCHORS anchors
+     * instead of every earlier station (O(n), not O(n^2)): a station
+     * becomes an anchor when no anchor tells its sign well (weight below
+     * 1/2, i.e. both relative rotations beyond about 120 degrees), so
+     * every station is compared with one that is close to it on both
+     * sides whenever the anchors are not all taken. */
+    enum { ZHUANG_ANCHORS = 32 };
+    size_t anchor[ZHUANG_ANCHORS];
+    int n_anchor = 1;
+    anchor[0] = 0;
     for (size_t i = 1; i < n; i++) {
         double best = -1.0, sign = 1.0;
-        for (size_t j = 0; j < n; j++) {
-            if (!fixed[j]) continue;
+        for (int a = 0; a < n_anchor; a++) {
+            size_t j = anchor[a];
             double sa = qdot(qa + 4 * j, qa + 4 * i), sb = qdot(qb + 4 * j, qb + 4 * i);
             double w = fabs(sa) * fabs(sb);
             if (w > best) {
@@ -187,20 +198,26 @@ static tram_status rot_zhuang(const tram_se3 *A, const tram_se3 *B, size_t n, tr
         }
         if (sign < 0)
             for (int c = 0; c < 4; c++) qb[4 * i + (size_t)c] = -qb[4 * i + (size_t)c];
-        fixed[i] = 1;
+        if (best < 0.5 && n_anchor < ZHUANG_ANCHORS) anchor[n_anchor++] = i;
     }
+    /* the 4n x 8 system [L(q_A) -R(q_B)], streamed into its QR triangle */
+    tram__qrs qr;
+    tram__qrs_init(&qr, 8);
     for (size_t k = 0; k < n; k++) {
         double L[16], R[16];
+        double *M = tram__qrs_rows(&qr, 4);
+        if (!M) break;
         tram__quat_left(qa + 4 * k, L);
         tram__quat_right(qb + 4 * k, R);
         for (int r = 0; r < 4; r++)
             for (int c = 0; c < 4; c++) {
-                M[(4 * k + (size_t)r) * 8 + (size_t)c] = L[4 * r + c];
-                M[(4 * k + (size_t)r) * 8 + 4 + (size_t)c] = -R[4 * r + c];
+                M[(size_t)r * 8 + (size_t)c] = L[4 * r + c];
+                M[(size_t)r * 8 + 4 + (size_t)c] = -R[4 * r + c];
             }
     }
     double v[8];
-    st = tram__nullvec((int)(4 * n), 8, M, v, NULL, NULL);
+    st = tram__qrs_finish(&qr);
+    if (st == TRAM_OK) st = tram__nullvec(qr.rows, 8, qr.a, v, NULL, NULL);
     if (st != TRAM_OK) goto out;
     tram_quat_wxyz q1 = {v[0], v[1], v[2], v[3]}, q2 = {v[4], v[5], v[6], v[7]};
     tram_quat_wxyz_to_mat3(&q1, RX);
@@ -208,8 +225,6 @@ static tram_status rot_zhuang(const tram_se3 *A, const tram_se3 *B, size_t n, tr
 out:
     tram__free(qa);
     tram__free(qb);
-    tram__free(M);
-    tram__free(fixed);
     return st;
 }
 
