@@ -14,15 +14,19 @@ int tram__observability(const tram_se3 *P, size_t n, tram_setup setup, tram_solu
 
 /* Convention checks: re-read the data under the usual mistakes and report
  * a reading that fits far better. */
-tram_status tram__check_conventions(const tram_records *r, tram_setup setup, tram_solution *s);
+tram_status tram__check_conventions(const tram_records *r, tram_setup setup, tram_solution *s,
+                                    const tram_trust_options *t);
 
 /* The fit the convention doctor runs on each reading of the data. */
 typedef tram_status (*tram__fit_fn)(const tram_records *r, tram_setup setup, const void *ctx,
                                     double *med_rot, double *med_tr, double *mount_len);
 /* The doctor with another fit (e.g. of observed points); max_n > 0
- * subsamples the stations. */
+ * subsamples the stations.  t (may be NULL) and wd (the working distance,
+ * length) give the plausibility gate that the declared reading is held
+ * to: a declared reading that fails it is replaced by one that passes. */
 tram_status tram__check_conventions_with(const tram_records *r, tram_setup setup, tram_solution *s,
-                                         tram__fit_fn fit, const void *ctx, size_t max_n);
+                                         tram__fit_fn fit, const void *ctx, size_t max_n,
+                                         const tram_trust_options *t, double wd);
 
 /* Plausibility of the declared length unit from the robot's translations. */
 tram_status tram__check_units(const tram_records *r, tram_solution *s);

@@ -497,6 +497,19 @@ out:
     return st;
 }
 
+/* Median distance of the observed points from the sensor: the working
+ * distance of the plausibility gate (plausibility.c). */
+static double obs_dist(const void *ctx, size_t o)
+{
+    const double *p = (const double *)ctx + 3 * o;
+    return sqrt(p[0] * p[0] + p[1] * p[1] + p[2] * p[2]);
+}
+
+static double points_working_distance(const tram_point_obs *obs)
+{
+    return obs->n ? tram__median_of(obs->n, obs_dist, obs->xyz) : 0.0;
+}
+
 /* The convention doctor's fit for observed points without a model. */
 typedef struct doc_ctx {
     const tram_point_obs *obs;
@@ -677,7 +690,7 @@ static tram_status solve_free(const tram_records *r, tram_setup setup, const tra
     if (tram__check_units(r, sol) != TRAM_OK) goto nomem;
     if (opt->check_conventions) {
         doc_ctx dc = {obs};
-        if ((st = tram__check_conventions_with(r, setup, sol, doctor_fit, &dc, 0)) != TRAM_OK) {
+        if ((st = tram__check_conventions_with(r, setup, sol, doctor_fit, &dc, 0, &opt->trust, points_working_distance(obs))) != TRAM_OK) {
             st = tram__fail(err, st, NULL, 0, 0, "out of memory");
             goto out;
         }
