@@ -15,8 +15,8 @@
  * the noise by then (docs/performance.md). */
 #define TRAM_QUICKFIT_STEPS 3
 
-/* Park-Martin closed form on the stations' pairs (all pairs up to 60
- * stations), then at most max_steps Cauchy-weighted Gauss-Newton steps on
+/* Park-Martin closed form on 2n station pairs (each with the next and
+ * with the one half the list away), then at most max_steps Cauchy-weighted Gauss-Newton steps on
  * both unknowns (stopping early when the cost falls by less than 1e-3 of
  * itself).  Fills the median rotation residual (rad) and the median
  * translation residual of the stations; X and Z may be NULL.  Returns
