@@ -33,6 +33,9 @@
 #include <string.h>
 
 #define RAD2DEG (180.0 / TRAM_PI)
+/* Below this largest rotation between stations the translation is weakly
+ * determined (common practice; docs/solve.md, "Weak motion"). */
+#define WEAK_MOTION_DEG 20.0
 
 int tram__observability(const tram_se3 *P, size_t n, tram_setup setup, tram_solution *s)
 {
@@ -86,6 +89,19 @@ int tram__observability(const tram_se3 *P, size_t n, tram_setup setup, tram_solu
                        "axis spread %.2f deg); Tsai & Lenz (1989) advise large rotations about "
                        "well-spread axes: add stations that tilt the flange further",
                        mx * RAD2DEG, spread);
+    else if (mx * RAD2DEG < WEAK_MOTION_DEG)
+        /* The translation of X comes from (R_A - I) t_X = R_X t_B - t_A:
+         * |R_A - I| = 2 sin(theta / 2), so the rotation noise times the
+         * working distance reaches t_X amplified by 1 / (2 sin(theta / 2)). */
+        tram__diag_add(s, "weak-motion", TRAM_SEVERITY_WARNING,
+                       "the largest rotation between any two stations is %.2f deg: too small for "
+                       "the noise to determine the sensor's position well (the rotation noise "
+                       "reaches it amplified about %.1f times, and the stated uncertainty is "
+                       "then too optimistic); add stations that tilt the flange by %.0f deg or "
+                       "more from the others about at least two different axes, e.g. +-%.0f deg "
+                       "about the %s frame's x and y axes (common practice)",
+                       mx * RAD2DEG, 1.0 / (2.0 * sin(0.5 * mx)), WEAK_MOTION_DEG,
+                       WEAK_MOTION_DEG, frame);
     return 0;
 }
 
