@@ -319,6 +319,21 @@ static size_t make_hypotheses(const tram_records *r, tram_setup setup, hypothesi
     return nh;
 }
 
+size_t tram__convention_readings(const tram_records *r, tram_setup setup, tram__reading *out,
+                                 size_t cap)
+{
+    hypothesis *h = tram__malloc((cap ? cap : 1) * sizeof *h);
+    if (!h) return 0;
+    size_t nh = make_hypotheses(r, setup, h, cap);
+    for (size_t k = 0; k < nh; k++) {
+        memcpy(out[k].conv, h[k].conv, sizeof out[k].conv);
+        memcpy(out[k].code, h[k].code, sizeof out[k].code);
+        memcpy(out[k].fix, h[k].fix, sizeof out[k].fix);
+    }
+    tram__free(h);
+    return nh;
+}
+
 /* The quick pose fit of one reading (the default fit of the doctor). */
 static tram_status pose_fit(const tram_records *r, tram_setup setup, const void *ctx,
                             double *med_rot, double *med_tr, double *mount_len)

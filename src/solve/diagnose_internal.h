@@ -28,6 +28,19 @@ tram_status tram__check_conventions_with(const tram_records *r, tram_setup setup
                                          tram__fit_fn fit, const void *ctx, size_t max_n,
                                          const tram_trust_options *t, double wd);
 
+/* One reading of a record file under a usual mistake (the doctor's list):
+ * the conventions to rebuild it with, a code and the fix in words. */
+typedef struct tram__reading {
+    tram_block_convention conv[TRAM_BLOCK_COUNT];
+    char code[40];
+    char fix[360];
+} tram__reading;
+
+/* The doctor's readings of r (singles and combinations) into out (at most
+ * cap); returns their number. */
+size_t tram__convention_readings(const tram_records *r, tram_setup setup, tram__reading *out,
+                                 size_t cap);
+
 /* Plausibility of the declared length unit from the robot's translations. */
 tram_status tram__check_units(const tram_records *r, tram_solution *s);
 
