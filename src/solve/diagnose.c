@@ -14,10 +14,18 @@
  * Convention doctor.  The data are re-read under each usual mistake - robot
  * or sensor poses inverted, the sensor's lengths off by 10, 25.4 or 1000,
  * quaternion columns in x,y,z,w order, degrees read as radians (or the
- * reverse), every other Euler convention - and solved quickly.  A reading
- * whose residual score (median rotation and translation residuals, each
- * relative to the best reading's) is five times lower than the declared
- * reading's is reported with its fix; the declared reading is kept.
+ * reverse), every other Euler convention - and under the common mistakes
+ * in combination (inversions and quaternion orders of both blocks, a
+ * length factor with the quaternion orders), each scored by the capped
+ * quick fit (quickfit.c).  A reading whose residual score (median rotation
+ * and translation residuals, each relative to the best reading's) is five
+ * times lower than the declared reading's - or, when the declared reading
+ * fails the plausibility gate (plausibility.c), one that passes it and is
+ * twice lower - is reported with its fix; the declared reading is kept.
+ *
+ * Weak motion.  Below 20 deg of rotation between any two stations (common
+ * practice) the translation is weakly determined: the rotation noise
+ * reaches it amplified by 1 / (2 sin(theta / 2)).
  */
 #include "tram/rotation.h"
 #include "solve/handeye_internal.h"

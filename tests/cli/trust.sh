@@ -87,3 +87,6 @@ expect_rc "check: wrong robot Euler" 3 "set '# robot-euler: zyx-intrinsic'" chec
 shift_rows 3 7 "$demo/wrist_recheck.csv" >"$tmp/re_shift.csv"
 expect_rc "check: rows shifted" 3 "the data cannot tell a change" check --calibration "$tmp/trust.cal.json" "$tmp/re_shift.csv"
 expect_rc "check: old verdict without the checks" 1 "VERDICT: inconsistent" check --no-plausibility --calibration "$tmp/trust.cal.json" "$tmp/re_m.csv"
+# the docs' examples (docs/points.md, docs/solve.md)
+expect_rc "docs register example" 0 "best of 50 random pairings \(seed 4\)" register --max-residual 2mm+0.5% --pairing-test 50 --seed 4 "$here/data/pairs.csv"
+expect_rc "docs solve gate example" 0 "at most 0.5 deg" solve --max-residual 2mm+0.5%,0.5deg "$demo/wrist_camera.csv"
