@@ -204,7 +204,7 @@ static void test_single_station(void **state)
         tram_check_result *res = run_check(cal, rec, NULL);
         assert_true(res->verdict == TRAM_VERDICT_OK || res->verdict == TRAM_VERDICT_INCONCLUSIVE);
         if (t % 2) assert_int_equal(res->verdict, TRAM_VERDICT_INCONCLUSIVE);
-        tram_check_options o = {1, 5.0, 1.0 * M_PI / 180};
+        tram_check_options o = {1, 5.0, 1.0 * M_PI / 180, 0, 0, 0};
         tram_check_result *tol = run_check(cal, rec, &o); /* within a 5 mm, 1 deg tolerance */
         assert_int_equal(tol->verdict, TRAM_VERDICT_OK);
         tram_check_result_destroy(tol);

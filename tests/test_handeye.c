@@ -134,11 +134,53 @@ static void test_residuals(void **state)
     assert_close(tr[0], 0.0, 1e-9);
 }
 
+/* Tsai & Lenz at a mount rotation of exactly 180.0 deg, where the method's
+ * Gibbs-vector parametrisation is singular (docs/methods.md): handled by a
+ * known offset, it must match the other AX=XB methods' accuracy. */
+static void test_tsai_lenz_half_turn(void **state)
+{
+    (void)state;
+    test_rng r = test_rng_seeded("tsai-lenz 180 deg", 6005);
+    double worst_tl = 0, worst_other = 0;
+    for (int trial = 0; trial < 20; trial++) {
+        tram_se3 X, Z, P[15], S[15];
+        double axis[3] = {test_rng_normal(&r), test_rng_normal(&r), test_rng_normal(&r)};
+        double an = sqrt(axis[0] * axis[0] + axis[1] * axis[1] + axis[2] * axis[2]);
+        double w[3] = {axis[0] / an * M_PI, axis[1] / an * M_PI, axis[2] / an * M_PI};
+        tram_mat3 R;
+        tram_so3_exp(w, &R);
+        double t[3] = {40, -25, 90};
+        tram_se3_from_rt(&R, t, &X);
+        test_random_pose(&r, 1000.0, &Z);
+        make_stations(&r, 15, &X, &Z, P, S);
+        for (int i = 0; i < 15; i++) test_perturb_pose(&r, &S[i], 0.05 * M_PI / 180, 0.1);
+        double err[TRAM_METHOD_COUNT] = {0};
+        for (int m = TRAM_METHOD_TSAI_LENZ; m <= TRAM_METHOD_ANDREFF; m++) {
+            tram_se3 Xs, Zs;
+            tram_error e;
+            assert_int_equal(tram_handeye_closed_form((tram_method)m, P, S, 15, NULL, 0, &Xs, &Zs, &e),
+                             TRAM_OK);
+            double len;
+            tram_se3_distance(&Xs, &X, &err[m], &len);
+        }
+        double best_other = INFINITY;
+        for (int m = TRAM_METHOD_PARK_MARTIN; m <= TRAM_METHOD_ANDREFF; m++)
+            if (err[m] < best_other) best_other = err[m];
+        if (err[TRAM_METHOD_TSAI_LENZ] > worst_tl) worst_tl = err[TRAM_METHOD_TSAI_LENZ];
+        if (best_other > worst_other) worst_other = best_other;
+        if (err[TRAM_METHOD_TSAI_LENZ] > 2.0 * best_other + 0.01)
+            fail_msg("trial %d: tsai-lenz %.4f deg off, the best other method %.4f deg", trial,
+                     err[TRAM_METHOD_TSAI_LENZ], best_other);
+    }
+    printf("[ info ] mount rotation 180.0 deg, 20 seeds: tsai-lenz worst %.4f deg, best other "
+           "AX=XB method worst %.4f deg\n", worst_tl, worst_other);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_noise_free_all_methods), cmocka_unit_test(test_three_stations),
         cmocka_unit_test(test_parallel_axes_undetermined), cmocka_unit_test(test_pairs_and_names),
-        cmocka_unit_test(test_residuals)};
+        cmocka_unit_test(test_residuals), cmocka_unit_test(test_tsai_lenz_half_turn)};
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

@@ -74,6 +74,12 @@ typedef struct tram_check_options {
     int use_tolerance;       /* 1: ok means every station within the tolerances */
     double tol_length;       /* in the calibration's length unit                 */
     double tol_angle_rad;
+    /* Before a verdict other than ok (docs/check.md, "Before blaming the
+     * mount"): the convention search, the pairing test and the plausibility
+     * gate.  Zero-initialised options run them with the defaults. */
+    int no_plausibility;     /* 1: skip all three                                 */
+    size_t pairing_permutations; /* 0: 30                                        */
+    unsigned long long seed; /* pairing test's seed; 0: 1                          */
 } tram_check_options;
 
 /* The estimated change under one model. */

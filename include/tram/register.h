@@ -80,6 +80,43 @@ TRAM_API tram_status tram_register_robust(const double *from, const double *to,
                                           tram_register_result *out, int *inlier,
                                           double *used_threshold, tram_error *err);
 
+/* Plausibility of a registration (docs/points.md, "Plausibility"): the
+ * absolute gate on the residual RMS and the pairing test (the pairs
+ * registered again with the 'to' points paired at random). */
+typedef struct tram_register_trust_options {
+    double max_rms;          /* gate: RMS above max_rms + max_rms_fraction * the
+                                working distance is implausible (length; the
+                                command's default is 5 mm, common practice)      */
+    double max_rms_fraction; /* 0.01 (common practice)                          */
+    size_t permutations;     /* random pairings (30); 0: no pairing test         */
+    unsigned long long seed;
+    double factor;           /* the file's pairing must fit this many times better
+                                than every random one (3)                       */
+} tram_register_trust_options;
+
+typedef struct tram_register_trust {
+    double rms;              /* of the given registration (length)               */
+    double working_distance; /* larger median distance of the points from their
+                                frame's origin (length)                          */
+    double limit;            /* the gate's RMS limit (length)                    */
+    int gate_failed;
+    size_t permutations;     /* random pairings fitted (0: test not run: fewer
+                                than 5 pairs, or switched off)                  */
+    double pairing_ratio;    /* smallest random pairing's RMS over the file's    */
+    int pairing_failed;
+} tram_register_trust;
+
+/* The checks on n pairs registered as `res` (from tram_register_points or
+ * _robust; inlier may be NULL or give the pairs used).  Fills *out;
+ * TRAM_OK or TRAM_ENOMEM. */
+TRAM_API tram_status tram_register_trust_check(const double *from, const double *to,
+                                               const double *weights, size_t n,
+                                               const tram_register_options *opt,
+                                               const tram_register_result *res,
+                                               const int *inlier,
+                                               const tram_register_trust_options *topt,
+                                               tram_register_trust *out, tram_error *err);
+
 #ifdef __cplusplus
 }
 #endif

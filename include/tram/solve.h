@@ -23,6 +23,43 @@ extern "C" {
 
 typedef void (*tram_progress_fn)(void *ctx, const char *what, size_t done, size_t total);
 
+/* Limits of the plausibility checks (docs/solve.md, "Plausibility").  The
+ * defaults are common practice, not measured on a particular cell. */
+typedef struct tram_trust_options {
+    int gate;                    /* 1 (default): warn when the residuals are
+                                    beyond any working sensor-robot pair's      */
+    double max_rms_deg;          /* station RMS rotation residual (1 deg)       */
+    double max_rms_m;            /* station RMS translation residual: this
+                                    (0.005 m) plus ...                          */
+    double max_rms_fraction;     /* ... this fraction (0.01) of the working
+                                    distance (median sensor-target distance)    */
+    double max_flange_offset_m;  /* part fixed to the flange (wrist sensor or
+                                    held target) farther than this (0.5 m)      */
+    double max_base_offset_m;    /* part fixed in the cell farther than this
+                                    from the base (5 m)                         */
+    size_t pairing_permutations; /* random pairings of the pairing test (30);
+                                    0: no pairing test                          */
+    double pairing_factor;       /* the true pairing must fit this many times
+                                    better than every random one (3)            */
+} tram_trust_options;
+
+TRAM_API void tram_trust_options_init(tram_trust_options *t);
+
+/* What the plausibility checks measured (docs/solve.md). */
+typedef struct tram_trust_report {
+    double working_distance;     /* median sensor-target distance (length)       */
+    double limit_rot_deg;        /* the gate's limits used                       */
+    double limit_length;         /* (length unit)                                */
+    int gate_failed;
+    int pairing_done;
+    size_t pairing_permutations;
+    unsigned long long pairing_seed;
+    double pairing_ratio_rot;    /* best random pairing's median residual over
+                                    the true pairing's (rotation; translation)   */
+    double pairing_ratio_trans;
+    int pairing_failed;
+} tram_trust_report;
+
 typedef struct tram_solve_options {
     tram_method method;      /* AUTO (default): best closed form, then refinement  */
     int refine;              /* 1 (default): refine; 0: report the closed form      */
@@ -39,6 +76,8 @@ typedef struct tram_solve_options {
     int check_conventions;   /* 1 (default): run the convention checks              */
     tram_progress_fn progress;
     void *progress_ctx;
+    tram_trust_options trust; /* plausibility gate, pairing test, geometry; the
+                                 pairing test's seed is `seed`                      */
 } tram_solve_options;
 
 TRAM_API void tram_solve_options_init(tram_solve_options *opt);
@@ -117,6 +156,7 @@ typedef struct tram_solution {
     tram_diagnostic *diag;
     struct tram_point_result *points; /* solves from observed points (tram/points.h) */
     struct tram_pixel_result *pixels; /* solves from pixels (tram/pixel_solve.h) */
+    tram_trust_report trust;  /* the plausibility checks' figures                  */
 } tram_solution;
 
 /* Solve.  `setup` must be set (from the records' directive or the caller).

@@ -32,6 +32,10 @@
 #include "math/linalg_internal.h"
 #include "solve/refine_internal.h"
 #include "solve/pipeline_internal.h"
+#include "solve/diagnose_internal.h"
+#include "solve/pairing_internal.h"
+#include "solve/plausibility_internal.h"
+#include "math/stats_internal.h"
 
 #include <math.h>
 #include <stdio.h>
@@ -262,6 +266,186 @@ static tram_status model(const ctx *c, int which, tram_change *m, double *per_st
     return TRAM_OK;
 }
 
+/* ---- Before blaming the mount or the robot (docs/check.md) ----------- */
+
+/* "Nothing changed" chi-square of the records re-read under conv. */
+static tram_status reading_chi2(const tram_calibration *cal, const tram_records *src,
+                                const tram_block_convention *conv, const ctx *base, double *chi2,
+                                int *ok)
+{
+    *ok = 0;
+    tram_records *r = tram_records_clone(src);
+    if (!r) return TRAM_ENOMEM;
+    tram_error e;
+    tram_status st = TRAM_OK;
+    if (tram_records_rebuild(r, conv, &e) == TRAM_OK) {
+        tram_se3 *P, *S;
+        st = tram__station_poses(r, cal->setup, &P, &S);
+        if (st == TRAM_OK) {
+            double f = tram_unit_length_factor(r->length_unit, cal->length_unit);
+            for (size_t i = 0; i < r->count; i++) {
+                tram_se3_scale_translation(&P[i], f, &P[i]);
+                tram_se3_scale_translation(&S[i], f, &S[i]);
+            }
+            ctx c = *base;
+            c.P = P;
+            c.S = S;
+            int all12[12] = {1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1};
+            st = chi2_with_cov(&c, &cal->X, &cal->Z, all12, chi2, NULL);
+            *ok = st == TRAM_OK && isfinite(*chi2);
+            tram__free(P);
+            tram__free(S);
+        }
+    }
+    tram_records_destroy(r);
+    return st;
+}
+
+/* The convention doctor's readings: one under which the stations agree
+ * with the calibration (chi-square below the test's threshold), or - when
+ * no rigid change explains them - one 25 times closer, is a mistake in
+ * the record file, not a change of the cell.  *found is set. */
+static tram_status search_conventions(const tram_calibration *cal, const tram_records *r,
+                                      const ctx *c, tram_check_result *res, int *found)
+{
+    enum { CAP = 120 };
+    *found = 0;
+    tram__reading *rd = tram__malloc(CAP * sizeof *rd);
+    if (!rd) return TRAM_ENOMEM;
+    size_t nr = tram__convention_readings(r, cal->setup, rd, CAP), best = nr;
+    double best_chi2 = INFINITY;
+    tram_status st = TRAM_OK;
+    for (size_t k = 0; k < nr && st == TRAM_OK; k++) {
+        double q;
+        int ok;
+        st = reading_chi2(cal, r, rd[k].conv, c, &q, &ok);
+        if (ok && q < best_chi2) {
+            best_chi2 = q;
+            best = k;
+        }
+    }
+    if (st == TRAM_OK && best < nr &&
+        (best_chi2 <= res->threshold_none ||
+         (res->verdict == TRAM_VERDICT_INCONSISTENT && best_chi2 * 25.0 <= res->chi2_none))) {
+        char msg[700];
+        snprintf(msg, sizeof msg,
+                 "%s: read that way the stations %s the calibration (chi2 %.1f against %.1f; as "
+                 "declared %.1f). The deviations come from the record file, not from the mount "
+                 "or the robot: fix the file and check again",
+                 rd[best].fix, best_chi2 <= res->threshold_none ? "agree with" : "come far closer to",
+                 best_chi2, res->threshold_none, res->chi2_none);
+        st = add_diag(res, rd[best].code, TRAM_SEVERITY_WARNING, msg);
+        res->verdict = TRAM_VERDICT_INCONCLUSIVE;
+        *found = 1;
+    }
+    tram__free(rd);
+    return st;
+}
+
+/* The pairing test's fit for a check: sensor rows permuted, both change
+ * models fitted, the smaller median whitened station residual norm. */
+typedef struct perm_ctx {
+    const ctx *c;
+    tram_se3 *Sp;
+    double *per, *tmp;
+} perm_ctx;
+
+static tram_status perm_fit(const void *pctx, const size_t *perm, size_t n, double *med_rot,
+                            double *med_tr)
+{
+    const perm_ctx *pc = pctx;
+    ctx c = *pc->c;
+    if (perm) {
+        for (size_t i = 0; i < n; i++) pc->Sp[i] = pc->c->S[perm[i]];
+        c.S = pc->Sp;
+    }
+    double best = INFINITY;
+    for (int which = 0; which < 2; which++) {
+        tram_change m;
+        memset(&m, 0, sizeof m);
+        if (model(&c, which, &m, pc->per) != TRAM_OK) continue;
+        for (size_t i = 0; i < n; i++) pc->tmp[i] = sqrt(fmax(pc->per[i], 0));
+        double med = tram__median(pc->tmp, n);
+        if (med < best) best = med;
+    }
+    *med_rot = 0;
+    *med_tr = best;
+    return isfinite(best) ? TRAM_OK : TRAM_ENUMERIC;
+}
+
+/* Before a verdict other than ok: the convention search, the pairing test
+ * and the plausibility gate; each that finds the data at fault makes the
+ * verdict inconclusive with its reason.  *blamed: one of them did. */
+static tram_status trust_checks(const tram_calibration *cal, const tram_records *r, const ctx *c,
+                                const tram_check_options *opt, tram_check_result *res,
+                                int *blamed)
+{
+    *blamed = 0;
+    if (res->verdict == TRAM_VERDICT_OK || (opt && opt->no_plausibility)) return TRAM_OK;
+    tram_status st = search_conventions(cal, r, c, res, blamed);
+    if (st != TRAM_OK || *blamed) return st;
+    tram_trust_options t;
+    tram_trust_options_init(&t);
+    size_t n = c->n, perms = opt && opt->pairing_permutations ? opt->pairing_permutations
+                                                              : t.pairing_permutations;
+    unsigned long long seed = opt && opt->seed ? opt->seed : 1;
+    if (n >= 3) {
+        perm_ctx pc = {c, tram__malloc(n * sizeof(tram_se3)), tram__malloc(2 * n * sizeof(double)),
+                       NULL};
+        if (!pc.Sp || !pc.per) {
+            tram__free(pc.Sp);
+            tram__free(pc.per);
+            return TRAM_ENOMEM;
+        }
+        pc.tmp = pc.per + n;
+        tram__pairing_result pr;
+        st = tram__pairing_test(n, perms, seed, t.pairing_factor, 0, 1e-9, perm_fit, &pc, &pr);
+        tram__free(pc.Sp);
+        tram__free(pc.per);
+        if (st != TRAM_OK) return st;
+        if (pr.failed) {
+            char msg[600];
+            snprintf(msg, sizeof msg,
+                     "the data cannot tell a change: with the robot and sensor rows paired at "
+                     "random (%zu pairings, seed %llu) the best random pairing fits only %.2f "
+                     "times worse than the file's (at least %.3g times is needed). Check that "
+                     "each row pairs the robot pose with the sensor reading taken at it, and that "
+                     "both come from the same session",
+                     pr.permutations, seed, pr.ratio_trans, t.pairing_factor);
+            res->verdict = TRAM_VERDICT_INCONCLUSIVE;
+            *blamed = 1;
+            return add_diag(res, "pairing-not-determined", TRAM_SEVERITY_WARNING, msg);
+        }
+    }
+    if (res->verdict != TRAM_VERDICT_INCONSISTENT) return TRAM_OK;
+    /* The gate on the deviations from the stored calibration. */
+    double sr = 0, stt = 0;
+    for (size_t i = 0; i < n; i++) {
+        sr += tram__sq(res->stations[i].rot_deg);
+        stt += tram__sq(res->stations[i].trans);
+    }
+    sr = sqrt(sr / (double)(n ? n : 1));
+    stt = sqrt(stt / (double)(n ? n : 1));
+    double wd = tram__working_distance(c->S, n);
+    double lim = tram__gate_length(&t, cal->length_unit, wd);
+    if (sr > t.max_rms_deg || stt > lim) {
+        const char *u = tram_unit_length_name(cal->length_unit);
+        char msg[700];
+        snprintf(msg, sizeof msg,
+                 "the stations deviate from the calibration by RMS %.3g deg and %.4g %s, beyond "
+                 "what a working sensor and robot produce (%.3g deg and %.4g %s; common "
+                 "practice), and no rigid change explains them. Likely mistakes: robot and sensor "
+                 "rows not paired station by station, a unit or convention of the record file "
+                 "that differs from the calibration's, or the wrong file; only if the data are "
+                 "right, the robot itself (re-mastering, collision)",
+                 sr, stt, u, t.max_rms_deg, lim, u);
+        res->verdict = TRAM_VERDICT_INCONCLUSIVE;
+        *blamed = 1;
+        return add_diag(res, "implausible-residuals", TRAM_SEVERITY_WARNING, msg);
+    }
+    return TRAM_OK;
+}
+
 tram_status tram_check(const tram_calibration *cal, const tram_records *r,
                        const tram_check_options *opt, tram_check_result **out, tram_error *err)
 {
@@ -411,6 +595,8 @@ tram_status tram_check(const tram_calibration *cal, const tram_records *r,
                      "stations with more varied flange orientations");
         st = add_diag(res, "cause-undetermined", TRAM_SEVERITY_WARNING, msg);
     }
+    int blamed = 0;
+    if (st == TRAM_OK) st = trust_checks(cal, r, &c, opt, res, &blamed);
     if (st == TRAM_OK && res->verdict == TRAM_VERDICT_INCONSISTENT)
         st = add_diag(res, "no-rigid-change", TRAM_SEVERITY_WARNING,
                       "neither one rigid change of the sensor mount nor one of the target "

@@ -17,13 +17,19 @@ const char cli_check_help[] =
     "  sensor-moved   one rigid change of the sensor mount explains the deviations\n"
     "  target-moved   one rigid change of the target explains them\n"
     "  inconsistent   neither does (a robot, detection or data problem)\n"
-    "  inconclusive   the stations cannot tell the causes apart (e.g. one station)\n\n"
+    "  inconclusive   the stations cannot tell the causes apart (e.g. one station), or\n"
+    "                 the record file is at fault (a convention or unit that fits the\n"
+    "                 calibration, rows not paired, implausible deviations)\n\n"
     "options:\n"
     "  --calibration FILE   the calibration file (required)\n"
     "  --tolerance L,A      ok means every station within L and A, e.g. 0.5mm,0.1deg\n"
     "                       (default: a statistical test at a 1% false-alarm rate)\n"
     "  --history FILE       append one JSON line per check (atomic append)\n"
     "  --json               print the result as JSON (docs/check.md)\n"
+    "  --pairing-test N     random pairings of the pairing test (default 30)\n"
+    "  --seed N             the pairing test's seed (default 1)\n"
+    "  --no-plausibility    give the verdict without the convention search, the\n"
+    "                       pairing test and the plausibility gate\n"
     "  --length-unit U, --angle-unit U, --reorthonormalize   as for tram solve\n\n"
     "exit status: 0 ok; 1 sensor-moved, target-moved or inconsistent; 2 usage or input\n"
     "error; 3 inconclusive.\n";
@@ -78,8 +84,8 @@ static const char *advice(tram_verdict v)
         return "STOP vision-guided motion: no single moved part explains the data. Check the "
                "robot (mastering, payload, collision), the target detection and the data.";
     default:
-        return "NOT DECIDED: the stations cannot tell what moved. Do not use the calibration "
-               "until a check with more varied stations passes.";
+        return "NOT DECIDED: the stations cannot tell what moved, or the record file is at fault "
+               "(see the warnings). Do not use the calibration until a check passes.";
     }
 }
 
@@ -87,10 +93,13 @@ int cli_check(int argc, char **argv)
 {
     const char *calib = NULL, *file = NULL, *history = NULL, *tol = NULL, *v = NULL,
                *chain = NULL;
-    int json = 0, bad = 0;
+    int json = 0, bad = 0, no_plaus = 0;
+    size_t perms = 0;
+    unsigned long long seed = 0;
     tram_read_options ro;
     memset(&ro, 0, sizeof ro);
     for (int i = 1; i < argc; i++) {
+        char *end;
         if (cli_take(argc, argv, &i, "--calibration", &calib, &bad)) {
         } else if (cli_take(argc, argv, &i, "--tolerance", &tol, &bad)) {
         } else if (cli_take(argc, argv, &i, "--history", &history, &bad)) {
@@ -105,6 +114,18 @@ int cli_check(int argc, char **argv)
             ro.angle_unit = tram_unit_angle_parse(v);
             if (ro.angle_unit == TRAM_ANGLE_UNSET)
                 return cli_usage_error("check", "--angle-unit '%s': expected deg or rad", v);
+        } else if (cli_take(argc, argv, &i, "--pairing-test", &v, &bad)) {
+            if (bad) break;
+            long n = strtol(v, &end, 10);
+            if (*end || end == v || n < 1 || n > 10000)
+                return cli_usage_error("check", "--pairing-test '%s': expected a count", v);
+            perms = (size_t)n;
+        } else if (cli_take(argc, argv, &i, "--seed", &v, &bad)) {
+            if (bad) break;
+            seed = strtoull(v, &end, 10);
+            if (*end || end == v) return cli_usage_error("check", "--seed '%s': expected a number", v);
+        } else if (cli_flag(argv, i, "--no-plausibility")) {
+            no_plaus = 1;
         } else if (cli_flag(argv, i, "--json")) {
             json = 1;
         } else if (cli_flag(argv, i, "--reorthonormalize")) {
@@ -131,6 +152,9 @@ int cli_check(int argc, char **argv)
     }
     tram_check_options co;
     memset(&co, 0, sizeof co);
+    co.no_plausibility = no_plaus;
+    co.pairing_permutations = perms;
+    co.seed = seed;
     if (tol) {
         tram_length_unit tu;
         if (parse_tol(tol, &co.tol_length, &tu, &co.tol_angle_rad) != 0) {

@@ -30,9 +30,15 @@ const char cli_register_help[] =
     "  --seed N            RANSAC seed (default 1)\n"
     "  --threads N         threads for the moment pass of very large files (default 2)\n"
     "  --length-unit U     when the file does not declare one\n"
-    "  --json              print the result as JSON\n\n"
+    "  --json              print the result as JSON\n"
+    "  --max-residual LEN[+PCT%]   plausibility gate on the residual RMS (default\n"
+    "                      5mm+1%: 5 mm plus 1% of the working distance)\n"
+    "  --pairing-test N    random pairings of the pairing test (default 30; 0: off;\n"
+    "                      its seed is --seed)\n"
+    "  --no-plausibility   skip the gate and the pairing test\n\n"
     "exit status: 0 success; 2 usage or input error; 3 the points cannot determine the\n"
-    "transform (fewer than 3 points in 3D or 2 in 2D, coincident or collinear points).\n";
+    "transform (fewer than 3 points in 3D or 2 in 2D, coincident or collinear points),\n"
+    "or the residuals are implausible, or the pairing fits no better than random ones.\n";
 
 static void progress(void *ctx, size_t done, size_t total)
 {
@@ -57,8 +63,34 @@ static cJSON *arr(const double *v, int n)
     return a;
 }
 
+/* The plausibility warnings of a registration (register_trust.c) into
+ * msg[0..1]; returns how many. */
+static int trust_warnings(const tram_register_trust *t, const tram_register_trust_options *o,
+                          const char *u, char msg[2][600])
+{
+    int k = 0;
+    if (t->gate_failed)
+        snprintf(msg[k++], sizeof msg[0],
+                 "implausible-residuals: the residual RMS %.4g %s is beyond what a working sensor "
+                 "and robot produce (at most %.4g %s: %.4g %s plus %.3g%% of the %.4g %s working "
+                 "distance; common practice, set with --max-residual). Likely mistakes: the "
+                 "point rows not paired (shifted or sorted differently), a unit, or the wrong "
+                 "file",
+                 t->rms, u, t->limit, u, o->max_rms, u, 100 * o->max_rms_fraction,
+                 t->working_distance, u);
+    if (t->pairing_failed)
+        snprintf(msg[k++], sizeof msg[0],
+                 "pairing-not-determined: with the 'to' points paired at random (%zu pairings, "
+                 "seed %llu) the best random pairing fits only %.3g times worse than the file's "
+                 "(at least %.3g times is needed): the points cannot tell the transform; check "
+                 "that each row pairs a point with its own partner",
+                 t->permutations, o->seed, t->pairing_ratio, o->factor);
+    return k;
+}
+
 static int print_json(const tram_point_pairs *p, const tram_register_result *res, const double *resid,
-                      const int *inlier, int robust, double thr, const char *method, int scale)
+                      const int *inlier, int robust, double thr, const char *method, int scale,
+                      const tram_register_trust *trust, const tram_register_trust_options *to)
 {
     int d = p->dim;
     const tram_se3 *T = &res->T_to_from;
@@ -120,7 +152,29 @@ static int print_json(const tram_point_pairs *p, const tram_register_result *res
         cJSON_AddItemToObject(r, "threshold", num(thr));
         cJSON_AddNumberToObject(r, "inliers", (double)k);
     }
-    cJSON_AddArrayToObject(root, "diagnostics");
+    cJSON *pl = cJSON_AddObjectToObject(root, "plausibility");
+    cJSON_AddItemToObject(pl, "working_distance", num(trust->working_distance));
+    cJSON_AddItemToObject(pl, "limit_rms", num(trust->limit));
+    cJSON_AddBoolToObject(pl, "gate_passed", !trust->gate_failed);
+    if (trust->permutations) {
+        cJSON *pt = cJSON_AddObjectToObject(pl, "pairing_test");
+        cJSON_AddItemToObject(pt, "permutations", num((double)trust->permutations));
+        cJSON_AddItemToObject(pt, "seed", num((double)to->seed));
+        cJSON_AddItemToObject(pt, "ratio", num(trust->pairing_ratio));
+        cJSON_AddBoolToObject(pt, "passed", !trust->pairing_failed);
+    }
+    cJSON *dg = cJSON_AddArrayToObject(root, "diagnostics");
+    char msg[2][600];
+    int nw = trust_warnings(trust, to, tram_unit_length_name(p->length_unit), msg);
+    for (int j = 0; j < nw; j++) {
+        cJSON *o = cJSON_CreateObject();
+        char *colon = strchr(msg[j], ':');
+        *colon = '\0';
+        cJSON_AddStringToObject(o, "code", msg[j]);
+        cJSON_AddStringToObject(o, "severity", "warning");
+        cJSON_AddStringToObject(o, "message", colon + 2);
+        cJSON_AddItemToArray(dg, o);
+    }
     char *text = cJSON_Print(root);
     cJSON_Delete(root);
     if (!text) return CLI_EXIT_USAGE;
@@ -137,6 +191,9 @@ int cli_register(int argc, char **argv)
     tram_length_unit lu = TRAM_LENGTH_UNSET, thr_unit = TRAM_LENGTH_UNSET;
     double thr = 0;
     unsigned long long seed = 1;
+    tram_register_trust_options to = {0.005, 0.01, 30, 1, 3.0};
+    int plaus = 1;
+    double max_rms_m = 0.005;
     for (int i = 1; i < argc; i++) {
         if (cli_flag(argv, i, "--scale")) {
             ro.scale = 1;
@@ -144,6 +201,37 @@ int cli_register(int argc, char **argv)
             robust = 1;
         } else if (cli_flag(argv, i, "--json")) {
             json = 1;
+        } else if (cli_flag(argv, i, "--no-plausibility")) {
+            plaus = 0;
+        } else if (cli_take(argc, argv, &i, "--max-residual", &v, &bad)) {
+            if (bad) break;
+            char *end;
+            double x = strtod(v, &end);
+            tram_length_unit xu = TRAM_LENGTH_UNSET;
+            char ub[8] = {0};
+            size_t ul = strcspn(end, "+");
+            if (ul < sizeof ub) {
+                memcpy(ub, end, ul);
+                xu = tram_unit_length_parse(ub);
+            }
+            const char *rest = end + ul;
+            double pct = 1.0;
+            if (*rest == '+') {
+                pct = strtod(rest + 1, &end);
+                rest = (end != rest + 1 && *end == '%' && end[1] == '\0' && pct >= 0) ? "" : NULL;
+            }
+            if (end == v || !(x > 0) || xu == TRAM_LENGTH_UNSET || !rest || *rest)
+                return cli_usage_error("register", "--max-residual '%s': expected LENGTH[+PERCENT%%], "
+                                                   "e.g. 5mm+1%%", v);
+            max_rms_m = x * tram_unit_length_in_m(xu);
+            to.max_rms_fraction = pct / 100;
+        } else if (cli_take(argc, argv, &i, "--pairing-test", &v, &bad)) {
+            if (bad) break;
+            char *end;
+            long n = strtol(v, &end, 10);
+            if (*end || end == v || n < 0 || n > 10000)
+                return cli_usage_error("register", "--pairing-test '%s': expected a count (0: off)", v);
+            to.permutations = (size_t)n;
         } else if (cli_take(argc, argv, &i, "--method", &method, &bad)) {
             if (bad) break;
             if (strcmp(method, "svd") == 0) ro.method = TRAM_REGISTER_SVD;
@@ -215,9 +303,24 @@ int cli_register(int argc, char **argv)
         rc = cli_exit_for(st);
     } else {
         tram_register_residuals(p->from, p->to, p->n, p->dim, &res, resid);
+        to.seed = seed;
+        to.max_rms = max_rms_m / tram_unit_length_in_m(p->length_unit);
+        if (!plaus) {
+            to.max_rms = to.max_rms_fraction = 0;
+            to.permutations = 0;
+        }
+        tram_register_trust trust;
+        if (tram_register_trust_check(p->from, p->to, p->weight, p->n, &ro, &res,
+                                      robust ? inlier : NULL, &to, &trust, &err) != TRAM_OK) {
+            cli_report(&err);
+            free(resid);
+            free(inlier);
+            tram_point_pairs_destroy(p);
+            return CLI_EXIT_USAGE;
+        }
         const char *mname = ro.scale ? "umeyama" : (ro.method == TRAM_REGISTER_QUATERNION ? "horn" : "kabsch");
         if (json) {
-            rc = print_json(p, &res, resid, inlier, robust, used, mname, ro.scale);
+            rc = print_json(p, &res, resid, inlier, robust, used, mname, ro.scale, &trust, &to);
         } else {
             const char *u = tram_unit_length_name(p->length_unit);
             const tram_se3 *T = &res.T_to_from;
@@ -261,7 +364,21 @@ int cli_register(int argc, char **argv)
             }
             printf("  residual rms %.5f %s, max %.5f %s over %zu point(s)", k ? sqrt(ss / (double)k) : 0.0, u, mx, u, k);
             if (robust) printf("; inlier threshold %.5g %s, %zu outlier(s)", used, u, outl);
-            printf("\n\n%s", cli_safety_text);
+            printf("\nplausibility gate: RMS at most %.4g %s (working distance %.4g %s): %s\n",
+                   trust.limit, u, trust.working_distance, u,
+                   !plaus ? "skipped" : trust.gate_failed ? "EXCEEDED" : "passed");
+            if (trust.permutations)
+                printf("pairing test: the best of %zu random pairings (seed %llu) fits %.3g times "
+                       "worse than the file's: %s\n",
+                       trust.permutations, seed, trust.pairing_ratio,
+                       trust.pairing_failed ? "NOT DETERMINED" : "passed");
+            printf("\n%s", cli_safety_text);
+        }
+        if (rc == CLI_EXIT_OK) {
+            char msg[2][600];
+            int nw = trust_warnings(&trust, &to, tram_unit_length_name(p->length_unit), msg);
+            for (int k = 0; k < nw; k++) fprintf(stderr, "tram register: warning: %s\n", msg[k]);
+            if (nw) rc = CLI_EXIT_UNDETERMINED;
         }
     }
     free(resid);

@@ -35,6 +35,13 @@ const char cli_solve_help[] =
     "  --bootstrap N     N station resamples as a second opinion on the uncertainty\n"
     "  --seed N          bootstrap seed (default 1)\n"
     "  --no-convention-check   skip re-solving under the usual convention mistakes\n"
+    "  --max-residual LEN[+PCT%],ANG   plausibility gate on the station (or point) RMS\n"
+    "                    residual, default 5mm+1%,1deg (PCT of the working distance)\n"
+    "  --max-offset LEN,LEN   farthest plausible mount from the flange and from the\n"
+    "                    base, default 0.5m,5m\n"
+    "  --pairing-test N  random pairings of the pairing test (default 30; 0: off);\n"
+    "                    its seed is --seed\n"
+    "  --no-plausibility  skip the gate and the mount geometry check\n"
     "  --length-unit U, --angle-unit U   units when the file does not declare them\n"
     "  --reorthonormalize        accept rounded rotation matrices\n"
     "  --chain FILE      the record file gives joint readings: compute the flange\n"
@@ -53,7 +60,8 @@ const char cli_solve_help[] =
     "  --plot DIR        write frames.png and residuals.png of the solve into DIR\n\n"
     "exit status: 0 solved with no warning; 2 usage or input error; 3 the data cannot\n"
     "determine a trustworthy answer (unobservable motion, or a warning such as a\n"
-    "convention that fits far better than the declared one).\n";
+    "convention that fits far better than the declared one, implausible residuals,\n"
+    "a pairing that fits no better than random ones, or an implausible mount).\n";
 
 static void progress(void *ctx, const char *what, size_t done, size_t total)
 {
@@ -182,6 +190,23 @@ static const char *sev(tram_severity s)
     return s == TRAM_SEVERITY_ERROR ? "error" : s == TRAM_SEVERITY_WARNING ? "WARNING" : "note";
 }
 
+/* The plausibility checks' figures (docs/solve.md). */
+static void print_trust(const tram_solution *s)
+{
+    const char *u = tram_unit_length_name(s->length_unit);
+    if (!s->solved) return;
+    if (s->trust.limit_length > 0)
+        printf("plausibility gate: RMS at most %.3g deg and %.4g %s (working distance %.4g %s): "
+               "%s\n",
+               s->trust.limit_rot_deg, s->trust.limit_length, u, s->trust.working_distance, u,
+               s->trust.gate_failed ? "EXCEEDED" : "passed");
+    if (s->trust.pairing_done)
+        printf("pairing test: the best of %zu random pairings (seed %llu) fits %.3g times (rotation) "
+               "and %.3g times (translation) worse than the file's: %s\n",
+               s->trust.pairing_permutations, s->trust.pairing_seed, s->trust.pairing_ratio_rot,
+               s->trust.pairing_ratio_trans, s->trust.pairing_failed ? "NOT DETERMINED" : "passed");
+}
+
 static void print_summary(const tram_solution *s, const tram_records *r)
 {
     const char *u = tram_unit_length_name(s->length_unit);
@@ -234,6 +259,7 @@ static void print_summary(const tram_solution *s, const tram_records *r)
            s->motion_min_deg, s->motion_max_deg, s->axis_spread_deg);
     if (s->refined) printf(", condition %.3g", s->condition);
     printf("\n");
+    print_trust(s);
     if (s->solved) {
         printf("closed forms (rms rotation deg / %s):", u);
         for (int m = 1; m < TRAM_METHOD_COUNT; m++) {
@@ -267,6 +293,71 @@ typedef struct solve_args {
     int json, force;
     cli_pixel_args pix;
 } solve_args;
+
+/* "LEN[UNIT]" -> metres; the unit is required.  -1 on error. */
+static double length_in_m(const char *v, const char **rest)
+{
+    char *end;
+    double x = strtod(v, &end);
+    if (end == v || !(x > 0)) return -1;
+    static const char *const names[] = {"mm", "cm", "m", "in"};
+    for (size_t k = 0; k < 4; k++) {
+        size_t l = strlen(names[k]);
+        if (strncmp(end, names[k], l) == 0 && !(end[l] >= 'a' && end[l] <= 'z')) {
+            *rest = end + l;
+            return x * tram_unit_length_in_m(tram_unit_length_parse(names[k]));
+        }
+    }
+    return -1;
+}
+
+/* --max-residual LEN[+PCT%],ANG, --max-offset LEN,LEN, --pairing-test N
+ * and --no-plausibility into the trust options.  As take_solver_option. */
+static int take_trust_option(int argc, char **argv, int *i, solve_args *a, int *bad, int *rc)
+{
+    const char *v = NULL, *rest = NULL;
+    char *end;
+    tram_trust_options *t = &a->so.trust;
+    if (cli_flag(argv, *i, "--no-plausibility")) {
+        t->gate = 0;
+    } else if (cli_take(argc, argv, i, "--max-residual", &v, bad)) {
+        if (*bad) return 1;
+        double len = length_in_m(v, &rest), pct = t->max_rms_fraction * 100, ang = -1;
+        if (len > 0 && *rest == '+') {
+            pct = strtod(rest + 1, &end);
+            rest = (end != rest + 1 && *end == '%' && pct >= 0) ? end + 1 : NULL;
+        }
+        if (len > 0 && rest && *rest == ',') {
+            ang = strtod(rest + 1, &end);
+            tram_angle_unit au = end != rest + 1 ? tram_unit_angle_parse(end) : TRAM_ANGLE_UNSET;
+            ang = (au != TRAM_ANGLE_UNSET && ang > 0) ? ang * tram_unit_angle_in_rad(au) * RAD2DEG : -1;
+        }
+        if (!(ang > 0))
+            *rc = cli_usage_error("solve", "--max-residual '%s': expected LENGTH[+PERCENT%%],ANGLE, "
+                                           "e.g. 5mm+1%%,1deg", v);
+        t->max_rms_m = len;
+        t->max_rms_fraction = pct / 100;
+        t->max_rms_deg = ang;
+    } else if (cli_take(argc, argv, i, "--max-offset", &v, bad)) {
+        if (*bad) return 1;
+        double f = length_in_m(v, &rest), b = -1;
+        if (f > 0 && *rest == ',') b = length_in_m(rest + 1, &rest);
+        if (!(b > 0) || *rest)
+            *rc = cli_usage_error("solve", "--max-offset '%s': expected FLANGE,BASE lengths, e.g. "
+                                           "0.5m,5m", v);
+        t->max_flange_offset_m = f;
+        t->max_base_offset_m = b;
+    } else if (cli_take(argc, argv, i, "--pairing-test", &v, bad)) {
+        if (*bad) return 1;
+        long n = strtol(v, &end, 10);
+        if (*end || end == v || n < 0 || n > 10000)
+            *rc = cli_usage_error("solve", "--pairing-test '%s': expected a count (0: off)", v);
+        else t->pairing_permutations = (size_t)n;
+    } else {
+        return 0;
+    }
+    return 1;
+}
 
 /* One option that takes a value of the solver's (method, pairs, counts,
  * units).  Returns 1 when argv[*i] was such an option (then *rc is set on a
@@ -345,7 +436,8 @@ static int parse_args(int argc, char **argv, solve_args *a)
     int bad = 0;
     for (int i = 1; i < argc; i++) {
         int rc = CLI_EXIT_OK;
-        if (take_solver_option(argc, argv, &i, a, &bad, &rc)) {
+        if (take_solver_option(argc, argv, &i, a, &bad, &rc) ||
+            take_trust_option(argc, argv, &i, a, &bad, &rc)) {
             if (rc != CLI_EXIT_OK) return rc;
         } else if (cli_take(argc, argv, &i, "--noise", &a->noise, &bad)) {
         } else if (cli_take(argc, argv, &i, "--chain", &a->chain, &bad)) {

@@ -14,16 +14,26 @@
  * Convention doctor.  The data are re-read under each usual mistake - robot
  * or sensor poses inverted, the sensor's lengths off by 10, 25.4 or 1000,
  * quaternion columns in x,y,z,w order, degrees read as radians (or the
- * reverse), every other Euler convention - and solved quickly.  A reading
- * whose residual score (median rotation and translation residuals, each
- * relative to the best reading's) is five times lower than the declared
- * reading's is reported with its fix; the declared reading is kept.
+ * reverse), every other Euler convention - and under the common mistakes
+ * in combination (inversions and quaternion orders of both blocks, a
+ * length factor with the quaternion orders), each scored by the capped
+ * quick fit (quickfit.c).  A reading whose residual score (median rotation
+ * and translation residuals, each relative to the best reading's) is five
+ * times lower than the declared reading's - or, when the declared reading
+ * fails the plausibility gate (plausibility.c), one that passes it and is
+ * twice lower - is reported with its fix; the declared reading is kept.
+ *
+ * Weak motion.  Below 20 deg of rotation between any two stations (common
+ * practice) the translation is weakly determined: the rotation noise
+ * reaches it amplified by 1 / (2 sin(theta / 2)).
  */
 #include "tram/rotation.h"
 #include "solve/handeye_internal.h"
 #include "math/linalg_internal.h"
 #include "solve/diagnose_internal.h"
 #include "solve/pipeline_internal.h"
+#include "solve/quickfit_internal.h"
+#include "solve/plausibility_internal.h"
 
 #include <math.h>
 #include <stdio.h>
@@ -31,6 +41,9 @@
 #include <string.h>
 
 #define RAD2DEG (180.0 / TRAM_PI)
+/* Below this largest rotation between stations the translation is weakly
+ * determined (common practice; docs/solve.md, "Weak motion"). */
+#define WEAK_MOTION_DEG 20.0
 
 int tram__observability(const tram_se3 *P, size_t n, tram_setup setup, tram_solution *s)
 {
@@ -84,6 +97,19 @@ int tram__observability(const tram_se3 *P, size_t n, tram_setup setup, tram_solu
                        "axis spread %.2f deg); Tsai & Lenz (1989) advise large rotations about "
                        "well-spread axes: add stations that tilt the flange further",
                        mx * RAD2DEG, spread);
+    else if (mx * RAD2DEG < WEAK_MOTION_DEG)
+        /* The translation of X comes from (R_A - I) t_X = R_X t_B - t_A:
+         * |R_A - I| = 2 sin(theta / 2), so the rotation noise times the
+         * working distance reaches t_X amplified by 1 / (2 sin(theta / 2)). */
+        tram__diag_add(s, "weak-motion", TRAM_SEVERITY_WARNING,
+                       "the largest rotation between any two stations is %.2f deg: too small for "
+                       "the noise to determine the sensor's position well (the rotation noise "
+                       "reaches it amplified about %.1f times, and the stated uncertainty is "
+                       "then too optimistic); add stations that tilt the flange by %.0f deg or "
+                       "more from the others about at least two different axes, e.g. +-%.0f deg "
+                       "about the %s frame's x and y axes (common practice)",
+                       mx * RAD2DEG, 1.0 / (2.0 * sin(0.5 * mx)), WEAK_MOTION_DEG,
+                       WEAK_MOTION_DEG, frame);
     return 0;
 }
 
@@ -145,6 +171,73 @@ static const char *unit_for_scale(double want, tram_length_unit file_unit)
     return NULL;
 }
 
+/* The sensor scale factors tried, and how to write each (fix text). */
+static const double scales[] = {1000.0, 0.001, 25.4, 1.0 / 25.4, 10.0, 0.1};
+
+static void scale_fix(const tram_records *r, double k, char *buf, size_t cap)
+{
+    const char *u = unit_for_scale(r->conv[1].length_scale * k, r->length_unit);
+    if (u)
+        snprintf(buf, cap, "add '# sensor-length-unit: %s' (lengths %g times off)", u, k);
+    else
+        snprintf(buf, cap, "multiply the sensor_x, _y, _z columns by %g", k);
+}
+
+static void order_fix(int b, char *buf, size_t cap)
+{
+    snprintf(buf, cap, "the %s quaternion columns hold x, y, z, w: rename %s_qw,%s_qx,%s_qy,%s_qz "
+             "to %s_qx,%s_qy,%s_qz,%s_qw", bw[b], bw[b], bw[b], bw[b], bw[b], bw[b], bw[b], bw[b],
+             bw[b]);
+}
+
+/* Mistakes in combination, both blocks at once (docs/solve.md): every mix
+ * of robot / sensor poses inverted and robot / sensor quaternions
+ * scalar-last with at least two mistakes, and each sensor length scale
+ * with each mix of quaternion orders. */
+static void add_combinations(const tram_records *r, hypothesis *h, size_t *nh, size_t cap,
+                             int robot, int sensor)
+{
+    const tram_block_convention *c = r->conv;
+    int ordok[2] = {robot && c[0].rep == TRAM_REP_QUAT, sensor && c[1].rep == TRAM_REP_QUAT};
+    for (int mask = 1; mask < 16; mask++) {
+        int ri = mask & 1, si = (mask >> 1) & 1, ro = (mask >> 2) & 1, so = (mask >> 3) & 1;
+        if ((ri && !robot) || (si && !sensor) || (ro && !ordok[0]) || (so && !ordok[1])) continue;
+        for (size_t k = 0; k <= sizeof scales / sizeof scales[0]; k++) {
+            int sc = k < sizeof scales / sizeof scales[0];
+            if (sc && (!sensor || ri || si)) continue; /* units go with the orders only */
+            int count = ri + si + ro + so + sc;
+            if (count < 2 || (ri && si && count == 2)) continue; /* singles are made above */
+            tram_block_convention t[2];
+            memcpy(t, c, sizeof t);
+            char fix[360] = "several convention mistakes at once:", part[200];
+            size_t len = strlen(fix);
+            if (ri) {
+                t[0].inverted = !t[0].inverted;
+                len += (size_t)snprintf(fix + len, sizeof fix - len, " add '# robot-pose: %s';",
+                                        c[0].inverted ? "flange-in-base" : "base-in-flange");
+            }
+            if (si && len < sizeof fix) {
+                t[1].inverted = !t[1].inverted;
+                len += (size_t)snprintf(fix + len, sizeof fix - len, " add '# sensor-pose: %s';",
+                                        c[1].inverted ? "target-in-sensor" : "sensor-in-target");
+            }
+            for (int b = 0; b < 2; b++)
+                if ((b ? so : ro) && len < sizeof fix) {
+                    t[b].quat_xyzw = !t[b].quat_xyzw;
+                    order_fix(b, part, sizeof part);
+                    len += (size_t)snprintf(fix + len, sizeof fix - len, " %s;", part);
+                }
+            if (sc && len < sizeof fix) {
+                t[1].length_scale = c[1].length_scale * scales[k];
+                scale_fix(r, scales[k], part, sizeof part);
+                len += (size_t)snprintf(fix + len, sizeof fix - len, " %s;", part);
+            }
+            if (len > 0 && len < sizeof fix) fix[len - 1] = '\0'; /* the last ';' */
+            add_hyp(h, nh, cap, t, "conventions-combined", fix);
+        }
+    }
+}
+
 static size_t make_hypotheses(const tram_records *r, tram_setup setup, hypothesis *h, size_t cap)
 {
     size_t nh = 0;
@@ -180,7 +273,6 @@ static size_t make_hypotheses(const tram_records *r, tram_setup setup, hypothesi
              c[1].inverted ? "target-in-sensor" : "sensor-in-target");
     if (sensor && robot) add_hyp(h, &nh, cap, t, "both-poses-inverted", fix);
     /* sensor lengths in another unit than the robot's */
-    static const double scales[] = {1000.0, 0.001, 25.4, 1.0 / 25.4, 10.0, 0.1};
     for (size_t k = 0; sensor && k < sizeof scales / sizeof scales[0]; k++) {
         memcpy(t, c, sizeof t);
         t[1].length_scale = c[1].length_scale * scales[k];
@@ -231,6 +323,22 @@ static size_t make_hypotheses(const tram_records *r, tram_setup setup, hypothesi
             }
         }
     }
+    add_combinations(r, h, &nh, cap, robot, sensor);
+    return nh;
+}
+
+size_t tram__convention_readings(const tram_records *r, tram_setup setup, tram__reading *out,
+                                 size_t cap)
+{
+    hypothesis *h = tram__malloc((cap ? cap : 1) * sizeof *h);
+    if (!h) return 0;
+    size_t nh = make_hypotheses(r, setup, h, cap);
+    for (size_t k = 0; k < nh; k++) {
+        memcpy(out[k].conv, h[k].conv, sizeof out[k].conv);
+        memcpy(out[k].code, h[k].code, sizeof out[k].code);
+        memcpy(out[k].fix, h[k].fix, sizeof out[k].fix);
+    }
+    tram__free(h);
     return nh;
 }
 
@@ -243,7 +351,7 @@ static tram_status pose_fit(const tram_records *r, tram_setup setup, const void 
     tram_status st = tram__station_poses(r, setup, &P, &S);
     if (st != TRAM_OK) return st;
     tram_se3 X, Z;
-    st = tram__quick_fit(P, S, r->count, med_rot, med_tr, &X, &Z);
+    st = tram__capped_fit(P, S, r->count, TRAM_QUICKFIT_STEPS, med_rot, med_tr, &X, &Z);
     if (st == TRAM_OK) {
         const tram_se3 *M = setup == TRAM_SETUP_EYE_TO_HAND ? &Z : &X;
         *mount_len = sqrt(tram__sq(M->m[0][3]) + tram__sq(M->m[1][3]) + tram__sq(M->m[2][3]));
@@ -279,10 +387,19 @@ static tram_status fit_reading(const tram_records *src, const tram_block_convent
     return st;
 }
 
-tram_status tram__check_conventions_with(const tram_records *r, tram_setup setup, tram_solution *s,
-                                         tram__fit_fn fit, const void *ctx, size_t max_n)
+/* Does a reading's fit pass the plausibility gate (its medians against the
+ * RMS limits; the working distance scaled with the reading's lengths)? */
+static int reading_plausible(const tram_trust_options *t, tram_length_unit unit, double wd,
+                             double med_rot, double med_tr)
 {
-    enum { CAP = 80 };
+    return med_rot * RAD2DEG <= t->max_rms_deg && med_tr <= tram__gate_length(t, unit, wd);
+}
+
+tram_status tram__check_conventions_with(const tram_records *r, tram_setup setup, tram_solution *s,
+                                         tram__fit_fn fit, const void *ctx, size_t max_n,
+                                         const tram_trust_options *t, double wd)
+{
+    enum { CAP = 120 };
     hypothesis *h = tram__malloc(CAP * sizeof *h);
     if (!h) return TRAM_ENOMEM;
     double base_rot, base_tr, base_len;
@@ -321,8 +438,17 @@ tram_status tram__check_conventions_with(const tram_records *r, tram_setup setup
             best = k;
         }
     }
-    if (best < nh && best_score * 5.0 < base_score &&
-        (base_rot > 1e-3 / RAD2DEG || base_tr > 10 * lfloor)) {
+    /* Decision rule (docs/solve.md): a reading that fits five times better
+     * than the declared one; or, when the declared reading fails the
+     * plausibility gate, a reading that passes it and fits twice better. */
+    int far_better = best < nh && best_score * 5.0 < base_score;
+    int rescues = 0;
+    if (best < nh && t && t->gate && !reading_plausible(t, r->length_unit, wd, base_rot, base_tr)) {
+        double f = h[best].conv[1].length_scale / r->conv[1].length_scale;
+        rescues = best_score * 2.0 < base_score &&
+                  reading_plausible(t, r->length_unit, wd * f, h[best].med_rot, h[best].med_tr);
+    }
+    if ((far_better || rescues) && (base_rot > 1e-3 / RAD2DEG || base_tr > 10 * lfloor)) {
         /* Readings that fit about as well cannot be told apart by the data
          * (e.g. robot inverted vs sensor inverted with X and Z swapped).
          * Name them all, the one with the shorter mount first: a sensor or
@@ -336,9 +462,9 @@ tram_status tram__check_conventions_with(const tram_records *r, tram_setup setup
         for (size_t a = 0; a < nt; a++)
             for (size_t b = a + 1; b < nt; b++)
                 if (h[tie[b]].mount_len < h[tie[a]].mount_len) {
-                    size_t t = tie[a];
+                    size_t tmp = tie[a];
                     tie[a] = tie[b];
-                    tie[b] = t;
+                    tie[b] = tmp;
                 }
         const char *u = tram_unit_length_name(r->length_unit);
         const char *mount = setup == TRAM_SETUP_EYE_TO_HAND ? "the target" : "the sensor";
@@ -371,7 +497,14 @@ tram_status tram__check_conventions_with(const tram_records *r, tram_setup setup
     return st;
 }
 
-tram_status tram__check_conventions(const tram_records *r, tram_setup setup, tram_solution *s)
+tram_status tram__check_conventions(const tram_records *r, tram_setup setup, tram_solution *s,
+                                    const tram_trust_options *t)
 {
-    return tram__check_conventions_with(r, setup, s, pose_fit, NULL, 300);
+    double wd = 0;
+    tram_se3 *P, *S;
+    if (tram__station_poses(r, setup, &P, &S) != TRAM_OK) return TRAM_ENOMEM;
+    wd = tram__working_distance(S, r->count);
+    tram__free(P);
+    tram__free(S);
+    return tram__check_conventions_with(r, setup, s, pose_fit, NULL, 60, t, wd);
 }

@@ -10,7 +10,9 @@
  *
  *   Tsai & Lenz (IEEE T-RA 5(3), 1989): with P = 2 sin(theta/2) n for each
  *     motion, skew(P_A + P_B) g = P_B - P_A, g = tan(phi/2) u the Gibbs
- *     vector of R_X.
+ *     vector of R_X; singular at phi = 180 deg, so a first estimate beyond
+ *     90 deg is used as a known offset and the problem solved again near
+ *     the identity (docs/methods.md).
  *   Park & Martin (IEEE T-RA 10(5), 1994): alpha = log R_A, beta = log R_B,
  *     M = sum beta alpha^T, R_X = (M^T M)^(-1/2) M^T, evaluated as V U^T
  *     from M = U S V^T (equal for full rank, and defined for rank 2).
@@ -149,6 +151,31 @@ static tram_status rot_tsai_lenz(const motion *m, size_t n, tram_mat3 *RX)
         for (int i = 0; i < 3; i++) w[i] = g[i] / gn * phi;
     tram_so3_exp(w, RX);
     return TRAM_OK;
+}
+
+/* Tsai & Lenz near a half turn.  The Gibbs vector tan(phi/2) u of R_X is
+ * unbounded as phi -> 180 deg, so the least-squares solve above loses
+ * accuracy there (several degrees at 180.0).  A known offset Q removes the
+ * singularity: with R_X = R' Q, R_A R_X = R_X R_B becomes R_A R' = R' (Q R_B
+ * Q^T), whose solution R' is near the identity when Q is near R_X.  Q is
+ * the first estimate itself, used when it turns by more than 90 deg. */
+static tram_status rot_tsai_lenz_offset(const motion *m, size_t n, tram_mat3 *RX)
+{
+    tram_status st = rot_tsai_lenz(m, n, RX);
+    if (st != TRAM_OK || tram_so3_angle(RX) < 0.5 * TRAM_PI) return st;
+    motion *q = tram__malloc((n ? n : 1) * sizeof *q);
+    if (!q) return TRAM_ENOMEM;
+    tram_mat3 Q = *RX, Qt, T, Rp;
+    tram_so3_transpose(&Q, &Qt);
+    for (size_t k = 0; k < n; k++) {
+        q[k] = m[k];
+        tram_so3_mul(&Q, &m[k].RB, &T);
+        tram_so3_mul(&T, &Qt, &q[k].RB);
+    }
+    st = rot_tsai_lenz(q, n, &Rp);
+    tram__free(q);
+    if (st == TRAM_OK) tram_so3_mul(&Rp, &Q, RX);
+    return st;
 }
 
 static tram_status rot_park_martin(const motion *m, size_t n, tram_mat3 *RX)
@@ -375,7 +402,7 @@ tram_status tram__solve_axxb(tram_method method, const tram_se3 *P, const tram_s
     double tX[3];
     int have_t = 0;
     switch (method) {
-    case TRAM_METHOD_TSAI_LENZ: st = rot_tsai_lenz(m, npairs, &RX); break;
+    case TRAM_METHOD_TSAI_LENZ: st = rot_tsai_lenz_offset(m, npairs, &RX); break;
     case TRAM_METHOD_PARK_MARTIN: st = rot_park_martin(m, npairs, &RX); break;
     case TRAM_METHOD_HORAUD_DORNAIKA: st = rot_horaud_dornaika(m, npairs, &RX); break;
     case TRAM_METHOD_ANDREFF: st = rot_andreff(m, npairs, &RX); break;

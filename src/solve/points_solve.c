@@ -26,6 +26,8 @@
 #include "solve/diagnose_internal.h"
 #include "solve/pipeline_internal.h"
 #include "math/stats_internal.h"
+#include "solve/plausibility_internal.h"
+#include "solve/pairing_internal.h"
 
 #include <math.h>
 #include <stdio.h>
@@ -294,6 +296,19 @@ static double robust_sigma(const double *res, const int *excl, size_t n)
     return s;
 }
 
+/* Median distance of the observed points from the sensor: the working
+ * distance of the plausibility gate (plausibility.c). */
+static double obs_dist(const void *ctx, size_t o)
+{
+    const double *p = (const double *)ctx + 3 * o;
+    return sqrt(p[0] * p[0] + p[1] * p[1] + p[2] * p[2]);
+}
+
+static double points_working_distance(const tram_point_obs *obs)
+{
+    return obs->n ? tram__median_of(obs->n, obs_dist, obs->xyz) : 0.0;
+}
+
 /* Fill the point statistics of the solution. */
 static tram_status point_stats(const tram_records *r, const tram_point_obs *obs, const pctx *c,
                                const setup_data *d, const tram_solution *sol, const double *model,
@@ -483,6 +498,12 @@ finish:
             pr->with_model = 1;
             pr->noise_length = 1.0 / c.inv_sigma;
             sol->points = pr;
+            /* The pose solve ran the pairing test; gate the point residuals
+             * (once: not again when the station residuals failed already). */
+            if (st == TRAM_OK && !sol->trust.gate_failed &&
+                tram__gate(sol, &opt->trust, points_working_distance(obs), NAN, pr->point.rms,
+                           "3D point") != TRAM_OK)
+                st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
         }
     }
 out:
@@ -524,6 +545,61 @@ static tram_status doctor_fit(const tram_records *r, tram_setup setup, const voi
         *mount_len = sqrt(tram__sq(M->m[0][3]) + tram__sq(M->m[1][3]) + tram__sq(M->m[2][3]));
     }
     free_setup(&d);
+    return st;
+}
+
+/* The pairing test's fit (pairing.c): the robot rows permuted against the
+ * stations' observed points, scored by the doctor's fit. */
+typedef struct pair_ctx {
+    const tram_records *r;
+    tram_records *work; /* scratch copy whose robot rows are permuted */
+    tram_setup setup;
+    doc_ctx dc;
+} pair_ctx;
+
+static tram_status pairing_fit(const void *ctx, const size_t *perm, size_t n, double *med_rot,
+                               double *med_tr)
+{
+    const pair_ctx *pc = ctx;
+    for (size_t i = 0; i < n; i++)
+        pc->work->stations[i].T_base_flange = pc->r->stations[perm ? perm[i] : i].T_base_flange;
+    /* The linear start alone (a capped fit): a pairing that fits is within
+     * the noise of its optimum already, one that does not stays far off. */
+    setup_data d;
+    pctx c;
+    memset(&c, 0, sizeof c);
+    tram_se3 X;
+    tram_error e;
+    tram_status st = prepare(pc->work, pc->setup, pc->dc.obs, &d, &c);
+    if (st == TRAM_OK) st = linear_start(&c, &X, &e);
+    if (st == TRAM_OK) {
+        obs_residuals(&c, &X, NULL, d.res);
+        *med_rot = 0.0;
+        *med_tr = tram__median(d.res, pc->dc.obs->n);
+    }
+    free_setup(&d);
+    return st;
+}
+
+/* Gate on the 3D point residuals and the pairing test of a solve from
+ * points (plausibility.c, pairing.c). */
+static tram_status points_trust(const tram_records *r, tram_setup setup, const tram_point_obs *obs,
+                                const tram_solve_options *opt, tram_solution *sol)
+{
+    const tram_trust_options *t = &opt->trust;
+    tram_status st = tram__gate(sol, t, points_working_distance(obs), NAN, sol->points->point.rms,
+                                "3D point");
+    if (st != TRAM_OK || t->pairing_permutations == 0 || r->count < 3) return st;
+    pair_ctx pc = {r, tram_records_clone(r), setup, {obs}};
+    if (!pc.work) return TRAM_ENOMEM;
+    tram__pairing_result pr;
+    double lscale = points_working_distance(obs);
+    st = tram__pairing_test(r->count, t->pairing_permutations, opt->seed, t->pairing_factor, 0,
+                            1e-9 * (lscale > 0 ? lscale : 1), pairing_fit, &pc, &pr);
+    tram_records_destroy(pc.work);
+    if (st == TRAM_OK && pr.permutations > 0)
+        st = tram__pairing_report(sol, pr.permutations, opt->seed, pr.ratio_rot, pr.ratio_trans,
+                                  pr.failed, t->pairing_factor);
     return st;
 }
 
@@ -677,11 +753,12 @@ static tram_status solve_free(const tram_records *r, tram_setup setup, const tra
     if (tram__check_units(r, sol) != TRAM_OK) goto nomem;
     if (opt->check_conventions) {
         doc_ctx dc = {obs};
-        if ((st = tram__check_conventions_with(r, setup, sol, doctor_fit, &dc, 0)) != TRAM_OK) {
+        if ((st = tram__check_conventions_with(r, setup, sol, doctor_fit, &dc, 0, &opt->trust, points_working_distance(obs))) != TRAM_OK) {
             st = tram__fail(err, st, NULL, 0, 0, "out of memory");
             goto out;
         }
     }
+    if (points_trust(r, setup, obs, opt, sol) != TRAM_OK) goto nomem;
     goto out;
 nomem:
     st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");

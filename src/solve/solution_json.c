@@ -164,6 +164,22 @@ tram_status tram_solution_to_json(const tram_solution *s, const tram_records *r,
             tram__jb_num(b, o, "translation_rms", s->closed_trans_rms[m]);
         }
     }
+    if (s->solved) {
+        /* The plausibility checks (plausibility.c, pairing.c). */
+        cJSON *pl = tram__jb_obj(b, root, "plausibility");
+        tram__jb_num(b, pl, "working_distance", s->trust.working_distance);
+        tram__jb_num(b, pl, "limit_rms_rotation_deg", s->trust.limit_rot_deg);
+        tram__jb_num(b, pl, "limit_rms_translation", s->trust.limit_length);
+        tram__jb_bool(b, pl, "gate_passed", !s->trust.gate_failed);
+        if (s->trust.pairing_done) {
+            cJSON *pt = tram__jb_obj(b, pl, "pairing_test");
+            tram__jb_num(b, pt, "permutations", (double)s->trust.pairing_permutations);
+            tram__jb_num(b, pt, "seed", (double)s->trust.pairing_seed);
+            tram__jb_num(b, pt, "ratio_rotation", s->trust.pairing_ratio_rot);
+            tram__jb_num(b, pt, "ratio_translation", s->trust.pairing_ratio_trans);
+            tram__jb_bool(b, pt, "passed", !s->trust.pairing_failed);
+        }
+    }
     cJSON *dg = tram__jb_arr(b, root, "diagnostics");
     for (size_t i = 0; dg && i < s->ndiag; i++) {
         cJSON *o = tram__jb_obj(b, dg, NULL);

@@ -27,6 +27,7 @@
 #include "solve/diagnose_internal.h"
 #include "solve/pipeline_internal.h"
 #include "math/stats_internal.h"
+#include "solve/plausibility_internal.h"
 
 #include <math.h>
 #include <stdarg.h>
@@ -44,6 +45,7 @@ void tram_solve_options_init(tram_solve_options *opt)
     opt->pairs = TRAM_PAIRS_AUTO;
     opt->seed = 1;
     opt->check_conventions = 1;
+    tram_trust_options_init(&opt->trust);
 }
 
 /* RMS, median and max of v[i] * f over the stations not skipped;
@@ -390,10 +392,12 @@ tram_status tram_solve(const tram_records *r, tram_setup setup, const tram_solve
             goto nomem;
     }
     if (tram__check_units(r, sol) != TRAM_OK) goto nomem;
-    if (opt->check_conventions && (st = tram__check_conventions(r, setup, sol)) != TRAM_OK) {
+    if (opt->check_conventions && (st = tram__check_conventions(r, setup, sol, &opt->trust)) != TRAM_OK) {
         st = tram__fail(err, st, NULL, 0, 0, "out of memory");
         goto fail;
     }
+    /* Plausibility gate, pairing test and mount geometry (plausibility.c). */
+    if (tram__trust_checks(r, setup, P, S, n, &opt->trust, opt->seed, sol) != TRAM_OK) goto nomem;
     tram__free(pairs);
     tram__free(P);
     tram__free(S);
