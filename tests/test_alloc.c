@@ -417,7 +417,7 @@ static int setup(void **state)
             tram_se3_from_rt(&R, t, &T);
             for (int i = 0; i < 42; i++) {
                 double X[3] = {in.grid_xy[2 * i], in.grid_xy[2 * i + 1], 0}, uv[2];
-                char sid[8];
+                char sid[16];
                 snprintf(sid, sizeof sid, "v%d", k);
                 tram_camera_reproject(&c, &T, X, uv);
                 /* a fixed small pattern of errors, so the fit has a residual */
