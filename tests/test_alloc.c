@@ -72,7 +72,7 @@ static struct {
     char *pixels, *camera;
     size_t pixels_len, camera_len;
     tram_pixel_obs *views;          /* 4 views of a 7 x 6 grid (invented) */
-    char grid_ids[42][8];
+    char grid_ids[42][16];
     const char *grid_idp[42];
     double grid_xy[84];
 } in;
