@@ -85,7 +85,9 @@ int main(int argc, char **argv)
                     fputs(commands[i].help, stdout);
                     return CLI_EXIT_OK;
                 }
-            return commands[i].run(argc - 1, argv + 1);
+            int rc = commands[i].run(argc - 1, argv + 1);
+            tram_plot_shutdown(); /* fontconfig caches of any picture drawn */
+            return rc;
         }
     fprintf(stderr, "tram: error: unknown subcommand '%s' (see 'tram --help')\n", argv[1]);
     return CLI_EXIT_USAGE;
