@@ -13,7 +13,6 @@
 
 #include <cjson/cJSON.h>
 #include <math.h>
-#include <stdarg.h>
 #include <stdio.h>
 #include <string.h>
 
@@ -68,19 +67,8 @@ typedef struct reader {
 } reader;
 
 /* Fail at the value (or key) of path, with a message. */
-static tram_status fail_at(reader *r, const char *path, int key, const char *fmt, ...)
-    TRAM_PRINTF(4, 5);
-static tram_status fail_at(reader *r, const char *path, int key, const char *fmt, ...)
-{
-    char msg[600];
-    va_list ap;
-    va_start(ap, fmt);
-    vsnprintf(msg, sizeof msg, fmt, ap);
-    va_end(ap);
-    long line, col;
-    tram__json_pos_where(r->pos, path, key, &line, &col);
-    return tram__fail(r->err, TRAM_EINPUT, r->name, line, col, "%s", msg);
-}
+#define fail_at(r, path, key, ...) \
+    tram__json_pos_fail((r)->pos, (r)->name, (r)->err, path, key, __VA_ARGS__)
 
 static void join(char *out, size_t size, const char *path, const char *key)
 {

@@ -28,7 +28,6 @@
 #include "io/text_internal.h"
 
 #include <math.h>
-#include <stdarg.h>
 #include <stdio.h>
 #include <string.h>
 
@@ -131,19 +130,8 @@ typedef struct reader {
 
 /* Fail at the value (or the key, key != 0) of path ("cols",
  * "convention.point_id"). */
-static tram_status fail_at(reader *r, const char *path, int key, const char *fmt, ...)
-    TRAM_PRINTF(4, 5);
-static tram_status fail_at(reader *r, const char *path, int key, const char *fmt, ...)
-{
-    char msg[700];
-    va_list ap;
-    va_start(ap, fmt);
-    vsnprintf(msg, sizeof msg, fmt, ap);
-    va_end(ap);
-    long line, col;
-    tram__json_pos_where(r->pos, path, key, &line, &col);
-    return tram__fail(r->err, TRAM_EINPUT, r->name, line, col, "%s", msg);
-}
+#define fail_at(r, path, key, ...) \
+    tram__json_pos_fail((r)->pos, (r)->name, (r)->err, path, key, __VA_ARGS__)
 
 static const char *const top_keys[] = {"format", "version", "kind", "cols", "rows", "square",
                                        "length_unit", "convention", "comment"};

@@ -7,6 +7,7 @@
  */
 #include "io/json_pos_internal.h"
 
+#include <stdarg.h>
 #include <stdio.h>
 #include <string.h>
 
@@ -200,4 +201,17 @@ void tram__json_pos_where(const tram__json_pos *p, const char *path, int key, lo
     }
     *line = 1;
     *col = 1;
+}
+
+tram_status tram__json_pos_fail(const tram__json_pos *p, const char *name, tram_error *err,
+                                const char *path, int key, const char *fmt, ...)
+{
+    char msg[700];
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(msg, sizeof msg, fmt, ap);
+    va_end(ap);
+    long line, col;
+    tram__json_pos_where(p, path, key, &line, &col);
+    return tram__fail(err, TRAM_EINPUT, name, line, col, "%s", msg);
 }

@@ -37,4 +37,10 @@ void tram__json_pos_free(tram__json_pos *p);
 void tram__json_pos_where(const tram__json_pos *p, const char *path, int key, long *line,
                           long *col);
 
+/* Fail with TRAM_EINPUT at the value of path (or at its key, key != 0) of
+ * the document `name`: file:line:column and the message. */
+tram_status tram__json_pos_fail(const tram__json_pos *p, const char *name, tram_error *err,
+                                const char *path, int key, const char *fmt, ...)
+    TRAM_PRINTF(6, 7);
+
 #endif

@@ -62,27 +62,26 @@ tram_status tram__svd(int m, int n, const double *A, double *U, double *s, doubl
     return status_of(info);
 }
 
-tram_status tram__nullvec(int m, int n, const double *A, double *v, double *s_min,
-                          double *s_next)
+/* The right singular vectors of A (m x n) for its smallest and (when
+ * v_prev is not NULL) second smallest singular values, and those values
+ * (0 when m < n leaves them undefined: the null space is then at least
+ * n - m dimensional). */
+static tram_status right_tail(int m, int n, const double *A, double *v_last, double *v_prev,
+                              double sv[2])
 {
     double s_small[SMALL], Vt_small[SMALL];
     int small = (size_t)n * (size_t)n <= SMALL;
     double *s = small ? s_small : tram__malloc((size_t)n * sizeof *s);
     double *Vt = small ? Vt_small : tram__malloc((size_t)n * (size_t)n * sizeof *Vt);
-    if (!s || !Vt) {
-        if (!small) {
-            tram__free(s);
-            tram__free(Vt);
-        }
-        return TRAM_ENOMEM;
-    }
-    tram_status st = tram__svd(m, n, A, NULL, s, Vt);
+    tram_status st = s && Vt ? tram__svd(m, n, A, NULL, s, Vt) : TRAM_ENOMEM;
     if (st == TRAM_OK) {
         int k = m < n ? m : n;
-        for (int j = 0; j < n; j++) v[j] = Vt[(size_t)(n - 1) * (size_t)n + (size_t)j];
-        /* With m < n the null space is at least n - m dimensional. */
-        if (s_min) *s_min = k == n ? s[n - 1] : 0.0;
-        if (s_next) *s_next = (k == n && n >= 2) ? s[n - 2] : 0.0;
+        for (int j = 0; j < n; j++) {
+            v_last[j] = Vt[(size_t)(n - 1) * (size_t)n + (size_t)j];
+            if (v_prev) v_prev[j] = Vt[(size_t)(n - 2) * (size_t)n + (size_t)j];
+        }
+        sv[0] = k == n ? s[n - 1] : 0.0;
+        sv[1] = (k == n && n >= 2) ? s[n - 2] : 0.0;
     }
     if (!small) {
         tram__free(s);
@@ -91,31 +90,22 @@ tram_status tram__nullvec(int m, int n, const double *A, double *v, double *s_mi
     return st;
 }
 
-tram_status tram__null2(int m, int n, const double *A, double *v1, double *v2)
+tram_status tram__nullvec(int m, int n, const double *A, double *v, double *s_min,
+                          double *s_next)
 {
-    double s_small[SMALL], Vt_small[SMALL];
-    int small = (size_t)n * (size_t)n <= SMALL;
-    double *s = small ? s_small : tram__malloc((size_t)n * sizeof *s);
-    double *Vt = small ? Vt_small : tram__malloc((size_t)n * (size_t)n * sizeof *Vt);
-    if (!s || !Vt) {
-        if (!small) {
-            tram__free(s);
-            tram__free(Vt);
-        }
-        return TRAM_ENOMEM;
-    }
-    tram_status st = tram__svd(m, n, A, NULL, s, Vt);
+    double sv[2];
+    tram_status st = right_tail(m, n, A, v, NULL, sv);
     if (st == TRAM_OK) {
-        for (int j = 0; j < n; j++) {
-            v1[j] = Vt[(size_t)(n - 2) * (size_t)n + (size_t)j];
-            v2[j] = Vt[(size_t)(n - 1) * (size_t)n + (size_t)j];
-        }
-    }
-    if (!small) {
-        tram__free(s);
-        tram__free(Vt);
+        if (s_min) *s_min = sv[0];
+        if (s_next) *s_next = sv[1];
     }
     return st;
+}
+
+tram_status tram__null2(int m, int n, const double *A, double *v1, double *v2)
+{
+    double sv[2];
+    return right_tail(m, n, A, v2, v1, sv);
 }
 
 tram_status tram__lstsq(int m, int n, const double *A, const double *b, double *x)
@@ -165,20 +155,13 @@ tram_status tram__spd_solve(int n, const double *A, const double *b, double *x)
         return TRAM_ENUMERIC;
     memcpy(a, A, (size_t)n * (size_t)n * sizeof *a);
     memcpy(x, b, (size_t)n * sizeof *x);
-    return status_of(LAPACKE_dposv(LAPACK_ROW_MAJOR, 'U', n, 1, a, n, x, 1));
+    return tram__spd_solve_overwrite(n, a, x);
 }
 
 tram_status tram__spd_solve_overwrite(int n, double *A, double *bx)
 {
     if (!all_finite(A, (size_t)n * (size_t)n) || !all_finite(bx, (size_t)n)) return TRAM_ENUMERIC;
     return status_of(LAPACKE_dposv(LAPACK_ROW_MAJOR, 'U', n, 1, A, n, bx, 1));
-}
-
-tram_status tram__spd_solve_inplace(int n, double *A, const double *b, double *x)
-{
-    if (!all_finite(A, (size_t)n * (size_t)n) || !all_finite(b, (size_t)n)) return TRAM_ENUMERIC;
-    memcpy(x, b, (size_t)n * sizeof *x);
-    return status_of(LAPACKE_dposv(LAPACK_ROW_MAJOR, 'U', n, 1, A, n, x, 1));
 }
 
 /* ---- streaming QR (tram__qrs) ------------------------------------- */

@@ -43,11 +43,8 @@ tram_status tram__spd_solve(int n, const double *A, const double *b, double *x);
 
 /* The same for any n, without copies: A is overwritten by its Cholesky
  * factor and bx (b on entry) by x.  For the dense normal equations of
- * bundle problems (camera/intrinsics_lm.c). */
+ * bundle problems (camera/intrinsics_lm.c, math/lm.c). */
 tram_status tram__spd_solve_overwrite(int n, double *A, double *bx);
-/* As tram__spd_solve for any n (the solves of math/lm.c), factorising A in
- * place: A is overwritten. */
-tram_status tram__spd_solve_inplace(int n, double *A, const double *b, double *x);
 
 /* Streaming QR of a tall m x n matrix given a block of rows at a time, for
  * the closed forms' null vectors: only the n x n triangle R (A = Q R) is

@@ -5,7 +5,7 @@
  * (J^T J + lambda diag(J^T J)) dx = -J^T r; a step that lowers the cost is
  * taken and lambda divided by 10, a step that does not is refused and
  * lambda multiplied by 10.  The normal equations go through LAPACKE
- * (tram__spd_solve_inplace, dposv).  Stops when the relative decrease of the cost
+ * (tram__spd_solve_overwrite, dposv).  Stops when the relative decrease of the cost
  * falls below 1e-15, the step below 1e-14 (parameter units), or no damping
  * gives a descent.
  */
@@ -82,14 +82,14 @@ tram_status tram__lm_run(const tram__lm_problem *pb, int max_iter, tram__lm_info
     for (it = 0; it < max_iter; it++) {
         int accepted = 0, done = 0;
         for (int tries = 0; tries < 14 && !accepted; tries++) {
-            double A[NPMAX * NPMAX], mg[NPMAX], dx[NPMAX] = {0};
+            double A[NPMAX * NPMAX], dx[NPMAX] = {0};
             memcpy(A, H, (size_t)(np * np) * sizeof *A);
             for (int a = 0; a < np; a++) {
                 double d = H[a * np + a];
                 A[a * np + a] += lambda * (d > 1e-300 ? d : 1e-300);
-                mg[a] = -g[a];
+                dx[a] = -g[a];
             }
-            if (tram__spd_solve_inplace(np, A, mg, dx) != TRAM_OK) {
+            if (tram__spd_solve_overwrite(np, A, dx) != TRAM_OK) {
                 lambda *= 10;
                 continue;
             }

@@ -11,7 +11,7 @@
  * blue #0072B2, outliers vermillion #D55E00, distortion arrows black.
  */
 #include "tram/plot.h"
-#include "core/tram_internal.h"
+#include "plot/canvas_internal.h"
 
 #include <cairo.h>
 #include <math.h>
@@ -21,56 +21,6 @@
 #define TITLE_H 36.0
 #define FOOT_H 40.0
 
-typedef struct pic {
-    cairo_surface_t *s;
-    cairo_t *cr;
-} pic;
-
-static tram_status pic_open(pic *p, int w, int h, tram_error *err)
-{
-    p->s = cairo_image_surface_create(CAIRO_FORMAT_ARGB32, w, h);
-    p->cr = cairo_create(p->s);
-    if (cairo_status(p->cr) != CAIRO_STATUS_SUCCESS) {
-        cairo_destroy(p->cr);
-        cairo_surface_destroy(p->s);
-        return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "cannot create a %dx%d picture", w, h);
-    }
-    cairo_set_source_rgb(p->cr, 1, 1, 1);
-    cairo_paint(p->cr);
-    cairo_select_font_face(p->cr, "sans-serif", CAIRO_FONT_SLANT_NORMAL, CAIRO_FONT_WEIGHT_NORMAL);
-    return TRAM_OK;
-}
-
-/* Copy the surface into a tram_image (as plot.c's pictures). */
-static tram_status pic_close(pic *p, tram_image **out, tram_error *err)
-{
-    cairo_status_t cs = cairo_status(p->cr);
-    cairo_destroy(p->cr);
-    cairo_surface_flush(p->s);
-    int w = cairo_image_surface_get_width(p->s), h = cairo_image_surface_get_height(p->s);
-    int stride = cairo_image_surface_get_stride(p->s);
-    tram_image *img = cs == CAIRO_STATUS_SUCCESS ? tram__calloc(1, sizeof *img) : NULL;
-    if (img) img->data = tram__malloc((size_t)h * (size_t)stride);
-    if (!img || !img->data) {
-        tram__free(img);
-        cairo_surface_destroy(p->s);
-        return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory drawing a picture");
-    }
-    memcpy(img->data, cairo_image_surface_get_data(p->s), (size_t)h * (size_t)stride);
-    img->width = w;
-    img->height = h;
-    img->stride = stride;
-    cairo_surface_destroy(p->s);
-    *out = img;
-    return TRAM_OK;
-}
-
-static void text_at(cairo_t *cr, double x, double y, double size, const char *s)
-{
-    cairo_set_font_size(cr, size);
-    cairo_move_to(cr, x, y);
-    cairo_show_text(cr, s);
-}
 
 /* Scale that brings the long side into 640 .. 1600 picture pixels. */
 static double fit_scale(size_t w, size_t h)
@@ -124,8 +74,8 @@ tram_status tram_plot_reprojection(const tram_plot_reprojection_data *d, tram_im
     double diag = hypot((double)d->width, (double)d->height);
     double mag = emax > 0 ? round_down(0.1 * diag / emax) : 1.0;
     int pw = (int)ceil(s * (double)d->width), ph = (int)ceil(s * (double)d->height + TITLE_H + FOOT_H);
-    pic p;
-    tram_status st = pic_open(&p, pw, ph, err);
+    tram__canvas p;
+    tram_status st = tram__canvas_open(&p, pw, ph, err);
     if (st != TRAM_OK) return st;
     cairo_t *cr = p.cr;
     frame(cr, s, d->width, d->height);
@@ -146,19 +96,19 @@ tram_status tram_plot_reprojection(const tram_plot_reprojection_data *d, tram_im
         }
     char line[256];
     cairo_set_source_rgb(cr, 0, 0, 0);
-    text_at(cr, 8, 24, 15, d->title ? d->title : "reprojection residuals");
+    tram__canvas_text(cr, 8, 24, 15, d->title ? d->title : "reprojection residuals", 0);
     double ky = ph - 14.0, kx = 8.0;
     cairo_set_line_width(cr, 1.2);
     arrow(cr, kx, ky - 4, kx + mag * s, ky - 4);
     snprintf(line, sizeof line,
              "= 1 px of residual (arrows x%g, observed minus projected); %zu points%s", mag, d->n,
              d->outlier ? ", outliers in vermillion" : "");
-    text_at(cr, kx + mag * s + 8, ky, 12, line);
+    tram__canvas_text(cr, kx + mag * s + 8, ky, 12, line, 0);
     if (isfinite(d->rms_px)) {
         snprintf(line, sizeof line, "rms %.4f px, largest %.4f px", d->rms_px, emax);
-        text_at(cr, 8, ph - 30.0, 12, line);
+        tram__canvas_text(cr, 8, ph - 30.0, 12, line, 0);
     }
-    return pic_close(&p, out, err);
+    return tram__canvas_close(&p, out, err);
 }
 
 /* Displacement (distorted minus pinhole pixel) of the ray whose pinhole
@@ -187,8 +137,8 @@ tram_status tram_plot_distortion(const tram_camera *c, const char *title, tram_i
             dmax = fmax(dmax, hypot(dd[0], dd[1]));
         }
     double step = dmax > 0 ? round_down(dmax / 6) : 1.0;
-    pic p;
-    tram_status st = pic_open(&p, pw, ph, err);
+    tram__canvas p;
+    tram_status st = tram__canvas_open(&p, pw, ph, err);
     if (st != TRAM_OK) return st;
     cairo_t *cr = p.cr;
     /* bands of the displacement length, alternately shaded: their edges are
@@ -218,11 +168,11 @@ tram_status tram_plot_distortion(const tram_camera *c, const char *title, tram_i
         }
     char line[300];
     snprintf(line, sizeof line, "%s", title ? title : "lens distortion");
-    text_at(cr, 8, 24, 15, line);
+    tram__canvas_text(cr, 8, 24, 15, line, 0);
     snprintf(line, sizeof line,
              "arrows: pinhole pixel to distorted pixel, x%g; bands every %g px; largest %.3g px "
              "(model %s)",
              mag, step, dmax, tram_distortion_name(c->distortion));
-    text_at(cr, 8, ph - 14.0, 12, line);
-    return pic_close(&p, out, err);
+    tram__canvas_text(cr, 8, ph - 14.0, 12, line, 0);
+    return tram__canvas_close(&p, out, err);
 }

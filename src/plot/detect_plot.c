@@ -11,7 +11,7 @@
  * arrows x red and y green as in the frames pictures.
  */
 #include "tram/plot.h"
-#include "core/tram_internal.h"
+#include "plot/canvas_internal.h"
 
 #include <cairo.h>
 #include <math.h>
@@ -25,56 +25,6 @@ static const double okabe_ito[7][3] = {
     {0.0, 0.447, 0.698}, {0.835, 0.369, 0.0}, {0.0, 0.620, 0.451}, {0.902, 0.624, 0.0},
     {0.337, 0.706, 0.914}, {0.800, 0.475, 0.655}, {0.941, 0.894, 0.259}};
 
-typedef struct pic {
-    cairo_surface_t *s;
-    cairo_t *cr;
-} pic;
-
-static tram_status pic_open(pic *p, int w, int h, tram_error *err)
-{
-    p->s = cairo_image_surface_create(CAIRO_FORMAT_ARGB32, w, h);
-    p->cr = cairo_create(p->s);
-    if (cairo_status(p->cr) != CAIRO_STATUS_SUCCESS) {
-        cairo_destroy(p->cr);
-        cairo_surface_destroy(p->s);
-        return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "cannot create a %dx%d picture", w, h);
-    }
-    cairo_set_source_rgb(p->cr, 1, 1, 1);
-    cairo_paint(p->cr);
-    cairo_select_font_face(p->cr, "sans-serif", CAIRO_FONT_SLANT_NORMAL, CAIRO_FONT_WEIGHT_NORMAL);
-    return TRAM_OK;
-}
-
-/* Copy the surface into a tram_image (as plot.c's pictures). */
-static tram_status pic_close(pic *p, tram_image **out, tram_error *err)
-{
-    cairo_status_t cs = cairo_status(p->cr);
-    cairo_destroy(p->cr);
-    cairo_surface_flush(p->s);
-    int w = cairo_image_surface_get_width(p->s), h = cairo_image_surface_get_height(p->s);
-    int stride = cairo_image_surface_get_stride(p->s);
-    tram_image *img = cs == CAIRO_STATUS_SUCCESS ? tram__calloc(1, sizeof *img) : NULL;
-    if (img) img->data = tram__malloc((size_t)h * (size_t)stride);
-    if (!img || !img->data) {
-        tram__free(img);
-        cairo_surface_destroy(p->s);
-        return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory drawing a picture");
-    }
-    memcpy(img->data, cairo_image_surface_get_data(p->s), (size_t)h * (size_t)stride);
-    img->width = w;
-    img->height = h;
-    img->stride = stride;
-    cairo_surface_destroy(p->s);
-    *out = img;
-    return TRAM_OK;
-}
-
-static void text_at(cairo_t *cr, double x, double y, double size, const char *s)
-{
-    cairo_set_font_size(cr, size);
-    cairo_move_to(cr, x, y);
-    cairo_show_text(cr, s);
-}
 
 /* Text with a white halo, readable over the image. */
 static void text_halo(cairo_t *cr, double x, double y, double size, const char *s)
@@ -88,7 +38,7 @@ static void text_halo(cairo_t *cr, double x, double y, double size, const char *
     cairo_set_line_width(cr, 3);
     cairo_stroke(cr);
     cairo_set_source_rgba(cr, r, g, b, a);
-    text_at(cr, x, y, size, s);
+    tram__canvas_text(cr, x, y, size, s, 0);
 }
 
 /* Scale that brings the long side into 640 .. 1600 picture pixels. */
@@ -210,8 +160,8 @@ tram_status tram_plot_detection(const tram_grey_image *im, const tram_board *b,
     if (pw < 1) pw = 1;
     if (ph < 1) ph = 1;
     s = (double)pw / (double)im->width;
-    pic p;
-    tram_status st = pic_open(&p, pw < 480 ? 480 : pw, ph + (int)(TITLE_H + FOOT_H), err);
+    tram__canvas p;
+    tram_status st = tram__canvas_open(&p, pw < 480 ? 480 : pw, ph + (int)(TITLE_H + FOOT_H), err);
     if (st != TRAM_OK) return st;
     cairo_t *cr = p.cr;
     draw_grey(cr, im, pw, ph, TITLE_H);
@@ -219,7 +169,7 @@ tram_status tram_plot_detection(const tram_grey_image *im, const tram_board *b,
     if (whole) draw_lattice(cr, b, d, s, TITLE_H);
     char line[400];
     cairo_set_source_rgb(cr, 0, 0, 0);
-    if (title) text_at(cr, 8, 24, 16, title);
+    if (title) tram__canvas_text(cr, 8, 24, 16, title, 0);
     if (whole)
         snprintf(line, sizeof line, "found: %zu corners, edge blur %.2f px; corner 0 ringed, x red, y green",
                  d->ncorners, d->sharpness);
@@ -227,8 +177,8 @@ tram_status tram_plot_detection(const tram_grey_image *im, const tram_board *b,
         snprintf(line, sizeof line, "not found: %s (%zu corners of a lattice seen)",
                  d->reason[0] ? d->reason : "no reason given", d->nseen);
     if (!whole) cairo_set_source_rgb(cr, okabe_ito[1][0], okabe_ito[1][1], okabe_ito[1][2]);
-    text_at(cr, 8, TITLE_H + ph + 23, 14, line);
-    return pic_close(&p, out, err);
+    tram__canvas_text(cr, 8, TITLE_H + ph + 23, 14, line, 0);
+    return tram__canvas_close(&p, out, err);
 }
 
 #define GRID_X 8
@@ -241,8 +191,8 @@ tram_status tram_plot_coverage(const tram_plot_coverage_data *d, tram_image **ou
         return tram__fail(err, TRAM_EINPUT, NULL, 0, 0, "coverage picture: no image size");
     double s = fit_scale(d->width, d->height);
     double fw = (double)d->width * s, fh = (double)d->height * s, m = 20;
-    pic p;
-    tram_status st = pic_open(&p, (int)ceil(fw + 2 * m), (int)ceil(fh + TITLE_H + FOOT_H + m), err);
+    tram__canvas p;
+    tram_status st = tram__canvas_open(&p, (int)ceil(fw + 2 * m), (int)ceil(fh + TITLE_H + FOOT_H + m), err);
     if (st != TRAM_OK) return st;
     cairo_t *cr = p.cr;
     double x0 = m, y0 = TITLE_H;
@@ -279,7 +229,7 @@ tram_status tram_plot_coverage(const tram_plot_coverage_data *d, tram_image **ou
         for (int cx = 0; cx < GRID_X; cx++) {
             char num[16];
             snprintf(num, sizeof num, "%d", cell[cy][cx]);
-            text_at(cr, x0 + cx * fw / GRID_X + 4, y0 + cy * fh / GRID_Y + 13, 11, num);
+            tram__canvas_text(cr, x0 + cx * fw / GRID_X + 4, y0 + cy * fh / GRID_Y + 13, 11, num, 0);
         }
     cairo_set_source_rgb(cr, 0.6, 0.6, 0.6);
     cairo_set_line_width(cr, 0.8);
@@ -326,11 +276,11 @@ tram_status tram_plot_coverage(const tram_plot_coverage_data *d, tram_image **ou
     cairo_set_source_rgb(cr, 0, 0, 0);
     snprintf(line, sizeof line, "%s (image frame %zux%zu pixels)", d->title ? d->title : "coverage",
              d->width, d->height);
-    text_at(cr, x0, 24, 16, line);
+    tram__canvas_text(cr, x0, 24, 16, line, 0);
     snprintf(line, sizeof line,
              "%zu boards, %zu corners; corners in %d of %d cells of the %dx%d grid (shaded; "
              "the number is the cell's corner count)", boards,
              corners, covered, GRID_X * GRID_Y, GRID_X, GRID_Y);
-    text_at(cr, x0, y0 + fh + 24, 14, line);
-    return pic_close(&p, out, err);
+    tram__canvas_text(cr, x0, y0 + fh + 24, 14, line, 0);
+    return tram__canvas_close(&p, out, err);
 }

@@ -11,7 +11,7 @@
  */
 #include "tram/plot.h"
 #include "tram/fileio.h"
-#include "core/tram_internal.h"
+#include "plot/canvas_internal.h"
 
 #include <cairo.h>
 #include <fontconfig/fontconfig.h>
@@ -49,48 +49,14 @@ void tram_plot_shutdown(void)
     FcFini();
 }
 
-typedef struct canvas {
-    cairo_surface_t *s;
-    cairo_t *cr;
-} canvas;
+typedef tram__canvas canvas;
 
+/* A picture of w x h within the sizes the command accepts. */
 static tram_status canvas_open(canvas *c, int w, int h, tram_error *err)
 {
     if (w < 200 || h < 150 || w > 10000 || h > 10000)
         return tram__fail(err, TRAM_EINPUT, NULL, 0, 0, "image size %dx%d: expected 200x150 to 10000x10000", w, h);
-    c->s = cairo_image_surface_create(CAIRO_FORMAT_ARGB32, w, h);
-    c->cr = cairo_create(c->s);
-    if (cairo_status(c->cr) != CAIRO_STATUS_SUCCESS) {
-        cairo_destroy(c->cr);
-        cairo_surface_destroy(c->s);
-        return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "cannot create a %dx%d image", w, h);
-    }
-    cairo_set_source_rgb(c->cr, 1, 1, 1);
-    cairo_paint(c->cr);
-    cairo_select_font_face(c->cr, "sans-serif", CAIRO_FONT_SLANT_NORMAL, CAIRO_FONT_WEIGHT_NORMAL);
-    return TRAM_OK;
-}
-
-static tram_status canvas_close(canvas *c, tram_image **out, tram_error *err)
-{
-    cairo_destroy(c->cr);
-    cairo_surface_flush(c->s);
-    tram_image *img = tram__calloc(1, sizeof *img);
-    int w = cairo_image_surface_get_width(c->s), h = cairo_image_surface_get_height(c->s);
-    int stride = cairo_image_surface_get_stride(c->s);
-    if (img) img->data = tram__malloc((size_t)h * (size_t)stride);
-    if (!img || !img->data) {
-        tram__free(img);
-        cairo_surface_destroy(c->s);
-        return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
-    }
-    memcpy(img->data, cairo_image_surface_get_data(c->s), (size_t)h * (size_t)stride);
-    img->width = w;
-    img->height = h;
-    img->stride = stride;
-    cairo_surface_destroy(c->s);
-    *out = img;
-    return TRAM_OK;
+    return tram__canvas_open(c, w, h, err);
 }
 
 typedef struct pngbuf {
@@ -130,19 +96,11 @@ tram_status tram_image_write_png(const tram_image *img, const char *path, int ov
     return st;
 }
 
-static void text(cairo_t *cr, double x, double y, double size, const char *s, double align)
-{
-    cairo_text_extents_t e;
-    cairo_set_font_size(cr, size);
-    cairo_text_extents(cr, s, &e);
-    cairo_move_to(cr, x - align * e.x_advance, y);
-    cairo_show_text(cr, s);
-}
 
 static void title(cairo_t *cr, int w, const char *t)
 {
     cairo_set_source_rgb(cr, 0, 0, 0);
-    text(cr, w / 2.0, 30, 22, t ? t : "", 0.5);
+    tram__canvas_text(cr, w / 2.0, 30, 22, t ? t : "", 0.5);
 }
 
 /* A round number near x (1, 2 or 5 times a power of ten). */
@@ -306,7 +264,7 @@ tram_status tram_plot_frames(const tram_plot_frames_data *d, int w, int h, tram_
         cairo_rectangle(cr, x0 + 5, y0 + 5, pw - 10, ph - 10);
         cairo_stroke(cr);
         cairo_set_source_rgb(cr, 0, 0, 0);
-        text(cr, x0 + 15, y0 + 25, 15, names[view], 0);
+        tram__canvas_text(cr, x0 + 15, y0 + 25, 15, names[view], 0);
         cairo_save(cr);
         cairo_rectangle(cr, x0 + 5, y0 + 5, pw - 10, ph - 10);
         cairo_clip(cr);
@@ -333,7 +291,7 @@ tram_status tram_plot_frames(const tram_plot_frames_data *d, int w, int h, tram_
         double o[3] = {0, 0, 0}, bx, by;
         to_screen(&v[view], view, o, &bx, &by);
         cairo_set_source_rgb(cr, 0, 0, 0);
-        text(cr, bx + 6, by + 16, 13, "base", 0);
+        tram__canvas_text(cr, bx + 6, by + 16, 13, "base", 0);
         for (size_t i = 0; i < d->n; i++) {
             const tram_se3 *F = &d->T_base_flange[i];
             int out_i = d->outlier && d->outlier[i];
@@ -351,7 +309,7 @@ tram_status tram_plot_frames(const tram_plot_frames_data *d, int w, int h, tram_
             if (!d->ids) snprintf(lab, sizeof lab, "%zu", i + 1);
             if (out_i) cairo_set_source_rgb(cr, C_VERMILLION);
             else cairo_set_source_rgb(cr, 0.2, 0.2, 0.2);
-            text(cr, x + 5, y - 5, 12, lab, 0);
+            tram__canvas_text(cr, x + 5, y - 5, 12, lab, 0);
             if (d->has_solution) {
                 tram_se3 A;
                 /* the frame riding on the flange: sensor (eye-in-hand) or target */
@@ -382,7 +340,7 @@ tram_status tram_plot_frames(const tram_plot_frames_data *d, int w, int h, tram_
             double p[3] = {fixed->m[0][3], fixed->m[1][3], fixed->m[2][3]}, x, y;
             to_screen(&v[view], view, p, &x, &y);
             cairo_set_source_rgb(cr, 0, 0, 0);
-            text(cr, x + 6, y + 16, 13, d->setup == TRAM_SETUP_EYE_IN_HAND ? "target" : "sensor", 0);
+            tram__canvas_text(cr, x + 6, y + 16, 13, d->setup == TRAM_SETUP_EYE_IN_HAND ? "target" : "sensor", 0);
         }
         cairo_restore(cr);
         /* scale bar */
@@ -395,16 +353,16 @@ tram_status tram_plot_frames(const tram_plot_frames_data *d, int w, int h, tram_
         cairo_stroke(cr);
         char lab[64];
         snprintf(lab, sizeof lab, "%g %s", bar, u);
-        text(cr, sx + 0.5 * bar * v[view].scale, sy - 6, 13, lab, 0.5);
+        tram__canvas_text(cr, sx + 0.5 * bar * v[view].scale, sy - 6, 13, lab, 0.5);
     }
     /* legend */
     cairo_set_source_rgb(cr, 0.2, 0.2, 0.2);
-    text(cr, 15, 52, 13,
+    tram__canvas_text(cr, 15, 52, 13,
          d->setup == TRAM_SETUP_EYE_IN_HAND
              ? "legend: large triad = base and target; triads with labels = flange per station; small = sensor; dashed = sensor z (viewing direction); vermillion ring = outlier"
              : "legend: large triad = base and sensor; triads with labels = flange per station; small = target; vermillion ring = outlier",
          0);
-    return canvas_close(&c, out, err);
+    return tram__canvas_close(&c, out, err);
 }
 
 /* ---- bar charts ---------------------------------------------------- */
@@ -430,14 +388,14 @@ static void axes(cairo_t *cr, const panel *p, const char *ylabel, const char *xl
         cairo_stroke(cr);
         char lab[32];
         snprintf(lab, sizeof lab, "%g", t);
-        text(cr, p->x0 - 8, y + 5, 12, lab, 1.0);
+        tram__canvas_text(cr, p->x0 - 8, y + 5, 12, lab, 1.0);
     }
     cairo_save(cr);
     cairo_translate(cr, p->x0 - 60, p->y0 + p->h / 2);
     cairo_rotate(cr, -TRAM_PI / 2);
-    text(cr, 0, 0, 14, ylabel, 0.5);
+    tram__canvas_text(cr, 0, 0, 14, ylabel, 0.5);
     cairo_restore(cr);
-    if (xlabel) text(cr, p->x0 + p->w / 2, p->y0 + p->h + 48, 14, xlabel, 0.5);
+    if (xlabel) tram__canvas_text(cr, p->x0 + p->w / 2, p->y0 + p->h + 48, 14, xlabel, 0.5);
 }
 
 static void hline(cairo_t *cr, const panel *p, double v, int dashed, double r, double g, double b,
@@ -453,7 +411,7 @@ static void hline(cairo_t *cr, const panel *p, double v, int dashed, double r, d
     cairo_line_to(cr, p->x0 + p->w, y);
     cairo_stroke(cr);
     cairo_set_dash(cr, NULL, 0, 0);
-    text(cr, p->x0 + p->w - 4, y - 5, 12, label, 1.0);
+    tram__canvas_text(cr, p->x0 + p->w - 4, y - 5, 12, label, 1.0);
 }
 
 static void bars(cairo_t *cr, const panel *p, size_t n, const char *const *ids, const double *v,
@@ -476,7 +434,7 @@ static void bars(cairo_t *cr, const panel *p, size_t n, const char *const *ids, 
             cairo_save(cr);
             cairo_translate(cr, p->x0 + bw * ((double)i + 0.5), p->y0 + p->h + 8);
             cairo_rotate(cr, TRAM_PI / 4);
-            text(cr, 0, 4, 11, lab, 0);
+            tram__canvas_text(cr, 0, 4, 11, lab, 0);
             cairo_restore(cr);
         }
     }
@@ -508,13 +466,13 @@ static void legend_bars(cairo_t *cr, double x, double y)
     cairo_rectangle(cr, x, y - 10, 14, 10);
     cairo_fill(cr);
     cairo_set_source_rgb(cr, 0, 0, 0);
-    text(cr, x + 20, y, 12, "station", 0);
+    tram__canvas_text(cr, x + 20, y, 12, "station", 0);
     cairo_set_source_rgb(cr, C_VERMILLION);
     cairo_rectangle(cr, x + 90, y - 10, 14, 10);
     cairo_fill(cr);
     cairo_set_source_rgb(cr, 0, 0, 0);
-    text(cr, x + 110, y, 12, "outlier (excluded)", 0);
-    text(cr, x + 250, y, 12, "dashed black: RMS   orange: outlier threshold", 0);
+    tram__canvas_text(cr, x + 110, y, 12, "outlier (excluded)", 0);
+    tram__canvas_text(cr, x + 250, y, 12, "dashed black: RMS   orange: outlier threshold", 0);
 }
 
 tram_status tram_plot_residuals(const tram_plot_residuals_data *d, int w, int h, tram_image **out,
@@ -568,10 +526,10 @@ tram_status tram_plot_residuals(const tram_plot_residuals_data *d, int w, int h,
             }
             cairo_set_source_rgb(cr, 0, 0, 0);
             snprintf(lab, sizeof lab, "residual %s vs x (%s), +-%.3g", k ? "z" : "y", u, m);
-            text(cr, cx, cy - size / 2 - 8, 13, lab, 0.5);
+            tram__canvas_text(cr, cx, cy - size / 2 - 8, 13, lab, 0.5);
         }
     }
-    return canvas_close(&c, out, err);
+    return tram__canvas_close(&c, out, err);
 }
 
 tram_status tram_plot_points(size_t n, const char *const *ids, const double *residual,
@@ -591,7 +549,7 @@ tram_status tram_plot_points(size_t n, const char *const *ids, const double *res
     bars(cr, &p, n, ids, residual, outlier);
     hline(cr, &p, rms_of(residual, outlier, n), 1, 0, 0, 0, "RMS");
     hline(cr, &p, threshold, 0, C_ORANGE, "inlier threshold");
-    return canvas_close(&c, out, err);
+    return tram__canvas_close(&c, out, err);
 }
 
 tram_status tram_plot_history(const tram_plot_history_data *d, int w, int h, tram_image **out,
@@ -618,7 +576,7 @@ tram_status tram_plot_history(const tram_plot_history_data *d, int w, int h, tra
     snprintf(lab, sizeof lab, "change: translation (%s)", tram_unit_length_name(d->length_unit));
     const char *ylab[2] = {lab, "change: rotation (deg)"};
     cairo_set_source_rgb(cr, 0, 0, 0);
-    text(cr, 90, 58, 12, "dots: checks (blue ok, vermillion alarm); band: tolerance", 0);
+    tram__canvas_text(cr, 90, 58, 12, "dots: checks (blue ok, vermillion alarm); band: tolerance", 0);
     for (int k = 0; k < 2; k++) {
         panel p = {90, top + k * (ph + gap), w - 130.0, ph, vmax_of(series[k], d->n, tol[k])};
         if (tol[k] > 0) {
@@ -634,7 +592,7 @@ tram_status tram_plot_history(const tram_plot_history_data *d, int w, int h, tra
             double x = p.x0 + dd / days * p.w;
             cairo_set_source_rgb(cr, 0, 0, 0);
             snprintf(lab, sizeof lab, "%g", dd);
-            text(cr, x, p.y0 + p.h + 18, 12, lab, 0.5);
+            tram__canvas_text(cr, x, p.y0 + p.h + 18, 12, lab, 0.5);
         }
         cairo_set_source_rgb(cr, C_GREY);
         cairo_set_line_width(cr, 1);
@@ -654,5 +612,5 @@ tram_status tram_plot_history(const tram_plot_history_data *d, int w, int h, tra
             cairo_fill(cr);
         }
     }
-    return canvas_close(&c, out, err);
+    return tram__canvas_close(&c, out, err);
 }
