@@ -89,6 +89,15 @@ tram_status tram__table_parse(const char *name, const char *data, size_t len, tr
             if (q > k && *q == ':') {
                 *q = '\0';
                 char *v = trim(q + 1, NULL);
+                if (strlen(k) >= sizeof t->dir->key || strlen(v) >= sizeof t->dir->value) {
+                    /* refused, not cut: a shortened value would be another value */
+                    st = tram__fail(err, TRAM_EINPUT, name, lineno, (long)(k - line) + 1,
+                                    "directive '%.39s': %s longer than %zu characters", k,
+                                    strlen(k) >= sizeof t->dir->key ? "key" : "value",
+                                    (strlen(k) >= sizeof t->dir->key ? sizeof t->dir->key
+                                                                     : sizeof t->dir->value) - 1);
+                    goto fail;
+                }
                 if (t->ndir == cap_dir) {
                     size_t nc = cap_dir ? 2 * cap_dir : 8;
                     tram__directive *d = tram__realloc(t->dir, nc * sizeof *d);

@@ -49,3 +49,8 @@ expect_error "solve -o into a missing directory" 2 "cannot create a temporary fi
 for c in solve check register convert fk plot; do
     "$TRAM" help "$c" 2>&1 | grep -q '%%' && bad "help $c prints a doubled percent sign" || ok
 done
+# a directive value too long to keep is refused, not cut (found by fuzzing the pixel reader)
+long=$(printf 'x%.0s' $(seq 1 100))
+f=$(printf '# format: tram-pixels-1\n# pixel-origin: top-left-pixel-centre\n# image-size: 128x96\n# board: %s\nstation,point,u,v\nim,1,1.5,0.5\n' "$long" | mk longdir.csv)
+expect_error "directive value too long" 2 "longdir.csv:4:3: error: directive 'board': value longer than 79 characters" \
+    intrinsics --board "$here/data/pixels/board.json" "$f"

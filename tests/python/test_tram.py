@@ -215,7 +215,8 @@ def test_no_leak_over_10000_solves():
 
 
 def test_docs_example_runs():
-    """The example script of docs/python.md runs as printed there."""
+    """The examples of docs/python.md (the script and the shell lines) run as
+    printed there, from the top of the source tree."""
     text = open(os.path.join(ROOT, "docs", "python.md")).read()
     blocks = text.split("```python\n")[1:]
     assert blocks, "docs/python.md has no python example"
@@ -225,3 +226,9 @@ def test_docs_example_runs():
                            env=dict(os.environ))
         assert p.returncode == 0, p.stderr
         assert "T_flange_sensor" in p.stdout
+    for b in text.split("```sh\n")[1:]:
+        for line in b.split("```")[0].splitlines():
+            if not line.strip():
+                continue
+            p = subprocess.run(["sh", "-c", line], capture_output=True, text=True, cwd=ROOT)
+            assert p.returncode == 0, f"{line}: {p.stderr}"
