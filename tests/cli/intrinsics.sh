@@ -46,9 +46,7 @@ sys.exit(0 if ok else 1)
 PY
 }
 
-if [ ! -d "$zhang" ]; then
-    if [ "${CI:-}" = true ]; then bad "dataset not present ($zhang)"; else echo "skipped: dataset not present ($zhang)"; fi
-else
+if have_dataset "$zhang"; then
     mkdir -p "$tmp/zhang"
     sh "$here/../../tools/zhang1998_to_tram.sh" "$zhang" "$tmp/zhang"
     # default loss (Huber at 5 robust sigmas, outliers over 8 left out)
