@@ -28,6 +28,7 @@
 #include "math/stats_internal.h"
 #include "solve/plausibility_internal.h"
 #include "solve/pairing_internal.h"
+#include "solve/scale_internal.h"
 
 #include <math.h>
 #include <stdio.h>
@@ -48,12 +49,14 @@ typedef struct pctx {
     double inv_sigma;
     double *q;             /* scratch: npoints * 3           */
     double *qn;            /* scratch: npoints               */
+    const double *scale;   /* the sensor's length scale (1 unless fitted or tested) */
 } pctx;
 
 static void obs_world(const pctx *c, size_t o, const tram_se3 *X, double out[3])
 {
-    double s[3];
-    tram_se3_apply_point(X, c->obs->xyz + 3 * o, s);
+    double s[3], p[3];
+    for (int a = 0; a < 3; a++) p[a] = *c->scale * c->obs->xyz[3 * o + (size_t)a];
+    tram_se3_apply_point(X, p, s);
     tram_se3_apply_point(&c->P[c->obs->station[o]], s, out);
 }
 
@@ -229,6 +232,7 @@ typedef struct setup_data {
     size_t *order, *first, *count;
     int *excluded;
     double *q, *qn, *res;
+    double scale; /* the sensor's length scale: the refinement's 13th parameter */
 } setup_data;
 
 static void free_setup(setup_data *d)
@@ -280,6 +284,8 @@ static tram_status prepare(const tram_records *r, tram_setup setup, const tram_p
     c->q = d->q;
     c->qn = d->qn;
     c->inv_sigma = 1.0;
+    d->scale = 1.0;
+    c->scale = &d->scale;
     return TRAM_OK;
 }
 
@@ -439,11 +445,55 @@ static void store_uncertainty(const double cov[144], int nblk, double cond, tram
     sol->condition = cond;
 }
 
+/* Sum of squared residual norms of the observations used (not excluded,
+ * of a station with weight w > 0; w NULL: all stations); *k their count. */
+static double used_ss(const tram_point_obs *obs, const setup_data *d, const double *w, size_t *k)
+{
+    double ss = 0;
+    *k = 0;
+    for (size_t o = 0; o < obs->n; o++)
+        if (!d->excluded[o] && (!w || w[obs->station[o]] > 0)) {
+            ss += d->res[o] * d->res[o];
+            (*k)++;
+        }
+    return ss;
+}
+
+/* The scale test of a solve that keeps s = 1 (scale.c): pb0's problem
+ * refined from (X, Z) with the sensor's scale free, its noise from those
+ * residuals (dof0 - 1 degrees of freedom: one parameter more) and
+ * the scale's variance; then back to s = 1 and the residuals at (X, Z).
+ * TRAM_ENOMEM only. */
+static tram_status scale_test(const tram_refine_problem *pb0, const double *w,
+                              const tram_point_obs *obs, setup_data *d, pctx *c, double dof0,
+                              const tram_se3 *X, const tram_se3 *Z, tram_solution *sol)
+{
+    tram_refine_problem pb = *pb0;
+    pb.scale = &d->scale;
+    double inv0 = c->inv_sigma, var = NAN;
+    tram_se3 Xs = *X, Zs = *Z;
+    d->scale = 1.0;
+    tram_status st = dof0 - 1.0 > 0 ? tram__refine_run(&pb, w, 0, &Xs, &Zs) : TRAM_EUNDETERMINED;
+    if (st == TRAM_OK) {
+        size_t k;
+        obs_residuals(c, &Xs, &Zs, d->res);
+        double sig = sqrt(used_ss(obs, d, w, &k) / (dof0 - 1.0));
+        c->inv_sigma = 1.0 / fmax(sig, 1e-12);
+        st = tram__refine_covariance_scale(&pb, w, &Xs, &Zs, 1.0, (double[144]){0}, NULL, &var, NULL);
+    }
+    double s = d->scale;
+    d->scale = 1.0;
+    c->inv_sigma = inv0;
+    obs_residuals(c, X, Z, d->res);
+    if (st == TRAM_ENOMEM) return st;
+    return tram__scale_report(sol, s, st == TRAM_OK ? var : NAN, 0);
+}
+
 /* With a model: the final refinement of X and Z on the 3D point residuals
  * of the stations the pose solve kept, its noise and covariance, and the
  * station pose residuals against it. */
 static tram_status refine_on_points(const tram_records *rr, const tram_point_obs *obs,
-                                    setup_data *d, pctx *c, tram_solution *sol)
+                                    int fit_scale, setup_data *d, pctx *c, tram_solution *sol)
 {
     size_t n = rr->count;
     double *w = tram__malloc((n ? n : 1) * sizeof *w);
@@ -458,24 +508,22 @@ static tram_status refine_on_points(const tram_records *rr, const tram_point_obs
     if (!(sig > 1e-12)) sig = 1e-12;
     c->inv_sigma = 1.0 / sig;
     tram_refine_problem pb = {.n = n, .length_scale = 1.0, .eval = eval_model, .nblocks = n,
-                              .maxdim = 3 * (maxc ? maxc : 1), .ctx = c};
+                              .maxdim = 3 * (maxc ? maxc : 1), .ctx = c,
+                              .scale = fit_scale ? &d->scale : NULL};
     tram_status st = tram__refine_run(&pb, w, 0, &sol->X, &sol->Z);
     if (st == TRAM_OK) {
         obs_residuals(c, &sol->X, &sol->Z, d->res);
-        size_t k = 0;
-        double ss = 0;
-        for (size_t o = 0; o < obs->n; o++)
-            if (w[obs->station[o]] > 0) {
-                ss += d->res[o] * d->res[o];
-                k++;
-            }
-        double dof = 3.0 * (double)k - 12.0;
+        size_t k;
+        double ss = used_ss(obs, d, w, &k);
+        double dof = 3.0 * (double)k - 12.0 - (fit_scale ? 1.0 : 0.0);
         if (dof > 0) c->inv_sigma = 1.0 / fmax(sqrt(ss / dof), 1e-12);
-        double cov[144], cond;
-        if (tram__refine_covariance(&pb, w, &sol->X, &sol->Z, 1.0, cov, &cond) == TRAM_OK) {
+        double cov[144], cond, var = NAN;
+        if (tram__refine_covariance_scale(&pb, w, &sol->X, &sol->Z, 1.0, cov, &cond, &var, NULL) == TRAM_OK) {
             store_uncertainty(cov, 2, cond, sol);
             sol->unc.bootstrap_valid = 0; /* it measured the pose refinement */
         }
+        st = fit_scale ? tram__scale_report(sol, d->scale, var, 1)
+                       : scale_test(&pb, w, obs, d, c, dof, &sol->X, &sol->Z, sol);
         /* Station pose residuals against the refined solution. */
         double rot, tr;
         for (size_t i = 0; i < n; i++) {
@@ -539,7 +587,7 @@ static tram_status solve_with_model(const tram_records *r, tram_setup setup,
     rr->sensor_from_points = 1;
     st = tram_solve(rr, setup, opt, &sol, err);
     if (st == TRAM_OK && sol->solved && opt->refine &&
-        (st = refine_on_points(rr, obs, &d, &c, sol)) != TRAM_OK)
+        (st = refine_on_points(rr, obs, opt->fit_scale, &d, &c, sol)) != TRAM_OK)
         st = tram__fail(err, st, NULL, 0, 0,
                         st == TRAM_ENOMEM ? "out of memory" : "point refinement failed");
     if (sol && sol->solved) st = model_point_result(r, obs, opt, &c, &d, mxyz, sol, st, err);
@@ -562,7 +610,7 @@ typedef struct doc_ctx {
 
 static tram_status free_fit(const tram_records *r, tram_setup setup, const tram_point_obs *obs,
                             tram_se3 *X, tram_se3 *Z, setup_data *d, pctx *c, int robust,
-                            tram_error *err);
+                            int fit_scale, tram_error *err);
 
 static tram_status doctor_fit(const tram_records *r, tram_setup setup, const void *ctx,
                               double *med_rot, double *med_tr, double *mount_len)
@@ -573,7 +621,7 @@ static tram_status doctor_fit(const tram_records *r, tram_setup setup, const voi
     memset(&c, 0, sizeof c);
     tram_se3 X, Z;
     tram_error e;
-    tram_status st = free_fit(r, setup, dc->obs, &X, &Z, &d, &c, 0, &e);
+    tram_status st = free_fit(r, setup, dc->obs, &X, &Z, &d, &c, 0, 0, &e);
     if (st == TRAM_OK) {
         obs_residuals(&c, &X, &Z, d.res);
         *med_rot = 0.0;
@@ -642,7 +690,7 @@ static tram_status points_trust(const tram_records *r, tram_setup setup, const t
 
 static tram_status free_fit(const tram_records *r, tram_setup setup, const tram_point_obs *obs,
                             tram_se3 *X, tram_se3 *Z, setup_data *d, pctx *c, int robust,
-                            tram_error *err)
+                            int fit_scale, tram_error *err)
 {
     if (prepare(r, setup, obs, d, c) != TRAM_OK)
         return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
@@ -650,7 +698,8 @@ static tram_status free_fit(const tram_records *r, tram_setup setup, const tram_
     if (st != TRAM_OK) return st;
     tram_se3_identity(Z);
     tram_refine_problem pb = {.n = r->count, .length_scale = 1.0, .eval = eval_free, .nblocks = 1,
-                              .maxdim = 3 * obs->n, .ctx = c, .nfree = 6};
+                              .maxdim = 3 * obs->n, .ctx = c, .nfree = 6,
+                              .scale = fit_scale ? &d->scale : NULL};
     for (int round = 0; round < (robust ? 2 : 1); round++) {
         obs_residuals(c, X, Z, d->res);
         double sig = robust_sigma(d->res, d->excluded, obs->n);
@@ -700,31 +749,29 @@ static void free_model(const pctx *c, size_t m, const tram_se3 *Z, double *model
 
 /* Noise and uncertainty of X (the point positions are eliminated, and
  * charged to the degrees of freedom); returns the per-axis noise. */
-static double free_uncertainty(const tram_point_obs *obs, setup_data *d, pctx *c,
-                               tram_solution *sol)
+static tram_status free_uncertainty(const tram_point_obs *obs, int fit_scale, setup_data *d,
+                                    pctx *c, tram_solution *sol, double *noise)
 {
-    size_t m = obs->npoints;
+    size_t m = obs->npoints, k;
     obs_residuals(c, &sol->X, &sol->Z, d->res);
-    size_t k = 0;
-    double ss = 0;
-    for (size_t o = 0; o < obs->n; o++)
-        if (!d->excluded[o]) {
-            ss += d->res[o] * d->res[o];
-            k++;
-        }
-    double dof = 3.0 * (double)k - 6.0 - 3.0 * (double)m;
+    double ss = used_ss(obs, d, NULL, &k);
+    double dof = 3.0 * (double)k - 6.0 - 3.0 * (double)m - (fit_scale ? 1.0 : 0.0);
     double sig = dof > 0 ? sqrt(ss / dof) : NAN;
     if (sig > 0) c->inv_sigma = 1.0 / sig;
     tram_refine_problem pb = {.n = sol->n, .length_scale = 1.0, .eval = eval_free, .nblocks = 1,
-                              .maxdim = 3 * obs->n, .ctx = c, .nfree = 6};
-    double cov[144], cond;
+                              .maxdim = 3 * obs->n, .ctx = c, .nfree = 6,
+                              .scale = fit_scale ? &d->scale : NULL};
+    double cov[144], cond, var = NAN;
     for (int a = 0; a < 12; a++) sol->unc.sigma[a] = NAN;
     for (int a = 0; a < 144; a++) sol->unc.cov[a] = NAN;
-    if (sig > 0 && tram__refine_covariance(&pb, NULL, &sol->X, &sol->Z, 1.0, cov, &cond) == TRAM_OK)
+    if (sig > 0 && tram__refine_covariance_scale(&pb, NULL, &sol->X, &sol->Z, 1.0, cov, &cond, &var,
+                                                 NULL) == TRAM_OK)
         store_uncertainty(cov, 1, cond, sol);
     sol->noise_length = sig;
     sol->noise_angle_deg = NAN;
-    return sig;
+    *noise = sig;
+    if (fit_scale) return tram__scale_report(sol, d->scale, var, 1);
+    return sig > 0 ? scale_test(&pb, NULL, obs, d, c, dof, &sol->X, &sol->Z, sol) : TRAM_OK;
 }
 
 /* The point results of the model-free solve and their notes. */
@@ -803,13 +850,14 @@ static tram_status solve_free(const tram_records *r, tram_setup setup, const tra
             }
         }
     }
-    st = free_fit(r, setup, obs, &sol->X, &sol->Z, &d, &c, opt->robust, err);
+    st = free_fit(r, setup, obs, &sol->X, &sol->Z, &d, &c, opt->robust, opt->fit_scale, err);
     if (st != TRAM_OK) goto out;
     sol->solved = 1;
     sol->refined = 1;
     if (!(model = tram__malloc((m ? m : 1) * 3 * sizeof *model))) goto nomem;
     free_model(&c, m, &sol->Z, model);
-    double sig = free_uncertainty(obs, &d, &c, sol);
+    double sig;
+    if (free_uncertainty(obs, opt->fit_scale, &d, &c, sol, &sig) != TRAM_OK) goto nomem;
     if (free_point_result(r, obs, &c, &d, model, sig, sol) != TRAM_OK) goto nomem;
     if (free_checks(r, setup, obs, opt, sol) != TRAM_OK) goto nomem;
     goto out;
