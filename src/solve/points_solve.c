@@ -289,17 +289,18 @@ static tram_status prepare(const tram_records *r, tram_setup setup, const tram_p
     return TRAM_OK;
 }
 
-/* Robust per-axis sigma of the included residual norms. */
-static double robust_sigma(const double *res, const int *excl, size_t n)
+/* Robust per-axis sigma of the included residual norms into *sigma;
+ * TRAM_ENOMEM when the work copy cannot be had. */
+static tram_status robust_sigma(const double *res, const int *excl, size_t n, double *sigma)
 {
     double *v = tram__malloc((n ? n : 1) * sizeof *v);
-    if (!v) return NAN;
+    if (!v) return TRAM_ENOMEM;
     size_t k = 0;
     for (size_t i = 0; i < n; i++)
         if (!excl[i]) v[k++] = res[i];
-    double s = tram__median(v, k) / CHI3_MEDIAN_SQRT;
+    *sigma = tram__median(v, k) / CHI3_MEDIAN_SQRT;
     tram__free(v);
-    return s;
+    return TRAM_OK;
 }
 
 /* Median distance of the observed points from the sensor: the working
@@ -504,7 +505,11 @@ static tram_status refine_on_points(const tram_records *rr, const tram_point_obs
         if (d->count[i] > maxc) maxc = d->count[i];
     }
     obs_residuals(c, &sol->X, &sol->Z, d->res);
-    double sig = robust_sigma(d->res, d->excluded, obs->n);
+    double sig;
+    if (robust_sigma(d->res, d->excluded, obs->n, &sig) != TRAM_OK) {
+        tram__free(w);
+        return TRAM_ENOMEM;
+    }
     if (!(sig > 1e-12)) sig = 1e-12;
     c->inv_sigma = 1.0 / sig;
     tram_refine_problem pb = {.n = n, .length_scale = 1.0, .eval = eval_model, .nblocks = n,
@@ -518,11 +523,13 @@ static tram_status refine_on_points(const tram_records *rr, const tram_point_obs
         double dof = 3.0 * (double)k - 12.0 - (fit_scale ? 1.0 : 0.0);
         if (dof > 0) c->inv_sigma = 1.0 / fmax(sqrt(ss / dof), 1e-12);
         double cov[144], cond, var = NAN;
-        if (tram__refine_covariance_scale(&pb, w, &sol->X, &sol->Z, 1.0, cov, &cond, &var, NULL) == TRAM_OK) {
+        tram_status cs = tram__refine_covariance_scale(&pb, w, &sol->X, &sol->Z, 1.0, cov, &cond, &var, NULL);
+        if (cs == TRAM_OK) {
             store_uncertainty(cov, 2, cond, sol);
             sol->unc.bootstrap_valid = 0; /* it measured the pose refinement */
         }
-        st = fit_scale ? tram__scale_report(sol, d->scale, var, 1)
+        st = cs == TRAM_ENOMEM ? cs
+           : fit_scale ? tram__scale_report(sol, d->scale, var, 1)
                        : scale_test(&pb, w, obs, d, c, dof, &sol->X, &sol->Z, sol);
         /* Station pose residuals against the refined solution. */
         double rot, tr;
@@ -702,12 +709,18 @@ static tram_status free_fit(const tram_records *r, tram_setup setup, const tram_
                               .scale = fit_scale ? &d->scale : NULL};
     for (int round = 0; round < (robust ? 2 : 1); round++) {
         obs_residuals(c, X, Z, d->res);
-        double sig = robust_sigma(d->res, d->excluded, obs->n);
+        double sig = 1.0;
+        if (robust_sigma(d->res, d->excluded, obs->n, &sig) != TRAM_OK) st = TRAM_ENOMEM;
         c->inv_sigma = 1.0 / (sig > 1e-12 ? sig : 1e-12);
-        if ((st = tram__refine_run(&pb, NULL, 0, X, Z)) != TRAM_OK) return st;
+        if (st == TRAM_OK) st = tram__refine_run(&pb, NULL, 0, X, Z);
+        if (st == TRAM_OK && robust) {
+            obs_residuals(c, X, Z, d->res);
+            if (robust_sigma(d->res, d->excluded, obs->n, &sig) != TRAM_OK) st = TRAM_ENOMEM;
+        }
+        if (st != TRAM_OK)
+            return tram__fail(err, st, NULL, 0, 0,
+                              st == TRAM_ENOMEM ? "out of memory" : "point refinement failed");
         if (!robust) break;
-        obs_residuals(c, X, Z, d->res);
-        sig = robust_sigma(d->res, d->excluded, obs->n);
         size_t nex = 0;
         for (size_t o = 0; o < obs->n; o++) {
             d->excluded[o] = d->res[o] > OUTLIER_K * sig && d->res[o] > 1e-9;
@@ -764,9 +777,11 @@ static tram_status free_uncertainty(const tram_point_obs *obs, int fit_scale, se
     double cov[144], cond, var = NAN;
     for (int a = 0; a < 12; a++) sol->unc.sigma[a] = NAN;
     for (int a = 0; a < 144; a++) sol->unc.cov[a] = NAN;
-    if (sig > 0 && tram__refine_covariance_scale(&pb, NULL, &sol->X, &sol->Z, 1.0, cov, &cond, &var,
-                                                 NULL) == TRAM_OK)
-        store_uncertainty(cov, 1, cond, sol);
+    tram_status cs = sig > 0 ? tram__refine_covariance_scale(&pb, NULL, &sol->X, &sol->Z, 1.0, cov,
+                                                             &cond, &var, NULL)
+                             : TRAM_EUNDETERMINED;
+    if (cs == TRAM_ENOMEM) return cs; /* an uncertainty lost to memory is a failure */
+    if (cs == TRAM_OK) store_uncertainty(cov, 1, cond, sol);
     sol->noise_length = sig;
     sol->noise_angle_deg = NAN;
     *noise = sig;

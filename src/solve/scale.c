@@ -38,7 +38,7 @@ tram_status tram__scale_report(tram_solution *sol, double s, double var, int fit
                               "before using this result",
                               s, 100.0 * (s - 1.0), 100.0 * r->sigma);
     if (significant && !fitted)
-        return tram__diag_add(sol, "sensor-scale", TRAM_SEVERITY_INFO,
+        return tram__diag_add(sol, "sensor-scale-significant", TRAM_SEVERITY_INFO,
                               "the sensor's lengths fit the robot's better scaled by %.5f (1 sigma "
                               "%.5f, %.1f sigma from 1): pass --fit-scale to solve the scale with "
                               "the mount",
@@ -88,6 +88,39 @@ static tram_status rebootstrap(const tram_refine_problem *pb, const double *w,
     return st == TRAM_ENOMEM ? st : TRAM_OK;
 }
 
+/* The per-axis noise of the scaled fit's inlier residuals into pb (as the
+ * pipeline's last step does for s = 1, with the scale charged to the
+ * translation); TRAM_ENOMEM only. */
+static tram_status renoise(tram_refine_problem *pb, const double *w, size_t nin,
+                           const tram_se3 *X, const tram_se3 *Z)
+{
+    size_t n = pb->n;
+    tram_se3 *Ss = tram__malloc((n ? n : 1) * sizeof *Ss);
+    double *rot = tram__malloc((n ? n : 1) * 2 * sizeof *rot);
+    if (!Ss || !rot) {
+        tram__free(Ss);
+        tram__free(rot);
+        return TRAM_ENOMEM;
+    }
+    for (size_t i = 0; i < n; i++) {
+        Ss[i] = pb->S[i];
+        for (int k = 0; k < 3; k++) Ss[i].m[k][3] *= *pb->scale;
+    }
+    tram_handeye_residuals(pb->P, Ss, n, X, Z, rot, rot + n);
+    double sr = 0, stt = 0;
+    for (size_t i = 0; i < n; i++)
+        if (w[i] > 0) {
+            sr += rot[i] * rot[i];
+            stt += rot[n + i] * rot[n + i];
+        }
+    pb->sigma_angle = sqrt(sr / (double)(3 * nin - 6));
+    pb->sigma_length = sqrt(stt / (double)(3 * nin - 7));
+    tram__floor_noise(&pb->sigma_angle, &pb->sigma_length, pb->length_scale);
+    tram__free(Ss);
+    tram__free(rot);
+    return TRAM_OK;
+}
+
 tram_status tram__scale_poses(const tram_se3 *P, tram_se3 *S, size_t n,
                               const tram_solve_options *opt, tram_solution *sol)
 {
@@ -108,6 +141,10 @@ tram_status tram__scale_poses(const tram_se3 *P, tram_se3 *S, size_t n,
     tram_status st = TRAM_OK;
     if (dof > 0 && pb.sigma_angle > 0 && pb.sigma_length > 0) {
         st = tram__refine_run(&pb, w, 0, &X, &Z);
+        /* Noise estimated from the data: re-estimated with the scale, so
+         * that a large scale does not inflate the translation's weight. */
+        if (st == TRAM_OK && !sol->noise_given && (st = renoise(&pb, w, nin, &X, &Z)) == TRAM_OK)
+            st = tram__refine_run(&pb, w, 0, &X, &Z);
         if (st == TRAM_OK) st = tram__refine_chi2(&pb, w, &X, &Z, &chi2);
         if (st == TRAM_OK)
             st = tram__refine_covariance_scale(&pb, w, &X, &Z, chi2 / dof, cov, &cond, &var, NULL);
@@ -118,10 +155,11 @@ tram_status tram__scale_poses(const tram_se3 *P, tram_se3 *S, size_t n,
     if (fitted) {
         sol->X = X;
         sol->Z = Z;
+        sol->noise_angle_deg = pb.sigma_angle * 180.0 / TRAM_PI;
+        sol->noise_length = pb.sigma_length;
         store_cov(cov, cond, sol);
         for (size_t i = 0; i < n; i++)
             for (int k = 0; k < 3; k++) S[i].m[k][3] *= s;
-        /* the weights are the unscaled fit's; the covariance is rescaled by chi2/dof */
         if (opt->bootstrap > 0) {
             double s_fit = s;
             st = rebootstrap(&pb, w, opt, sol);
