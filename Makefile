@@ -239,6 +239,7 @@ cli-tests: $(B)/tram $(B)/gen_demo
 ref-tests: $(B)/refhelper $(B)/tram $(B)/render_ref
 	$(PYTHON) tests/ref/check_rotation_scipy.py $(B)/refhelper
 	$(PYTHON) tests/ref/check_solve_scipy.py $(B)/tram
+	$(PYTHON) tests/ref/check_scale_scipy.py $(B)/tram
 	$(PYTHON) tests/ref/check_stats_scipy.py $(B)/refhelper
 	$(PYTHON) tests/ref/check_chain_scipy.py $(B)/tram
 	$(PYTHON) tests/ref/check_register_scipy.py $(B)/tram
