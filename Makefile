@@ -255,6 +255,7 @@ cli-tests: $(B)/tram $(B)/gen_demo
 ref-tests: $(B)/refhelper $(B)/tram $(B)/render_ref
 	$(TEST_ENV) $(PYTHON) tests/ref/check_rotation_scipy.py $(B)/refhelper
 	$(TEST_ENV) $(PYTHON) tests/ref/check_solve_scipy.py $(B)/tram
+	$(TEST_ENV) $(PYTHON) tests/ref/check_scale_scipy.py $(B)/tram
 	$(TEST_ENV) $(PYTHON) tests/ref/check_stats_scipy.py $(B)/refhelper
 	$(TEST_ENV) $(PYTHON) tests/ref/check_chain_scipy.py $(B)/tram
 	$(TEST_ENV) $(PYTHON) tests/ref/check_register_scipy.py $(B)/tram
