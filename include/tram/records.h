@@ -91,13 +91,17 @@ typedef struct tram_records {
     tram_block_convention conv[TRAM_BLOCK_COUNT];
     int reorthonormalize;        /* matrices were projected onto SO(3)          */
     unsigned long long checksum; /* FNV-1a 64 of the input bytes                */
+    double quat_norm_tol;        /* the quaternion tolerance read with (0: default) */
 } tram_records;
 
 typedef struct tram_read_options {
     tram_length_unit length_unit; /* given on the command line, or UNSET      */
     tram_angle_unit angle_unit;   /* given on the command line, or UNSET      */
     int reorthonormalize;         /* accept near-rotation matrices and project */
-    double quat_norm_tol;         /* 0: TRAM_QUAT_NORM_TOL                      */
+    double quat_norm_tol;         /* 0: TRAM_QUAT_NORM_TOL; up to
+                                     TRAM_QUAT_NORM_MAX_FIX accepts rounded
+                                     quaternions (they are normalised); a
+                                     larger value is taken as that bound   */
     double matrix_tol;            /* 0: TRAM_RECORDS_MATRIX_TOL                 */
 } tram_read_options;
 

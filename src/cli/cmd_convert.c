@@ -25,7 +25,9 @@ const char cli_convert_help[] =
     "  --from-angle-unit U      input angle unit when the file does not declare one\n"
     "  --format csv|json        output file format (default csv)\n"
     "  --reorthonormalize       accept rotation matrices that are only rounded and\n"
-    "                           project them onto the nearest rotation\n\n"
+    "                           project them onto the nearest rotation\n"
+    "  --rounded-quat           accept quaternions rounded to a few decimals (norm\n"
+    "                           within 0.01 of 1; default 1e-6) and normalise them\n\n"
     "one pose on the command line:\n"
     "  --pose REP:x,y,z,ROT...  e.g. --pose quat:10,0,5,1,0,0,0\n"
     "                           or   --pose euler:zyx-intrinsic:0,0,0,90,0,0\n"
@@ -67,7 +69,7 @@ static const char *rep_columns(tram_rep_kind k)
 /* One pose: build a one-station record file in memory and read it with the
  * library, so the same checks apply as to files. */
 static int convert_one(const char *pose, const tram_output_rep *out_rep, tram_length_unit from_lu,
-                       tram_angle_unit from_au, int reortho)
+                       tram_angle_unit from_au, int reortho, double quat_tol)
 {
     tram_output_rep in_rep;
     const char *colon = strrchr(pose, ':');
@@ -110,6 +112,7 @@ static int convert_one(const char *pose, const tram_output_rep *out_rep, tram_le
     tram_read_options opt;
     memset(&opt, 0, sizeof opt);
     opt.reorthonormalize = reortho;
+    opt.quat_norm_tol = quat_tol;
     tram_records *r = NULL;
     tram_error err;
     tram_error_clear(&err);
@@ -170,6 +173,7 @@ int cli_convert(int argc, char **argv)
     tram_length_unit from_lu = TRAM_LENGTH_UNSET, out_lu = TRAM_LENGTH_UNSET;
     tram_angle_unit from_au = TRAM_ANGLE_UNSET, out_au = TRAM_ANGLE_UNSET;
     int json = 0, reortho = 0, bad = 0;
+    double quat_tol = 0;
     for (int i = 1; i < argc; i++) {
         if (cli_take(argc, argv, &i, "--to", &to, &bad)) {
         } else if (cli_take(argc, argv, &i, "--pose", &pose, &bad)) {
@@ -188,6 +192,8 @@ int cli_convert(int argc, char **argv)
             else return cli_usage_error("convert", "--format '%s': expected csv or json", v);
         } else if (cli_flag(argv, i, "--reorthonormalize")) {
             reortho = 1;
+        } else if (cli_flag(argv, i, "--rounded-quat")) {
+            quat_tol = TRAM_QUAT_NORM_MAX_FIX;
         } else if (argv[i][0] == '-' && argv[i][1] != '\0') {
             return cli_usage_error("convert", "unknown option '%s'", argv[i]);
         } else if (file) {
@@ -208,7 +214,7 @@ int cli_convert(int argc, char **argv)
     rep.angle_unit = out_au;
     if (pose) {
         if (file) return cli_usage_error("convert", "give either --pose or a file, not both");
-        return convert_one(pose, &rep, from_lu, from_au, reortho);
+        return convert_one(pose, &rep, from_lu, from_au, reortho, quat_tol);
     }
     if (!file) return cli_usage_error("convert", "no input file (use '-' for stdin)");
 
@@ -217,6 +223,7 @@ int cli_convert(int argc, char **argv)
     opt.length_unit = from_lu;
     opt.angle_unit = from_au;
     opt.reorthonormalize = reortho;
+    opt.quat_norm_tol = quat_tol;
     tram_records *r = NULL;
     tram_error err;
     tram_error_clear(&err);

@@ -44,6 +44,8 @@ const char cli_solve_help[] =
     "  --no-plausibility  skip the gate and the mount geometry check\n"
     "  --length-unit U, --angle-unit U   units when the file does not declare them\n"
     "  --reorthonormalize        accept rounded rotation matrices\n"
+    "  --rounded-quat    accept quaternions rounded to a few decimals (norm within\n"
+    "                    0.01 of 1; default 1e-6) and normalise them\n"
     "  --chain FILE      the record file gives joint readings: compute the flange\n"
     "                    poses with this kinematic chain (docs/chain.md)\n"
     "  --points FILE     the sensor's observed 3D points per station (station,point,x,y,z\n"
@@ -420,6 +422,7 @@ static int take_flag(char **argv, int i, solve_args *a)
     else if (cli_flag(argv, i, "--no-robust")) a->so.robust = 0;
     else if (cli_flag(argv, i, "--no-convention-check")) a->so.check_conventions = 0;
     else if (cli_flag(argv, i, "--reorthonormalize")) a->ro.reorthonormalize = 1;
+    else if (cli_flag(argv, i, "--rounded-quat")) a->ro.quat_norm_tol = TRAM_QUAT_NORM_MAX_FIX;
     else if (cli_flag(argv, i, "--json")) a->json = 1;
     else if (cli_flag(argv, i, "--force")) a->force = 1;
     else return 0;

@@ -363,11 +363,21 @@ static tram_status block_pose(const tram_records *r, const tram_station *st, int
         if (c->quat_xyzw) q = (tram_quat_wxyz){v[6], v[3], v[4], v[5]};
         double n = tram_quat_wxyz_norm(&q);
         double tol = opt && opt->quat_norm_tol > 0 ? opt->quat_norm_tol : TRAM_QUAT_NORM_TOL;
-        if (!(fabs(n - 1.0) <= tol))
+        if (tol > TRAM_QUAT_NORM_MAX_FIX) tol = TRAM_QUAT_NORM_MAX_FIX;
+        if (!(fabs(n - 1.0) <= tol)) {
+            /* Name the option only where it would help: a rounded log. */
+            const char *hint = fabs(n - 1.0) <= TRAM_QUAT_NORM_MAX_FIX
+                                   ? "; if the quaternions are only rounded (printed to a few "
+                                     "decimals), pass --rounded-quat to normalise those within "
+                                     "0.01 of unit norm"
+                                   : "; check the column order and that the four columns hold "
+                                     "one quaternion";
             return tram__fail(err, TRAM_EINPUT, r->source, st->line, col[3],
                               "station '%s': %s quaternion norm is %.9g, expected 1 within %g "
-                              "(columns %sqw,qx,qy,qz, scalar first)",
-                              st->id, block_word[b], n, tol, block_prefix[b]);
+                              "(columns %sqw,qx,qy,qz, scalar first)%s",
+                              st->id, block_word[b], n, tol, block_prefix[b],
+                              tol < TRAM_QUAT_NORM_MAX_FIX ? hint : "");
+        }
         tram_quat_wxyz_to_mat3(&q, &R);
         break;
     }
@@ -438,6 +448,7 @@ tram_status tram_records_rebuild(tram_records *r, const tram_block_convention co
     tram_read_options opt;
     memset(&opt, 0, sizeof opt);
     opt.reorthonormalize = r->reorthonormalize;
+    opt.quat_norm_tol = r->quat_norm_tol;
     return rebuild_with(r, conv, &opt, err);
 }
 
@@ -493,6 +504,7 @@ tram_status tram__records_finish(tram_records *r, const rec_schema *s, const rec
     r->setup = d->setup;
     r->n_joints = (size_t)s->n_joints;
     r->reorthonormalize = opt ? opt->reorthonormalize : 0;
+    r->quat_norm_tol = opt ? opt->quat_norm_tol : 0;
     tram_block_convention conv[2];
     for (int b = 0; b < TRAM_BLOCK_COUNT; b++) {
         r->has_block[b] = s->has_block[b];
