@@ -297,6 +297,8 @@ install: all
 	ln -sf libtram.so.0 $(DESTDIR)$(PREFIX)/lib/libtram.so
 	install -m 644 include/tram/*.h $(DESTDIR)$(PREFIX)/include/tram/
 	install -m 644 docs/tram.1 $(DESTDIR)$(PREFIX)/share/man/man1/tram.1
+	install -d $(DESTDIR)$(PREFIX)/share/doc/tram
+	install -m 644 docs/*.md $(DESTDIR)$(PREFIX)/share/doc/tram/
 	install -d $(DESTDIR)$(PYDIR)/tram
 	install -m 644 python/tram/*.py $(DESTDIR)$(PYDIR)/tram/
 	sed -e 's|@PREFIX@|$(PREFIX)|g' -e 's|@VERSION@|$(shell sed -n 's/.*TRAM_VERSION_STRING "\(.*\)"/\1/p' include/tram/common.h)|g' \

@@ -32,6 +32,10 @@ const char cli_check_help[] =
     "                       pairing test and the plausibility gate\n"
     "  --length-unit U, --angle-unit U, --reorthonormalize, --rounded-quat   as for\n"
     "                       tram solve\n\n"
+    "examples (from the top of the source tree):\n"
+    "  tram solve --force -o wrist.cal.json datasets/demo/wrist_camera.csv\n"
+    "  tram check --calibration wrist.cal.json --history checks.jsonl datasets/demo/wrist_recheck.csv\n"
+    "\n"
     "exit status: 0 ok; 1 sensor-moved, target-moved or inconsistent; 2 usage or input\n"
     "error; 3 inconclusive.\n";
 
@@ -175,6 +179,7 @@ int cli_check(int argc, char **argv)
         tram_calibration_destroy(cal);
         return CLI_EXIT_USAGE;
     }
+    cli_records_warnings(r);
     if (cli_apply_chain(chain, r) != CLI_EXIT_OK) {
         tram_records_destroy(r);
         tram_calibration_destroy(cal);

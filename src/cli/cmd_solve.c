@@ -60,6 +60,10 @@ const char cli_solve_help[] =
     "  -o FILE           write the calibration file (JSON) atomically\n"
     "  --force           allow -o to replace an existing file\n"
     "  --plot DIR        write frames.png and residuals.png of the solve into DIR\n\n"
+    "examples (from the top of the source tree):\n"
+    "  tram solve datasets/demo/wrist_camera.csv\n"
+    "  tram solve --json -o wrist.cal.json --force datasets/demo/wrist_camera.csv\n"
+    "\n"
     "exit status: 0 solved with no warning; 2 usage or input error; 3 the data cannot\n"
     "determine a trustworthy answer (unobservable motion, or a warning such as a\n"
     "convention that fits far better than the declared one, implausible residuals,\n"
@@ -591,6 +595,7 @@ int cli_solve(int argc, char **argv)
         cli_report(&err);
         return cli_exit_for(st);
     }
+    cli_records_warnings(r);
     tram_pair *pair_list = NULL;
     rc = cli_apply_chain(a.chain, r) != CLI_EXIT_OK ? CLI_EXIT_USAGE : resolve_setup(r, &a);
     if (rc == CLI_EXIT_OK) rc = apply_record_options(r, &a, &pair_list);
