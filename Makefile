@@ -52,7 +52,7 @@ FUZZ_SECONDS ?= 60
 # make test fixes it so that its short run is repeatable.
 FUZZ_SEED ?= 0
 
-.PHONY: all deps layers test unit python-tests cli-tests ref-tests asan clang-check demo install install-check clean tools bench \
+.PHONY: all deps layers test unit python-tests cli-tests ref-tests asan clang-check demo install install-check install-check-example clean tools bench \
         fuzz fuzz-lib fuzz-bin fuzz-replay coverage valgrind valgrind-run
 
 all: $(B)/tram $(B)/libtram.a $(B)/libtram.so
@@ -95,6 +95,7 @@ $(B)/libtram.a: $(LIB_OBJ)
 
 $(B)/libtram.so: $(LIB_OBJ)
 	$(CC) -shared -Wl,-soname,libtram.so.0 $(EXTRA_LDFLAGS) -o $@ $^ $(PKG_LIBS)
+	ln -sf libtram.so $(B)/libtram.so.0   # the soname, for programs linked against build/
 
 $(B)/tram: $(CLI_OBJ) $(B)/libtram.a
 	$(CC) $(EXTRA_LDFLAGS) -o $@ $(CLI_OBJ) $(B)/libtram.a $(PKG_LIBS)
@@ -315,6 +316,8 @@ install: all
 	ln -sf libtram.so.0 $(DESTDIR)$(PREFIX)/lib/libtram.so
 	install -m 644 include/tram/*.h $(DESTDIR)$(PREFIX)/include/tram/
 	install -m 644 docs/tram.1 $(DESTDIR)$(PREFIX)/share/man/man1/tram.1
+	install -d $(DESTDIR)$(PREFIX)/share/doc/tram
+	install -m 644 docs/*.md $(DESTDIR)$(PREFIX)/share/doc/tram/
 	install -d $(DESTDIR)$(PYDIR)/tram
 	install -m 644 python/tram/*.py $(DESTDIR)$(PYDIR)/tram/
 	sed -e 's|@PREFIX@|$(PREFIX)|g' -e 's|@VERSION@|$(shell sed -n 's/.*TRAM_VERSION_STRING "\(.*\)"/\1/p' include/tram/common.h)|g' \
@@ -328,11 +331,21 @@ install-check: all
 	@printf '#include <tram/tram.h>\n#include <stdio.h>\nint main(void){tram_se3 T;tram_se3_identity(&T);printf("%%s %%g\\n",tram_version(),T.m[3][3]);return 0;}\n' > $(B)/stage/check.c
 	@PKG_CONFIG_SYSROOT_DIR=$(abspath $(B)/stage) PKG_CONFIG_LIBDIR=$(abspath $(B)/stage)/usr/lib/pkgconfig:/usr/lib/x86_64-linux-gnu/pkgconfig:/usr/share/pkgconfig \
 	  $(CC) $(B)/stage/check.c -o $(B)/stage/check $$(PKG_CONFIG_SYSROOT_DIR=$(abspath $(B)/stage) PKG_CONFIG_LIBDIR=$(abspath $(B)/stage)/usr/lib/pkgconfig:/usr/lib/x86_64-linux-gnu/pkgconfig:/usr/share/pkgconfig pkg-config --cflags --libs --static tram)
+	@$(MAKE) --no-print-directory install-check-example
 	@LD_LIBRARY_PATH=$(abspath $(B)/stage)/usr/lib $(B)/stage/check | grep -q '^[0-9.]* 1$$' && test -x $(B)/stage/usr/bin/tram && test -f $(B)/stage/usr/share/man/man1/tram.1 \
 	  && cd / && env -u TRAM_LIBRARY PYTHONPATH=$(abspath $(B)/stage)/usr/lib/python3/dist-packages $(PYTHON) -c \
 	    'import tram, sys; r = tram.solve(sys.argv[1]); assert r.trustworthy; print("installed package:", tram.version(), tram._lib.lib._name)' \
 	    $(abspath datasets/demo/wrist_camera.csv) | grep -q "stage/usr/lib/libtram.so.0" \
-	  && echo "install-check: 2 passed, 0 failed"
+	  && echo "install-check: 3 passed, 0 failed"
+
+# docs/library.md's program (docs/examples/solve_mount.c), built against the
+# staged install through its tram.pc and run on the demo's wrist camera.
+STAGE_PC = PKG_CONFIG_SYSROOT_DIR=$(abspath $(B)/stage) PKG_CONFIG_LIBDIR=$(abspath $(B)/stage)/usr/lib/pkgconfig:/usr/lib/x86_64-linux-gnu/pkgconfig:/usr/share/pkgconfig
+install-check-example:
+	@$(CC) -std=c11 $(WARN) docs/examples/solve_mount.c -o $(B)/stage/solve_mount \
+	  $$($(STAGE_PC) pkg-config --cflags --libs tram)
+	@LD_LIBRARY_PATH=$(abspath $(B)/stage)/usr/lib $(B)/stage/solve_mount datasets/demo/wrist_camera.csv \
+	  | grep -q '^T_flange_sensor translation .*NOT verified on the cell'
 
 clean:
 	rm -rf build build-asan build-clang build-fuzz build-cov

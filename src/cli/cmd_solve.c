@@ -48,6 +48,8 @@ const char cli_solve_help[] =
     "  --no-plausibility  skip the gate and the mount geometry check\n"
     "  --length-unit U, --angle-unit U   units when the file does not declare them\n"
     "  --reorthonormalize        accept rounded rotation matrices\n"
+    "  --rounded-quat    accept quaternions rounded to a few decimals (norm within\n"
+    "                    0.01 of 1; default 1e-6) and normalise them\n"
     "  --chain FILE      the record file gives joint readings: compute the flange\n"
     "                    poses with this kinematic chain (docs/chain.md)\n"
     "  --points FILE     the sensor's observed 3D points per station (station,point,x,y,z\n"
@@ -62,6 +64,10 @@ const char cli_solve_help[] =
     "  -o FILE           write the calibration file (JSON) atomically\n"
     "  --force           allow -o to replace an existing file\n"
     "  --plot DIR        write frames.png and residuals.png of the solve into DIR\n\n"
+    "examples (from the top of the source tree):\n"
+    "  tram solve datasets/demo/wrist_camera.csv\n"
+    "  tram solve --json -o wrist.cal.json --force datasets/demo/wrist_camera.csv\n"
+    "\n"
     "exit status: 0 solved with no warning; 2 usage or input error; 3 the data cannot\n"
     "determine a trustworthy answer (unobservable motion, or a warning such as a\n"
     "convention that fits far better than the declared one, implausible residuals,\n"
@@ -437,6 +443,7 @@ static int take_flag(char **argv, int i, solve_args *a)
     else if (cli_flag(argv, i, "--no-convention-check")) a->so.check_conventions = 0;
     else if (cli_flag(argv, i, "--fit-scale")) a->so.fit_scale = 1;
     else if (cli_flag(argv, i, "--reorthonormalize")) a->ro.reorthonormalize = 1;
+    else if (cli_flag(argv, i, "--rounded-quat")) a->ro.quat_norm_tol = TRAM_QUAT_NORM_MAX_FIX;
     else if (cli_flag(argv, i, "--json")) a->json = 1;
     else if (cli_flag(argv, i, "--force")) a->force = 1;
     else return 0;
@@ -609,6 +616,7 @@ int cli_solve(int argc, char **argv)
         cli_report(&err);
         return cli_exit_for(st);
     }
+    cli_records_warnings(r);
     tram_pair *pair_list = NULL;
     rc = cli_apply_chain(a.chain, r) != CLI_EXIT_OK ? CLI_EXIT_USAGE : resolve_setup(r, &a);
     if (rc == CLI_EXIT_OK) rc = apply_record_options(r, &a, &pair_list);

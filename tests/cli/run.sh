@@ -92,7 +92,7 @@ expect_error "malformed JSON" 2 "bad.json:3:[0-9]+: error: record file: malforme
 f=$(printf '{"format": "tram-records", "version": 1, "length_unit": "mm",\n "stations": [{"robot": {"x": 1, "y": 2, "z": 3, "qw": 1, "qx": 0, "qy": 0, "qz": 0}}]}\n{"x": 1}\n' | mk two.json)
 expect_error "text after the JSON document" 2 "two.json:3:1: error: record file: text after the JSON document" convert --to quat "$f"
 expect_error "no such file" 2 "nosuch.csv: error: cannot open" convert --to quat "$tmp/nosuch.csv"
-expect_error "bad --to" 2 "expected quat, rotvec, matrix or euler:SEQ" convert --to euler:abc "$tmp/good.csv"
+expect_error "bad --to" 2 "expected quat, quat-xyzw, rotvec, matrix or euler:SEQ" convert --to euler:abc "$tmp/good.csv"
 expect_error "unknown subcommand" 2 "unknown subcommand" frobnicate
 expect_error "unknown option" 2 "unknown option '--bogus'" convert --bogus
 
