@@ -171,8 +171,8 @@ static tram_status op_records_write(tram_error *err)
         char *buf = NULL;
         size_t len = 0;
         FILE *f = open_memstream(&buf, &len);
-        tram_output_rep rep = {TRAM_REP_EULER, TRAM_EULER_ZYX_INTRINSIC, TRAM_LENGTH_M,
-                               TRAM_ANGLE_DEG};
+        tram_output_rep rep = {.kind = TRAM_REP_EULER, .euler = TRAM_EULER_ZYX_INTRINSIC,
+                               .length_unit = TRAM_LENGTH_M, .angle_unit = TRAM_ANGLE_DEG};
         st = tram_records_write(in.rec, &rep, json, f, err);
         fclose(f);
         free(buf);
