@@ -135,6 +135,8 @@ typedef struct tram_output_rep {
     tram_euler_seq euler;          /* for TRAM_REP_EULER                       */
     tram_length_unit length_unit;  /* UNSET: the records' unit                  */
     tram_angle_unit angle_unit;    /* needed for ROTVEC and EULER                */
+    int with_joints;               /* 1: also the joint readings (joint_1 ...), in
+                                      the records' own units (no unit change)    */
 } tram_output_rep;
 
 /* Parse "quat", "rotvec", "matrix" or "euler:SEQ"; 0 on success, -1 else. */
