@@ -69,8 +69,8 @@ static struct {
     tram_calibration *cal;
     tram_check_result *check;
     tram_chain *chain;
-    char *pixels, *camera;
-    size_t pixels_len, camera_len;
+    char *pixels, *camera, *cell;
+    size_t pixels_len, camera_len, cell_len;
     tram_pixel_obs *views;          /* 4 views of a 7 x 6 grid (invented) */
     char grid_ids[42][16];
     const char *grid_idp[42];
@@ -153,7 +153,7 @@ static tram_status op_records_write(tram_error *err)
         size_t len = 0;
         FILE *f = open_memstream(&buf, &len);
         tram_output_rep rep = {TRAM_REP_EULER, TRAM_EULER_ZYX_INTRINSIC, TRAM_LENGTH_M,
-                               TRAM_ANGLE_DEG};
+                               TRAM_ANGLE_DEG, 0};
         st = tram_records_write(in.rec, &rep, json, f, err);
         fclose(f);
         free(buf);
@@ -399,6 +399,7 @@ static int setup(void **state)
     in.board = slurp("fuzz/corpus/board/written.json", &in.board_len);
     in.pixels = slurp("fuzz/corpus/pixels/two_views.csv", &in.pixels_len);
     in.camera = slurp("fuzz/corpus/camera/radial2_calibrated.json", &in.camera_len);
+    in.cell = slurp("datasets/demo/cell_wrist.json", &in.cell_len);
     {
         /* 4 tilted views of a 7 x 6 grid of 20 mm through a known camera */
         tram_camera c = {800, 805, 322, 241, 0, -0.1, 0.02, 0, 0, 0, TRAM_DISTORTION_RADIAL2, 640, 480};
@@ -467,6 +468,7 @@ static int teardown(void **state)
     free(in.board);
     free(in.pixels);
     free(in.camera);
+    free(in.cell);
     tram_pixel_obs_destroy(in.views);
     free(in.cal_text);
     tram_records_destroy(in.rec);
@@ -535,6 +537,30 @@ static void test_pixels(void **state)
     tram_records_destroy(px.rec);
 }
 
+/* A cell file, a plan from the demo records' solve, its record set and
+ * its JSON (few candidates: the failure paths, not the choice). */
+static tram_status op_plan(tram_error *err)
+{
+    tram_cell *c = NULL;
+    tram_plan_result *p = NULL;
+    tram_records *r = NULL;
+    char *text = NULL;
+    tram_status st = tram_cell_read_buffer("cell.json", in.cell, in.cell_len, NULL, TRAM_SETUP_EYE_IN_HAND, &c, err);
+    tram_plan_options o;
+    tram_plan_options_init(&o);
+    o.stations = 3;
+    o.candidates = 12;
+    o.random_draws = 3;
+    if (st == TRAM_OK) st = tram_plan(c, in.rec, in.sol, &o, &p, err);
+    if (st == TRAM_OK) st = tram_plan_records(p, c, &r, err);
+    if (st == TRAM_OK) st = tram_plan_to_json(p, &text, err);
+    free(text);
+    tram_records_destroy(r);
+    tram_plan_result_destroy(p);
+    tram_cell_destroy(c);
+    return st;
+}
+
 static void test_readers(void **state)
 {
     (void)state;
@@ -562,6 +588,7 @@ static void test_writers_and_solvers(void **state)
     render_image_destroy(detect_im);
     detect_im = NULL;
     exhaust("intrinsics + pictures", op_intrinsics);
+    exhaust("cell file + plan + records + JSON", op_plan);
 }
 
 int main(void)
