@@ -254,6 +254,12 @@ int cli_plan(int argc, char **argv)
         rc = cli_exit_for(err.status);
     }
     if (rc == CLI_EXIT_OK && r) rc = solve_records(c, r, &s);
+    if (rc == CLI_EXIT_OK && s && s->solved && !s->trustworthy)
+        fprintf(stderr, "tram plan: warning: the solve of %s has warnings (see tram solve); the plan "
+                        "starts from it all the same\n", r->source);
+    if (rc == CLI_EXIT_OK && s && !s->solved)
+        fprintf(stderr, "tram plan: note: %s cannot be solved yet; planning from the cell's guess\n",
+                r->source);
     if (rc == CLI_EXIT_OK) {
         tram_status st = tram_plan(c, r, s, &a.po, &p, &err);
         if (st != TRAM_OK) {
