@@ -554,6 +554,10 @@ static tram_status op_plan(tram_error *err)
     if (st == TRAM_OK) st = tram_plan(c, in.rec, in.sol, &o, &p, err);
     if (st == TRAM_OK) st = tram_plan_records(p, c, &r, err);
     if (st == TRAM_OK) st = tram_plan_to_json(p, &text, err);
+    tram_image *img = NULL;
+    tram_plot_plan_data pd = {p, 0, NULL, NULL};
+    if (st == TRAM_OK) st = tram_plot_plan(&pd, 400, 300, &img, err);
+    tram_image_destroy(img);
     free(text);
     tram_records_destroy(r);
     tram_plan_result_destroy(p);
@@ -588,7 +592,7 @@ static void test_writers_and_solvers(void **state)
     render_image_destroy(detect_im);
     detect_im = NULL;
     exhaust("intrinsics + pictures", op_intrinsics);
-    exhaust("cell file + plan + records + JSON", op_plan);
+    exhaust("cell file + plan + records + JSON + picture", op_plan);
 }
 
 int main(void)

@@ -10,6 +10,7 @@
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
 
 const char cli_plan_help[] =
     "usage: tram plan --setup S --cell CELL.json [OPTIONS] [RECORDS]\n\n"
@@ -33,7 +34,9 @@ const char cli_plan_help[] =
     "                     and joint_ columns when the cell gives a chain\n"
     "  --format csv|json  the record file's form (default csv)\n"
     "  --force            allow -o to replace an existing file\n"
-    "  --json             print the plan as JSON (docs/plan.md)\n\n"
+    "  --json             print the plan as JSON (docs/plan.md)\n"
+    "  --plot DIR         draw DIR/plan.png: recorded and proposed flange positions (top and\n"
+    "                     front views, in visiting order) and the 1-sigma now, planned, random\n\n"
     "The poses are unverified proposals: tram checks no collisions. Jog to each at reduced\n"
     "speed with the safety functions active.\n\n"
     "exit status: 0 planned; 2 usage or input error (a cell file names file:line:column);\n"
@@ -46,7 +49,7 @@ static const char plan_safety[] =
     "robot-safety standards and local codes.\n";
 
 typedef struct plan_args {
-    const char *cell, *records, *out, *format;
+    const char *cell, *records, *out, *format, *plot;
     tram_setup setup;
     tram_plan_options po;
     int json, force;
@@ -81,6 +84,7 @@ static int parse_args(int argc, char **argv, plan_args *a)
             if (bad || parse_count("--seed", v, 0, (size_t)-1, &s)) return CLI_EXIT_USAGE;
             a->po.seed = s;
         } else if (cli_take(argc, argv, &i, "-o", &a->out, &bad)) {
+        } else if (cli_take(argc, argv, &i, "--plot", &a->plot, &bad)) {
         } else if (cli_take(argc, argv, &i, "--format", &a->format, &bad)) {
             if (bad) break;
             if (strcmp(a->format, "csv") && strcmp(a->format, "json"))
@@ -235,6 +239,30 @@ static int write_records(const plan_args *a, const tram_cell *c, const tram_reco
     return CLI_EXIT_OK;
 }
 
+static int draw_plan(const plan_args *a, const tram_records *r, const tram_plan_result *p)
+{
+    tram_error err;
+    tram_error_clear(&err);
+    tram_se3 *ex = NULL;
+    size_t n = r ? r->count : 0;
+    if (n && !(ex = malloc(n * sizeof *ex))) return cli_usage_error("plan", "out of memory");
+    for (size_t i = 0; i < n; i++) ex[i] = r->stations[i].T_base_flange;
+    tram_plot_plan_data d = {p, n, ex, NULL};
+    tram_image *img = NULL;
+    char path[4200];
+    mkdir(a->plot, 0755);
+    snprintf(path, sizeof path, "%s/plan.png", a->plot);
+    tram_status st = tram_plot_plan(&d, 1600, 1000, &img, &err);
+    if (st == TRAM_OK) st = tram_image_write_png(img, path, a->force, &err);
+    tram_image_destroy(img);
+    free(ex);
+    if (st != TRAM_OK) {
+        cli_report(&err);
+        return CLI_EXIT_USAGE;
+    }
+    return CLI_EXIT_OK;
+}
+
 int cli_plan(int argc, char **argv)
 {
     plan_args a;
@@ -268,6 +296,7 @@ int cli_plan(int argc, char **argv)
         }
     }
     if (rc == CLI_EXIT_OK && a.out) rc = write_records(&a, c, r, p);
+    if (rc == CLI_EXIT_OK && a.plot) rc = draw_plan(&a, r, p);
     if (rc == CLI_EXIT_OK) {
         if (a.json) {
             char *text = NULL;

@@ -55,6 +55,10 @@ else bad "plan with a chain"; cat "$tmp/err"; fi
 awk -F, 'BEGIN { OFS = "," } /^plan1,/ { $9 = $9 + 1 } { print }' "$tmp/joints.csv" >"$tmp/joints_bad.csv"
 expect_error "plan: joints against pose" 2 "joints_bad.csv:[0-9]+: error: station 'plan1': the robot_ pose and the chain's pose" fk --chain "$demo/arm_dh.json" "$tmp/joints_bad.csv"
 
+# --plot DIR: the plan's picture
+"$TRAM" plan --cell "$cell" --stations 4 --plot "$tmp/planplot" "$demo/wrist_camera.csv" >/dev/null 2>"$tmp/err" &&
+    [ "$(head -c 8 "$tmp/planplot/plan.png" | od -An -tx1 | tr -d ' \n')" = 89504e470d0a1a0a ] && ok || { bad "plan --plot"; cat "$tmp/err"; }
+
 # JSON report (the outside check reads it: tests/ref/check_plan_numpy.py)
 "$TRAM" plan --setup eye-in-hand --cell "$cell" --stations 5 --json >"$tmp/plan.json" 2>"$tmp/err" &&
     /usr/bin/python3 -c 'import json,sys; d=json.load(open(sys.argv[1])); assert d["format"]=="tram-plan" and len(d["stations"])==5 and d["sigma_X"]["planned"]["valid"]' "$tmp/plan.json" &&
