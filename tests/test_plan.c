@@ -99,6 +99,44 @@ static void test_cell_read(void **state)
     assert_int_equal(tram_cell_read_buffer("cell.json", cell_text, strlen(cell_text), NULL, TRAM_SETUP_UNSET, &c, &e),
                      TRAM_EINPUT);
     assert_non_null(strstr(e.message, "no setup"));
+    /* a camera file of tram intrinsics, named relative to the cell's folder */
+    char dir[] = "/tmp/tram_cell_XXXXXX", path[300];
+    assert_non_null(mkdtemp(dir));
+    snprintf(path, sizeof path, "%s/cam.json", dir);
+    tram_camera cam = {1000, 1002, 640.5, 479.5, 0, -0.1, 0.02, 0, 0, 0, TRAM_DISTORTION_RADIAL2, 1280, 960};
+    char *ct = NULL;
+    assert_int_equal(tram_camera_to_json(&cam, NULL, &ct, &e), TRAM_OK);
+    FILE *f = fopen(path, "w");
+    fputs(ct, f);
+    fclose(f);
+    free(ct);
+    char *t = edit(cell_text, "\"field_of_view_deg\": {\"horizontal\": 65, \"vertical\": 51},\n"
+                              "          \"image_size\": {\"width\": 1280, \"height\": 960},",
+                   "\"camera\": \"cam.json\",");
+    assert_int_equal(tram_cell_read_buffer("cell.json", t, strlen(t), dir, TRAM_SETUP_EYE_IN_HAND, &c, &e), TRAM_OK);
+    assert_int_equal(c->camera.distortion, TRAM_DISTORTION_RADIAL2);
+    assert_close(c->camera.fy, 1002, 0);
+    /* planning with the distorted camera keeps the board inside the image */
+    tram_plan_options o;
+    tram_plan_options_init(&o);
+    o.candidates = 100;
+    tram_plan_result *p = NULL;
+    assert_int_equal(tram_plan(c, NULL, NULL, &o, &p, &e), TRAM_OK);
+    for (size_t i = 0; i < p->n; i++)
+        for (int k = 0; k < 4; k++) {
+            double corner[3] = {c->target_x[k & 1], c->target_y[k >> 1], 0}, uv[2];
+            assert_true(tram_camera_reproject(&c->camera, &p->stations[i].T_sensor_target, corner, uv));
+            assert_true(uv[0] >= 40 && uv[0] <= 1239 && uv[1] >= 40 && uv[1] <= 919);
+        }
+    tram_plan_result_destroy(p);
+    tram_cell_destroy(c);
+    /* a camera file that is not there names itself */
+    assert_int_equal(tram_cell_read_buffer("cell.json", t, strlen(t), "/nonexistent", TRAM_SETUP_EYE_IN_HAND, &c, &e),
+                     TRAM_EIO);
+    assert_non_null(strstr(e.file, "/nonexistent/cam.json"));
+    remove(path);
+    rmdir(dir);
+    free(t);
 }
 
 /* ---- inverse kinematics ------------------------------------------------ */
