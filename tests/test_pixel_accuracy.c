@@ -54,6 +54,7 @@ static tram_solution *pose_path(const scene *s, const tram_solve_options *so)
 static void test_against_pose_path(void **state)
 {
     (void)state;
+    TEST_FIGURES_IN_PLAIN_BUILD_ONLY();
     tram_solve_options so;
     tram_solve_options_init(&so);
     so.check_conventions = 0;
@@ -93,6 +94,7 @@ static void test_against_pose_path(void **state)
 static void test_interval_coverage(void **state)
 {
     (void)state;
+    TEST_FIGURES_IN_PLAIN_BUILD_ONLY();
     tram_solve_options so;
     tram_solve_options_init(&so);
     so.check_conventions = 0;

@@ -64,6 +64,9 @@ int cli_take(int argc, char **argv, int *i, const char *name, const char **value
 /* 1 if argv[*i] is the flag --name (no value). */
 int cli_flag(char **argv, int i, const char *name);
 
+/* Print the record reader's warnings ("file:line:col: warning: ...") on
+ * stderr, e.g. a comment that looks like a misspelt directive. */
+void cli_records_warnings(const tram_records *r);
 /* Print "file:line:col: error: message" for a library error. */
 void cli_report(const tram_error *err);
 /* Print "tram CMD: error: ..." for a usage problem; returns CLI_EXIT_USAGE. */

@@ -30,7 +30,12 @@ const char cli_check_help[] =
     "  --seed N             the pairing test's seed (default 1)\n"
     "  --no-plausibility    give the verdict without the convention search, the\n"
     "                       pairing test and the plausibility gate\n"
-    "  --length-unit U, --angle-unit U, --reorthonormalize   as for tram solve\n\n"
+    "  --length-unit U, --angle-unit U, --reorthonormalize, --rounded-quat   as for\n"
+    "                       tram solve\n\n"
+    "examples (from the top of the source tree):\n"
+    "  tram solve --force -o wrist.cal.json datasets/demo/wrist_camera.csv\n"
+    "  tram check --calibration wrist.cal.json --history checks.jsonl datasets/demo/wrist_recheck.csv\n"
+    "\n"
     "exit status: 0 ok; 1 sensor-moved, target-moved or inconsistent; 2 usage or input\n"
     "error; 3 inconclusive.\n";
 
@@ -130,6 +135,8 @@ int cli_check(int argc, char **argv)
             json = 1;
         } else if (cli_flag(argv, i, "--reorthonormalize")) {
             ro.reorthonormalize = 1;
+        } else if (cli_flag(argv, i, "--rounded-quat")) {
+            ro.quat_norm_tol = TRAM_QUAT_NORM_MAX_FIX;
         } else if (argv[i][0] == '-' && argv[i][1] != '\0') {
             return cli_usage_error("check", "unknown option '%s'", argv[i]);
         } else if (file) {
@@ -172,6 +179,7 @@ int cli_check(int argc, char **argv)
         tram_calibration_destroy(cal);
         return CLI_EXIT_USAGE;
     }
+    cli_records_warnings(r);
     if (cli_apply_chain(chain, r) != CLI_EXIT_OK) {
         tram_records_destroy(r);
         tram_calibration_destroy(cal);

@@ -38,7 +38,10 @@ const char cli_plan_help[] =
     "  --plot DIR         draw DIR/plan.png: recorded and proposed flange positions (top and\n"
     "                     front views, in visiting order) and the 1-sigma now, planned, random\n\n"
     "The poses are unverified proposals: tram checks no collisions. Jog to each at reduced\n"
-    "speed with the safety functions active.\n\n"
+    "speed with the safety functions active.\n\n"    "examples (from the top of the source tree):\n"
+    "  tram plan --setup eye-in-hand --cell datasets/demo/cell_wrist.json -o next.csv\n"
+    "  tram plan --cell datasets/demo/cell_wrist.json --stations 4 --json datasets/demo/wrist_camera.csv\n"
+    "\n"
     "exit status: 0 planned; 2 usage or input error (a cell file names file:line:column);\n"
     "3 no pose satisfies the constraints (the reason is given), or the noise is unknown.\n";
 

@@ -29,7 +29,13 @@ const char cli_plot_help[] =
     "  --calibration F    frames: draw the solved sensor and target too\n"
     "  --chain F          frames: records with joint readings; every link frame is drawn\n"
     "  --tolerance L,A    history: the tolerance band, e.g. 0.5mm,0.1deg\n"
-    "  --robust           points: RANSAC registration (outliers flagged)\n";
+    "  --robust           points: RANSAC registration (outliers flagged)\n"
+    "\n"
+    "examples (from the top of the source tree):\n"
+    "  tram plot frames datasets/demo/wrist_camera.csv -o frames.png --force\n"
+    "  tram plot points tests/cli/data/pairs.csv -o points.png --force\n\n"
+    "exit status: 0 picture written; 2 usage or input error (the message names\n"
+    "file:line:column), or an existing output without --force.\n";
 
 /* st and *img come from a plot call made before this one (the order in
  * which C evaluates arguments is unspecified, so *img is read here). */
@@ -226,6 +232,7 @@ static int plot_frames(const char *file, const tram_calibration *cal, const char
         cli_report(&err);
         return CLI_EXIT_USAGE;
     }
+    cli_records_warnings(r);
     tram_chain *c = NULL;
     tram_se3 *links = NULL;
     int rc = CLI_EXIT_OK;

@@ -35,6 +35,10 @@ const char cli_solve_help[] =
     "  --bootstrap N     N station resamples as a second opinion on the uncertainty\n"
     "  --seed N          bootstrap seed (default 1)\n"
     "  --no-convention-check   skip re-solving under the usual convention mistakes\n"
+    "  --fit-scale       solve one length scale of the sensor (its translations, or its\n"
+    "                    points with --points) with the mount; without it the scale is\n"
+    "                    only tested, and a note suggests it when it differs from 1 by\n"
+    "                    more than 3 sigma\n"
     "  --max-residual LEN[+PCT%],ANG   plausibility gate on the station (or point) RMS\n"
     "                    residual, default 5mm+1%,1deg (PCT of the working distance)\n"
     "  --max-offset LEN,LEN   farthest plausible mount from the flange and from the\n"
@@ -44,6 +48,8 @@ const char cli_solve_help[] =
     "  --no-plausibility  skip the gate and the mount geometry check\n"
     "  --length-unit U, --angle-unit U   units when the file does not declare them\n"
     "  --reorthonormalize        accept rounded rotation matrices\n"
+    "  --rounded-quat    accept quaternions rounded to a few decimals (norm within\n"
+    "                    0.01 of 1; default 1e-6) and normalise them\n"
     "  --chain FILE      the record file gives joint readings: compute the flange\n"
     "                    poses with this kinematic chain (docs/chain.md)\n"
     "  --points FILE     the sensor's observed 3D points per station (station,point,x,y,z\n"
@@ -58,6 +64,10 @@ const char cli_solve_help[] =
     "  -o FILE           write the calibration file (JSON) atomically\n"
     "  --force           allow -o to replace an existing file\n"
     "  --plot DIR        write frames.png and residuals.png of the solve into DIR\n\n"
+    "examples (from the top of the source tree):\n"
+    "  tram solve datasets/demo/wrist_camera.csv\n"
+    "  tram solve --json -o wrist.cal.json --force datasets/demo/wrist_camera.csv\n"
+    "\n"
     "exit status: 0 solved with no warning; 2 usage or input error; 3 the data cannot\n"
     "determine a trustworthy answer (unobservable motion, or a warning such as a\n"
     "convention that fits far better than the declared one, implausible residuals,\n"
@@ -207,6 +217,17 @@ static void print_trust(const tram_solution *s)
                s->trust.pairing_ratio_trans, s->trust.pairing_failed ? "NOT DETERMINED" : "passed");
 }
 
+/* The sensor's length scale: fitted, or tested against 1 (docs/solve.md). */
+static void print_scale(const tram_solution *s)
+{
+    const tram_scale_result *k = &s->sensor_scale;
+    if (!k->estimated) return;
+    printf("\nsensor length scale (sensor lengths x scale = robot lengths): %.6f, 1 sigma %.6f "
+           "(%+.3f%%), %.2f sigma from 1 (p = %.2g); %s\n",
+           k->scale, k->sigma, 100.0 * (k->scale - 1.0), k->z, k->p_value,
+           k->fitted ? "fitted: the result uses it" : "tested only: the result uses 1");
+}
+
 static void print_summary(const tram_solution *s, const tram_records *r)
 {
     const char *u = tram_unit_length_name(s->length_unit);
@@ -251,6 +272,7 @@ static void print_summary(const tram_solution *s, const tram_records *r)
             }
         }
         cli_print_pixels(s, r);
+        print_scale(s);
         printf("\nnoise per axis (%s): %.4g deg, %.4g %s\n",
                s->noise_given ? "given" : "estimated from the residuals", s->noise_angle_deg,
                s->noise_length, u);
@@ -419,7 +441,9 @@ static int take_flag(char **argv, int i, solve_args *a)
     if (cli_flag(argv, i, "--closed-form")) a->so.refine = 0;
     else if (cli_flag(argv, i, "--no-robust")) a->so.robust = 0;
     else if (cli_flag(argv, i, "--no-convention-check")) a->so.check_conventions = 0;
+    else if (cli_flag(argv, i, "--fit-scale")) a->so.fit_scale = 1;
     else if (cli_flag(argv, i, "--reorthonormalize")) a->ro.reorthonormalize = 1;
+    else if (cli_flag(argv, i, "--rounded-quat")) a->ro.quat_norm_tol = TRAM_QUAT_NORM_MAX_FIX;
     else if (cli_flag(argv, i, "--json")) a->json = 1;
     else if (cli_flag(argv, i, "--force")) a->force = 1;
     else return 0;
@@ -470,6 +494,10 @@ static int parse_args(int argc, char **argv, solve_args *a)
     if (!a->file) return cli_usage_error("solve", "no record file (use '-' for stdin)");
     if (a->model && !a->points && !a->pix.pixels)
         return cli_usage_error("solve", "--model goes with --points");
+    if (a->so.fit_scale && a->pix.pixels)
+        return cli_usage_error("solve", "--fit-scale goes with sensor poses or --points, not --pixels");
+    if (a->so.fit_scale && !a->so.refine)
+        return cli_usage_error("solve", "--fit-scale needs the refinement (not --closed-form)");
     return CLI_EXIT_OK;
 }
 
@@ -588,6 +616,7 @@ int cli_solve(int argc, char **argv)
         cli_report(&err);
         return cli_exit_for(st);
     }
+    cli_records_warnings(r);
     tram_pair *pair_list = NULL;
     rc = cli_apply_chain(a.chain, r) != CLI_EXIT_OK ? CLI_EXIT_USAGE : resolve_setup(r, &a);
     if (rc == CLI_EXIT_OK) rc = apply_record_options(r, &a, &pair_list);
