@@ -346,6 +346,7 @@ static void test_constraints_hold(void **state)
 static void test_prediction_honest(void **state)
 {
     (void)state;
+    TEST_FIGURES_IN_PLAIN_BUILD_ONLY();
     tram_cell *c = cell_of(cell_text, TRAM_SETUP_EYE_IN_HAND);
     tram_plan_result *p = plan_of(c, 3, 6, 400);
     tram_se3 T[6];
@@ -369,6 +370,7 @@ static int cmp_d(const void *a, const void *b)
 static void test_planned_beats_random(void **state)
 {
     (void)state;
+    TEST_FIGURES_IN_PLAIN_BUILD_ONLY();
     tram_cell *c = cell_of(cell_text, TRAM_SETUP_EYE_IN_HAND);
     test_rng r = test_rng_seeded("plan versus random (20 seeds x 12 solves each)", 18004);
     double ratio[20];
