@@ -313,6 +313,24 @@ static void test_constraints_hold(void **state)
     tram_plan_result *p = plan_of(c, 7, 8, 400);
     assert_int_equal(p->n, 8);
     check_constraints(c, p);
+    /* from scratch the plan is a start the closed forms can use: Tsai-Lenz
+     * on its noise-free observations recovers X (non-parallel axes) */
+    {
+        tram_se3 P[8], S[8], X, Z;
+        for (size_t i = 0; i < 8; i++) {
+            P[i] = p->stations[i].T_base_flange;
+            S[i] = p->stations[i].T_sensor_target;
+        }
+        tram_pair *pairs = NULL;
+        size_t np = 0;
+        tram_error e;
+        assert_int_equal(tram_handeye_pairs(8, TRAM_PAIRS_ALL, &pairs, &np), TRAM_OK);
+        assert_int_equal(tram_handeye_closed_form(TRAM_METHOD_TSAI_LENZ, P, S, 8, pairs, np, &X, &Z, &e), TRAM_OK);
+        double ang, len;
+        tram_se3_distance(&X, &c->X, &ang, &len);
+        assert_true(ang < 1e-6 && len < 1e-6);
+        free(pairs);
+    }
     assert_true(p->planned.valid);
     assert_false(p->current.valid); /* from scratch */
     tram_plan_result_destroy(p);
