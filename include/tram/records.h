@@ -150,6 +150,8 @@ typedef struct tram_output_rep {
                                       meaning, so the file reads back the same) */
     int digits;                    /* significant digits of CSV numbers, 1..17;
                                       0: 17 (reads back bit for bit)            */
+    int with_joints;               /* 1: also the joint readings (joint_1 ...), in
+                                      the records' own units (no unit change)    */
 } tram_output_rep;
 
 /* Parse "quat", "quat-xyzw", "rotvec", "matrix" or "euler:SEQ"; 0 on

@@ -417,10 +417,8 @@ tram_status tram__schema_build(const char *file, const char *const *names, const
                               "joint_n without gaps",
                               nj + 1);
     s->n_joints = nj;
-    if (nj && s->has_block[TRAM_BLOCK_ROBOT])
-        return tram__fail(err, TRAM_EINPUT, file, hl, 0,
-                          "both robot_ pose columns and joint_ columns: give the robot pose one "
-                          "way only");
+    /* Both robot_ and joint_ columns: the pose is read, the joints are
+     * kept; tram_records_apply_chain then checks that they agree. */
     if (!s->has_block[0] && !s->has_block[1] && !nj)
         return tram__fail(err, TRAM_EINPUT, file, hl, 0,
                           "no pose columns: expected robot_x,... (or joint_1,...) and/or "
