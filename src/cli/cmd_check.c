@@ -25,6 +25,8 @@ const char cli_check_help[] =
     "  --tolerance L,A      ok means every station within L and A, e.g. 0.5mm,0.1deg\n"
     "                       (default: a statistical test at a 1% false-alarm rate)\n"
     "  --history FILE       append one JSON line per check (atomic append)\n"
+    "  --timestamp T        the time the history records, UTC YYYY-MM-DDTHH:MM:SSZ\n"
+    "                       (default: now), e.g. when the stations were taken earlier\n"
     "  --json               print the result as JSON (docs/check.md)\n"
     "  --pairing-test N     random pairings of the pairing test (default 30)\n"
     "  --seed N             the pairing test's seed (default 1)\n"
@@ -96,7 +98,7 @@ static const char *advice(tram_verdict v)
 
 /* The command line of one check. */
 typedef struct check_args {
-    const char *calib, *file, *history, *tol, *chain;
+    const char *calib, *file, *history, *tol, *chain, *stamp;
     int json, no_plaus;
     size_t perms;
     unsigned long long seed;
@@ -112,7 +114,8 @@ static int take_option(int argc, char **argv, int *i, check_args *a)
     if (cli_take(argc, argv, i, "--calibration", &a->calib, &bad) ||
         cli_take(argc, argv, i, "--tolerance", &a->tol, &bad) ||
         cli_take(argc, argv, i, "--history", &a->history, &bad) ||
-        cli_take(argc, argv, i, "--chain", &a->chain, &bad)) {
+        cli_take(argc, argv, i, "--chain", &a->chain, &bad) ||
+        cli_take(argc, argv, i, "--timestamp", &a->stamp, &bad)) {
     } else if (cli_take(argc, argv, i, "--length-unit", &v, &bad)) {
         if (bad) return CLI_EXIT_USAGE;
         a->ro.length_unit = tram_unit_length_parse(v);
@@ -147,6 +150,19 @@ static int take_option(int argc, char **argv, int *i, check_args *a)
     return bad ? CLI_EXIT_USAGE : 0;
 }
 
+/* 1 when s is "YYYY-MM-DDTHH:MM:SSZ" with fields in range. */
+static int valid_stamp(const char *s)
+{
+    static const char pat[] = "dddd-dd-ddTdd:dd:ddZ";
+    if (strlen(s) != sizeof pat - 1) return 0;
+    for (size_t i = 0; pat[i]; i++)
+        if (pat[i] == 'd' ? !(s[i] >= '0' && s[i] <= '9') : s[i] != pat[i]) return 0;
+    int mo = (s[5] - '0') * 10 + (s[6] - '0'), d = (s[8] - '0') * 10 + (s[9] - '0');
+    int h = (s[11] - '0') * 10 + (s[12] - '0'), mi = (s[14] - '0') * 10 + (s[15] - '0');
+    int se = (s[17] - '0') * 10 + (s[18] - '0');
+    return mo >= 1 && mo <= 12 && d >= 1 && d <= 31 && h <= 23 && mi <= 59 && se <= 60;
+}
+
 static int parse_args(int argc, char **argv, check_args *a)
 {
     memset(a, 0, sizeof *a);
@@ -163,6 +179,12 @@ static int parse_args(int argc, char **argv, check_args *a)
     }
     if (!a->calib) return cli_usage_error("check", "--calibration FILE is required");
     if (!a->file) return cli_usage_error("check", "no record file (use '-' for stdin)");
+    if (a->stamp && !valid_stamp(a->stamp))
+        return cli_usage_error("check", "--timestamp '%s': expected UTC date and time as "
+                                        "YYYY-MM-DDTHH:MM:SSZ, e.g. 2026-11-02T07:30:00Z",
+                               a->stamp);
+    if (a->stamp && !a->history)
+        return cli_usage_error("check", "--timestamp goes with --history");
     return CLI_EXIT_OK;
 }
 
@@ -254,7 +276,7 @@ static void print_report(const tram_check_result *res, const tram_records *r,
 }
 
 /* Append the check to the history file; CLI_EXIT_OK or the exit status. */
-static int append_history(const char *history, const tram_check_result *res,
+static int append_history(const char *history, const char *given, const tram_check_result *res,
                           const tram_records *r)
 {
     char stamp[40], *line = NULL;
@@ -262,6 +284,7 @@ static int append_history(const char *history, const tram_check_result *res,
     struct tm tmv;
     gmtime_r(&now, &tmv);
     strftime(stamp, sizeof stamp, "%Y-%m-%dT%H:%M:%SZ", &tmv);
+    if (given) snprintf(stamp, sizeof stamp, "%s", given);
     tram_error err;
     tram_error_clear(&err);
     int rc = CLI_EXIT_OK;
@@ -278,7 +301,7 @@ static int append_history(const char *history, const tram_check_result *res,
 static int report(const check_args *a, const tram_check_result *res, const tram_records *r,
                   const tram_check_options *co)
 {
-    if (a->history && append_history(a->history, res, r) != CLI_EXIT_OK) return CLI_EXIT_USAGE;
+    if (a->history && append_history(a->history, a->stamp, res, r) != CLI_EXIT_OK) return CLI_EXIT_USAGE;
     if (a->json) {
         char *text = NULL;
         tram_error err;
