@@ -24,12 +24,12 @@ mode=$(stat -c %a "$tmp/mode.png" 2>/dev/null)
 [ "$mode" = 644 ] && ok || bad "picture mode $mode under umask 022, expected 644"
 
 # solve --plot: no '//' in the paths, and no silent overwrite
-rm -rf "$tmp/pics"
-"$TRAM" solve --plot "$tmp/pics/" "$demo/wrist_camera.csv" >/dev/null 2>"$tmp/err" && ok || bad "solve --plot: $(cat "$tmp/err")"
-grep -q "^picture: $tmp/pics/frames.png$" "$tmp/err" && ! grep -q '//' "$tmp/err" && ok || bad "picture paths: $(cat "$tmp/err")"
-expect_error "solve --plot refuses to overwrite" 2 "--plot: $tmp/pics/frames.png already exists; not overwritten \\(pass --force" \
-    solve --plot "$tmp/pics" "$demo/wrist_camera.csv"
-"$TRAM" solve --force --plot "$tmp/pics" "$demo/wrist_camera.csv" >/dev/null 2>&1 && ok || bad "solve --force --plot"
+rm -rf "$tmp/fhpics"
+"$TRAM" solve --plot "$tmp/fhpics/" "$demo/wrist_camera.csv" >/dev/null 2>"$tmp/err" && ok || bad "solve --plot: $(cat "$tmp/err")"
+grep -q "^picture: $tmp/fhpics/frames.png$" "$tmp/err" && ! grep -q '//' "$tmp/err" && ok || bad "picture paths: $(cat "$tmp/err")"
+expect_error "solve --plot refuses to overwrite" 2 "--plot: $tmp/fhpics/frames.png already exists; not overwritten \\(pass --force" \
+    solve --plot "$tmp/fhpics" "$demo/wrist_camera.csv"
+"$TRAM" solve --force --plot "$tmp/fhpics" "$demo/wrist_camera.csv" >/dev/null 2>&1 && ok || bad "solve --force --plot"
 
 # the closed forms' line says why they fit worse (the outlier p14 is in them)
 "$TRAM" solve "$demo/wrist_camera.csv" >"$tmp/out" 2>&1
