@@ -64,6 +64,9 @@ int cli_take(int argc, char **argv, int *i, const char *name, const char **value
 /* 1 if argv[*i] is the flag --name (no value). */
 int cli_flag(char **argv, int i, const char *name);
 
+/* out = DIR/NAME with one '/' however many DIR ends in ("pics/" and "pics"
+ * give "pics/frames.png"). */
+void cli_path_join(char *out, size_t cap, const char *dir, const char *name);
 /* Print the record reader's warnings ("file:line:col: warning: ...") on
  * stderr, e.g. a comment that looks like a misspelt directive. */
 void cli_records_warnings(const tram_records *r);

@@ -34,6 +34,13 @@ int cli_take(int argc, char **argv, int *i, const char *name, const char **value
 
 int cli_flag(char **argv, int i, const char *name) { return strcmp(argv[i], name) == 0; }
 
+void cli_path_join(char *out, size_t cap, const char *dir, const char *name)
+{
+    size_t n = strlen(dir);
+    while (n > 1 && dir[n - 1] == '/') n--;
+    snprintf(out, cap, "%.*s/%s", (int)n, dir, name);
+}
+
 void cli_records_warnings(const tram_records *r)
 {
     size_t n = r ? r->n_warnings : 0;

@@ -88,7 +88,7 @@ int cli_plot_solution(const tram_records *r, const tram_solution *s, const char 
         tram_plot_frames_data fd = {r->count, F, ids, out, s->setup, s->solved, s->X, s->Z, NULL, 0,
                                     s->length_unit, NULL};
         tram_image *img = NULL;
-        snprintf(path, sizeof path, "%s/frames.png", dir);
+        cli_path_join(path, sizeof path, dir, "frames.png");
         rc = write_png(tram_plot_frames(&fd, 1600, 1000, &img, &err), &img, path, force, &err);
         if (rc == CLI_EXIT_OK) {
             fprintf(stderr, "picture: %s\n", path);
@@ -97,7 +97,7 @@ int cli_plot_solution(const tram_records *r, const tram_solution *s, const char 
                                            4.5943 * s->noise_angle_deg, 4.5943 * s->noise_length,
                                            s->length_unit, NULL};
             img = NULL;
-            snprintf(path, sizeof path, "%s/residuals.png", dir);
+            cli_path_join(path, sizeof path, dir, "residuals.png");
             rc = write_png(tram_plot_residuals(&rd, 1600, 1000, &img, &err), &img, path, force, &err);
             if (rc == CLI_EXIT_OK) fprintf(stderr, "picture: %s\n", path);
         }

@@ -46,3 +46,6 @@ f=$(printf 'station,robot_x,robot_y,robot_z,robot_e1,robot_e2,robot_e3,sensor_x,
 expect_error "every missing declaration at once" 2 \
     "allmissing.csv:1: error: no length unit: .*; also the robot block holds angles .*; also the robot block holds Euler angles but its convention is not declared.*; also the sensor block holds angles" \
     convert --to quat "$f"
+# point files (the CSV table under points and pixels) skip a byte-order mark too
+f=$(printf '\357\273\277# length-unit: mm\nfrom_x,from_y,from_z,to_x,to_y,to_z\n0,0,0,1,0,0\n1,0,0,2,0,0\n0,1,0,1,1,0\n0,0,1,1,0,1\n' | mk bompairs.csv)
+"$TRAM" register "$f" >"$tmp/out" 2>"$tmp/err" && ok || bad "point file with a byte-order mark: $(cat "$tmp/err")"
