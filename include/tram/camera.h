@@ -54,10 +54,17 @@ TRAM_API void tram_camera_distort(const tram_camera *c, const double xy[2], doub
  * leaves uv untouched, when Z <= 0. */
 TRAM_API int tram_camera_project(const tram_camera *c, const double p_sensor[3], double uv[2]);
 /* Inverse of the distortion and the intrinsic matrix: the normalised
- * undistorted (x, y) of pixel uv, by Gauss-Newton from the pixel itself
- * (converges for the distortion of real lenses inside the image; returns
- * 0 when it did not reach 1e-12 in 50 steps). */
+ * undistorted (x, y) of pixel uv, by Gauss-Newton from the pixel itself,
+ * kept inside the fold radius (below).  Returns 0 when it did not reach
+ * 1e-12 in 50 steps or when the pixel lies beyond the fold (no ray inside
+ * the fold maps to it; refused within a few steps). */
 TRAM_API int tram_camera_unproject(const tram_camera *c, const double uv[2], double xy[2]);
+/* The fold radius of the radial distortion, normalised and undistorted
+ * (r = sqrt(x^2 + y^2)): where r (1 + k1 r^2 + k2 r^4 + k3 r^6) stops
+ * growing, i.e. 1 + 3 k1 r^2 + 5 k2 r^4 + 7 k3 r^6 = 0 first; INFINITY when
+ * it never does.  Rays beyond it would be imaged back toward the centre:
+ * the model does not describe them. */
+TRAM_API double tram_camera_fold_radius(const tram_camera *c);
 
 
 /* ---- Camera files (docs/camera.md) -------------------------------------
