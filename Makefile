@@ -224,16 +224,22 @@ bench: deps $(patsubst %,$(B)/bench_%,$(BENCHES))
 	$(B)/bench_detect $(B)/bench_detect.json $(B)
 	@$(PYTHON) bench/merge.py $(B)/bench.json $(patsubst %,$(B)/bench_%.json,$(BENCHES))
 
-# Unit tests (cmocka), one binary per module.
+# Unit tests (cmocka), one binary per module (OpenBLAS on one thread: see
+# cli-tests).
 unit: $(TESTS)
-	@set -e; for t in $(TESTS); do echo "== $$t"; rc=0; $$t >$$t.log 2>&1 || rc=$$?; cat $$t.log; [ $$rc -eq 0 ] || { echo "unit: $$t failed"; exit 1; }; done; \
+	@set -e; for t in $(TESTS); do echo "== $$t"; rc=0; OPENBLAS_NUM_THREADS=1 $$t >$$t.log 2>&1 || rc=$$?; cat $$t.log; [ $$rc -eq 0 ] || { echo "unit: $$t failed"; exit 1; }; done; \
 	p=$$(cat $(patsubst %,%.log,$(TESTS)) | sed -n 's/^\[  PASSED  \] \([0-9]*\) test.*/\1/p' | awk '{s+=$$1} END {print s+0}'); \
 	k=$$(cat $(patsubst %,%.log,$(TESTS)) | sed -n 's/^\[  SKIPPED \] \([0-9]*\) test.*/\1/p' | awk '{s+=$$1} END {print s+0}'); \
 	echo "unit: $$p passed, 0 failed, $$k skipped"
 
 # Command-line tests: exit codes, file:line:column messages, empty stdout.
-cli-tests: $(B)/tram $(B)/gen_demo
-	@TRAM=$(abspath $(B)/tram) GEN_DEMO=$(abspath $(B)/gen_demo) sh tests/cli/run.sh
+# OPENBLAS_NUM_THREADS=1: tram's matrices are small, and OpenBLAS's threads
+# only spin on them (a third of the CPU time of the pixel tests).  The demo's
+# rendered images (GEN_IMAGES, tests/cli/demo.sh) are left out of the
+# sanitizer build: the same commands run there on the smaller scenes.
+cli-tests: $(B)/tram $(B)/gen_demo $(if $(findstring sanitize,$(EXTRA_CFLAGS)),,$(B)/gen_images)
+	@OPENBLAS_NUM_THREADS=1 TRAM=$(abspath $(B)/tram) GEN_DEMO=$(abspath $(B)/gen_demo) \
+	  GEN_IMAGES=$(if $(findstring sanitize,$(EXTRA_CFLAGS)),,$(abspath $(B)/gen_images)) sh tests/cli/run.sh
 
 # Reference checks against SciPy / NumPy (Debian's python3-scipy).
 ref-tests: $(B)/refhelper $(B)/tram $(B)/render_ref

@@ -103,6 +103,10 @@ static void coverage(uint64_t seed0, int seeds, int calibrate, int with_cov, int
     tram_solve_options so;
     tram_solve_options_init(&so);
     so.check_conventions = 0;
+    /* with a calibrated camera, the plain least squares (a third of the
+     * time): the default robust path ends in the same least squares over
+     * the corners it keeps, and on these clean corners it keeps about all */
+    so.robust = !calibrate;
     memset(inside, 0, 6 * sizeof *inside);
     for (int k = 0; k < seeds; k++) {
         test_rng rng = {seed0 + (uint64_t)k};

@@ -141,6 +141,14 @@ int tram__camera_unproject_fold(const tram_camera *c, double fold, const double 
 {
     double yd = (uv[1] - c->cy) / c->fy;
     double start[2] = {(uv[0] - c->cx - c->skew * yd) / c->fx, yd};
+    /* first order: divide by the radial factor at the distorted radius
+     * (two or three steps fewer than from the distorted point itself) */
+    double rd2 = start[0] * start[0] + start[1] * start[1];
+    double radial = 1.0 + rd2 * (c->k1 + rd2 * (c->k2 + rd2 * c->k3));
+    if (radial > 0.5) {
+        start[0] /= radial;
+        start[1] /= radial;
+    }
     if (start[0] * start[0] + start[1] * start[1] >= fold) {
         double f = sqrt(0.5 * fold / (start[0] * start[0] + start[1] * start[1]));
         start[0] *= f;
