@@ -63,6 +63,8 @@ typedef struct tram_calibration {
     tram_se3 *input_T_base_flange;          /* ninput poses, owned                 */
     size_t ndiag;             /* diagnostics of the solve, owned                  */
     tram_diagnostic *diag;
+    int has_tool;             /* solved from tool (TCP) poses: tool_frame          */
+    tram_se3 T_flange_tool;   /* the tool used (length unit)                       */
 } tram_calibration;
 
 /* Read a calibration file.  Wrong format, a newer version, missing or

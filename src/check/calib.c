@@ -307,6 +307,15 @@ static tram_status read_report_fields(const char *name, const tram__json_pos *po
         st = opt_num(name, pos, ob, path, ok[i], dst[i], err);
     }
     c->outliers = outl >= 0 && outl < 1e15 ? (size_t)outl : 0;
+    const cJSON *tf = cJSON_GetObjectItemCaseSensitive(root, "tool_frame");
+    if (st == TRAM_OK && tf) {
+        if (read_matrix(cJSON_GetObjectItemCaseSensitive(
+                            cJSON_GetObjectItemCaseSensitive(tf, "T_flange_tool"), "matrix"),
+                        &c->T_flange_tool) != 0)
+            return BAD("tool_frame", "damaged calibration file: tool_frame.T_flange_tool.matrix "
+                                     "must be a rigid 4x4 transform");
+        c->has_tool = 1;
+    }
     if (st == TRAM_OK) st = read_diagnostics(name, pos, root, c, err);
     if (st == TRAM_OK) st = read_input(name, pos, root, c, err);
     return st;

@@ -450,6 +450,8 @@ tram_status tram_check(const tram_calibration *cal, const tram_records *r,
                        const tram_check_options *opt, tram_check_result **out, tram_error *err)
 {
     *out = NULL;
+    tram_status tool_st = tram_records_require_flange(r, err);
+    if (tool_st != TRAM_OK) return tool_st;
     if (r->setup != TRAM_SETUP_UNSET && r->setup != cal->setup)
         return tram__fail(err, TRAM_EINPUT, r->source, 0, 0,
                           "the records declare setup %s but the calibration %s is %s",

@@ -56,6 +56,10 @@ extern const char cli_report_help[];
 /* Read --chain FILE (if given) and turn the records' joint columns into
  * robot poses; returns CLI_EXIT_OK or prints the error and returns 2. */
 int cli_apply_chain(const char *chain_path, tram_records *r);
+/* --tool TEXT (if given): the tool's pose in the flange frame for records
+ * whose robot poses are tool poses (robot-pose: tool-in-base); returns
+ * CLI_EXIT_OK or prints the error and returns 2. */
+int cli_apply_tool(const char *tool, tram_records *r);
 
 /* Option scanning.  If argv[*i] is "--name VALUE" or "--name=VALUE",
  * advance *i past it, set *value and return 1.  A missing value prints an

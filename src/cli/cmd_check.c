@@ -25,6 +25,8 @@ const char cli_check_help[] =
     "  --tolerance L,A      ok means every station within L and A, e.g. 0.5mm,0.1deg\n"
     "                       (default: a statistical test at a 1% false-alarm rate)\n"
     "  --history FILE       append one JSON line per check (atomic append)\n"
+    "  --tool 'X,Y,ZUNIT ROT'  the robot poses are tool (TCP) poses: the tool's pose\n"
+    "                       in the flange, e.g. '0,0,150mm quat:1,0,0,0' (docs/records.md)\n"
     "  --json               print the result as JSON (docs/check.md)\n"
     "  --pairing-test N     random pairings of the pairing test (default 30)\n"
     "  --seed N             the pairing test's seed (default 1)\n"
@@ -92,7 +94,7 @@ static const char *advice(tram_verdict v)
 int cli_check(int argc, char **argv)
 {
     const char *calib = NULL, *file = NULL, *history = NULL, *tol = NULL, *v = NULL,
-               *chain = NULL;
+               *chain = NULL, *tool = NULL;
     int json = 0, bad = 0, no_plaus = 0;
     size_t perms = 0;
     unsigned long long seed = 0;
@@ -104,6 +106,7 @@ int cli_check(int argc, char **argv)
         } else if (cli_take(argc, argv, &i, "--tolerance", &tol, &bad)) {
         } else if (cli_take(argc, argv, &i, "--history", &history, &bad)) {
         } else if (cli_take(argc, argv, &i, "--chain", &chain, &bad)) {
+        } else if (cli_take(argc, argv, &i, "--tool", &tool, &bad)) {
         } else if (cli_take(argc, argv, &i, "--length-unit", &v, &bad)) {
             if (bad) break;
             ro.length_unit = tram_unit_length_parse(v);
@@ -172,7 +175,7 @@ int cli_check(int argc, char **argv)
         tram_calibration_destroy(cal);
         return CLI_EXIT_USAGE;
     }
-    if (cli_apply_chain(chain, r) != CLI_EXIT_OK) {
+    if (cli_apply_chain(chain, r) != CLI_EXIT_OK || cli_apply_tool(tool, r) != CLI_EXIT_OK) {
         tram_records_destroy(r);
         tram_calibration_destroy(cal);
         return CLI_EXIT_USAGE;

@@ -25,7 +25,10 @@ const char cli_convert_help[] =
     "  --from-angle-unit U      input angle unit when the file does not declare one\n"
     "  --format csv|json        output file format (default csv)\n"
     "  --reorthonormalize       accept rotation matrices that are only rounded and\n"
-    "                           project them onto the nearest rotation\n\n"
+    "                           project them onto the nearest rotation\n"
+    "  --tool 'X,Y,ZUNIT ROT'   the robot poses are tool (TCP) poses (robot-pose:\n"
+    "                           tool-in-base): written as flange poses with this tool,\n"
+    "                           e.g. '0,0,150mm quat:1,0,0,0' (docs/records.md)\n\n"
     "one pose on the command line:\n"
     "  --pose REP:x,y,z,ROT...  e.g. --pose quat:10,0,5,1,0,0,0\n"
     "                           or   --pose euler:zyx-intrinsic:0,0,0,90,0,0\n"
@@ -133,7 +136,8 @@ static int convert_one(const char *pose, const tram_output_rep *out_rep, tram_le
     tram_records_destroy(r);
     if (st != TRAM_OK) {
         free(buf);
-        fprintf(stderr, "tram convert: error: %s\n", err.message);
+        if (err.file[0]) cli_report(&err);
+        else fprintf(stderr, "tram convert: error: %s\n", err.message);
         return CLI_EXIT_USAGE;
     }
     /* Keep the last two lines (header and numbers), without prefixes. */
@@ -165,7 +169,7 @@ static int convert_one(const char *pose, const tram_output_rep *out_rep, tram_le
 
 int cli_convert(int argc, char **argv)
 {
-    const char *to = NULL, *file = NULL, *pose = NULL, *v = NULL;
+    const char *to = NULL, *file = NULL, *pose = NULL, *v = NULL, *tool = NULL;
     tram_output_rep rep;
     tram_length_unit from_lu = TRAM_LENGTH_UNSET, out_lu = TRAM_LENGTH_UNSET;
     tram_angle_unit from_au = TRAM_ANGLE_UNSET, out_au = TRAM_ANGLE_UNSET;
@@ -173,6 +177,7 @@ int cli_convert(int argc, char **argv)
     for (int i = 1; i < argc; i++) {
         if (cli_take(argc, argv, &i, "--to", &to, &bad)) {
         } else if (cli_take(argc, argv, &i, "--pose", &pose, &bad)) {
+        } else if (cli_take(argc, argv, &i, "--tool", &tool, &bad)) {
         } else if (cli_take(argc, argv, &i, "--length-unit", &v, &bad)) {
             if (!bad && parse_length("convert", v, &out_lu)) return CLI_EXIT_USAGE;
         } else if (cli_take(argc, argv, &i, "--angle-unit", &v, &bad)) {
@@ -225,6 +230,10 @@ int cli_convert(int argc, char **argv)
         cli_report(&err);
         return cli_exit_for(st);
     }
+    if (cli_apply_tool(tool, r) != CLI_EXIT_OK) {
+        tram_records_destroy(r);
+        return CLI_EXIT_USAGE;
+    }
     /* Write to memory first: on any error stdout stays empty. */
     char *buf = NULL;
     size_t len = 0;
@@ -239,7 +248,8 @@ int cli_convert(int argc, char **argv)
     tram_records_destroy(r);
     if (st != TRAM_OK) {
         free(buf);
-        fprintf(stderr, "tram convert: error: %s\n", err.message);
+        if (err.file[0]) cli_report(&err);
+        else fprintf(stderr, "tram convert: error: %s\n", err.message);
         return CLI_EXIT_USAGE;
     }
     fwrite(buf, 1, len, stdout);

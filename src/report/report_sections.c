@@ -122,7 +122,15 @@ static void meaning(const tram__report_ctx *c, int which, char *buf, size_t cap)
         snprintf(buf, cap, "The pose of the sensor in the robot base frame: p_base = T_base_sensor "
                            "p_sensor. The translation is where the sensor's origin sits, in base "
                            "coordinates.");
-    else if (eih)
+    else if (which == 2) {
+        snprintf(buf, cap, "The robot poses were logged as tool (TCP) poses (robot-pose: "
+                           "tool-in-base) and turned into flange poses with the tool T_flange_tool "
+                           "(translation %.6f, %.6f, %.6f %s). This is the same fixed transform "
+                           "in the tool frame: %s = T_flange_tool^-1 %s.",
+                 c->cal->T_flange_tool.m[0][3], c->cal->T_flange_tool.m[1][3],
+                 c->cal->T_flange_tool.m[2][3], tram_unit_length_name(c->cal->length_unit),
+                 eih ? "T_tool_sensor" : "T_tool_target", eih ? c->X_name : c->Z_name);
+    } else if (eih)
         snprintf(buf, cap, "The pose of the calibration target in the robot base frame: p_base = "
                            "T_base_target p_target (a by-product, useful to check the setup).");
     else
@@ -147,11 +155,23 @@ static void euler_words(tram_euler_seq seq, char *buf, size_t cap)
                  name, n[ax[2]], n[ax[1]], n[ax[0]], n[ax[0]], n[ax[1]], n[ax[2]]);
 }
 
+/* The fixed transform in the tool frame, for tool (TCP) poses. */
+static void tool_transform(const tram_calibration *cal, tram_se3 *out)
+{
+    tram_se3 T_tool_flange;
+    tram_se3_invert(&cal->T_flange_tool, &T_tool_flange);
+    tram_se3_compose(&T_tool_flange, cal->setup == TRAM_SETUP_EYE_IN_HAND ? &cal->X : &cal->Z, out);
+}
+
 static void transform(tram__doc *d, const tram__report_ctx *c, int which)
 {
     const tram_calibration *cal = c->cal;
-    const tram_se3 *T = which == 0 ? &cal->X : &cal->Z;
-    const char *name = which == 0 ? c->X_name : c->Z_name;
+    tram_se3 Ttool;
+    if (which == 2) tool_transform(cal, &Ttool);
+    const tram_se3 *T = which == 0 ? &cal->X : which == 1 ? &cal->Z : &Ttool;
+    const char *name = which == 0   ? c->X_name
+                       : which == 1 ? c->Z_name
+                       : cal->setup == TRAM_SETUP_EYE_IN_HAND ? "T_tool_sensor" : "T_tool_target";
     char h[96], buf[600];
     snprintf(h, sizeof h, "2.%d  %s", which + 1, name);
     tram__doc_heading(d, 2, h, 200);
@@ -176,6 +196,11 @@ static void transform(tram__doc *d, const tram__report_ctx *c, int which)
          e[0] * RAD2DEG, e[1] * RAD2DEG, e[2] * RAD2DEG);
     euler_words(c->opt->euler, buf, sizeof buf);
     tram__doc_para(d, 8, 12, 0, buf);
+    if (which == 2) {
+        tram__doc_para(d, 8, 12, 0, "Uncertainty: as the transform's above, expressed in the tool "
+                                    "frame (not repeated here).");
+        return;
+    }
     if (!cal->has_cov) {
         para(d, "Uncertainty: not in the calibration file (no covariance was computed).");
         return;
@@ -308,6 +333,7 @@ void tram__report_lay_out(tram__doc *d, const tram__report_ctx *c)
     tram__doc_heading(d, 1, "2  Transforms", 200);
     transform(d, c, 0);
     transform(d, c, 1);
+    if (c->cal->has_tool) transform(d, c, 2);
     stations(d, c);
     pictures(d, c);
     diagnostics(d, c);
