@@ -25,5 +25,6 @@
 #include "tram/pose.h"
 #include "tram/pixels.h"
 #include "tram/pixel_solve.h"
+#include "tram/plan.h"
 
 #endif

@@ -28,7 +28,11 @@ const char cli_report_help[] =
     "  --computed-by NAME fills in the 'computed by' line (default: a blank line)\n"
     "  --force            replace an existing output file\n\n"
     "The report's date is now (UTC), or SOURCE_DATE_EPOCH when set (reproducible\n"
-    "output).  exit status: 0 success; 2 usage or input error.\n";
+    "output).  exit status: 0 success; 2 usage or input error.\n\n"
+    "examples:\n"
+    "  tram solve -o build/wrist.json datasets/demo/wrist_camera.csv\n"
+    "  tram report build/wrist.json -o build/wrist.pdf --euler zyx-intrinsic\n"
+    "  tram report build/wrist.json -o build/wrist-letter.pdf --euler xyz-extrinsic --page letter\n";
 
 /* The report's date: SOURCE_DATE_EPOCH (seconds since 1970, UTC) when set. */
 static int report_date(char *buf, size_t cap)

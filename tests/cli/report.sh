@@ -53,17 +53,4 @@ SOURCE_DATE_EPOCH=soon "$TRAM" report "$tmp/rep.cal.json" -o "$tmp/x.pdf" --eule
 [ $? -eq 2 ] && [ ! -s "$tmp/out" ] && grep -q "SOURCE_DATE_EPOCH 'soon': expected whole seconds" "$tmp/err" && ok || bad "report bad SOURCE_DATE_EPOCH"
 [ ! -e "$tmp/x.pdf" ] && ok || bad "report wrote a file on error"
 "$TRAM" help report | grep -q 'usage: tram report CALIB.json' && ok || bad "help report"
-# Every command example of docs/report.md (its sh blocks) runs, in order, from a copy
-# of the repository's datasets/demo (they write into build/).
-rdocs="$tmp/docs-report"
-mkdir -p "$rdocs/bin" "$rdocs/build" "$rdocs/datasets"
-cp -r "$demo" "$rdocs/datasets/demo"
-printf '#!/bin/sh\nexec "%s" "$@"\n' "$TRAM" >"$rdocs/bin/tram"
-chmod +x "$rdocs/bin/tram"
-awk '/^```sh$/ { on = 1; next } /^```/ { on = 0 } on' "$here/../../docs/report.md" >"$rdocs/examples.sh"
-if [ -s "$rdocs/examples.sh" ] && (cd "$rdocs" && PATH="$rdocs/bin:$PATH" sh -e examples.sh >/dev/null 2>"$rdocs/err") &&
-    [ -s "$rdocs/build/wrist-report.pdf" ] && [ -s "$rdocs/build/wrist-report-letter.pdf" ]; then
-    ok
-else
-    bad "docs/report.md examples"; cat "$rdocs/err"
-fi
+# The examples of docs/report.md and docs/records.md run in tests/cli/docs.sh.

@@ -44,11 +44,3 @@ expect_error "tool directive bad convention" 2 "tcp-bad.csv:11:[0-9]+: error: to
 sed 's|^# robot-pose: tool-in-base$|# tool-in-flange: 0,0,15cm quat:1,0,0,0|' "$tcp" >"$tmp/tcp-noflag.csv"
 expect_error "tool directive for flange poses" 2 "tcp-noflag.csv:10: error: tool-in-flange is declared, but the robot poses are not declared as tool poses" solve "$tmp/tcp-noflag.csv"
 expect_error "robot-pose unknown" 2 "robot-pose 'tcp-in-base': expected flange-in-base .*tool-in-base" convert --to quat "$(sed 's|tool-in-base|tcp-in-base|' "$tcp" | mk tcp-unknown.csv)"
-# Every command example of docs/records.md (its sh blocks) runs, from the repository root.
-recdocs="$tmp/docs-records"
-mkdir -p "$recdocs/bin"
-printf '#!/bin/sh\nexec "%s" "$@"\n' "$TRAM" >"$recdocs/bin/tram"
-chmod +x "$recdocs/bin/tram"
-awk '/^```sh$/ { on = 1; next } /^```/ { on = 0 } on' "$here/../../docs/records.md" >"$recdocs/examples.sh"
-if [ -s "$recdocs/examples.sh" ] && (cd "$here/../.." && PATH="$recdocs/bin:$PATH" sh -e "$recdocs/examples.sh" >/dev/null 2>"$recdocs/err"); then ok
-else bad "docs/records.md examples"; cat "$recdocs/err"; fi
