@@ -267,6 +267,8 @@ ref-tests: $(B)/refhelper $(B)/tram $(B)/render_ref
 	$(TEST_ENV) $(PYTHON) tests/ref/check_render_numpy.py $(B)/render_ref
 	$(TEST_ENV) $(PYTHON) tests/ref/check_intrinsics_scipy.py $(B)/tram
 	$(TEST_ENV) $(PYTHON) tests/ref/check_plan_numpy.py $(B)/tram
+	$(TEST_ENV) $(PYTHON) tests/ref/check_report_scipy.py $(B)/tram
+	$(TEST_ENV) $(PYTHON) tests/ref/check_tool_numpy.py $(B)/tram
 
 # The Python package (python/tram) against the command, SciPy and its docs.
 python-tests: $(B)/tram $(B)/libtram.so

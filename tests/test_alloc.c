@@ -16,6 +16,7 @@
 #include "test_util.h"
 
 #include <cjson/cJSON.h>
+#include <unistd.h>
 
 #include "render/render.h"
 
@@ -186,6 +187,32 @@ static tram_status op_calibration(tram_error *err)
     tram_status st =
         tram_calibration_read_buffer("cal.json", in.cal_text, strlen(in.cal_text), &c, err);
     tram_calibration_destroy(c);
+    return st;
+}
+
+/* The calibration report: the calibration file on disk (written once),
+ * the PDF replaced on every run. */
+static char report_cal[64], report_pdf[80];
+
+static tram_status op_report(tram_error *err)
+{
+    if (!report_cal[0]) {
+        snprintf(report_cal, sizeof report_cal, "/tmp/tram-alloc-cal-XXXXXX");
+        int fd = mkstemp(report_cal);
+        if (fd < 0 || write(fd, in.cal_text, strlen(in.cal_text)) != (ssize_t)strlen(in.cal_text))
+            fail_msg("cannot write the calibration for the report");
+        close(fd);
+        snprintf(report_pdf, sizeof report_pdf, "%s.pdf", report_cal);
+    }
+    tram_report_options opt;
+    memset(&opt, 0, sizeof opt);
+    tram_error e;
+    if (tram_plot_page_parse("a4", &opt.page, &e) != TRAM_OK) fail_msg("a4: %s", e.message);
+    opt.euler = TRAM_EULER_ZYX_INTRINSIC;
+    opt.date_utc = "2026-12-02T12:00:00Z";
+    int pages = 0;
+    tram_status st = tram_report_write_pdf(report_cal, &opt, report_pdf, 1, &pages, err);
+    if (st == TRAM_OK && pages < 2) fail_msg("report: %d pages", pages);
     return st;
 }
 
@@ -658,6 +685,9 @@ static void test_writers_and_solvers(void **state)
     exhaust("solve from points (model solved / given, scale tested / fitted)", op_point_solve);
     exhaust("check + JSON", op_check);
     exhaust("plot frames", op_plot);
+    exhaust("calibration report (PDF)", op_report);
+    remove(report_pdf);
+    remove(report_cal);
     exhaust("chessboard detection", op_detect);
     render_image_destroy(detect_im);
     detect_im = NULL;

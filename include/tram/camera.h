@@ -233,6 +233,23 @@ TRAM_API tram_status tram_intrinsics_calibrate(const tram_pixel_obs *obs,
                                                tram_intrinsics_result **out, tram_error *err);
 TRAM_API void tram_intrinsics_result_destroy(tram_intrinsics_result *r);
 
+/* Plain-value access for bindings (intrinsics_access.c).  The camera
+ * file's text of the optimum with its calibration block (as
+ * tram_camera_to_json; free() it); the RMS reprojection error of the
+ * inliers (pixels); a copy of the camera; the number of views; view i's station id (NULL when
+ * out of range); view i's T_sensor_target as a row-major 4x4 in the
+ * target's length unit and its RMS in pixels (rms_px may be NULL; returns
+ * 0 when i is out of range). */
+TRAM_API tram_status tram_intrinsics_camera_json(const tram_intrinsics_result *r, char **text,
+                                                 tram_error *err);
+TRAM_API double tram_intrinsics_rms_px(const tram_intrinsics_result *r);
+/* A copy of the optimum camera. */
+TRAM_API void tram_intrinsics_camera(const tram_intrinsics_result *r, tram_camera *out);
+TRAM_API size_t tram_intrinsics_view_count(const tram_intrinsics_result *r);
+TRAM_API const char *tram_intrinsics_view_id(const tram_intrinsics_result *r, size_t i);
+TRAM_API int tram_intrinsics_view_pose(const tram_intrinsics_result *r, size_t i, double T[16],
+                                       double *rms_px);
+
 /* The pixel of the target point xyz_target (target frame) when the
  * target is at T_sensor_target.  Returns 0, uv untouched, when the point
  * is behind the camera. */

@@ -95,6 +95,17 @@ typedef struct tram_records {
     tram_block_convention conv[TRAM_BLOCK_COUNT];
     int reorthonormalize;        /* matrices were projected onto SO(3)          */
     unsigned long long checksum; /* FNV-1a 64 of the input bytes                */
+    /* Tool poses (robot-pose: tool-in-base): the robot block holds T_base_tool,
+     * the TCP's pose, logged with a tool offset active on the controller.
+     * With the tool known, T_base_flange = T_base_tool T_flange_tool^-1;
+     * without it the record set is refused by everything that needs flange
+     * poses (tram_records_require_flange). */
+    int robot_tool;              /* robot-pose: tool-in-base                      */
+    int has_tool;                /* T_flange_tool known and applied              */
+    tram_se3 T_flange_tool;      /* the tool's pose in the flange (length unit)  */
+    long robot_pose_line;        /* line of the robot-pose directive (0: none)   */
+    long tool_line;              /* line of tool-in-flange (0: none or unknown)  */
+    int tool_in_file;            /* the tool came from the file (tool-in-flange) */
     double quat_norm_tol;        /* the quaternion tolerance read with (0: default) */
     /* Warnings of the reader, each "file:line:col: warning: ...": e.g. a
      * comment that looks like a misspelt directive (it is not applied). */
@@ -179,6 +190,28 @@ TRAM_API int tram_output_rep_parse(const char *s, tram_output_rep *out);
  * significant digits when set, for people; JSON always 17). */
 TRAM_API tram_status tram_records_write(const tram_records *r, const tram_output_rep *rep,
                                         int json, FILE *f, tram_error *err);
+
+/* ---- tool poses (tool.c, docs/records.md) --------------------------- */
+
+/* Parse the tool's pose in the flange frame from its text form
+ * "X,Y,ZUNIT ROTATION": the translation with its length unit, then
+ * quat:W,X,Y,Z, rotvec:A,B,CUNIT, euler:SEQ:A,B,CUNIT or
+ * matrix:R11,...,R33, e.g. "0,0,150mm quat:1,0,0,0" or
+ * "0,0,0.15m euler:zyx-intrinsic:90,0,0deg".  Nothing is assumed: every
+ * unit and convention is in the text.  *unit gets the translation's unit. */
+TRAM_API tram_status tram_tool_parse(const char *text, tram_se3 *T_flange_tool,
+                                     tram_length_unit *unit, tram_error *err);
+/* Apply a tool (translation in `unit`, converted to the records' unit) to
+ * a record set read with robot-pose: tool-in-base and no tool-in-flange:
+ * every station's T_base_flange becomes T_base_tool T_flange_tool^-1.
+ * Refused when the robot poses are not declared as tool poses or the file
+ * declares its tool already. */
+TRAM_API tram_status tram_records_set_tool(tram_records *r, const tram_se3 *T_flange_tool,
+                                           tram_length_unit unit, tram_error *err);
+/* TRAM_EINPUT (naming the robot-pose directive's line) when the robot
+ * poses are tool poses whose tool is not known; TRAM_OK otherwise.  The
+ * solvers, the mount check and the writer call it first. */
+TRAM_API tram_status tram_records_require_flange(const tram_records *r, tram_error *err);
 
 /* ---- plain-array access (for bindings; records_access.c) ----------- */
 

@@ -11,6 +11,7 @@
 #include "tram/fileio.h"
 #include "tram/handeye.h"
 #include "tram/plot.h"
+#include "tram/report.h"
 #include "tram/points.h"
 #include "tram/point_solve.h"
 #include "tram/records.h"

@@ -652,6 +652,8 @@ tram_status tram_check(const tram_calibration *cal, const tram_records *r,
                        const tram_check_options *opt, tram_check_result **out, tram_error *err)
 {
     *out = NULL;
+    tram_status tool_st = tram_records_require_flange(r, err);
+    if (tool_st != TRAM_OK) return tool_st;
     tram_status st = check_inputs(cal, r, err);
     if (st != TRAM_OK) return st;
     size_t n = r->count;

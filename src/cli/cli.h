@@ -38,6 +38,7 @@ int cli_intrinsics(int argc, char **argv);
 int cli_pose(int argc, char **argv);
 int cli_board(int argc, char **argv);
 int cli_detect(int argc, char **argv);
+int cli_report_cmd(int argc, char **argv); /* cli_report prints errors */
 int cli_plan(int argc, char **argv);
 /* The standard pictures of a solve into DIR (frames.png, residuals.png). */
 int cli_plot_solution(const tram_records *r, const tram_solution *s, const char *dir, int force);
@@ -51,11 +52,16 @@ extern const char cli_intrinsics_help[];
 extern const char cli_pose_help[];
 extern const char cli_board_help[];
 extern const char cli_detect_help[];
+extern const char cli_report_help[];
 extern const char cli_plan_help[];
 
 /* Read --chain FILE (if given) and turn the records' joint columns into
  * robot poses; returns CLI_EXIT_OK or prints the error and returns 2. */
 int cli_apply_chain(const char *chain_path, tram_records *r);
+/* --tool TEXT (if given): the tool's pose in the flange frame for records
+ * whose robot poses are tool poses (robot-pose: tool-in-base); returns
+ * CLI_EXIT_OK or prints the error and returns 2. */
+int cli_apply_tool(const char *tool, tram_records *r);
 
 /* Option scanning.  If argv[*i] is "--name VALUE" or "--name=VALUE",
  * advance *i past it, set *value and return 1.  A missing value prints an

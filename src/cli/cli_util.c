@@ -98,3 +98,23 @@ int cli_apply_chain(const char *chain_path, tram_records *r)
     }
     return CLI_EXIT_OK;
 }
+
+int cli_apply_tool(const char *tool, tram_records *r)
+{
+    if (!tool) return CLI_EXIT_OK;
+    tram_error err;
+    tram_error_clear(&err);
+    tram_se3 T;
+    tram_length_unit u;
+    tram_status st = tram_tool_parse(tool, &T, &u, &err);
+    if (st == TRAM_OK) st = tram_records_set_tool(r, &T, u, &err);
+    if (st != TRAM_OK) {
+        if (!err.file[0]) {
+            fprintf(stderr, "tram: error: --tool: %s\n", err.message);
+            return CLI_EXIT_USAGE;
+        }
+        cli_report(&err);
+        return CLI_EXIT_USAGE;
+    }
+    return CLI_EXIT_OK;
+}

@@ -25,6 +25,8 @@ const char cli_check_help[] =
     "  --tolerance L,A      ok means every station within L and A, e.g. 0.5mm,0.1deg\n"
     "                       (default: a statistical test at a 1% false-alarm rate)\n"
     "  --history FILE       append one JSON line per check (atomic append)\n"
+    "  --tool 'X,Y,ZUNIT ROT'  the robot poses are tool (TCP) poses: the tool's pose\n"
+    "                       in the flange, e.g. '0,0,150mm quat:1,0,0,0' (docs/records.md)\n"
     "  --timestamp T        the time the history records, UTC YYYY-MM-DDTHH:MM:SSZ\n"
     "                       (default: now), e.g. when the stations were taken earlier\n"
     "  --json               print the result as JSON (docs/check.md)\n"
@@ -98,7 +100,7 @@ static const char *advice(tram_verdict v)
 
 /* The command line of one check. */
 typedef struct check_args {
-    const char *calib, *file, *history, *tol, *chain, *stamp;
+    const char *calib, *file, *history, *tol, *chain, *stamp, *tool;
     int json, no_plaus;
     size_t perms;
     unsigned long long seed;
@@ -115,6 +117,7 @@ static int take_option(int argc, char **argv, int *i, check_args *a)
         cli_take(argc, argv, i, "--tolerance", &a->tol, &bad) ||
         cli_take(argc, argv, i, "--history", &a->history, &bad) ||
         cli_take(argc, argv, i, "--chain", &a->chain, &bad) ||
+        cli_take(argc, argv, i, "--tool", &a->tool, &bad) ||
         cli_take(argc, argv, i, "--timestamp", &a->stamp, &bad)) {
     } else if (cli_take(argc, argv, i, "--length-unit", &v, &bad)) {
         if (bad) return CLI_EXIT_USAGE;
@@ -345,7 +348,9 @@ int cli_check(int argc, char **argv)
     }
     if (rc == CLI_EXIT_OK) {
         cli_records_warnings(r);
-        rc = cli_apply_chain(a.chain, r) != CLI_EXIT_OK ? CLI_EXIT_USAGE : CLI_EXIT_OK;
+        rc = cli_apply_chain(a.chain, r) != CLI_EXIT_OK || cli_apply_tool(a.tool, r) != CLI_EXIT_OK
+                 ? CLI_EXIT_USAGE
+                 : CLI_EXIT_OK;
     }
     if (rc == CLI_EXIT_OK && tram_check(cal, r, &co, &res, &err) != TRAM_OK) {
         cli_report(&err);

@@ -34,6 +34,9 @@ const char cli_convert_help[] =
     "  --format csv|json        output file format (default csv)\n"
     "  --reorthonormalize       accept rotation matrices that are only rounded and\n"
     "                           project them onto the nearest rotation\n"
+    "  --tool 'X,Y,ZUNIT ROT'   the robot poses are tool (TCP) poses (robot-pose:\n"
+    "                           tool-in-base): written as flange poses with this tool,\n"
+    "                           e.g. '0,0,150mm quat:1,0,0,0' (docs/records.md)\n"
     "  --rounded-quat           accept quaternions rounded to a few decimals (norm\n"
     "                           within 0.01 of 1; default 1e-6) and normalise them\n\n"
     "one pose on the command line:\n"
@@ -56,7 +59,7 @@ const char cli_convert_help[] =
 
 /* The command line of one convert run. */
 typedef struct convert_args {
-    const char *to, *file, *pose;
+    const char *to, *file, *pose, *tool;
     tram_output_rep rep;
     tram_length_unit from_lu;
     tram_angle_unit from_au;
@@ -111,7 +114,8 @@ static char *write_to_memory(const tram_records *r, const tram_output_rep *o, in
     fclose(mem);
     if (st != TRAM_OK) {
         free(buf);
-        fprintf(stderr, "tram convert: error: %s\n", err.message);
+        if (err.file[0]) cli_report(&err);
+        else fprintf(stderr, "tram convert: error: %s\n", err.message);
         return NULL;
     }
     return buf;
@@ -306,6 +310,10 @@ static int convert_file(const convert_args *a)
         return cli_exit_for(st);
     }
     cli_records_warnings(r);
+    if (cli_apply_tool(a->tool, r) != CLI_EXIT_OK) {
+        tram_records_destroy(r);
+        return CLI_EXIT_USAGE;
+    }
     /* Written to memory first: on any error stdout stays empty. */
     char *buf = write_to_memory(r, &a->rep, a->json);
     tram_records_destroy(r);
@@ -322,6 +330,7 @@ static int take_option(int argc, char **argv, int *i, convert_args *a)
     int bad = 0;
     if (cli_take(argc, argv, i, "--to", &a->to, &bad)) {
     } else if (cli_take(argc, argv, i, "--pose", &a->pose, &bad)) {
+    } else if (cli_take(argc, argv, i, "--tool", &a->tool, &bad)) {
     } else if (cli_take(argc, argv, i, "--length-unit", &v, &bad)) {
         if (!bad && parse_length("convert", v, &a->rep.length_unit)) return CLI_EXIT_USAGE;
     } else if (cli_take(argc, argv, i, "--angle-unit", &v, &bad)) {

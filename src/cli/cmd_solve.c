@@ -52,6 +52,9 @@ const char cli_solve_help[] =
     "                    0.01 of 1; default 1e-6) and normalise them\n"
     "  --chain FILE      the record file gives joint readings: compute the flange\n"
     "                    poses with this kinematic chain (docs/chain.md)\n"
+    "  --tool 'X,Y,ZUNIT ROT'  the robot poses are tool (TCP) poses (robot-pose:\n"
+    "                    tool-in-base): the tool's pose in the flange, e.g.\n"
+    "                    '0,0,150mm quat:1,0,0,0' (docs/records.md); gives T_tool_sensor too\n"
     "  --points FILE     the sensor's observed 3D points per station (station,point,x,y,z\n"
     "                    in the sensor frame) instead of sensor_ pose columns\n"
     "  --model FILE      the target's points in its own frame (point,x,y,z); without it\n"
@@ -223,6 +226,38 @@ static void print_trust(const tram_solution *s)
                s->trust.pairing_ratio_trans, s->trust.pairing_failed ? "NOT DETERMINED" : "passed");
 }
 
+/* Records of tool (TCP) poses: the tool used, and the fixed transform in
+ * the tool frame as well (T_tool_sensor or T_tool_target). */
+static void print_tool(const tram_solution *s, const tram_records *r, const char *u)
+{
+    if (!r->robot_tool || !r->has_tool) return;
+    int eih = s->setup == TRAM_SETUP_EYE_IN_HAND;
+    tram_se3 T_tool_flange, T;
+    tram_se3_invert(&r->T_flange_tool, &T_tool_flange);
+    tram_se3_compose(&T_tool_flange, eih ? &s->X : &s->Z, &T);
+    tram_mat3 R;
+    double t[3];
+    tram_quat_wxyz q;
+    tram_se3_to_rt(&r->T_flange_tool, &R, t);
+    tram_quat_wxyz_from_mat3(&R, &q);
+    char where[48];
+    if (r->tool_in_file && r->tool_line)
+        snprintf(where, sizeof where, "tool-in-flange, line %ld", r->tool_line);
+    else
+        snprintf(where, sizeof where, r->tool_in_file ? "tool-in-flange" : "--tool");
+    printf("robot poses: tool (TCP) poses, robot-pose tool-in-base; flange poses from the tool\n"
+           "  T_flange_tool (%s): translation (%s) %.6f %.6f %.6f, quaternion (w, x, y, z) "
+           "%.9f %.9f %.9f %.9f\n\n",
+           where, u, t[0], t[1], t[2], q.w, q.x, q.y, q.z);
+    tram_se3_to_rt(&T, &R, t);
+    tram_quat_wxyz_from_mat3(&R, &q);
+    printf("%s  (%s)\n", eih ? "T_tool_sensor" : "T_tool_target",
+           eih ? "pose of the sensor in the tool frame" : "pose of the target in the tool frame");
+    print_matrix(&T);
+    printf("  translation (%s)        %12.6f %12.6f %12.6f\n", u, t[0], t[1], t[2]);
+    printf("  quaternion (w, x, y, z)  %12.9f %12.9f %12.9f %12.9f\n\n", q.w, q.x, q.y, q.z);
+}
+
 /* The sensor's length scale: fitted, or tested against 1 (docs/solve.md). */
 static void print_scale(const tram_solution *s)
 {
@@ -295,6 +330,7 @@ static void print_summary(const tram_solution *s, const tram_records *r)
         print_transform(s->Z_name, eih ? "pose of the target in the robot base frame"
                                        : "pose of the target in the flange frame",
                         &s->Z, s, 6, u);
+        print_tool(s, r, u);
         print_station_table(s, r, u);
         if (s->points) {
             const tram_point_result *pr = s->points;
@@ -347,7 +383,7 @@ static void print_summary(const tram_solution *s, const tram_records *r)
 
 /* Everything the command line asked for. */
 typedef struct solve_args {
-    const char *file, *out_path, *noise, *method, *pair_sel, *chain, *points, *model, *plot_dir;
+    const char *file, *out_path, *noise, *method, *pair_sel, *chain, *tool, *points, *model, *plot_dir;
     tram_solve_options so;
     tram_read_options ro;
     tram_setup setup;
@@ -504,6 +540,7 @@ static int parse_args(int argc, char **argv, solve_args *a)
             if (rc != CLI_EXIT_OK) return rc;
         } else if (cli_take(argc, argv, &i, "--noise", &a->noise, &bad)) {
         } else if (cli_take(argc, argv, &i, "--chain", &a->chain, &bad)) {
+        } else if (cli_take(argc, argv, &i, "--tool", &a->tool, &bad)) {
         } else if (cli_take(argc, argv, &i, "--plot", &a->plot_dir, &bad)) {
         } else if (cli_take(argc, argv, &i, "--points", &a->points, &bad)) {
         } else if (cli_take(argc, argv, &i, "--model", &a->model, &bad)) {
@@ -670,7 +707,9 @@ int cli_solve(int argc, char **argv)
     }
     cli_records_warnings(r);
     tram_pair *pair_list = NULL;
-    rc = cli_apply_chain(a.chain, r) != CLI_EXIT_OK ? CLI_EXIT_USAGE : resolve_setup(r, &a);
+    rc = cli_apply_chain(a.chain, r) != CLI_EXIT_OK || cli_apply_tool(a.tool, r) != CLI_EXIT_OK
+             ? CLI_EXIT_USAGE
+             : resolve_setup(r, &a);
     if (rc == CLI_EXIT_OK) rc = apply_record_options(r, &a, &pair_list);
     if (rc != CLI_EXIT_OK) {
         tram_records_destroy(r);

@@ -29,6 +29,8 @@ static const char records_help[] =
     "  robot-euler, sensor-euler: SEQ-intrinsic|SEQ-extrinsic   e.g. zyx-intrinsic (required\n"
     "                                            for an Euler block; never assumed)\n"
     "  robot-pose: flange-in-base|base-in-flange     default flange-in-base (T_base_flange)\n"
+    "  robot-pose: tool-in-base                  TCP poses (T_base_tool), with the tool:\n"
+    "  tool-in-flange: X,Y,ZUNIT ROTATION        e.g. 0,0,150mm quat:1,0,0,0 (or --tool)\n"
     "  sensor-pose: target-in-sensor|sensor-in-target  default target-in-sensor (T_sensor_target)\n"
     "  setup: eye-in-hand|eye-to-hand\n\n"
     "An unknown directive is an error; a comment that looks like a misspelt one\n"
@@ -60,6 +62,8 @@ static const cli_command commands[] = {
      cli_board_help},
     {"detect", cli_detect, "find a chessboard's corners in images; write pixel observations",
      cli_detect_help},
+    {"report", cli_report_cmd, "the calibration record as a PDF to file or hand over (A4 or Letter)",
+     cli_report_help},
     {"plan", cli_plan, "propose the robot stations that best cut the uncertainty (view and reach)",
      cli_plan_help},
     {"fk", cli_fk, "flange poses from joint readings and a kinematic chain", cli_fk_help},

@@ -11,6 +11,7 @@
  */
 #include "io/records_schema_internal.h"
 #include "io/records_store_internal.h"
+#include "io/tool_internal.h"
 
 #include <errno.h>
 #include <math.h>
@@ -97,7 +98,8 @@ int tram_output_rep_parse(const char *s, tram_output_rep *out)
 static const char *const directive_keys[] = {
     "format",           "length-unit",       "angle-unit",        "robot-length-unit",
     "sensor-length-unit", "robot-angle-unit", "sensor-angle-unit", "robot-euler",
-    "sensor-euler",     "robot-pose",        "sensor-pose",       "setup"};
+    "sensor-euler",     "robot-pose",        "sensor-pose",       "setup",
+    "tool-in-flange"};
 #define N_DIRECTIVES (sizeof directive_keys / sizeof directive_keys[0])
 
 /* Levenshtein distance of two short strings (longer ones count as far). */
@@ -223,18 +225,34 @@ tram_status tram__directive_apply(rec_directives *d, const char *file, long line
         d->euler[b] = e;
         d->euler_line[b] = line;
     } else if (strcmp(key, "robot-pose") == 0) {
-        int inv;
+        int inv = 0, tool = 0;
         if (strcmp(value, "flange-in-base") == 0) inv = 0;
         else if (strcmp(value, "base-in-flange") == 0) inv = 1;
+        else if (strcmp(value, "tool-in-base") == 0) tool = 1;
         else
             return tram__fail(err, TRAM_EINPUT, file, line, col,
-                              "robot-pose '%s': expected flange-in-base (T_base_flange) or "
-                              "base-in-flange (T_flange_base)",
+                              "robot-pose '%s': expected flange-in-base (T_base_flange), "
+                              "base-in-flange (T_flange_base) or tool-in-base (T_base_tool, the "
+                              "TCP logged with a tool offset active)",
                               value);
-        if (d->pose_line[0] && d->inverted[0] != inv)
+        if (d->pose_line[0] && (d->inverted[0] != inv || d->robot_tool != tool))
             return conflict(file, line, col, key, d->pose_line[0], err);
         d->inverted[0] = inv;
+        d->robot_tool = tool;
         d->pose_line[0] = line;
+    } else if (strcmp(key, "tool-in-flange") == 0) {
+        size_t at = 0;
+        char why[200];
+        tram_se3 T;
+        tram_length_unit u;
+        if (tram__tool_parse(value, &T, &u, &at, why, sizeof why) != 0)
+            return tram__fail(err, TRAM_EINPUT, file, line, col + (long)at, "tool-in-flange: %s", why);
+        if (d->has_tool && memcmp(&T, &d->tool, sizeof T) != 0)
+            return conflict(file, line, col, key, d->tool_line, err);
+        d->tool = T;
+        d->tool_unit = u;
+        d->has_tool = 1;
+        d->tool_line = line;
     } else if (strcmp(key, "sensor-pose") == 0) {
         int inv;
         if (strcmp(value, "target-in-sensor") == 0) inv = 0;
@@ -283,7 +301,7 @@ tram_status tram__directive_apply(rec_directives *d, const char *file, long line
                           "unknown directive '%s' (known: format, length-unit, angle-unit, "
                           "robot-length-unit, sensor-length-unit, robot-angle-unit, "
                           "sensor-angle-unit, robot-euler, sensor-euler, robot-pose, "
-                          "sensor-pose, setup)",
+                          "sensor-pose, tool-in-flange, setup)",
                           key);
     }
     return TRAM_OK;
@@ -522,6 +540,7 @@ static tram_status rebuild_with(tram_records *r, const tram_block_convention con
             tram_se3 *dst = b == TRAM_BLOCK_ROBOT ? &st->T_base_flange : &st->T_sensor_target;
             tram_status s = block_pose(r, i, b, &conv[b], opt, dst, err);
             if (s != TRAM_OK) return s;
+            if (b == TRAM_BLOCK_ROBOT && r->robot_tool && r->has_tool) tram__tool_to_flange(r, dst, dst);
         }
     }
     return TRAM_OK;
@@ -613,6 +632,25 @@ tram_status tram__records_finish(tram_records *r, const rec_schema *s, const rec
     r->setup = d->setup;
     r->n_joints = (size_t)s->n_joints;
     r->reorthonormalize = opt ? opt->reorthonormalize : 0;
+    if (d->has_tool && !d->robot_tool)
+        return tram__fail(err, TRAM_EINPUT, file, d->tool_line, 0,
+                          "tool-in-flange is declared, but the robot poses are not declared as "
+                          "tool poses: add '# robot-pose: tool-in-base' if the controller logged "
+                          "the TCP, or remove the tool");
+    if (d->robot_tool && !s->has_block[TRAM_BLOCK_ROBOT])
+        return tram__fail(err, TRAM_EINPUT, file, d->pose_line[0], 0,
+                          "robot-pose: tool-in-base applies to robot_ pose columns; joint "
+                          "readings give flange poses through the chain");
+    r->robot_tool = d->robot_tool;
+    r->robot_pose_line = d->pose_line[0];
+    r->has_tool = d->has_tool;
+    r->tool_line = d->tool_line;
+    r->tool_in_file = d->has_tool;
+    if (d->has_tool) {
+        r->T_flange_tool = d->tool;
+        double f = tram_unit_length_factor(d->tool_unit, lu);
+        for (int i = 0; i < 3; i++) r->T_flange_tool.m[i][3] *= f;
+    }
     r->quat_norm_tol = opt ? opt->quat_norm_tol : 0;
     tram_block_convention conv[2];
     for (int b = 0; b < TRAM_BLOCK_COUNT; b++) {

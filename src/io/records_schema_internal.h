@@ -21,6 +21,9 @@ typedef struct rec_directives {
     tram_length_unit block_length[TRAM_BLOCK_COUNT]; long block_length_line[TRAM_BLOCK_COUNT];
     tram_angle_unit block_angle[TRAM_BLOCK_COUNT]; long block_angle_line[TRAM_BLOCK_COUNT];
     int format_version; long format_line;
+    int robot_tool;                 /* robot-pose: tool-in-base                */
+    int has_tool; long tool_line;   /* tool-in-flange                          */
+    tram_se3 tool; tram_length_unit tool_unit;
 } rec_directives;
 
 /* Apply one directive "key: value" read at file:line:col.  Returns

@@ -67,6 +67,8 @@ static const tram_se3 *block_pose(const tram_station *s, int b)
 tram_status tram_records_write(const tram_records *r, const tram_output_rep *rep, int json,
                                FILE *f, tram_error *err)
 {
+    tram_status tool_st = tram_records_require_flange(r, err);
+    if (tool_st != TRAM_OK) return tool_st;
     tram_length_unit lu = rep->length_unit != TRAM_LENGTH_UNSET ? rep->length_unit : r->length_unit;
     double lscale = tram_unit_length_factor(r->length_unit, lu);
     int needs_angle = rep->kind == TRAM_REP_ROTVEC || rep->kind == TRAM_REP_EULER;

@@ -633,6 +633,8 @@ tram_status tram_solve_pixels(const tram_records *r, tram_setup setup, const tra
                               tram_error *err)
 {
     *out = NULL;
+    tram_status tool_st = tram_records_require_flange(r, err);
+    if (tool_st != TRAM_OK) return tool_st;
     tram_solve_options defaults;
     tram_solve_options_init(&defaults);
     const tram_solve_options *opt = opt_in ? opt_in : &defaults;

@@ -279,6 +279,8 @@ tram_status tram_solve(const tram_records *r, tram_setup setup, const tram_solve
                        tram_solution **out, tram_error *err)
 {
     *out = NULL;
+    tram_status tool_st = tram_records_require_flange(r, err);
+    if (tool_st != TRAM_OK) return tool_st;
     tram_solve_options defaults;
     if (!opt_in) {
         tram_solve_options_init(&defaults);
