@@ -58,6 +58,7 @@ static tram_solution *pose_path(const scene *s, const tram_solve_options *so)
 static void test_against_pose_path(void **state)
 {
     (void)state;
+    TEST_FIGURES_IN_PLAIN_BUILD_ONLY();
     tram_solve_options so;
     tram_solve_options_init(&so);
     so.check_conventions = 0;
@@ -161,6 +162,7 @@ static void assert_per_axis(int seeds, const int inside[6])
 static void test_interval_coverage(void **state)
 {
     (void)state;
+    TEST_FIGURES_IN_PLAIN_BUILD_ONLY();
     int inside[6], seeds = 200;
     printf("[ seed     ] pixel intervals, camera exact: seeds 56001 .. %d\n", 56000 + seeds);
     coverage(56001, seeds, 0, 0, inside);
@@ -174,6 +176,7 @@ static void test_interval_coverage(void **state)
 static void test_interval_coverage_calibrated_camera(void **state)
 {
     (void)state;
+    TEST_FIGURES_IN_PLAIN_BUILD_ONLY();
     int inside[6], bare[6], seeds = 200, nb = 20;
     printf("[ seed     ] pixel intervals, calibrated camera: seeds 57001 .. %d\n", 57000 + seeds);
     coverage(57001, seeds, 1, 1, inside);

@@ -262,6 +262,7 @@ static void test_jacobian(void **state)
 static void test_covariance_coverage(void **state)
 {
     (void)state;
+    TEST_FIGURES_IN_PLAIN_BUILD_ONLY();
     test_rng rng = test_rng_seeded("pose covariance", 52004);
     double xyz[3 * 54], uv[2 * 54];
     board_points(9, 6, 25.0, xyz);
