@@ -176,8 +176,8 @@ static tram_status op_records_write(tram_error *err)
         char *buf = NULL;
         size_t len = 0;
         FILE *f = open_memstream(&buf, &len);
-        tram_output_rep rep = {TRAM_REP_EULER, TRAM_EULER_ZYX_INTRINSIC, TRAM_LENGTH_M,
-                               TRAM_ANGLE_DEG};
+        tram_output_rep rep = {.kind = TRAM_REP_EULER, .euler = TRAM_EULER_ZYX_INTRINSIC,
+                               .length_unit = TRAM_LENGTH_M, .angle_unit = TRAM_ANGLE_DEG};
         st = tram_records_write(in.rec, &rep, json, f, err);
         fclose(f);
         free(buf);
@@ -581,7 +581,9 @@ static tram_status op_pixel_solve(tram_error *err)
     tram_solve_options_init(&so);
     so.check_conventions = 0;
     tram_solution *s = NULL;
-    tram_pixel_solve_options po = {1};
+    tram_pixel_solve_options po;
+    tram_pixel_solve_options_init(&po);
+    po.refine_intrinsics = 1;
     tram_status st = tram_solve_pixels(px.rec, TRAM_SETUP_EYE_IN_HAND, &px.cam, px.obs, px.xyz, &so,
                                        &po, &s, err);
     char *text = NULL;
@@ -592,6 +594,29 @@ static tram_status op_pixel_solve(tram_error *err)
         tram_pose_result pr;
         st = tram_pose_from_pixels(&px.cam, px.xyz, px.obs->uv, 20, &pr, err);
     }
+    return st;
+}
+
+/* The camera held fixed with its calibration covariance (the share of the
+ * intervals from the camera). */
+static tram_status op_pixel_solve_camera_cov(tram_error *err)
+{
+    tram_solve_options so;
+    tram_solve_options_init(&so);
+    so.check_conventions = 0;
+    double cov[TRAM_CAM_NPARAM * TRAM_CAM_NPARAM] = {0};
+    for (int k = 0; k < 4; k++) cov[k * TRAM_CAM_NPARAM + k] = 0.25;
+    cov[TRAM_CAM_K1 * TRAM_CAM_NPARAM + TRAM_CAM_K1] = 1e-6;
+    tram_pixel_solve_options po;
+    tram_pixel_solve_options_init(&po);
+    po.camera_cov = cov;
+    tram_solution *s = NULL;
+    tram_status st = tram_solve_pixels(px.rec, TRAM_SETUP_EYE_IN_HAND, &px.cam, px.obs, px.xyz, &so,
+                                       &po, &s, err);
+    char *text = NULL;
+    if (st == TRAM_OK) st = tram_solution_to_json(s, px.rec, "auto", 0, &text, err);
+    free(text);
+    tram_solution_destroy(s);
     return st;
 }
 
@@ -616,6 +641,7 @@ static void test_pixels(void **state)
     tram_pixel_obs_destroy(all);
     assert_int_equal(tram_pixel_target_from_board(px.obs, &b, TRAM_LENGTH_MM, &px.xyz, &e), TRAM_OK);
     exhaust("solve from pixels (camera refined) + JSON + pose", op_pixel_solve);
+    exhaust("solve from pixels (camera covariance) + JSON", op_pixel_solve_camera_cov);
     tram_pixel_target_free(px.xyz);
     tram_pixel_obs_destroy(px.obs);
     tram_records_destroy(px.rec);

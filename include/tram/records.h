@@ -66,16 +66,20 @@ typedef struct tram_block_convention {
 #define TRAM_JOINTS_MAX 16 /* joint_1 ... joint_16 */
 #define TRAM_RAW_MAX 12 /* x, y, z and up to 9 rotation numbers */
 
+/* One station, compact (docs/performance.md): its id, its line and the two
+ * poses.  The numbers as read (for tram_records_rebuild), the joint
+ * readings and the source columns live in arrays of the record set, only
+ * when present; read them through tram_records_joints. */
 typedef struct tram_station {
-    char id[TRAM_STATION_ID_MAX];
-    long line;                                 /* source line (0: unknown)    */
-    double raw[TRAM_BLOCK_COUNT][TRAM_RAW_MAX]; /* x,y,z, rotation numbers     */
-    int col[TRAM_BLOCK_COUNT][TRAM_RAW_MAX];    /* source column of each raw    */
+    const char *id;           /* NUL-terminated, at most TRAM_STATION_ID_MAX - 1
+                                 characters; owned by the record set (its id
+                                 pool), or by whoever built the set by hand   */
+    long line;                /* source line (0: unknown)                     */
     tram_se3 T_base_flange;   /* valid when the robot block is present          */
     tram_se3 T_sensor_target; /* valid when the sensor block is present         */
-    double joints[TRAM_JOINTS_MAX]; /* joint readings as read (records' units)   */
-    int joint_col[TRAM_JOINTS_MAX];
 } tram_station;
+
+#define TRAM_RECORDS_WARNINGS_MAX 8 /* more are counted in n_warnings only */
 
 typedef struct tram_records {
     size_t count;
@@ -91,13 +95,34 @@ typedef struct tram_records {
     tram_block_convention conv[TRAM_BLOCK_COUNT];
     int reorthonormalize;        /* matrices were projected onto SO(3)          */
     unsigned long long checksum; /* FNV-1a 64 of the input bytes                */
+    double quat_norm_tol;        /* the quaternion tolerance read with (0: default) */
+    /* Warnings of the reader, each "file:line:col: warning: ...": e.g. a
+     * comment that looks like a misspelt directive (it is not applied). */
+    size_t n_warnings;
+    char warnings[TRAM_RECORDS_WARNINGS_MAX][512];
+    /* The numbers as read, owned by the record set (NULL when absent, e.g.
+     * in a set built by hand): station i's block b starts at
+     * raw[i * raw_stride + raw_off[b]] (x, y, z, then the rotation
+     * numbers); rot_col[i * TRAM_BLOCK_COUNT + b] is the source column of
+     * its first rotation number (NULL: columns not known, as in JSON);
+     * joints[i * n_joints + j] and joint_col likewise. */
+    double *raw;
+    size_t raw_stride;
+    size_t raw_off[TRAM_BLOCK_COUNT];
+    int *rot_col;
+    double *joints;
+    int *joint_col;
+    char *id_pool;               /* the stations' ids, owned                    */
 } tram_records;
 
 typedef struct tram_read_options {
     tram_length_unit length_unit; /* given on the command line, or UNSET      */
     tram_angle_unit angle_unit;   /* given on the command line, or UNSET      */
     int reorthonormalize;         /* accept near-rotation matrices and project */
-    double quat_norm_tol;         /* 0: TRAM_QUAT_NORM_TOL                      */
+    double quat_norm_tol;         /* 0: TRAM_QUAT_NORM_TOL; up to
+                                     TRAM_QUAT_NORM_MAX_FIX accepts rounded
+                                     quaternions (they are normalised); a
+                                     larger value is taken as that bound   */
     double matrix_tol;            /* 0: TRAM_RECORDS_MATRIX_TOL                 */
 } tram_read_options;
 
@@ -135,14 +160,23 @@ typedef struct tram_output_rep {
     tram_euler_seq euler;          /* for TRAM_REP_EULER                       */
     tram_length_unit length_unit;  /* UNSET: the records' unit                  */
     tram_angle_unit angle_unit;    /* needed for ROTVEC and EULER                */
+    int quat_xyzw;                 /* QUAT: columns in the order qx,qy,qz,qw
+                                      (scalar last; the names keep each number's
+                                      meaning, so the file reads back the same) */
+    int digits;                    /* significant digits of CSV numbers, 1..17;
+                                      0: 17 (reads back bit for bit)            */
+    int with_joints;               /* 1: also the joint readings (joint_1 ...), in
+                                      the records' own units (no unit change)    */
 } tram_output_rep;
 
-/* Parse "quat", "rotvec", "matrix" or "euler:SEQ"; 0 on success, -1 else. */
+/* Parse "quat", "quat-xyzw", "rotvec", "matrix" or "euler:SEQ"; 0 on
+ * success, -1 else. */
 TRAM_API int tram_output_rep_parse(const char *s, tram_output_rep *out);
 
 /* Write as a v1 record file (CSV when json == 0, else JSON) with the poses
  * in their default direction (flange-in-base, target-in-sensor), every
- * number printed with %.17g so that it reads back exactly. */
+ * number printed with %.17g so that it reads back exactly (CSV: rep->digits
+ * significant digits when set, for people; JSON always 17). */
 TRAM_API tram_status tram_records_write(const tram_records *r, const tram_output_rep *rep,
                                         int json, FILE *f, tram_error *err);
 
@@ -150,8 +184,14 @@ TRAM_API tram_status tram_records_write(const tram_records *r, const tram_output
 
 /* Number of stations (0 for NULL). */
 TRAM_API size_t tram_records_count(const tram_records *r);
+/* The reader's warning i ("file:line:col: warning: ..."), or NULL when i
+ * is out of range. */
+TRAM_API const char *tram_records_warning(const tram_records *r, size_t i);
 /* Station i's id, or NULL when i is out of range. */
 TRAM_API const char *tram_records_station_id(const tram_records *r, size_t i);
+/* Station i's n_joints joint readings as read (records' units), or NULL
+ * when the set has none or i is out of range. */
+TRAM_API const double *tram_records_joints(const tram_records *r, size_t i);
 /* Station i's pose of block TRAM_BLOCK_ROBOT (T_base_flange) or
  * TRAM_BLOCK_SENSOR (T_sensor_target) as a row-major 4x4 in the records'
  * length unit; 1 on success, 0 when the block is absent or i is out of

@@ -177,6 +177,8 @@ typedef struct tram_solution {
 } tram_solution;
 
 /* Solve.  `setup` must be set (from the records' directive or the caller).
+ * MUST-CHECK: TRAM_OK also comes with results that must not be used; use
+ * X and Z only when solved && trustworthy (docs/library.md).
  * Returns TRAM_OK with *out filled, or TRAM_EUNDETERMINED with *out filled
  * (solved = 0; diagnostics say what cannot be determined and what motion to
  * add), or an error (TRAM_EINPUT, TRAM_ENOMEM, ...) with *out NULL.  The

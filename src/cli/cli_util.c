@@ -34,6 +34,25 @@ int cli_take(int argc, char **argv, int *i, const char *name, const char **value
 
 int cli_flag(char **argv, int i, const char *name) { return strcmp(argv[i], name) == 0; }
 
+void cli_path_join(char *out, size_t cap, const char *dir, const char *name)
+{
+    size_t n = strlen(dir);
+    while (n > 1 && dir[n - 1] == '/') n--;
+    snprintf(out, cap, "%.*s/%s", (int)n, dir, name);
+}
+
+void cli_records_warnings(const tram_records *r)
+{
+    size_t n = r ? r->n_warnings : 0;
+    for (size_t i = 0; i < n; i++) {
+        const char *w = tram_records_warning(r, i);
+        if (w) fprintf(stderr, "%s\n", w);
+    }
+    if (n > TRAM_RECORDS_WARNINGS_MAX)
+        fprintf(stderr, "%s: warning: %zu more warnings not shown\n", r->source,
+                n - TRAM_RECORDS_WARNINGS_MAX);
+}
+
 void cli_report(const tram_error *err)
 {
     char buf[1200];

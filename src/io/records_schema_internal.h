@@ -28,6 +28,15 @@ typedef struct rec_directives {
 tram_status tram__directive_apply(rec_directives *d, const char *file, long line, long col,
                                   const char *key, const char *value, tram_error *err);
 
+/* The known directive nearest to `key` after lower-casing it and reading
+ * '_' as '-' (edit distance at most 2, or 0 after that normalising alone);
+ * NULL when none is that near. */
+const char *tram__directive_nearest(const char *key);
+
+/* Keep one reader warning in r: "file:line:col: warning: " and the text. */
+void tram__records_warn(tram_records *r, long line, long col, const char *fmt, ...)
+    TRAM_PRINTF(4, 5);
+
 enum { REC_COL_STATION = 1, REC_COL_VALUE = 2, REC_COL_JOINT = 3 };
 
 typedef struct rec_column {
