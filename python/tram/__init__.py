@@ -251,6 +251,8 @@ class Solution:
         self.covariance = covariance
         self.uncertainty = doc.get("uncertainty") or {}
         self.diagnostics = doc.get("diagnostics", [])
+        # the sensor's length scale: fitted, scale, sigma, z, p_value (or {})
+        self.sensor_scale = doc.get("sensor_scale") or {}
 
     def __getattr__(self, name):
         t = self.__dict__.get("transforms", {})
@@ -260,7 +262,8 @@ class Solution:
 
 
 def solve(records, *, setup=None, method="auto", refine=True, robust=True, noise_length=None,
-          noise_angle_rad=None, bootstrap=0, seed=1, check_conventions=True, tool=None):
+          noise_angle_rad=None, bootstrap=0, seed=1, check_conventions=True, tool=None,
+          fit_scale=False):
     """Hand-eye calibration (tram solve).  records: a Records, or a path to a
     record file.  Returns a Solution even when it is not trustworthy (check
     ``trustworthy``); raises UndeterminedError only when nothing could be
@@ -273,7 +276,8 @@ def solve(records, *, setup=None, method="auto", refine=True, robust=True, noise
         raise OutOfMemoryError(4, "", 0, 0, "out of memory")
     try:
         sets = {"method": m, "refine": int(refine), "robust": int(robust), "bootstrap": bootstrap,
-                "seed": seed, "check_conventions": int(check_conventions)}
+                "seed": seed, "check_conventions": int(check_conventions),
+                "fit_scale": int(fit_scale)}
         if noise_length is not None:
             sets["noise_length"] = noise_length
         if noise_angle_rad is not None:

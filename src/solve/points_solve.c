@@ -18,11 +18,13 @@
  * squares values, the mean of P_i X p over the point's observations.
  * Observations whose residual exceeds 4.59 robust sigmas (as for stations
  * in solve.c) are excluded and the refinement repeated.
+ * The residuals, the linear start and the statistics are in points_fit.c;
+ * the sensor's length scale (--fit-scale) is one more parameter of both
+ * refinements (scale.c).
  */
 #include "tram/point_solve.h"
 #include "tram/register.h"
-#include "math/linalg_internal.h"
-#include "solve/refine_internal.h"
+#include "solve/points_fit_internal.h"
 #include "solve/diagnose_internal.h"
 #include "solve/pipeline_internal.h"
 #include "math/stats_internal.h"
@@ -36,339 +38,6 @@
 #include <string.h>
 
 #define OUTLIER_K 4.5943
-#define CHI3_MEDIAN_SQRT 1.5381722
-
-typedef struct pctx {
-    const tram_se3 *P;
-    const tram_point_obs *obs;
-    const double *model;   /* per point id (3 each), or NULL */
-    const size_t *order;   /* observations sorted by station */
-    const size_t *first;   /* per station: start in order[]  */
-    const size_t *count;   /* per station: number of obs     */
-    const int *excluded;   /* per observation                */
-    double inv_sigma;
-    double *q;             /* scratch: npoints * 3           */
-    double *qn;            /* scratch: npoints               */
-    const double *scale;   /* the sensor's length scale (1 unless fitted or tested) */
-} pctx;
-
-static void obs_world(const pctx *c, size_t o, const tram_se3 *X, double out[3])
-{
-    double s[3], p[3];
-    for (int a = 0; a < 3; a++) p[a] = *c->scale * c->obs->xyz[3 * o + (size_t)a];
-    tram_se3_apply_point(X, p, s);
-    tram_se3_apply_point(&c->P[c->obs->station[o]], s, out);
-}
-
-/* With a model: block = station, residuals (P X p - Z m) / sigma. */
-static size_t eval_model(const tram_refine_problem *pb, size_t i, const tram_se3 *X,
-                         const tram_se3 *Z, double *r)
-{
-    const pctx *c = pb->ctx;
-    size_t d = 0;
-    for (size_t k = 0; k < c->count[i]; k++) {
-        size_t o = c->order[c->first[i] + k];
-        double w[3], zm[3];
-        obs_world(c, o, X, w);
-        tram_se3_apply_point(Z, c->model + 3 * c->obs->point[o], zm);
-        for (int a = 0; a < 3; a++) r[d++] = c->excluded[o] ? 0.0 : (w[a] - zm[a]) * c->inv_sigma;
-    }
-    return d;
-}
-
-/* The least-squares positions q_k for X: the mean of the observations. */
-static void eliminate(const pctx *c, const tram_se3 *X)
-{
-    size_t m = c->obs->npoints;
-    memset(c->q, 0, 3 * m * sizeof *c->q);
-    memset(c->qn, 0, m * sizeof *c->qn);
-    for (size_t o = 0; o < c->obs->n; o++) {
-        if (c->excluded[o]) continue;
-        double w[3];
-        obs_world(c, o, X, w);
-        for (int a = 0; a < 3; a++) c->q[3 * c->obs->point[o] + (size_t)a] += w[a];
-        c->qn[c->obs->point[o]] += 1.0;
-    }
-    for (size_t k = 0; k < m; k++)
-        for (int a = 0; a < 3; a++)
-            if (c->qn[k] > 0) c->q[3 * k + (size_t)a] /= c->qn[k];
-}
-
-/* Without a model: one block, q eliminated (variable projection). */
-static size_t eval_free(const tram_refine_problem *pb, size_t i, const tram_se3 *X,
-                        const tram_se3 *Z, double *r)
-{
-    (void)i;
-    (void)Z;
-    const pctx *c = pb->ctx;
-    eliminate(c, X);
-    for (size_t o = 0; o < c->obs->n; o++) {
-        double w[3];
-        obs_world(c, o, X, w);
-        for (int a = 0; a < 3; a++)
-            r[3 * o + (size_t)a] =
-                c->excluded[o] ? 0.0 : (w[a] - c->q[3 * c->obs->point[o] + (size_t)a]) * c->inv_sigma;
-    }
-    return 3 * c->obs->n;
-}
-
-/* Residual norms of every observation at (X, Z or the eliminated q). */
-static void obs_residuals(const pctx *c, const tram_se3 *X, const tram_se3 *Z, double *res)
-{
-    if (!c->model) eliminate(c, X);
-    for (size_t o = 0; o < c->obs->n; o++) {
-        double w[3], q[3];
-        obs_world(c, o, X, w);
-        if (c->model) tram_se3_apply_point(Z, c->model + 3 * c->obs->point[o], q);
-        else memcpy(q, c->q + 3 * c->obs->point[o], sizeof q);
-        res[o] = sqrt(tram__sq(w[0] - q[0]) + tram__sq(w[1] - q[1]) + tram__sq(w[2] - q[2]));
-    }
-}
-
-/* Linear start without a model (see the file comment). */
-static tram_status linear_start(const pctx *c, tram_se3 *X, tram_error *err)
-{
-    const tram_point_obs *o = c->obs;
-    size_t m = o->npoints, nu = 12 + 3 * m, rows = 3 * o->n;
-    if (rows < nu + 3)
-        return tram__fail(err, TRAM_EUNDETERMINED, o->source, 0, 0,
-                          "%zu observation(s) of %zu point(s): too few to solve the sensor's mount "
-                          "and the points' positions (the linear start needs %zu equations, has "
-                          "%zu); add stations (at least 5 for a single point)",
-                          o->n, m, nu + 3, rows);
-    double *A = tram__calloc(rows * nu, sizeof *A), *b = tram__malloc(rows * sizeof *b);
-    double *x = tram__malloc(nu * sizeof *x), *sv = tram__malloc(nu * sizeof *sv);
-    tram_status st = TRAM_OK;
-    if (!A || !b || !x || !sv) {
-        st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
-        goto out;
-    }
-    for (size_t i = 0; i < o->n; i++) {
-        const tram_se3 *P = &c->P[o->station[i]];
-        const double *p = o->xyz + 3 * i;
-        for (int a = 0; a < 3; a++) {
-            double *row = A + (3 * i + (size_t)a) * nu;
-            for (int k = 0; k < 3; k++)
-                for (int l = 0; l < 3; l++) row[3 * k + l] += P->m[a][k] * p[l];
-            for (int k = 0; k < 3; k++) row[9 + k] = P->m[a][k];
-            row[12 + 3 * o->point[i] + (size_t)a] = -1.0;
-            b[3 * i + (size_t)a] = -P->m[a][3];
-        }
-    }
-    /* Rank: the smallest singular value relative to the largest. */
-    if ((st = tram__svd((int)rows, (int)nu, A, NULL, sv, NULL)) != TRAM_OK) goto out;
-    if (!(sv[nu - 1] > 1e-9 * sv[0])) {
-        st = tram__fail(err, TRAM_EUNDETERMINED, o->source, 0, 0,
-                        "the stations do not determine the sensor's mount from these points: "
-                        "rotate the flange about at least two different axes (20 deg or more, "
-                        "common practice) and let the sensor see the points at different places");
-        goto out;
-    }
-    if ((st = tram__lstsq((int)rows, (int)nu, A, b, x)) != TRAM_OK) goto out;
-    tram_mat3 M, R;
-    for (int i = 0; i < 9; i++) M.m[i / 3][i % 3] = x[i];
-    tram_so3_nearest(&M, &R);
-    /* Re-solve t_X and q with R_X fixed. */
-    size_t nu2 = 3 + 3 * m;
-    memset(A, 0, rows * nu * sizeof *A);
-    for (size_t i = 0; i < o->n; i++) {
-        const tram_se3 *P = &c->P[o->station[i]];
-        double rp[3];
-        tram_so3_apply(&R, o->xyz + 3 * i, rp);
-        for (int a = 0; a < 3; a++) {
-            double *row = A + (3 * i + (size_t)a) * nu2;
-            for (int k = 0; k < 3; k++) row[k] = P->m[a][k];
-            row[3 + 3 * o->point[i] + (size_t)a] = -1.0;
-            b[3 * i + (size_t)a] = -P->m[a][3] - (P->m[a][0] * rp[0] + P->m[a][1] * rp[1] + P->m[a][2] * rp[2]);
-        }
-    }
-    if ((st = tram__lstsq((int)rows, (int)nu2, A, b, x)) != TRAM_OK) goto out;
-    tram_se3_from_rt(&R, x, X);
-out:
-    tram__free(A);
-    tram__free(b);
-    tram__free(x);
-    tram__free(sv);
-    if (st == TRAM_ENUMERIC) tram__fail(err, st, NULL, 0, 0, "a LAPACK routine did not converge");
-    return st;
-}
-
-/* Target frame from solved points: centroid and principal axes. */
-static void target_frame(const double *q, size_t m, const char *first_id, tram_se3 *Z)
-{
-    (void)first_id;
-    double c[3] = {0, 0, 0};
-    for (size_t k = 0; k < m; k++)
-        for (int a = 0; a < 3; a++) c[a] += q[3 * k + (size_t)a] / (double)m;
-    tram_mat3 R;
-    tram_so3_identity(&R);
-    if (m >= 3) {
-        double C[9] = {0}, ev[3], V[9];
-        for (size_t k = 0; k < m; k++)
-            for (int a = 0; a < 3; a++)
-                for (int b = 0; b < 3; b++)
-                    C[a * 3 + b] += (q[3 * k + (size_t)a] - c[a]) * (q[3 * k + (size_t)b] - c[b]);
-        if (tram__symeig(3, C, ev, V) == TRAM_OK && ev[1] > 1e-12 * ev[2]) {
-            double x[3] = {V[2], V[5], V[8]}, y[3] = {V[1], V[4], V[7]}, z[3];
-            /* signs: the first point has negative x and y coordinates */
-            double d0[3] = {q[0] - c[0], q[1] - c[1], q[2] - c[2]};
-            if (tram__dot3(d0, x) > 0)
-                for (int a = 0; a < 3; a++) x[a] = -x[a];
-            if (tram__dot3(d0, y) > 0)
-                for (int a = 0; a < 3; a++) y[a] = -y[a];
-            tram__cross3(x, y, z);
-            for (int a = 0; a < 3; a++) {
-                R.m[a][0] = x[a];
-                R.m[a][1] = y[a];
-                R.m[a][2] = z[a];
-            }
-        }
-    }
-    tram_se3_from_rt(&R, c, Z);
-}
-
-typedef struct setup_data {
-    tram_se3 *P;
-    size_t *order, *first, *count;
-    int *excluded;
-    double *q, *qn, *res;
-    double scale; /* the sensor's length scale: the refinement's 13th parameter */
-} setup_data;
-
-static void free_setup(setup_data *d)
-{
-    tram__free(d->P);
-    tram__free(d->order);
-    tram__free(d->first);
-    tram__free(d->count);
-    tram__free(d->excluded);
-    tram__free(d->q);
-    tram__free(d->qn);
-    tram__free(d->res);
-}
-
-static tram_status prepare(const tram_records *r, tram_setup setup, const tram_point_obs *obs,
-                           setup_data *d, pctx *c)
-{
-    size_t n = r->count, m = obs->npoints;
-    memset(d, 0, sizeof *d);
-    d->P = tram__malloc((n ? n : 1) * sizeof *d->P);
-    d->order = tram__malloc((obs->n ? obs->n : 1) * sizeof *d->order);
-    d->first = tram__calloc(n ? n : 1, sizeof *d->first);
-    d->count = tram__calloc(n ? n : 1, sizeof *d->count);
-    d->excluded = tram__calloc(obs->n ? obs->n : 1, sizeof *d->excluded);
-    d->q = tram__malloc((m ? m : 1) * 3 * sizeof *d->q);
-    d->qn = tram__malloc((m ? m : 1) * sizeof *d->qn);
-    d->res = tram__malloc((obs->n ? obs->n : 1) * sizeof *d->res);
-    if (!d->P || !d->order || !d->first || !d->count || !d->excluded || !d->q || !d->qn || !d->res)
-        return TRAM_ENOMEM;
-    for (size_t i = 0; i < n; i++) {
-        if (setup == TRAM_SETUP_EYE_TO_HAND) tram_se3_invert(&r->stations[i].T_base_flange, &d->P[i]);
-        else d->P[i] = r->stations[i].T_base_flange;
-    }
-    for (size_t o = 0; o < obs->n; o++) d->count[obs->station[o]]++;
-    for (size_t i = 1; i < n; i++) d->first[i] = d->first[i - 1] + d->count[i - 1];
-    size_t *fill = tram__calloc(n ? n : 1, sizeof *fill);
-    if (!fill) return TRAM_ENOMEM;
-    for (size_t o = 0; o < obs->n; o++) {
-        size_t s = obs->station[o];
-        d->order[d->first[s] + fill[s]++] = o;
-    }
-    tram__free(fill);
-    c->P = d->P;
-    c->obs = obs;
-    c->order = d->order;
-    c->first = d->first;
-    c->count = d->count;
-    c->excluded = d->excluded;
-    c->q = d->q;
-    c->qn = d->qn;
-    c->inv_sigma = 1.0;
-    d->scale = 1.0;
-    c->scale = &d->scale;
-    return TRAM_OK;
-}
-
-/* Robust per-axis sigma of the included residual norms into *sigma;
- * TRAM_ENOMEM when the work copy cannot be had. */
-static tram_status robust_sigma(const double *res, const int *excl, size_t n, double *sigma)
-{
-    double *v = tram__malloc((n ? n : 1) * sizeof *v);
-    if (!v) return TRAM_ENOMEM;
-    size_t k = 0;
-    for (size_t i = 0; i < n; i++)
-        if (!excl[i]) v[k++] = res[i];
-    *sigma = tram__median(v, k) / CHI3_MEDIAN_SQRT;
-    tram__free(v);
-    return TRAM_OK;
-}
-
-/* Median distance of the observed points from the sensor: the working
- * distance of the plausibility gate (plausibility.c). */
-static double obs_dist(const void *ctx, size_t o)
-{
-    const double *p = (const double *)ctx + 3 * o;
-    return sqrt(p[0] * p[0] + p[1] * p[1] + p[2] * p[2]);
-}
-
-static double points_working_distance(const tram_point_obs *obs)
-{
-    return obs->n ? tram__median_of(obs->n, obs_dist, obs->xyz) : 0.0;
-}
-
-/* Fill the point statistics of the solution. */
-static tram_status point_stats(const tram_records *r, const tram_point_obs *obs, const pctx *c,
-                               const setup_data *d, const tram_solution *sol, const double *model,
-                               tram_point_result *pr)
-{
-    size_t n = r->count, m = obs->npoints;
-    pr->nstations = n;
-    pr->npoints = m;
-    pr->nobs = obs->n;
-    pr->station_rms = tram__malloc((n ? n : 1) * sizeof *pr->station_rms);
-    pr->point_rms = tram__malloc((m ? m : 1) * sizeof *pr->point_rms);
-    pr->point_id = tram__malloc((m ? m : 1) * sizeof *pr->point_id);
-    pr->residual = tram__malloc((obs->n ? obs->n : 1) * sizeof *pr->residual);
-    pr->excluded = tram__malloc((obs->n ? obs->n : 1) * sizeof *pr->excluded);
-    pr->model_xyz = tram__malloc((m ? m : 1) * 3 * sizeof *pr->model_xyz);
-    double *acc = tram__calloc(2 * (n + m) + 2, sizeof *acc);
-    double *inl = tram__malloc((obs->n ? obs->n : 1) * sizeof *inl);
-    if (!pr->station_rms || !pr->point_rms || !pr->point_id || !pr->residual || !pr->excluded ||
-        !pr->model_xyz || !acc || !inl) {
-        tram__free(acc);
-        tram__free(inl);
-        return TRAM_ENOMEM;
-    }
-    memcpy(pr->point_id, obs->point_id, m * sizeof *pr->point_id);
-    memcpy(pr->residual, d->res, obs->n * sizeof *pr->residual);
-    memcpy(pr->excluded, d->excluded, obs->n * sizeof *pr->excluded);
-    memcpy(pr->model_xyz, model, 3 * m * sizeof *pr->model_xyz);
-    size_t k = 0;
-    double ss = 0, mx = 0;
-    for (size_t o = 0; o < obs->n; o++) {
-        size_t s = obs->station[o], p = obs->point[o];
-        int skip = d->excluded[o] || sol->stations[s].outlier;
-        if (skip) continue;
-        double e2 = d->res[o] * d->res[o];
-        acc[2 * s] += e2;
-        acc[2 * s + 1] += 1;
-        acc[2 * (n + p)] += e2;
-        acc[2 * (n + p) + 1] += 1;
-        inl[k++] = d->res[o];
-        ss += e2;
-        if (d->res[o] > mx) mx = d->res[o];
-    }
-    for (size_t s = 0; s < n; s++) pr->station_rms[s] = acc[2 * s + 1] > 0 ? sqrt(acc[2 * s] / acc[2 * s + 1]) : NAN;
-    for (size_t p = 0; p < m; p++)
-        pr->point_rms[p] = acc[2 * (n + p) + 1] > 0 ? sqrt(acc[2 * (n + p)] / acc[2 * (n + p) + 1]) : NAN;
-    pr->point.rms = k ? sqrt(ss / (double)k) : 0;
-    pr->point.median = tram__median(inl, k);
-    pr->point.max = mx;
-    tram__free(acc);
-    tram__free(inl);
-    (void)c;
-    return TRAM_OK;
-}
 
 /* Model coordinates per observed point id into mxyz (3 per id). */
 static tram_status model_lookup(const tram_point_obs *obs, const tram_point_model *model,
@@ -393,7 +62,7 @@ static tram_status model_lookup(const tram_point_obs *obs, const tram_point_mode
 /* Each station's T_sensor_target into rr: the registration of the model to
  * the station's points (Arun et al. 1987). */
 static tram_status register_stations(const tram_records *r, const tram_point_obs *obs,
-                                     const setup_data *d, const double *mxyz, tram_records *rr,
+                                     const tram__pts_setup *d, const double *mxyz, tram_records *rr,
                                      tram_error *err)
 {
     size_t m = obs->npoints;
@@ -425,76 +94,11 @@ static tram_status register_stations(const tram_records *r, const tram_point_obs
     return st;
 }
 
-/* Refinement parameter index (rotation, translation per block) of public
- * uncertainty index a (translation, rotation per block). */
-static int pub_param(int a)
-{
-    return (a / 6) * 6 + (a % 6 < 3 ? 3 + a % 6 : a % 6 - 3);
-}
-
-/* The first nblk*6 public sigmas and covariance of sol from the
- * refinement's covariance (parameter order, length and rad). */
-static void store_uncertainty(const double cov[144], int nblk, double cond, tram_solution *sol)
-{
-    for (int a = 0; a < 6 * nblk; a++) {
-        int q = pub_param(a);
-        double sd = sqrt(fmax(cov[q * 12 + q], 0.0));
-        sol->unc.sigma[a] = (a % 6) >= 3 ? sd * 180.0 / TRAM_PI : sd;
-        for (int b = 0; b < 6 * nblk; b++) sol->unc.cov[a * 12 + b] = cov[q * 12 + pub_param(b)];
-    }
-    sol->unc.valid = 1;
-    sol->condition = cond;
-}
-
-/* Sum of squared residual norms of the observations used (not excluded,
- * of a station with weight w > 0; w NULL: all stations); *k their count. */
-static double used_ss(const tram_point_obs *obs, const setup_data *d, const double *w, size_t *k)
-{
-    double ss = 0;
-    *k = 0;
-    for (size_t o = 0; o < obs->n; o++)
-        if (!d->excluded[o] && (!w || w[obs->station[o]] > 0)) {
-            ss += d->res[o] * d->res[o];
-            (*k)++;
-        }
-    return ss;
-}
-
-/* The scale test of a solve that keeps s = 1 (scale.c): pb0's problem
- * refined from (X, Z) with the sensor's scale free, its noise from those
- * residuals (dof0 - 1 degrees of freedom: one parameter more) and
- * the scale's variance; then back to s = 1 and the residuals at (X, Z).
- * TRAM_ENOMEM only. */
-static tram_status scale_test(const tram_refine_problem *pb0, const double *w,
-                              const tram_point_obs *obs, setup_data *d, pctx *c, double dof0,
-                              const tram_se3 *X, const tram_se3 *Z, tram_solution *sol)
-{
-    tram_refine_problem pb = *pb0;
-    pb.scale = &d->scale;
-    double inv0 = c->inv_sigma, var = NAN;
-    tram_se3 Xs = *X, Zs = *Z;
-    d->scale = 1.0;
-    tram_status st = dof0 - 1.0 > 0 ? tram__refine_run(&pb, w, 0, &Xs, &Zs) : TRAM_EUNDETERMINED;
-    if (st == TRAM_OK) {
-        size_t k;
-        obs_residuals(c, &Xs, &Zs, d->res);
-        double sig = sqrt(used_ss(obs, d, w, &k) / (dof0 - 1.0));
-        c->inv_sigma = 1.0 / fmax(sig, 1e-12);
-        st = tram__refine_covariance_scale(&pb, w, &Xs, &Zs, 1.0, (double[144]){0}, NULL, &var, NULL);
-    }
-    double s = d->scale;
-    d->scale = 1.0;
-    c->inv_sigma = inv0;
-    obs_residuals(c, X, Z, d->res);
-    if (st == TRAM_ENOMEM) return st;
-    return tram__scale_report(sol, s, st == TRAM_OK ? var : NAN, 0);
-}
-
 /* With a model: the final refinement of X and Z on the 3D point residuals
  * of the stations the pose solve kept, its noise and covariance, and the
  * station pose residuals against it. */
 static tram_status refine_on_points(const tram_records *rr, const tram_point_obs *obs,
-                                    int fit_scale, setup_data *d, pctx *c, tram_solution *sol)
+                                    int fit_scale, tram__pts_setup *d, tram__pts_ctx *c, tram_solution *sol)
 {
     size_t n = rr->count;
     double *w = tram__malloc((n ? n : 1) * sizeof *w);
@@ -504,33 +108,33 @@ static tram_status refine_on_points(const tram_records *rr, const tram_point_obs
         w[i] = sol->stations[i].outlier ? 0.0 : 1.0;
         if (d->count[i] > maxc) maxc = d->count[i];
     }
-    obs_residuals(c, &sol->X, &sol->Z, d->res);
+    tram__pts_residuals(c, &sol->X, &sol->Z, d->res);
     double sig;
-    if (robust_sigma(d->res, d->excluded, obs->n, &sig) != TRAM_OK) {
+    if (tram__pts_robust_sigma(d->res, d->excluded, obs->n, &sig) != TRAM_OK) {
         tram__free(w);
         return TRAM_ENOMEM;
     }
     if (!(sig > 1e-12)) sig = 1e-12;
     c->inv_sigma = 1.0 / sig;
-    tram_refine_problem pb = {.n = n, .length_scale = 1.0, .eval = eval_model, .nblocks = n,
+    tram_refine_problem pb = {.n = n, .length_scale = 1.0, .eval = tram__pts_eval_model, .nblocks = n,
                               .maxdim = 3 * (maxc ? maxc : 1), .ctx = c,
                               .scale = fit_scale ? &d->scale : NULL};
     tram_status st = tram__refine_run(&pb, w, 0, &sol->X, &sol->Z);
     if (st == TRAM_OK) {
-        obs_residuals(c, &sol->X, &sol->Z, d->res);
+        tram__pts_residuals(c, &sol->X, &sol->Z, d->res);
         size_t k;
-        double ss = used_ss(obs, d, w, &k);
+        double ss = tram__pts_used_ss(obs, d, w, &k);
         double dof = 3.0 * (double)k - 12.0 - (fit_scale ? 1.0 : 0.0);
         if (dof > 0) c->inv_sigma = 1.0 / fmax(sqrt(ss / dof), 1e-12);
         double cov[144], cond, var = NAN;
         tram_status cs = tram__refine_covariance_scale(&pb, w, &sol->X, &sol->Z, 1.0, cov, &cond, &var, NULL);
         if (cs == TRAM_OK) {
-            store_uncertainty(cov, 2, cond, sol);
+            tram__pts_store_uncertainty(cov, 2, cond, sol);
             sol->unc.bootstrap_valid = 0; /* it measured the pose refinement */
         }
         st = cs == TRAM_ENOMEM ? cs
            : fit_scale ? tram__scale_report(sol, d->scale, var, 1)
-                       : scale_test(&pb, w, obs, d, c, dof, &sol->X, &sol->Z, sol);
+                       : tram__pts_scale_test(&pb, w, obs, d, c, dof, &sol->X, &sol->Z, sol);
         /* Station pose residuals against the refined solution. */
         double rot, tr;
         for (size_t i = 0; i < n; i++) {
@@ -547,13 +151,13 @@ static tram_status refine_on_points(const tram_records *rr, const tram_point_obs
 /* The point results of a solve with a model, and the plausibility gate on
  * the 3D point residuals. */
 static tram_status model_point_result(const tram_records *r, const tram_point_obs *obs,
-                                      const tram_solve_options *opt, pctx *c, setup_data *d,
+                                      const tram_solve_options *opt, tram__pts_ctx *c, tram__pts_setup *d,
                                       const double *mxyz, tram_solution *sol, tram_status st,
                                       tram_error *err)
 {
     tram_point_result *pr = tram__calloc(1, sizeof *pr);
-    obs_residuals(c, &sol->X, &sol->Z, d->res);
-    if (!pr || point_stats(r, obs, c, d, sol, mxyz, pr) != TRAM_OK) {
+    tram__pts_residuals(c, &sol->X, &sol->Z, d->res);
+    if (!pr || tram__pts_stats(r, obs, c, d, sol, mxyz, pr) != TRAM_OK) {
         tram__point_result_free(pr);
         return st == TRAM_OK ? tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory") : st;
     }
@@ -563,8 +167,8 @@ static tram_status model_point_result(const tram_records *r, const tram_point_ob
     /* The pose solve ran the pairing test; gate the point residuals
      * (once: not again when the station residuals failed already). */
     if (st == TRAM_OK && !sol->trust.gate_failed &&
-        tram__gate(sol, &opt->trust, points_working_distance(obs), NAN, pr->point.rms,
-                   "3D point") != TRAM_OK)
+        tram__gate(sol, &opt->trust, tram__pts_working_distance(obs), NAN, pr->point.rms,
+                                                                "3D point") != TRAM_OK)
         st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
     return st;
 }
@@ -577,13 +181,13 @@ static tram_status solve_with_model(const tram_records *r, tram_setup setup,
     size_t m = obs->npoints;
     double *mxyz = tram__malloc((m ? m : 1) * 3 * sizeof *mxyz);
     tram_records *rr = tram_records_clone(r);
-    setup_data d;
-    pctx c;
+    tram__pts_setup d;
+    tram__pts_ctx c;
     memset(&c, 0, sizeof c);
-    memset(&d, 0, sizeof d); /* freed at out: even when prepare is not reached */
+    memset(&d, 0, sizeof d); /* freed at out: even when tram__pts_prepare is not reached */
     tram_status st = TRAM_OK;
     tram_solution *sol = NULL;
-    if (!mxyz || !rr || prepare(r, setup, obs, &d, &c) != TRAM_OK) {
+    if (!mxyz || !rr || tram__pts_prepare(r, setup, obs, &d, &c) != TRAM_OK) {
         st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
         goto out;
     }
@@ -604,7 +208,7 @@ out:
         sol = NULL;
     }
     *out = sol;
-    free_setup(&d);
+    tram__pts_setup_free(&d);
     tram__free(mxyz);
     tram_records_destroy(rr);
     return st;
@@ -616,27 +220,27 @@ typedef struct doc_ctx {
 } doc_ctx;
 
 static tram_status free_fit(const tram_records *r, tram_setup setup, const tram_point_obs *obs,
-                            tram_se3 *X, tram_se3 *Z, setup_data *d, pctx *c, int robust,
+                            tram_se3 *X, tram_se3 *Z, tram__pts_setup *d, tram__pts_ctx *c, int robust,
                             int fit_scale, tram_error *err);
 
 static tram_status doctor_fit(const tram_records *r, tram_setup setup, const void *ctx,
                               double *med_rot, double *med_tr, double *mount_len)
 {
     const doc_ctx *dc = ctx;
-    setup_data d;
-    pctx c;
+    tram__pts_setup d;
+    tram__pts_ctx c;
     memset(&c, 0, sizeof c);
     tram_se3 X, Z;
     tram_error e;
     tram_status st = free_fit(r, setup, dc->obs, &X, &Z, &d, &c, 0, 0, &e);
     if (st == TRAM_OK) {
-        obs_residuals(&c, &X, &Z, d.res);
+        tram__pts_residuals(&c, &X, &Z, d.res);
         *med_rot = 0.0;
         *med_tr = tram__median(d.res, dc->obs->n);
         const tram_se3 *M = setup == TRAM_SETUP_EYE_TO_HAND ? &Z : &X;
         *mount_len = sqrt(tram__sq(M->m[0][3]) + tram__sq(M->m[1][3]) + tram__sq(M->m[2][3]));
     }
-    free_setup(&d);
+    tram__pts_setup_free(&d);
     return st;
 }
 
@@ -657,19 +261,19 @@ static tram_status pairing_fit(const void *ctx, const size_t *perm, size_t n, do
         pc->work->stations[i].T_base_flange = pc->r->stations[perm ? perm[i] : i].T_base_flange;
     /* The linear start alone (a capped fit): a pairing that fits is within
      * the noise of its optimum already, one that does not stays far off. */
-    setup_data d;
-    pctx c;
+    tram__pts_setup d;
+    tram__pts_ctx c;
     memset(&c, 0, sizeof c);
     tram_se3 X;
     tram_error e;
-    tram_status st = prepare(pc->work, pc->setup, pc->dc.obs, &d, &c);
-    if (st == TRAM_OK) st = linear_start(&c, &X, &e);
+    tram_status st = tram__pts_prepare(pc->work, pc->setup, pc->dc.obs, &d, &c);
+    if (st == TRAM_OK) st = tram__pts_linear_start(&c, &X, &e);
     if (st == TRAM_OK) {
-        obs_residuals(&c, &X, NULL, d.res);
+        tram__pts_residuals(&c, &X, NULL, d.res);
         *med_rot = 0.0;
         *med_tr = tram__median(d.res, pc->dc.obs->n);
     }
-    free_setup(&d);
+    tram__pts_setup_free(&d);
     return st;
 }
 
@@ -679,13 +283,13 @@ static tram_status points_trust(const tram_records *r, tram_setup setup, const t
                                 const tram_solve_options *opt, tram_solution *sol)
 {
     const tram_trust_options *t = &opt->trust;
-    tram_status st = tram__gate(sol, t, points_working_distance(obs), NAN, sol->points->point.rms,
-                                "3D point");
+    tram_status st = tram__gate(sol, t, tram__pts_working_distance(obs), NAN, sol->points->point.rms,
+                                                                   "3D point");
     if (st != TRAM_OK || t->pairing_permutations == 0 || r->count < 3) return st;
     pair_ctx pc = {r, tram_records_clone(r), setup, {obs}};
     if (!pc.work) return TRAM_ENOMEM;
     tram__pairing_result pr;
-    double lscale = points_working_distance(obs);
+    double lscale = tram__pts_working_distance(obs);
     st = tram__pairing_test(r->count, t->pairing_permutations, opt->seed, t->pairing_factor, 0,
                             1e-9 * (lscale > 0 ? lscale : 1), pairing_fit, &pc, &pr);
     tram_records_destroy(pc.work);
@@ -696,26 +300,26 @@ static tram_status points_trust(const tram_records *r, tram_setup setup, const t
 }
 
 static tram_status free_fit(const tram_records *r, tram_setup setup, const tram_point_obs *obs,
-                            tram_se3 *X, tram_se3 *Z, setup_data *d, pctx *c, int robust,
+                            tram_se3 *X, tram_se3 *Z, tram__pts_setup *d, tram__pts_ctx *c, int robust,
                             int fit_scale, tram_error *err)
 {
-    if (prepare(r, setup, obs, d, c) != TRAM_OK)
+    if (tram__pts_prepare(r, setup, obs, d, c) != TRAM_OK)
         return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
-    tram_status st = linear_start(c, X, err);
+    tram_status st = tram__pts_linear_start(c, X, err);
     if (st != TRAM_OK) return st;
     tram_se3_identity(Z);
-    tram_refine_problem pb = {.n = r->count, .length_scale = 1.0, .eval = eval_free, .nblocks = 1,
+    tram_refine_problem pb = {.n = r->count, .length_scale = 1.0, .eval = tram__pts_eval_free, .nblocks = 1,
                               .maxdim = 3 * obs->n, .ctx = c, .nfree = 6,
                               .scale = fit_scale ? &d->scale : NULL};
     for (int round = 0; round < (robust ? 2 : 1); round++) {
-        obs_residuals(c, X, Z, d->res);
+        tram__pts_residuals(c, X, Z, d->res);
         double sig = 1.0;
-        if (robust_sigma(d->res, d->excluded, obs->n, &sig) != TRAM_OK) st = TRAM_ENOMEM;
+        if (tram__pts_robust_sigma(d->res, d->excluded, obs->n, &sig) != TRAM_OK) st = TRAM_ENOMEM;
         c->inv_sigma = 1.0 / (sig > 1e-12 ? sig : 1e-12);
         if (st == TRAM_OK) st = tram__refine_run(&pb, NULL, 0, X, Z);
         if (st == TRAM_OK && robust) {
-            obs_residuals(c, X, Z, d->res);
-            if (robust_sigma(d->res, d->excluded, obs->n, &sig) != TRAM_OK) st = TRAM_ENOMEM;
+            tram__pts_residuals(c, X, Z, d->res);
+            if (tram__pts_robust_sigma(d->res, d->excluded, obs->n, &sig) != TRAM_OK) st = TRAM_ENOMEM;
         }
         if (st != TRAM_OK)
             return tram__fail(err, st, NULL, 0, 0,
@@ -728,8 +332,8 @@ static tram_status free_fit(const tram_records *r, tram_setup setup, const tram_
         }
         if (nex == 0) break;
     }
-    eliminate(c, X);
-    target_frame(c->q, obs->npoints, obs->point_id[0], Z);
+    tram__pts_eliminate(c, X);
+    tram__pts_target_frame(c->q, obs->npoints, obs->point_id[0], Z);
     return TRAM_OK;
 }
 
@@ -753,7 +357,7 @@ static tram_solution *free_solution_new(const tram_records *r, tram_setup setup)
 }
 
 /* The model in the target frame: the solved positions q_k mapped by Z^-1. */
-static void free_model(const pctx *c, size_t m, const tram_se3 *Z, double *model)
+static void free_model(const tram__pts_ctx *c, size_t m, const tram_se3 *Z, double *model)
 {
     tram_se3 Zi;
     tram_se3_invert(Z, &Zi);
@@ -762,16 +366,16 @@ static void free_model(const pctx *c, size_t m, const tram_se3 *Z, double *model
 
 /* Noise and uncertainty of X (the point positions are eliminated, and
  * charged to the degrees of freedom); returns the per-axis noise. */
-static tram_status free_uncertainty(const tram_point_obs *obs, int fit_scale, setup_data *d,
-                                    pctx *c, tram_solution *sol, double *noise)
+static tram_status free_uncertainty(const tram_point_obs *obs, int fit_scale, tram__pts_setup *d,
+                                    tram__pts_ctx *c, tram_solution *sol, double *noise)
 {
     size_t m = obs->npoints, k;
-    obs_residuals(c, &sol->X, &sol->Z, d->res);
-    double ss = used_ss(obs, d, NULL, &k);
+    tram__pts_residuals(c, &sol->X, &sol->Z, d->res);
+    double ss = tram__pts_used_ss(obs, d, NULL, &k);
     double dof = 3.0 * (double)k - 6.0 - 3.0 * (double)m - (fit_scale ? 1.0 : 0.0);
     double sig = dof > 0 ? sqrt(ss / dof) : NAN;
     if (sig > 0) c->inv_sigma = 1.0 / sig;
-    tram_refine_problem pb = {.n = sol->n, .length_scale = 1.0, .eval = eval_free, .nblocks = 1,
+    tram_refine_problem pb = {.n = sol->n, .length_scale = 1.0, .eval = tram__pts_eval_free, .nblocks = 1,
                               .maxdim = 3 * obs->n, .ctx = c, .nfree = 6,
                               .scale = fit_scale ? &d->scale : NULL};
     double cov[144], cond, var = NAN;
@@ -781,17 +385,17 @@ static tram_status free_uncertainty(const tram_point_obs *obs, int fit_scale, se
                                                              &cond, &var, NULL)
                              : TRAM_EUNDETERMINED;
     if (cs == TRAM_ENOMEM) return cs; /* an uncertainty lost to memory is a failure */
-    if (cs == TRAM_OK) store_uncertainty(cov, 1, cond, sol);
+    if (cs == TRAM_OK) tram__pts_store_uncertainty(cov, 1, cond, sol);
     sol->noise_length = sig;
     sol->noise_angle_deg = NAN;
     *noise = sig;
     if (fit_scale) return tram__scale_report(sol, d->scale, var, 1);
-    return sig > 0 ? scale_test(&pb, NULL, obs, d, c, dof, &sol->X, &sol->Z, sol) : TRAM_OK;
+    return sig > 0 ? tram__pts_scale_test(&pb, NULL, obs, d, c, dof, &sol->X, &sol->Z, sol) : TRAM_OK;
 }
 
 /* The point results of the model-free solve and their notes. */
 static tram_status free_point_result(const tram_records *r, const tram_point_obs *obs,
-                                     const pctx *c, const setup_data *d, const double *model,
+                                     const tram__pts_ctx *c, const tram__pts_setup *d, const double *model,
                                      double sig, tram_solution *sol)
 {
     size_t n = r->count;
@@ -801,7 +405,7 @@ static tram_status free_point_result(const tram_records *r, const tram_point_obs
         sol->stations[i].trans = NAN;
     }
     tram_point_result *pr = tram__calloc(1, sizeof *pr);
-    if (!pr || point_stats(r, obs, c, d, sol, model, pr) != TRAM_OK) {
+    if (!pr || tram__pts_stats(r, obs, c, d, sol, model, pr) != TRAM_OK) {
         tram__point_result_free(pr);
         return TRAM_ENOMEM;
     }
@@ -834,7 +438,7 @@ static tram_status free_checks(const tram_records *r, tram_setup setup, const tr
     if (opt->check_conventions) {
         doc_ctx dc = {obs};
         tram_status st = tram__check_conventions_with(r, setup, sol, doctor_fit, &dc, 0, &opt->trust,
-                                                      points_working_distance(obs));
+                                                      tram__pts_working_distance(obs));
         if (st != TRAM_OK) return st;
     }
     return points_trust(r, setup, obs, opt, sol) != TRAM_OK ? TRAM_ENOMEM : TRAM_OK;
@@ -845,8 +449,8 @@ static tram_status solve_free(const tram_records *r, tram_setup setup, const tra
 {
     size_t m = obs->npoints;
     tram_solution *sol = free_solution_new(r, setup);
-    setup_data d;
-    pctx c;
+    tram__pts_setup d;
+    tram__pts_ctx c;
     memset(&c, 0, sizeof c);
     memset(&d, 0, sizeof d);
     tram_status st = TRAM_OK;
@@ -854,15 +458,21 @@ static tram_status solve_free(const tram_records *r, tram_setup setup, const tra
     if (!sol) return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
     {
         tram_se3 *P, *S;
-        if (tram__station_poses(r, setup, &P, &S) == TRAM_OK) {
-            int bad = tram__observability(P, r->count, setup, sol);
-            tram__free(P);
-            tram__free(S);
-            if (bad) {
-                *out = sol;
-                return tram__fail(err, TRAM_EUNDETERMINED, r->source, 0, 0, "%s",
-                                  sol->diag[sol->ndiag - 1].message);
-            }
+        if (tram__station_poses(r, setup, &P, &S) != TRAM_OK) {
+            tram_solution_destroy(sol);
+            return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
+        }
+        int bad = tram__observability(P, r->count, setup, sol);
+        tram__free(P);
+        tram__free(S);
+        if (bad && !sol->ndiag) { /* refused without a diagnostic: out of memory */
+            tram_solution_destroy(sol);
+            return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
+        }
+        if (bad) {
+            *out = sol;
+            return tram__fail(err, TRAM_EUNDETERMINED, r->source, 0, 0, "%s",
+                              sol->diag[sol->ndiag - 1].message);
         }
     }
     st = free_fit(r, setup, obs, &sol->X, &sol->Z, &d, &c, opt->robust, opt->fit_scale, err);
@@ -879,7 +489,7 @@ static tram_status solve_free(const tram_records *r, tram_setup setup, const tra
 nomem:
     st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
 out:
-    free_setup(&d);
+    tram__pts_setup_free(&d);
     tram__free(model);
     if (st != TRAM_OK && st != TRAM_EUNDETERMINED) {
         tram_solution_destroy(sol);

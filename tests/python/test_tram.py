@@ -71,6 +71,15 @@ def test_solve_matches_command(name):
         assert s.setup == "eye-to-hand" and s.T_base_sensor.shape == (4, 4)
 
 
+def test_solve_fit_scale_matches_command():
+    path = os.path.join(DEMO, "wrist_camera.csv")
+    doc, rc = run_json("solve", "--json", "--fit-scale", path)
+    s = tram.solve(path, fit_scale=True)
+    assert s.sensor_scale["fitted"] and doc["sensor_scale"]["fitted"]
+    assert abs(s.sensor_scale["scale"] - doc["sensor_scale"]["scale"]) < 1e-12
+    assert not tram.solve(path).sensor_scale["fitted"]
+
+
 def test_solve_from_arrays_equals_file():
     r = tram.read_records(os.path.join(DEMO, "wrist_camera.csv"))
     a = tram.records_from_poses(r.T_base_flange, r.T_sensor_target, length_unit="mm",
