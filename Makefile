@@ -17,11 +17,11 @@ PYTHON  := /usr/bin/python3
 DEB_PKGS := liblapacke-dev libopenblas-dev libpng-dev libcjson-dev libcmocka-dev \
             libcairo2-dev libfontconfig-dev pkg-config python3-numpy python3-scipy \
             clang libclang-rt-14-dev libjpeg-dev python3-pytest poppler-utils \
-            g++ libfast-float-dev
+            g++ libfast-float-dev libmd-dev
 # only for make coverage and make valgrind
 COV_PKGS := gcovr
 VG_PKGS  := valgrind
-PC_LIBS  := lapacke openblas libcjson cairo fontconfig libpng libjpeg
+PC_LIBS  := lapacke openblas libcjson cairo fontconfig libpng libjpeg libmd
 PC_TEST  := cmocka libcjson
 
 WARN    := -Wall -Wextra -Wshadow -Wconversion -Werror

@@ -121,7 +121,7 @@ static inline tram_intrinsics_result *scene_calibrate(const scene *s, test_rng *
     tram_pixel_obs *co = NULL;
     assert_int_equal(tram_pixel_obs_create(1280, 960, NULL, &co, &e), TRAM_OK);
     size_t nc = tram_board_corner_count(&s->board);
-    char ids[54][8];
+    char ids[54][24]; /* room for any size_t (gcc -O1 format-truncation) */
     const char *idp[54];
     double xy[2 * 54];
     assert_true(nc <= 54);

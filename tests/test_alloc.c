@@ -611,7 +611,7 @@ static tram_status op_pixel_solve(tram_error *err)
 }
 
 /* The camera held fixed with its calibration covariance (the share of the
- * intervals from the camera). */
+ * intervals from the camera), with a short bootstrap. */
 static tram_status op_pixel_solve_camera_cov(tram_error *err)
 {
     tram_solve_options so;
@@ -620,6 +620,7 @@ static tram_status op_pixel_solve_camera_cov(tram_error *err)
     double cov[TRAM_CAM_NPARAM * TRAM_CAM_NPARAM] = {0};
     for (int k = 0; k < 4; k++) cov[k * TRAM_CAM_NPARAM + k] = 0.25;
     cov[TRAM_CAM_K1 * TRAM_CAM_NPARAM + TRAM_CAM_K1] = 1e-6;
+    so.bootstrap = 4; /* and the pixel bootstrap's buffers */
     tram_pixel_solve_options po;
     tram_pixel_solve_options_init(&po);
     po.camera_cov = cov;
@@ -654,7 +655,7 @@ static void test_pixels(void **state)
     tram_pixel_obs_destroy(all);
     assert_int_equal(tram_pixel_target_from_board(px.obs, &b, TRAM_LENGTH_MM, &px.xyz, &e), TRAM_OK);
     exhaust("solve from pixels (camera refined) + JSON + pose", op_pixel_solve);
-    exhaust("solve from pixels (camera covariance) + JSON", op_pixel_solve_camera_cov);
+    exhaust("solve from pixels (camera covariance, bootstrap) + JSON", op_pixel_solve_camera_cov);
     tram_pixel_target_free(px.xyz);
     tram_pixel_obs_destroy(px.obs);
     tram_records_destroy(px.rec);

@@ -17,6 +17,7 @@ static tram_records *stations(test_rng *r, tram_setup setup, size_t n, const tra
     tram_records *rec = calloc(1, sizeof *rec);
     rec->count = n;
     rec->stations = calloc(n, sizeof *rec->stations);
+    rec->id_pool = calloc(n, 24); /* the ids, freed with the record set */
     rec->length_unit = TRAM_LENGTH_MM;
     rec->has_block[0] = rec->has_block[1] = 1;
     rec->setup = setup;
@@ -40,7 +41,8 @@ static tram_records *stations(test_rng *r, tram_setup setup, size_t n, const tra
         rec->stations[i].T_base_flange = F;
         test_perturb_pose(r, &rec->stations[i].T_base_flange, ROB_DEG * M_PI / 180, ROB_MM);
         test_perturb_pose(r, &rec->stations[i].T_sensor_target, SEN_DEG * M_PI / 180, SEN_MM);
-        snprintf(rec->stations[i].id, sizeof rec->stations[i].id, "c%zu", i + 1);
+        snprintf(rec->id_pool + 24 * i, 24, "c%zu", i + 1);
+        rec->stations[i].id = rec->id_pool + 24 * i;
     }
     return rec;
 }

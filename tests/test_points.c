@@ -43,6 +43,7 @@ static void make_scene(test_rng *rng, size_t n, double sig, size_t npts, scene *
     s->r = calloc(1, sizeof *s->r);
     s->r->count = n;
     s->r->stations = calloc(n, sizeof *s->r->stations);
+    s->r->id_pool = calloc(n, 24); /* the ids, freed with the record set */
     s->r->length_unit = TRAM_LENGTH_MM;
     s->r->has_block[0] = 1;
     s->r->setup = TRAM_SETUP_EYE_IN_HAND;
@@ -58,7 +59,8 @@ static void make_scene(test_rng *rng, size_t n, double sig, size_t npts, scene *
         tram_se3 F, FX, FXi;
         tram_se3_from_rt(&Rf, t, &F);
         s->r->stations[i].T_base_flange = F;
-        snprintf(s->r->stations[i].id, sizeof s->r->stations[i].id, "s%zu", i + 1);
+        snprintf(s->r->id_pool + 24 * i, 24, "s%zu", i + 1);
+        s->r->stations[i].id = s->r->id_pool + 24 * i;
         tram_se3_compose(&F, &s->X, &FX);
         tram_se3_invert(&FX, &FXi);
         for (size_t k = 0; k < npts; k++) {

@@ -54,6 +54,8 @@ typedef struct tram_pixel_solve_options {
                                 into the covariance of X and Z when the
                                 camera is held fixed (ignored with
                                 refine_intrinsics) */
+    int free_skew;           /* with refine_intrinsics: free the skew too (for
+                                a camera calibrated with its skew free) */
 } tram_pixel_solve_options;
 
 /* Defaults: the camera held fixed and taken as exact. */
@@ -96,7 +98,10 @@ typedef struct tram_pixel_result {
  * as for tram_solve, with s->pixels filled; the uncertainty of X and Z is
  * that of the pixel model (sigma_px^2 (J^T J)^-1 over the corners used),
  * plus, with popt->camera_cov and a fixed camera, the camera's share
- * G C G^T, G = (J^T J)^-1 J^T J_camera (first-order propagation). */
+ * G C G^T, G = (J^T J)^-1 J^T J_camera (first-order propagation).  With
+ * opt->bootstrap > 0, a station bootstrap of the pixel fit (opt->seed) in
+ * s->unc.bootstrap_* (it resamples views: a fixed camera's own error is
+ * not in it). */
 TRAM_API tram_status tram_solve_pixels(const tram_records *r, tram_setup setup,
                                        const tram_camera *cam, const tram_pixel_obs *obs,
                                        const double *xyz, const tram_solve_options *opt,

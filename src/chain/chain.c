@@ -565,15 +565,17 @@ tram_status tram_records_apply_chain(tram_records *r, const tram_chain *c, tram_
         if (c->elements[i].kind != TRAM_CHAIN_FIXED) joint[j++] = &c->elements[i];
     for (size_t s = 0; s < r->count; s++) {
         tram_station *st = &r->stations[s];
+        const double *jr = tram_records_joints(r, s);
         double q[TRAM_JOINTS_MAX];
         for (size_t k = 0; k < c->n_joints; k++)
-            q[k] = st->joints[k] * (joint[k]->kind == TRAM_CHAIN_REVOLUTE ? ang : len);
+            q[k] = jr[k] * (joint[k]->kind == TRAM_CHAIN_REVOLUTE ? ang : len);
         int bad_joint = tram_chain_limit_violation(c, q);
         if (bad_joint >= 0) {
             const tram_chain_element *e = joint[bad_joint];
             const char *u = e->kind == TRAM_CHAIN_REVOLUTE ? tram_unit_angle_name(c->angle_unit)
                                                            : tram_unit_length_name(c->length_unit);
-            return tram__fail(err, TRAM_EINPUT, r->source, st->line, st->joint_col[bad_joint],
+            return tram__fail(err, TRAM_EINPUT, r->source, st->line,
+                              r->joint_col ? r->joint_col[s * r->n_joints + (size_t)bad_joint] : 0,
                               "station '%s': joint_%d (%s) reads %.6g %s, outside its limits [%g, "
                               "%g] %s",
                               st->id, bad_joint + 1, e->name, q[bad_joint], u, e->lo, e->hi, u);

@@ -33,6 +33,8 @@ tram_status cli_solve_pixels(const tram_records *r, tram_setup setup, const cli_
     tram_pixel_solve_options_init(&po);
     po.refine_intrinsics = a->refine_intrinsics;
     po.camera_cov = kind ? cov : NULL;
+    /* the skew is refined only for a camera calibrated with it free */
+    po.free_skew = kind && cal.free_param[TRAM_CAM_SKEW];
     if (kind == 2 && !a->refine_intrinsics)
         fprintf(stderr, "tram solve: note: %s gives the camera's 1-sigma without their correlations; "
                         "its share of the intervals of X treats them as independent\n", a->camera);
@@ -62,8 +64,10 @@ void cli_print_pixels(const tram_solution *s, const tram_records *r)
     if (p->intrinsics_refined) {
         const tram_camera *c = &p->camera;
         printf("  camera refined with the mount (1-sigma): fx %.4f (%.3g) fy %.4f (%.3g) cx %.4f "
-               "(%.3g) cy %.4f (%.3g) px; k1 %.6g k2 %.6g k3 %.6g p1 %.6g p2 %.6g\n",
+               "(%.3g) cy %.4f (%.3g) px; skew %.4g px %s; k1 %.6g k2 %.6g k3 %.6g p1 %.6g p2 %.6g\n",
                c->fx, p->camera_sigma[0], c->fy, p->camera_sigma[1], c->cx, p->camera_sigma[2],
-               c->cy, p->camera_sigma[3], c->k1, c->k2, c->k3, c->p1, c->p2);
+               c->cy, p->camera_sigma[3], c->skew,
+               p->camera_sigma[TRAM_CAM_SKEW] > 0 ? "(refined: free in the camera file)" : "(held)",
+               c->k1, c->k2, c->k3, c->p1, c->p2);
     }
 }

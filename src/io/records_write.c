@@ -126,8 +126,9 @@ tram_status tram_records_write(const tram_records *r, const tram_output_rep *rep
                     fprintf(f, ",%.*g", digits, x == 0.0 ? 0.0 : x);
                 }
             }
+            const double *jr = tram_records_joints(r, i);
             for (size_t j = 0; j < nj; j++)
-                fprintf(f, ",%.17g", s->joints[j] == 0.0 ? 0.0 : s->joints[j]);
+                fprintf(f, ",%.17g", jr[j] == 0.0 ? 0.0 : jr[j]);
             fputc('\n', f);
         }
     } else {
@@ -164,7 +165,7 @@ tram_status tram_records_write(const tram_records *r, const tram_output_rep *rep
                     tram__jb_num(jp, bo, tram__rep_slot_name(rep->kind, out_slot(rep, k)),
                                  v[out_slot(rep, k)]);
             }
-            if (nj) tram__jb_vec(jp, so, "joints", s->joints, (int)nj, 1.0);
+            if (nj) tram__jb_vec(jp, so, "joints", tram_records_joints(r, i), (int)nj, 1.0);
         }
         char *text;
         tram_status st = tram__jb_finish(jp, root, 1, 1, &text, err);

@@ -5,6 +5,7 @@
  */
 #include "tram/plan.h"
 #include "io/json_internal.h"
+#include "io/records_store_internal.h"
 
 #include <math.h>
 #include <stdio.h>
@@ -14,19 +15,21 @@ tram_status tram_plan_records(const tram_plan_result *p, const tram_cell *cell, 
                               tram_error *err)
 {
     *out = NULL;
+    const tram_chain *ch = cell ? cell->chain : NULL;
+    rec_layout lay = {{0, 0}, ch ? (int)ch->n_joints : 0, 0};
+    size_t id_bytes = 0;
+    for (size_t i = 0; i < p->n; i++) id_bytes += strlen(p->stations[i].id) + 1;
     tram_records *r = tram__calloc(1, sizeof *r);
-    if (r) r->stations = tram__calloc(p->n ? p->n : 1, sizeof *r->stations);
-    if (!r || !r->stations) {
+    if (!r) return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
+    tram_status st = tram__records_reserve(r, p->n, &lay, id_bytes, "<plan>", 0, err);
+    if (st != TRAM_OK) {
         tram_records_destroy(r);
-        return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
+        return st;
     }
-    r->count = p->n;
     snprintf(r->source, sizeof r->source, "<plan>");
     r->length_unit = p->length_unit;
     r->setup = p->setup;
     r->has_block[TRAM_BLOCK_ROBOT] = 1;
-    const tram_chain *ch = cell ? cell->chain : NULL;
-    r->n_joints = ch ? ch->n_joints : 0;
     /* Joint readings in the records' units: the output's angle unit when
      * the cell names one, else the chain's; prismatic ones in the cell's
      * length unit. */
@@ -36,17 +39,22 @@ tram_status tram_plan_records(const tram_plan_result *p, const tram_cell *cell, 
                               : ch->angle_unit;
     double to_rec = ch ? tram_unit_length_factor(ch->length_unit, p->length_unit) : 1.0;
     double ang = ch ? tram_unit_angle_in_rad(ch->angle_unit) / tram_unit_angle_in_rad(r->angle_unit) : 1.0;
+    size_t used = 0;
     for (size_t i = 0; i < p->n; i++) {
         tram_station *s = &r->stations[i];
-        snprintf(s->id, sizeof s->id, "%s", p->stations[i].id);
+        memset(s, 0, sizeof *s);
+        s->id = tram__records_put_id(r, &used, p->stations[i].id, strlen(p->stations[i].id));
         s->T_base_flange = p->stations[i].T_base_flange;
         tram_se3_identity(&s->T_sensor_target);
+        double *jr = r->joints ? r->joints + i * r->n_joints : NULL;
         size_t j = 0;
         for (size_t e = 0; ch && e < ch->n_elements; e++) {
             if (ch->elements[e].kind == TRAM_CHAIN_FIXED) continue;
-            s->joints[j] = p->stations[i].joints[j] * (ch->elements[e].kind == TRAM_CHAIN_PRISMATIC ? to_rec : ang);
+            jr[j] = p->stations[i].joints[j] *
+                    (ch->elements[e].kind == TRAM_CHAIN_PRISMATIC ? to_rec : ang);
             j++;
         }
+        r->count = i + 1;
     }
     *out = r;
     return TRAM_OK;

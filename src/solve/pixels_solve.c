@@ -24,7 +24,8 @@
  * carried to pixels.  The robust sigma is the median distance over
  * sqrt(2 ln 2) = 1.1774, the median of a 2D normal's distance.  The final
  * plain least squares uses the corners not flagged; Cov = s^2 (J^T J)^-1
- * with s^2 = chi^2 / (2N - p).
+ * with s^2 = chi^2 / (2N - p), plus a fixed camera's own covariance carried
+ * through to first order; on request a station bootstrap (Efron 1979).
  */
 #include "solve/pixels_solve_internal.h"
 #include "camera/camera_jac_internal.h"
@@ -348,7 +349,7 @@ static tram_status pixel_covariance(pctx *c, work *wk, tram_solution *sol, tram_
     set_used(c);
     tram__lm_problem pb = {np, 2 * c->nused, pix_eval, pix_commit, c};
     sol->unc.valid = 0;
-    sol->unc.bootstrap_valid = 0; /* a bootstrap of the pose path would not describe this fit */
+    sol->unc.bootstrap_valid = 0; /* filled by pixel_bootstrap when asked */
     pr->sigma_px = NAN;
     if (c->nused == 0) return TRAM_OK;
     tram_status st = tram__lm_normal(&pb, H, g, &r2);
@@ -378,6 +379,97 @@ static tram_status pixel_covariance(pctx *c, work *wk, tram_solution *sol, tram_
         if (st == TRAM_ENOMEM) return st;
     }
     return TRAM_OK;
+}
+
+static int cmp_dbl(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return (x > y) - (x < y);
+}
+
+/* The deviation of (X, Z) from (X0, Z0) in the public order of
+ * tram_uncertainty: translations, then rotations log(R0^T R) (rad). */
+static void deviation(const tram_se3 *X0, const tram_se3 *Z0, const tram_se3 *X, const tram_se3 *Z,
+                      double d[12])
+{
+    const tram_se3 *a[2] = {X0, Z0}, *b[2] = {X, Z};
+    for (int k = 0; k < 2; k++) {
+        tram_mat3 R0, R, R0t, D;
+        double t0[3], t[3], w[3];
+        tram_se3_to_rt(a[k], &R0, t0);
+        tram_se3_to_rt(b[k], &R, t);
+        tram_so3_transpose(&R0, &R0t);
+        tram_so3_mul(&R0t, &R, &D);
+        tram_so3_log(&D, w);
+        for (int q = 0; q < 3; q++) {
+            d[6 * k + q] = t[q] - t0[q];
+            d[6 * k + 3 + q] = w[q];
+        }
+    }
+}
+
+/* The station bootstrap of the pixel fit (Efron 1979, "Bootstrap methods:
+ * another look at the jackknife", Ann. Statist. 7(1)): the stations kept
+ * by the outlier rules are drawn with replacement (seeded splitmix64), each
+ * corner weighted by its station's count, and X, Z (and a freed camera)
+ * refitted from the solution; the sigma and the 2.5 / 97.5 percentiles of
+ * the deviations go into sol->unc.bootstrap_*.  It resamples the views, so
+ * it does not include a fixed camera's own calibration error. */
+static tram_status pixel_bootstrap(pctx *c, work *wk, size_t nst, const tram_solve_options *opt,
+                                   tram_solution *sol)
+{
+    size_t B = opt->bootstrap, n = c->obs->n, nin = 0, good = 0;
+    size_t *in = tram__malloc((nst ? nst : 1) * sizeof *in);
+    double *mult = tram__malloc((nst ? nst : 1) * sizeof *mult);
+    double *dev = tram__malloc(B * 12 * sizeof *dev), *col = tram__malloc(B * sizeof *col);
+    tram_status st = TRAM_OK;
+    if (!in || !mult || !dev || !col) st = TRAM_ENOMEM;
+    for (size_t i = 0; st == TRAM_OK && i < nst; i++) {
+        int any = 0;
+        for (size_t o = 0; o < n && !any; o++) any = c->ost[o] == i && !wk->excl[o];
+        if (any) in[nin++] = i;
+    }
+    unsigned long long state = opt->seed;
+    for (size_t b = 0; st == TRAM_OK && b < B; b++) {
+        memset(mult, 0, nst * sizeof *mult);
+        size_t distinct = 0;
+        for (size_t j = 0; j < nin; j++) {
+            size_t pick = in[tram__splitmix64(&state) % nin];
+            distinct += mult[pick] == 0;
+            mult[pick] += 1.0;
+        }
+        if (opt->progress) opt->progress(opt->progress_ctx, "bootstrap", b + 1, B);
+        if (distinct < 3) continue;
+        for (size_t o = 0; o < n; o++) wk->w[o] = wk->excl[o] ? 0.0 : mult[c->ost[o]];
+        pctx cb = *c;
+        int rc = lm_on(&cb, 30, NULL);
+        if (rc == -2) st = TRAM_ENOMEM;
+        if (rc) continue;
+        deviation(&c->X, &c->Z, &cb.X, &cb.Z, dev + 12 * good);
+        good++;
+    }
+    for (int a = 0; st == TRAM_OK && good > 1 && a < 12; a++) {
+        double m = 0, v = 0, f = (a % 6) >= 3 ? 180.0 / TRAM_PI : 1.0;
+        for (size_t b = 0; b < good; b++) m += dev[12 * b + (size_t)a];
+        m /= (double)good;
+        for (size_t b = 0; b < good; b++) v += tram__sq(dev[12 * b + (size_t)a] - m);
+        for (size_t b = 0; b < good; b++) col[b] = dev[12 * b + (size_t)a];
+        qsort(col, good, sizeof *col, cmp_dbl);
+        sol->unc.bootstrap_sigma[a] = sqrt(v / (double)(good - 1)) * f;
+        sol->unc.bootstrap_lo[a] = col[(size_t)(0.025 * (double)(good - 1))] * f;
+        sol->unc.bootstrap_hi[a] = col[(size_t)(0.975 * (double)(good - 1) + 0.5)] * f;
+    }
+    if (st == TRAM_OK && good > 1) {
+        sol->unc.bootstrap_valid = 1;
+        sol->unc.bootstrap_used = good;
+    }
+    for (size_t o = 0; o < n; o++) wk->w[o] = wk->excl[o] ? 0.0 : 1.0;
+    set_used(c);
+    tram__free(in);
+    tram__free(mult);
+    tram__free(dev);
+    tram__free(col);
+    return st;
 }
 
 /* Says whether the intervals of X include the fixed camera's own error. */
@@ -517,96 +609,6 @@ static tram_status fill_results(pctx *c, work *wk, const tram_records *rr, const
     return TRAM_OK;
 }
 
-static tram_status alloc_result(size_t nst, size_t nobs, tram_pixel_result **out)
-{
-    tram_pixel_result *p = tram__calloc(1, sizeof *p);
-    if (!p) return TRAM_ENOMEM;
-    size_t s = nst ? nst : 1, o = nobs ? nobs : 1;
-    p->nstations = nst;
-    p->nobs = nobs;
-    p->nobs_station = tram__calloc(s, sizeof *p->nobs_station);
-    p->nused_station = tram__calloc(s, sizeof *p->nused_station);
-    p->station_rms_px = tram__calloc(s, sizeof *p->station_rms_px);
-    p->pose_rms_px = tram__calloc(s, sizeof *p->pose_rms_px);
-    p->station_excluded = tram__calloc(s, sizeof *p->station_excluded);
-    p->residual_px = tram__calloc(o, sizeof *p->residual_px);
-    p->excluded = tram__calloc(o, sizeof *p->excluded);
-    *out = p;
-    if (!p->nobs_station || !p->nused_station || !p->station_rms_px || !p->pose_rms_px ||
-        !p->station_excluded || !p->residual_px || !p->excluded) {
-        tram__pixel_result_free(p);
-        *out = NULL;
-        return TRAM_ENOMEM;
-    }
-    return TRAM_OK;
-}
-
-/* From the observed stations back to all stations of r (those without
- * pixels: NaN residuals, flagged as left out). */
-static tram_status expand(tram_solution *sol, const tram_records *r, const size_t *keep_of_r)
-{
-    size_t n = r->count;
-    tram_station_result *st = tram__calloc(n ? n : 1, sizeof *st);
-    tram_pixel_result *pr = sol->pixels, *np = NULL;
-    if (!st || (pr && alloc_result(n, pr->nobs, &np) != TRAM_OK)) {
-        tram__free(st);
-        return TRAM_ENOMEM;
-    }
-    for (size_t i = 0; i < n; i++) {
-        size_t j = keep_of_r[i];
-        if (j == (size_t)-1) {
-            st[i].rot_deg = st[i].trans = NAN;
-            st[i].outlier = 1;
-            sol->n_outliers++;
-            if (np) {
-                np->station_rms_px[i] = np->pose_rms_px[i] = NAN;
-                np->station_excluded[i] = 1;
-            }
-            continue;
-        }
-        st[i] = sol->stations[j];
-        if (np) {
-            np->nobs_station[i] = pr->nobs_station[j];
-            np->nused_station[i] = pr->nused_station[j];
-            np->station_rms_px[i] = pr->station_rms_px[j];
-            np->pose_rms_px[i] = pr->pose_rms_px[j];
-            np->station_excluded[i] = pr->station_excluded[j];
-        }
-    }
-    if (np) {
-        double *a = np->residual_px, *b = pr->residual_px;
-        int *ea = np->excluded, *eb = pr->excluded;
-        size_t *s1 = np->nobs_station, *s2 = np->nused_station, *s3 = NULL;
-        double *d1 = np->station_rms_px, *d2 = np->pose_rms_px;
-        int *e1 = np->station_excluded;
-        (void)s3;
-        /* keep the new per-station arrays, the rest of the old result */
-        memcpy(a, b, pr->nobs * sizeof *a);
-        memcpy(ea, eb, pr->nobs * sizeof *ea);
-        tram__free(pr->nobs_station);
-        tram__free(pr->nused_station);
-        tram__free(pr->station_rms_px);
-        tram__free(pr->pose_rms_px);
-        tram__free(pr->station_excluded);
-        pr->nobs_station = s1;
-        pr->nused_station = s2;
-        pr->station_rms_px = d1;
-        pr->pose_rms_px = d2;
-        pr->station_excluded = e1;
-        pr->nstations = n;
-        np->nobs_station = NULL;
-        np->nused_station = NULL;
-        np->station_rms_px = NULL;
-        np->pose_rms_px = NULL;
-        np->station_excluded = NULL;
-        tram__pixel_result_free(np);
-    }
-    tram__free(sol->stations);
-    sol->stations = st;
-    sol->n = n;
-    return TRAM_OK;
-}
-
 static tram_status check_inputs(const tram_records *r, tram_setup setup, const tram_camera *cam,
                                 const tram_pixel_obs *obs, tram_error *err)
 {
@@ -671,9 +673,11 @@ tram_status tram_solve_pixels(const tram_records *r, tram_setup setup, const tra
     rr->has_block[TRAM_BLOCK_SENSOR] = 1;
     rr->sensor_from_points = 1; /* no raw sensor numbers to re-read */
     if ((st = station_poses(cam, obs, xyz, ost, rr, pose_rms, err)) != TRAM_OK) goto out;
-    st = tram_solve(rr, setup, opt, &sol, err);
+    tram_solve_options inner = *opt;
+    inner.bootstrap = 0; /* the pose path's bootstrap would not describe the pixel fit */
+    st = tram_solve(rr, setup, &inner, &sol, err);
     if (st != TRAM_OK && st != TRAM_EUNDETERMINED) goto out;
-    if (alloc_result(nk, n, &pr) != TRAM_OK) {
+    if (tram__pixel_result_alloc(nk, n, &pr) != TRAM_OK) {
         st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
         goto out;
     }
@@ -694,7 +698,10 @@ tram_status tram_solve_pixels(const tram_records *r, tram_setup setup, const tra
         c.X = sol->X;
         c.Z = sol->Z;
         c.cam = *cam;
-        if (popt && popt->refine_intrinsics && opt->refine) c.ncam = tram__camera_free_params(cam, c.cam_idx);
+        if (popt && popt->refine_intrinsics && opt->refine) {
+            c.ncam = tram__camera_free_params(cam, c.cam_idx);
+            if (popt->free_skew) c.cam_idx[c.ncam++] = TRAM_CAM_SKEW;
+        }
         int rc = 0;
         if (opt->refine) rc = refine_pixels(&c, &wk, nk, opt->robust, &pr->iterations);
         else
@@ -715,6 +722,8 @@ tram_status tram_solve_pixels(const tram_records *r, tram_setup setup, const tra
             goto out;
         }
         if (opt->refine && pixel_covariance(&c, &wk, sol, pr, popt ? popt->camera_cov : NULL) != TRAM_OK)
+            goto nomem;
+        if (opt->refine && opt->bootstrap > 0 && pixel_bootstrap(&c, &wk, nk, opt, sol) != TRAM_OK)
             goto nomem;
         sol->refined = sol->refined || opt->refine;
         if (opt->refine && sol->unc.valid && c.ncam == 0 && camera_note(sol, pr) != TRAM_OK) goto nomem;
@@ -739,7 +748,7 @@ tram_status tram_solve_pixels(const tram_records *r, tram_setup setup, const tra
         goto nomem;
     sol->pixels = pr;
     pr = NULL;
-    if (expand(sol, r, keep) != TRAM_OK) goto nomem;
+    if (tram__pixel_result_expand(sol, r, keep) != TRAM_OK) goto nomem;
     goto out;
 nomem:
     st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");

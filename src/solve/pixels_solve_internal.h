@@ -14,4 +14,10 @@
 void tram__pixel_result_json(tram__jb *b, cJSON *root, const tram_solution *s,
                              const tram_records *r);
 
+/* The pixel results for nst stations and nobs observations (zeroed). */
+tram_status tram__pixel_result_alloc(size_t nst, size_t nobs, tram_pixel_result **out);
+/* From the observed stations of a solve back to every station of r
+ * (keep_of_r: r's station -> observed station, SIZE_MAX for none). */
+tram_status tram__pixel_result_expand(tram_solution *sol, const tram_records *r,
+                                      const size_t *keep_of_r);
 #endif

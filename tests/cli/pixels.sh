@@ -117,3 +117,26 @@ d = max(abs(x - y) for x, y in zip(ta + tza, tb + tzb))
 assert d < 1e-6, d
 print("  pixels.sh: solve --pixels with the cm model: X and Z as with the board (%.1e mm), reported in mm" % d)
 PY
+# --bootstrap with --pixels: a station bootstrap of the pixel fit is reported.
+"$TRAM" solve --pixels "$px/pixels.csv" --camera "$px/camera.json" --board "$px/board.json" --bootstrap 100 "$px/robot.csv" \
+    >"$tmp/out" 2>"$tmp/err" && grep -q "bootstrap 1-sigma: translation .* (100 resamples)" "$tmp/out" && ok \
+    || { bad "solve --pixels --bootstrap"; cat "$tmp/err"; }
+# A camera file calibrated with its skew free (calibration block): --refine-intrinsics
+# frees the skew too and says so; its sigma and correlations go into the intervals
+# when the camera is held fixed (a note says so).
+/usr/bin/python3 - "$px/camera.json" "$tmp/camera_cal.json" <<'PY'
+import json, sys
+c = json.load(open(sys.argv[1]))
+names = ["fx", "fy", "cx", "cy", "skew", "k1", "k2", "k3", "p1", "p2"]
+c["calibration"] = {"method": "test", "views": 15, "points": 800, "outliers": 0, "rms_px": 0.2,
+                    "sigma": {n: 0.05 if n in ("fx", "fy", "cx", "cy", "skew") else 1e-4 for n in names},
+                    "fixed": [], "correlation": {n: {m: (0.5 if (n, m) == ("fx", "fy") else 0.0)
+                                                   for m in names[i + 1:]} for i, n in enumerate(names[:-1])}}
+json.dump(c, open(sys.argv[2], "w"), indent=1)
+PY
+"$TRAM" solve --pixels "$px/pixels.csv" --camera "$tmp/camera_cal.json" --board "$px/board.json" --refine-intrinsics "$px/robot.csv" \
+    >"$tmp/out" 2>"$tmp/err" && grep -q "skew .* px (refined: free in the camera file)" "$tmp/out" && ok \
+    || { bad "refine-intrinsics with free skew"; cat "$tmp/err"; }
+"$TRAM" solve --pixels "$px/pixels.csv" --camera "$tmp/camera_cal.json" --board "$px/board.json" "$px/robot.csv" \
+    >"$tmp/out" 2>"$tmp/err" && grep -q "camera-uncertainty: the intervals of X and Z include the camera's calibration uncertainty" "$tmp/out" \
+    && ! grep -q "without their correlations" "$tmp/err" && ok || { bad "camera uncertainty note"; cat "$tmp/err"; }
