@@ -153,7 +153,7 @@ static tram_status op_records_write(tram_error *err)
         size_t len = 0;
         FILE *f = open_memstream(&buf, &len);
         tram_output_rep rep = {TRAM_REP_EULER, TRAM_EULER_ZYX_INTRINSIC, TRAM_LENGTH_M,
-                               TRAM_ANGLE_DEG};
+                               TRAM_ANGLE_DEG, 0, 0};
         st = tram_records_write(in.rec, &rep, json, f, err);
         fclose(f);
         free(buf);
