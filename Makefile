@@ -225,37 +225,59 @@ bench: deps $(patsubst %,$(B)/bench_%,$(BENCHES))
 	$(B)/bench_detect $(B)/bench_detect.json $(B)
 	@$(PYTHON) bench/merge.py $(B)/bench.json $(patsubst %,$(B)/bench_%.json,$(BENCHES))
 
-# Unit tests (cmocka), one binary per module.
+# Unit tests (cmocka), one binary per module, two at a time (UNIT_JOBS; the
+# CI machine has 2 cores).  Each writes $(B)/tests/NAME.log; the logs are shown
+# in order afterwards.  TEST_ENV holds what every test run shares: BLAS
+# single-threaded (the problems are small; two runs share the cores), and for
+# the sanitizer build TRAM_TEST_SANITIZER=1, which skips the Monte Carlo
+# figure tests (they prove rates in the plain build; their code paths run
+# under the sanitizers in the other tests).  The plain build fails an even
+# sample of 300 allocations per call in tests/test_alloc.c; the sanitizer
+# build fails every one, where LeakSanitizer also checks each error path.
+UNIT_JOBS ?= 2
+TEST_ENV  ?= OPENBLAS_NUM_THREADS=1 TRAM_ALLOC_SAMPLES=300
+UNIT_LOGS := $(patsubst %,%.log,$(TESTS))
+$(B)/tests/%.log: $(B)/tests/%
+	@rc=0; $(TEST_ENV) $< >$@.part 2>&1 || rc=$$?; \
+	  if [ $$rc -ne 0 ]; then cat $@.part; echo "unit: $< failed (exit $$rc)"; exit 1; fi; mv $@.part $@
 unit: $(TESTS)
-	@set -e; for t in $(TESTS); do echo "== $$t"; rc=0; $$t >$$t.log 2>&1 || rc=$$?; cat $$t.log; [ $$rc -eq 0 ] || { echo "unit: $$t failed"; exit 1; }; done; \
-	p=$$(cat $(patsubst %,%.log,$(TESTS)) | sed -n 's/^\[  PASSED  \] \([0-9]*\) test.*/\1/p' | awk '{s+=$$1} END {print s+0}'); \
-	k=$$(cat $(patsubst %,%.log,$(TESTS)) | sed -n 's/^\[  SKIPPED \] \([0-9]*\) test.*/\1/p' | awk '{s+=$$1} END {print s+0}'); \
+	@rm -f $(UNIT_LOGS)
+	@$(MAKE) --no-print-directory -j$(UNIT_JOBS) $(UNIT_LOGS)
+	@for t in $(TESTS); do echo "== $$t"; cat $$t.log; done; \
+	p=$$(cat $(UNIT_LOGS) | sed -n 's/^\[  PASSED  \] \([0-9]*\) test.*/\1/p' | awk '{s+=$$1} END {print s+0}'); \
+	k=$$(cat $(UNIT_LOGS) | sed -n 's/^\[  SKIPPED \] \([0-9]*\) test.*/\1/p' | awk '{s+=$$1} END {print s+0}'); \
 	echo "unit: $$p passed, 0 failed, $$k skipped"
 
 # Command-line tests: exit codes, file:line:column messages, empty stdout.
-cli-tests: $(B)/tram $(B)/gen_demo
-	@TRAM=$(abspath $(B)/tram) GEN_DEMO=$(abspath $(B)/gen_demo) sh tests/cli/run.sh
+# The demo's rendered images (GEN_IMAGES, tests/cli/demo.sh) are left out of
+# the sanitizer build: the same commands run there on the smaller scenes.
+cli-tests: $(B)/tram $(B)/gen_demo $(if $(findstring sanitize,$(EXTRA_CFLAGS)),,$(B)/gen_images)
+	@$(TEST_ENV) TRAM=$(abspath $(B)/tram) GEN_DEMO=$(abspath $(B)/gen_demo) \
+	  GEN_IMAGES=$(if $(findstring sanitize,$(EXTRA_CFLAGS)),,$(abspath $(B)/gen_images)) sh tests/cli/run.sh
 
 # Reference checks against SciPy / NumPy (Debian's python3-scipy).
 ref-tests: $(B)/refhelper $(B)/tram $(B)/render_ref
-	$(PYTHON) tests/ref/check_rotation_scipy.py $(B)/refhelper
-	$(PYTHON) tests/ref/check_solve_scipy.py $(B)/tram
-	$(PYTHON) tests/ref/check_stats_scipy.py $(B)/refhelper
-	$(PYTHON) tests/ref/check_chain_scipy.py $(B)/tram
-	$(PYTHON) tests/ref/check_register_scipy.py $(B)/tram
-	$(PYTHON) tests/ref/check_pixels_scipy.py $(B)/tram
-	$(PYTHON) tests/ref/check_render_numpy.py $(B)/render_ref
-	$(PYTHON) tests/ref/check_intrinsics_scipy.py $(B)/tram
+	$(TEST_ENV) $(PYTHON) tests/ref/check_rotation_scipy.py $(B)/refhelper
+	$(TEST_ENV) $(PYTHON) tests/ref/check_solve_scipy.py $(B)/tram
+	$(TEST_ENV) $(PYTHON) tests/ref/check_scale_scipy.py $(B)/tram
+	$(TEST_ENV) $(PYTHON) tests/ref/check_stats_scipy.py $(B)/refhelper
+	$(TEST_ENV) $(PYTHON) tests/ref/check_chain_scipy.py $(B)/tram
+	$(TEST_ENV) $(PYTHON) tests/ref/check_register_scipy.py $(B)/tram
+	$(TEST_ENV) $(PYTHON) tests/ref/check_pixels_scipy.py $(B)/tram
+	$(TEST_ENV) $(PYTHON) tests/ref/check_render_numpy.py $(B)/render_ref
+	$(TEST_ENV) $(PYTHON) tests/ref/check_intrinsics_scipy.py $(B)/tram
+	$(TEST_ENV) $(PYTHON) tests/ref/check_plan_numpy.py $(B)/tram
 
 # The Python package (python/tram) against the command, SciPy and its docs.
 python-tests: $(B)/tram $(B)/libtram.so
-	@TRAM=$(abspath $(B)/tram) TRAM_LIBRARY=$(abspath $(B)/libtram.so) PYTHONPATH=$(abspath python) \
+	@$(TEST_ENV) TRAM=$(abspath $(B)/tram) TRAM_LIBRARY=$(abspath $(B)/libtram.so) PYTHONPATH=$(abspath python) \
 	  $(PYTHON) -m pytest -q -p no:cacheprovider tests/python
 
 asan:
 	$(MAKE) B=build-asan OPT="-O1 -g -fno-omit-frame-pointer" \
 	  EXTRA_CFLAGS="-fsanitize=address,undefined -fno-sanitize-recover=all" \
-	  EXTRA_LDFLAGS="-fsanitize=address,undefined" unit cli-tests fuzz-replay
+	  EXTRA_LDFLAGS="-fsanitize=address,undefined" \
+	  TEST_ENV="OPENBLAS_NUM_THREADS=1 TRAM_TEST_SANITIZER=1" unit cli-tests fuzz-replay
 
 clang-check:
 	@if command -v clang >/dev/null 2>&1; then \

@@ -35,6 +35,7 @@ static tram_records *make(size_t n)
     tram_records *r = calloc(1, sizeof *r);
     r->count = n;
     r->stations = calloc(n, sizeof *r->stations);
+    r->id_pool = calloc(n, 24); /* the ids, freed with the record set */
     r->length_unit = TRAM_LENGTH_MM;
     r->has_block[0] = r->has_block[1] = 1;
     r->setup = TRAM_SETUP_EYE_IN_HAND;
@@ -61,7 +62,8 @@ static tram_records *make(size_t n)
         r->stations[i].T_base_flange = F;
         noisy(&r->stations[i].T_base_flange, 1.7e-4, 0.05);
         noisy(&r->stations[i].T_sensor_target, 8.7e-4, 0.2);
-        snprintf(r->stations[i].id, sizeof r->stations[i].id, "%zu", i + 1);
+        snprintf(r->id_pool + 24 * i, 24, "%zu", i + 1);
+        r->stations[i].id = r->id_pool + 24 * i;
     }
     return r;
 }

@@ -17,6 +17,7 @@ static tram_records *stations(test_rng *r, tram_setup setup, size_t n, const tra
     tram_records *rec = calloc(1, sizeof *rec);
     rec->count = n;
     rec->stations = calloc(n, sizeof *rec->stations);
+    rec->id_pool = calloc(n, 24); /* the ids, freed with the record set */
     rec->length_unit = TRAM_LENGTH_MM;
     rec->has_block[0] = rec->has_block[1] = 1;
     rec->setup = setup;
@@ -40,7 +41,8 @@ static tram_records *stations(test_rng *r, tram_setup setup, size_t n, const tra
         rec->stations[i].T_base_flange = F;
         test_perturb_pose(r, &rec->stations[i].T_base_flange, ROB_DEG * M_PI / 180, ROB_MM);
         test_perturb_pose(r, &rec->stations[i].T_sensor_target, SEN_DEG * M_PI / 180, SEN_MM);
-        snprintf(rec->stations[i].id, sizeof rec->stations[i].id, "c%zu", i + 1);
+        snprintf(rec->id_pool + 24 * i, 24, "c%zu", i + 1);
+        rec->stations[i].id = rec->id_pool + 24 * i;
     }
     return rec;
 }
@@ -102,6 +104,7 @@ static void moved(const tram_se3 *T, const double w[3], const double d[3], tram_
 static void test_false_alarms(void **state)
 {
     (void)state;
+    TEST_FIGURES_IN_PLAIN_BUILD_ONLY();
     /* Nothing moved: ok in at least 95% of 200 trials (the test is built
      * for a 1% false-alarm rate; the measured rate is printed). */
     test_rng r = test_rng_seeded("check false alarms", 9001);
@@ -125,6 +128,7 @@ static void test_false_alarms(void **state)
 
 static void detection(tram_setup setup, int which, uint64_t seed)
 {
+    TEST_FIGURES_IN_PLAIN_BUILD_ONLY();
     /* A change of three times the calibration's per-axis 1-sigma station
      * noise on every axis of the moved transform (docs/check.md says why
      * the transform's own 1-sigma is not a detectable size). */

@@ -50,12 +50,14 @@ static tram_records *records_of(const synth *s)
     tram_records *r = calloc(1, sizeof *r);
     r->count = s->n;
     r->stations = calloc(s->n, sizeof *r->stations);
+    r->id_pool = calloc(s->n, 24); /* the ids, freed with the record set */
     snprintf(r->source, sizeof r->source, "synthetic");
     r->length_unit = TRAM_LENGTH_MM;
     r->has_block[0] = r->has_block[1] = 1;
     r->setup = TRAM_SETUP_EYE_IN_HAND;
     for (size_t i = 0; i < s->n; i++) {
-        snprintf(r->stations[i].id, sizeof r->stations[i].id, "s%zu", i + 1);
+        snprintf(r->id_pool + 24 * i, 24, "s%zu", i + 1);
+        r->stations[i].id = r->id_pool + 24 * i;
         r->stations[i].T_base_flange = s->F[i];
         r->stations[i].T_sensor_target = s->S[i];
     }

@@ -2,7 +2,9 @@
 # make demo: the bundled demo scenario (invented: a packaging cell with a
 # wrist camera and an overhead camera; tools/gen_demo.c, truth*.json):
 # solve both cameras, then check the wrist camera twice - months later with
-# nothing moved, and after its bracket was bumped.
+# nothing moved, and after its bracket was bumped; with GEN_IMAGES, render
+# the wrist camera's images, find the board in them, calibrate the camera
+# from them and refine the mount on their pixels.
 set -u
 tram=${1:-build/tram}
 here=$(dirname "$0")
@@ -68,13 +70,24 @@ if [ -n "$gen_images" ] && [ -x "$gen_images" ]; then
             -o "$imgout/board.json" --force || status=1
         "$tram" detect --board "$imgout/board.json" --plot "$imgout/detect" --force \
             -o "$imgout/wrist_camera.pixels.csv" "$imgout"/p*.png || status=1
+        echo
+        echo "=== 6. the wrist camera's intrinsics from its images: tram intrinsics (Zhang 2000)"
+        "$tram" intrinsics --board "$imgout/board.json" --plot "$imgout/intrinsics" --force \
+            -o "$imgout/wrist_camera.camera.json" "$imgout/wrist_camera.pixels.csv" || status=1
+        echo
+        echo "=== 7. the mount refined on the pixels: tram solve --pixels (camera of step 6)"
+        "$tram" solve --pixels "$imgout/wrist_camera.pixels.csv" --camera "$imgout/wrist_camera.camera.json" \
+            --board "$imgout/board.json" --force -o "$imgout/wrist_camera.pixels.calibration.json" \
+            --plot "$imgout/pixels" "$here/wrist_camera.csv" || status=1
     fi
 fi
 echo
 echo "pictures: $out/wrist_camera/frames.png $out/wrist_camera/residuals.png"
 echo "          $out/overhead_camera/frames.png $out/overhead_camera/residuals.png"
 echo "          $out/wrist_camera_history.png"
-[ -n "$gen_images" ] && echo "images:   $imgout/p01.png ... (ground truth $imgout/truth.json)"
+[ -n "$gen_images" ] && echo "images:   $imgout/p01.png ... (ground truth $imgout/truth.json)" &&
+    echo "          camera $imgout/wrist_camera.camera.json, pictures $imgout/intrinsics/, $imgout/pixels/" &&
+    echo "          calibration from the pixels $imgout/wrist_camera.pixels.calibration.json"
 echo "ground truth of the invented scenario: $here/truth.json, $here/truth_bump.json"
 echo "written: $out/wrist_camera.calibration.json $out/overhead_camera.calibration.json"
 echo "         $out/wrist_camera.history.jsonl"

@@ -66,15 +66,17 @@ typedef struct tram_block_convention {
 #define TRAM_JOINTS_MAX 16 /* joint_1 ... joint_16 */
 #define TRAM_RAW_MAX 12 /* x, y, z and up to 9 rotation numbers */
 
+/* One station, compact (docs/performance.md): its id, its line and the two
+ * poses.  The numbers as read (for tram_records_rebuild), the joint
+ * readings and the source columns live in arrays of the record set, only
+ * when present; read them through tram_records_joints. */
 typedef struct tram_station {
-    char id[TRAM_STATION_ID_MAX];
-    long line;                                 /* source line (0: unknown)    */
-    double raw[TRAM_BLOCK_COUNT][TRAM_RAW_MAX]; /* x,y,z, rotation numbers     */
-    int col[TRAM_BLOCK_COUNT][TRAM_RAW_MAX];    /* source column of each raw    */
+    const char *id;           /* NUL-terminated, at most TRAM_STATION_ID_MAX - 1
+                                 characters; owned by the record set (its id
+                                 pool), or by whoever built the set by hand   */
+    long line;                /* source line (0: unknown)                     */
     tram_se3 T_base_flange;   /* valid when the robot block is present          */
     tram_se3 T_sensor_target; /* valid when the sensor block is present         */
-    double joints[TRAM_JOINTS_MAX]; /* joint readings as read (records' units)   */
-    int joint_col[TRAM_JOINTS_MAX];
 } tram_station;
 
 #define TRAM_RECORDS_WARNINGS_MAX 8 /* more are counted in n_warnings only */
@@ -98,6 +100,19 @@ typedef struct tram_records {
      * comment that looks like a misspelt directive (it is not applied). */
     size_t n_warnings;
     char warnings[TRAM_RECORDS_WARNINGS_MAX][512];
+    /* The numbers as read, owned by the record set (NULL when absent, e.g.
+     * in a set built by hand): station i's block b starts at
+     * raw[i * raw_stride + raw_off[b]] (x, y, z, then the rotation
+     * numbers); rot_col[i * TRAM_BLOCK_COUNT + b] is the source column of
+     * its first rotation number (NULL: columns not known, as in JSON);
+     * joints[i * n_joints + j] and joint_col likewise. */
+    double *raw;
+    size_t raw_stride;
+    size_t raw_off[TRAM_BLOCK_COUNT];
+    int *rot_col;
+    double *joints;
+    int *joint_col;
+    char *id_pool;               /* the stations' ids, owned                    */
 } tram_records;
 
 typedef struct tram_read_options {
@@ -150,6 +165,8 @@ typedef struct tram_output_rep {
                                       meaning, so the file reads back the same) */
     int digits;                    /* significant digits of CSV numbers, 1..17;
                                       0: 17 (reads back bit for bit)            */
+    int with_joints;               /* 1: also the joint readings (joint_1 ...), in
+                                      the records' own units (no unit change)    */
 } tram_output_rep;
 
 /* Parse "quat", "quat-xyzw", "rotvec", "matrix" or "euler:SEQ"; 0 on
@@ -172,6 +189,9 @@ TRAM_API size_t tram_records_count(const tram_records *r);
 TRAM_API const char *tram_records_warning(const tram_records *r, size_t i);
 /* Station i's id, or NULL when i is out of range. */
 TRAM_API const char *tram_records_station_id(const tram_records *r, size_t i);
+/* Station i's n_joints joint readings as read (records' units), or NULL
+ * when the set has none or i is out of range. */
+TRAM_API const double *tram_records_joints(const tram_records *r, size_t i);
 /* Station i's pose of block TRAM_BLOCK_ROBOT (T_base_flange) or
  * TRAM_BLOCK_SENSOR (T_sensor_target) as a row-major 4x4 in the records'
  * length unit; 1 on success, 0 when the block is absent or i is out of

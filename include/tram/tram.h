@@ -24,5 +24,6 @@
 #include "tram/pose.h"
 #include "tram/pixels.h"
 #include "tram/pixel_solve.h"
+#include "tram/plan.h"
 
 #endif

@@ -38,6 +38,7 @@ int cli_intrinsics(int argc, char **argv);
 int cli_pose(int argc, char **argv);
 int cli_board(int argc, char **argv);
 int cli_detect(int argc, char **argv);
+int cli_plan(int argc, char **argv);
 /* The standard pictures of a solve into DIR (frames.png, residuals.png). */
 int cli_plot_solution(const tram_records *r, const tram_solution *s, const char *dir, int force);
 extern const char cli_convert_help[];
@@ -50,6 +51,7 @@ extern const char cli_intrinsics_help[];
 extern const char cli_pose_help[];
 extern const char cli_board_help[];
 extern const char cli_detect_help[];
+extern const char cli_plan_help[];
 
 /* Read --chain FILE (if given) and turn the records' joint columns into
  * robot poses; returns CLI_EXIT_OK or prints the error and returns 2. */

@@ -47,7 +47,7 @@ static int all_frames(const tram_records *r, const tram_chain *c, tram_length_un
     for (size_t s = 0; s < r->count; s++) {
         double q[TRAM_JOINTS_MAX];
         for (size_t k = 0; k < c->n_joints; k++)
-            q[k] = r->stations[s].joints[k] * (joint[k]->kind == TRAM_CHAIN_REVOLUTE ? ang : len);
+            q[k] = tram_records_joints(r, s)[k] * (joint[k]->kind == TRAM_CHAIN_REVOLUTE ? ang : len);
         tram_se3 T;
         tram_chain_forward(c, q, &T, frames);
         for (size_t f = 0; f < c->n_joints + 2; f++) {

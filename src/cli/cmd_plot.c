@@ -208,7 +208,7 @@ static tram_se3 *chain_link_frames(const tram_records *r, const tram_chain *c)
         size_t j = 0;
         for (size_t e = 0; e < c->n_elements; e++)
             if (c->elements[e].kind != TRAM_CHAIN_FIXED) {
-                q[j] = r->stations[i].joints[j] * (c->elements[e].kind == TRAM_CHAIN_REVOLUTE ? ang : len);
+                q[j] = tram_records_joints(r, i)[j] * (c->elements[e].kind == TRAM_CHAIN_REVOLUTE ? ang : len);
                 j++;
             }
         tram_se3 T;

@@ -35,6 +35,10 @@ const char cli_solve_help[] =
     "  --bootstrap N     N station resamples as a second opinion on the uncertainty\n"
     "  --seed N          bootstrap seed (default 1)\n"
     "  --no-convention-check   skip re-solving under the usual convention mistakes\n"
+    "  --fit-scale       solve one length scale of the sensor (its translations, or its\n"
+    "                    points with --points) with the mount; without it the scale is\n"
+    "                    only tested, and a note suggests it when it differs from 1 by\n"
+    "                    more than 3 sigma\n"
     "  --max-residual LEN[+PCT%],ANG   plausibility gate on the station (or point) RMS\n"
     "                    residual, default 5mm+1%,1deg (PCT of the working distance)\n"
     "  --max-offset LEN,LEN   farthest plausible mount from the flange and from the\n"
@@ -219,6 +223,17 @@ static void print_trust(const tram_solution *s)
                s->trust.pairing_ratio_trans, s->trust.pairing_failed ? "NOT DETERMINED" : "passed");
 }
 
+/* The sensor's length scale: fitted, or tested against 1 (docs/solve.md). */
+static void print_scale(const tram_solution *s)
+{
+    const tram_scale_result *k = &s->sensor_scale;
+    if (!k->estimated) return;
+    printf("\nsensor length scale (sensor lengths x scale = robot lengths): %.6f, 1 sigma %.6f "
+           "(%+.3f%%), %.2f sigma from 1 (p = %.2g); %s\n",
+           k->scale, k->sigma, 100.0 * (k->scale - 1.0), k->z, k->p_value,
+           k->fitted ? "fitted: the result uses it" : "tested only: the result uses 1");
+}
+
 /* Each closed form's fit on the same stations, outliers included (which is
  * why they fit worse than the refined result); nothing in modes that solve
  * without them (observed points). */
@@ -301,6 +316,7 @@ static void print_summary(const tram_solution *s, const tram_records *r)
             }
         }
         cli_print_pixels(s, r);
+        print_scale(s);
         if (isnan(s->noise_angle_deg))
             printf("\nnoise per axis (%s): %.4g %s (points carry no angle)\n",
                    s->noise_given ? "given" : "estimated from the residuals", s->noise_length, u);
@@ -464,6 +480,7 @@ static int take_flag(char **argv, int i, solve_args *a)
     if (cli_flag(argv, i, "--closed-form")) a->so.refine = 0;
     else if (cli_flag(argv, i, "--no-robust")) a->so.robust = 0;
     else if (cli_flag(argv, i, "--no-convention-check")) a->so.check_conventions = 0;
+    else if (cli_flag(argv, i, "--fit-scale")) a->so.fit_scale = 1;
     else if (cli_flag(argv, i, "--reorthonormalize")) a->ro.reorthonormalize = 1;
     else if (cli_flag(argv, i, "--rounded-quat")) a->ro.quat_norm_tol = TRAM_QUAT_NORM_MAX_FIX;
     else if (cli_flag(argv, i, "--json")) a->json = 1;
@@ -516,6 +533,10 @@ static int parse_args(int argc, char **argv, solve_args *a)
     if (!a->file) return cli_usage_error("solve", "no record file (use '-' for stdin)");
     if (a->model && !a->points && !a->pix.pixels)
         return cli_usage_error("solve", "--model goes with --points");
+    if (a->so.fit_scale && a->pix.pixels)
+        return cli_usage_error("solve", "--fit-scale goes with sensor poses or --points, not --pixels");
+    if (a->so.fit_scale && !a->so.refine)
+        return cli_usage_error("solve", "--fit-scale needs the refinement (not --closed-form)");
     /* Existing outputs are refused before the work, as tram plot -o does. */
     if (a->plot_dir && !a->force) {
         static const char *const pics[] = {"frames.png", "residuals.png"};

@@ -60,6 +60,8 @@ static const cli_command commands[] = {
      cli_board_help},
     {"detect", cli_detect, "find a chessboard's corners in images; write pixel observations",
      cli_detect_help},
+    {"plan", cli_plan, "propose the robot stations that best cut the uncertainty (view and reach)",
+     cli_plan_help},
     {"fk", cli_fk, "flange poses from joint readings and a kinematic chain", cli_fk_help},
     {"intrinsics", cli_intrinsics, "camera intrinsics and lens distortion from views of a planar target",
      cli_intrinsics_help},

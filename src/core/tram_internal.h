@@ -51,5 +51,8 @@ void *tram__malloc(size_t n);
 void *tram__calloc(size_t count, size_t size);
 void *tram__realloc(void *p, size_t n);
 void tram__free(void *p);
+/* A hint that the n bytes at p are about to be filled (memhint.c: huge
+ * pages for large arrays); never fails, changes no contents. */
+void tram__hint_fill(void *p, size_t n);
 
 #endif

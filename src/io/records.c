@@ -5,6 +5,7 @@
  */
 #include "io/records_csv_internal.h"
 #include "io/records_json_internal.h"
+#include "io/records_store_internal.h"
 #include "io/text_internal.h"
 
 #include <string.h>
@@ -14,7 +15,7 @@
 void tram_records_destroy(tram_records *r)
 {
     if (!r) return;
-    tram__free(r->stations);
+    tram__records_free_arrays(r);
     tram__free(r);
 }
 
@@ -23,12 +24,10 @@ tram_records *tram_records_clone(const tram_records *r)
     tram_records *c = tram__malloc(sizeof *c);
     if (!c) return NULL;
     *c = *r;
-    c->stations = tram__malloc((r->count ? r->count : 1) * sizeof *c->stations);
-    if (!c->stations) {
+    if (tram__records_copy_arrays(c, r) != TRAM_OK) {
         tram__free(c);
         return NULL;
     }
-    if (r->count) memcpy(c->stations, r->stations, r->count * sizeof *c->stations);
     return c;
 }
 

@@ -29,6 +29,11 @@ const char *tram_records_station_id(const tram_records *r, size_t i)
     return r && i < r->count ? r->stations[i].id : NULL;
 }
 
+const double *tram_records_joints(const tram_records *r, size_t i)
+{
+    return r && r->joints && r->n_joints && i < r->count ? r->joints + i * r->n_joints : NULL;
+}
+
 int tram_records_pose(const tram_records *r, size_t i, int block, double T[16])
 {
     if (!r || i >= r->count || block < 0 || block >= TRAM_BLOCK_COUNT || !r->has_block[block])

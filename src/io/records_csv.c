@@ -18,6 +18,7 @@
  */
 #include "io/records_csv_internal.h"
 #include "io/records_schema_internal.h"
+#include "io/records_store_internal.h"
 #include "io/text_internal.h"
 
 #include <ctype.h>
@@ -36,6 +37,7 @@ typedef struct csv_reader {
     const char *name;
     tram_records *r;
     size_t cap;           /* stations allocated                        */
+    size_t id_used;       /* bytes of the id pool used                 */
     rec_schema schema;
     rec_directives d;
     long header_line;     /* 0 until the header is read                */
@@ -162,17 +164,19 @@ static tram_status read_comment(csv_reader *rd, const char *line, const char *ha
     return st;
 }
 
-/* Room for every data row the file can hold (at most one a line). */
+/* Room for every data row the file can hold (at most one a line), and
+ * for their ids: within the rest of the text, or generated row numbers. */
 static tram_status reserve_stations(csv_reader *rd, const char *from, const char *end,
                                     long lineno)
 {
     size_t lines = 1;
     for (const char *p = from; (p = memchr(p, '\n', (size_t)(end - p))) != NULL; p++) lines++;
-    rd->r->stations = tram__malloc(lines * sizeof *rd->r->stations);
-    if (!rd->r->stations)
-        return tram__fail(rd->err, TRAM_ENOMEM, rd->name, lineno, 0, "out of memory");
+    rec_layout l = {{rd->schema.nslots[0] * rd->schema.has_block[0],
+                     rd->schema.nslots[1] * rd->schema.has_block[1]},
+                    rd->schema.n_joints, 1};
+    size_t ids = rd->schema.station_col >= 0 ? (size_t)(end - from) + lines : 21 * lines;
     rd->cap = lines;
-    return TRAM_OK;
+    return tram__records_reserve(rd->r, lines, &l, ids, rd->name, lineno, rd->err);
 }
 
 /* The header row [p, e): column names, then the schema. */
@@ -241,9 +245,8 @@ static tram_status number_error(const csv_reader *rd, const rec_column *c, const
                       "column '%s': %s, found '%s'", colname, why, shown);
 }
 
-/* The station id field into s->id. */
-static tram_status read_id(const csv_reader *rd, const csv_span *f, long lineno,
-                           tram_station *s)
+/* The station id field into the id pool, for s. */
+static tram_status read_id(csv_reader *rd, const csv_span *f, long lineno, tram_station *s)
 {
     size_t len = (size_t)(f->e - f->s);
     if (!len)
@@ -252,8 +255,7 @@ static tram_status read_id(const csv_reader *rd, const csv_span *f, long lineno,
     if (len >= TRAM_STATION_ID_MAX)
         return tram__fail(rd->err, TRAM_EINPUT, rd->name, lineno, f->col,
                           "station id longer than %d characters", TRAM_STATION_ID_MAX - 1);
-    memcpy(s->id, f->s, len);
-    s->id[len] = '\0';
+    s->id = tram__records_put_id(rd->r, &rd->id_used, f->s, len);
     return TRAM_OK;
 }
 
@@ -266,13 +268,20 @@ static tram_status read_row(csv_reader *rd, const char *line, const char *e, lon
                           "%s row: %d fields, expected %d as in the header (line %ld)",
                           n < rd->nfields ? "short" : "long", n, rd->nfields, rd->header_line);
     tram_records *r = rd->r;
-    tram_station *s = &r->stations[r->count];
+    size_t i = r->count;
+    tram_station *s = &r->stations[i];
     memset(s, 0, sizeof *s);
     s->line = lineno;
-    if (rd->schema.station_col < 0) snprintf(s->id, sizeof s->id, "%zu", r->count + 1);
-    for (int i = 0; i < n; i++) {
-        const rec_column *c = &rd->schema.cols[i];
-        const csv_span *f = &rd->fields[i];
+    if (rd->schema.station_col < 0) {
+        char num[24];
+        int len = snprintf(num, sizeof num, "%zu", i + 1);
+        s->id = tram__records_put_id(r, &rd->id_used, num, (size_t)len);
+    }
+    double *raw = r->raw + i * r->raw_stride;
+    int *rot_col = r->rot_col ? r->rot_col + i * TRAM_BLOCK_COUNT : NULL;
+    for (int k = 0; k < n; k++) {
+        const rec_column *c = &rd->schema.cols[k];
+        const csv_span *f = &rd->fields[k];
         if (c->kind == REC_COL_STATION) {
             tram_status st = read_id(rd, f, lineno, s);
             if (st != TRAM_OK) return st;
@@ -282,11 +291,11 @@ static tram_status read_row(csv_reader *rd, const char *line, const char *e, lon
         if (f->s == f->e || tram__parse_number(f->s, f->e, &v) != 0)
             return number_error(rd, c, f, lineno);
         if (c->kind == REC_COL_JOINT) {
-            s->joints[c->slot] = v;
-            s->joint_col[c->slot] = (int)f->col;
+            r->joints[i * r->n_joints + (size_t)c->slot] = v;
+            r->joint_col[i * r->n_joints + (size_t)c->slot] = (int)f->col;
         } else {
-            s->raw[c->block][c->slot] = v;
-            s->col[c->block][c->slot] = (int)f->col;
+            raw[r->raw_off[c->block] + (size_t)c->slot] = v;
+            if (c->slot == 3 && rot_col) rot_col[c->block] = (int)f->col;
         }
     }
     r->count++;
@@ -361,6 +370,7 @@ tram_status tram__records_read_csv(const char *name, const char *data, size_t le
     /* The rows reserved for comment lines are not given back: a shrinking
      * realloc that fails would be a success that the allocation test
      * (tests/test_alloc.c) cannot tell from a lost error. */
+    if (st == TRAM_OK) st = tram__records_fit_ids(r, rd.id_used, name, err);
     if (st == TRAM_OK) st = tram__check_unique_ids(r, err);
     if (st == TRAM_OK) st = tram__records_finish(r, &rd.schema, &rd.d, opt, rd.header_line, err);
 

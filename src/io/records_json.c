@@ -19,6 +19,7 @@
 #include "io/json_pos_internal.h"
 #include "io/records_json_internal.h"
 #include "io/records_schema_internal.h"
+#include "io/records_store_internal.h"
 #include "io/text_internal.h"
 
 #include <cjson/cJSON.h>
@@ -179,9 +180,8 @@ tram_status tram__records_read_json(const char *name, const char *data, size_t l
     }
     size_t n = (size_t)cJSON_GetArraySize(sts);
     lines = tram__calloc(n, sizeof *lines);
-    r->stations = tram__calloc(n, sizeof *r->stations);
     names = tram__calloc(2 * TRAM_RAW_MAX + TRAM_JOINTS_MAX + 1, sizeof *names);
-    if (!lines || !r->stations || !names) {
+    if (!lines || !names) {
         st = tram__fail(err, TRAM_ENOMEM, name, 0, 0, "out of memory");
         goto done;
     }
@@ -239,6 +239,15 @@ tram_status tram__records_read_json(const char *name, const char *data, size_t l
         st = tram__schema_build(name, names, hl, NULL, ncol, &schema, err);
         if (st != TRAM_OK) goto done;
     }
+    {
+        /* the ids are strings of the text or generated numbers */
+        rec_layout l = {{schema.nslots[0] * schema.has_block[0],
+                         schema.nslots[1] * schema.has_block[1]},
+                        schema.n_joints, 0};
+        st = tram__records_reserve(r, n, &l, len + 21 * n, name, lines[0], err);
+        if (st != TRAM_OK) goto done;
+    }
+    size_t id_used = 0;
     /* walk the list (cJSON_GetArrayItem would make the loop quadratic) */
     const cJSON *so = sts->child;
     for (size_t k = 0; k < n; k++, so = so->next) {
@@ -249,22 +258,27 @@ tram_status tram__records_read_json(const char *name, const char *data, size_t l
                             "stations[%zu]: expected an object", k);
             goto done;
         }
-        snprintf(s->id, sizeof s->id, "%zu", k + 1);
+        memset(&s->T_base_flange, 0, sizeof s->T_base_flange);
+        memset(&s->T_sensor_target, 0, sizeof s->T_sensor_target);
         const cJSON *idv = cJSON_GetObjectItemCaseSensitive(so, "station");
-        if (idv) {
-            if (cJSON_IsString(idv) && idv->valuestring[0] &&
-                strlen(idv->valuestring) < TRAM_STATION_ID_MAX)
-                snprintf(s->id, sizeof s->id, "%s", idv->valuestring);
-            else if (cJSON_IsNumber(idv) && idv->valuedouble == (double)idv->valueint)
-                snprintf(s->id, sizeof s->id, "%d", idv->valueint);
-            else {
-                st = tram__fail(err, TRAM_EINPUT, name, lines[k], 0,
-                                "stations[%zu].station: expected a non-empty string (at most %d "
-                                "characters) or an integer",
-                                k, TRAM_STATION_ID_MAX - 1);
-                goto done;
-            }
+        char num[24];
+        const char *id = num;
+        size_t idlen;
+        if (!idv) {
+            idlen = (size_t)snprintf(num, sizeof num, "%zu", k + 1);
+        } else if (cJSON_IsString(idv) && idv->valuestring[0] &&
+                   (idlen = strlen(idv->valuestring)) < TRAM_STATION_ID_MAX) {
+            id = idv->valuestring;
+        } else if (cJSON_IsNumber(idv) && idv->valuedouble == (double)idv->valueint) {
+            idlen = (size_t)snprintf(num, sizeof num, "%d", idv->valueint);
+        } else {
+            st = tram__fail(err, TRAM_EINPUT, name, lines[k], 0,
+                            "stations[%zu].station: expected a non-empty string (at most %d "
+                            "characters) or an integer",
+                            k, TRAM_STATION_ID_MAX - 1);
+            goto done;
         }
+        s->id = tram__records_put_id(r, &id_used, id, idlen);
         const cJSON *m;
         cJSON_ArrayForEach(m, so)
         {
@@ -293,7 +307,7 @@ tram_status tram__records_read_json(const char *name, const char *data, size_t l
                                     "stations[%zu].joints[%d]: expected a finite number", k, j);
                     goto done;
                 }
-                s->joints[j] = x->valuedouble;
+                r->joints[k * r->n_joints + (size_t)j] = x->valuedouble;
             }
         }
         for (int b = 0; b < 2; b++) {
@@ -339,12 +353,13 @@ tram_status tram__records_read_json(const char *name, const char *data, size_t l
                                     key);
                     goto done;
                 }
-                s->raw[b][slot] = v->valuedouble;
+                tram__records_raw(r, k, b)[slot] = v->valuedouble;
             }
         }
         r->count++;
     }
-    st = tram__check_unique_ids(r, err);
+    st = tram__records_fit_ids(r, id_used, name, err);
+    if (st == TRAM_OK) st = tram__check_unique_ids(r, err);
     if (st != TRAM_OK) goto done;
     st = tram__records_finish(r, &schema, &d, opt, lines[0], err);
 

@@ -10,6 +10,7 @@
  * quaternions and non-rotation matrices are errors (docs/records.md).
  */
 #include "io/records_schema_internal.h"
+#include "io/records_store_internal.h"
 
 #include <errno.h>
 #include <math.h>
@@ -417,10 +418,8 @@ tram_status tram__schema_build(const char *file, const char *const *names, const
                               "joint_n without gaps",
                               nj + 1);
     s->n_joints = nj;
-    if (nj && s->has_block[TRAM_BLOCK_ROBOT])
-        return tram__fail(err, TRAM_EINPUT, file, hl, 0,
-                          "both robot_ pose columns and joint_ columns: give the robot pose one "
-                          "way only");
+    /* Both robot_ and joint_ columns: the pose is read, the joints are
+     * kept; tram_records_apply_chain then checks that they agree. */
     if (!s->has_block[0] && !s->has_block[1] && !nj)
         return tram__fail(err, TRAM_EINPUT, file, hl, 0,
                           "no pose columns: expected robot_x,... (or joint_1,...) and/or "
@@ -430,12 +429,17 @@ tram_status tram__schema_build(const char *file, const char *const *names, const
 
 /* ---- building poses ------------------------------------------------ */
 
-static tram_status block_pose(const tram_records *r, const tram_station *st, int b,
+static tram_status block_pose(const tram_records *r, size_t i, int b,
                               const tram_block_convention *c, const tram_read_options *opt,
                               tram_se3 *out, tram_error *err)
 {
-    const double *v = st->raw[b];
-    const int *col = st->col[b];
+    const tram_station *st = &r->stations[i];
+    if (!r->raw)
+        return tram__fail(err, TRAM_EINPUT, r->source, st->line, 0,
+                          "station '%s': no numbers as read to build the %s pose from", st->id,
+                          block_word[b]);
+    const double *v = tram__records_raw(r, i, b);
+    const long rcol = r->rot_col ? r->rot_col[i * TRAM_BLOCK_COUNT + (size_t)b] : 0;
     tram_mat3 R;
     double ang = tram_unit_angle_in_rad(c->angle_unit);
     switch (c->rep) {
@@ -453,7 +457,7 @@ static tram_status block_pose(const tram_records *r, const tram_station *st, int
                                      "0.01 of unit norm"
                                    : "; check the column order and that the four columns hold "
                                      "one quaternion";
-            return tram__fail(err, TRAM_EINPUT, r->source, st->line, col[3],
+            return tram__fail(err, TRAM_EINPUT, r->source, st->line, rcol,
                               "station '%s': %s quaternion norm is %.9g, expected 1 within %g "
                               "(columns %sqw,qx,qy,qz, scalar first)%s",
                               st->id, block_word[b], n, tol, block_prefix[b],
@@ -473,20 +477,20 @@ static tram_status block_pose(const tram_records *r, const tram_station *st, int
         break;
     }
     case TRAM_REP_MATRIX: {
-        for (int i = 0; i < 9; i++) R.m[i / 3][i % 3] = v[3 + i];
+        for (int k = 0; k < 9; k++) R.m[k / 3][k % 3] = v[3 + k];
         double def = tram_so3_defect(&R);
         double tol = opt && opt->matrix_tol > 0 ? opt->matrix_tol : TRAM_RECORDS_MATRIX_TOL;
         if (!(def <= tol)) {
             if (opt && opt->reorthonormalize && def <= TRAM_RECORDS_MATRIX_MAX_FIX) {
                 tram_so3_nearest(&R, &R);
             } else if (opt && opt->reorthonormalize) {
-                return tram__fail(err, TRAM_EINPUT, r->source, st->line, col[3],
+                return tram__fail(err, TRAM_EINPUT, r->source, st->line, rcol,
                                   "station '%s': %s matrix is far from a rotation (defect %.3g > "
                                   "%g): not re-orthonormalised; check the column order and "
                                   "that the matrix is row-major",
                                   st->id, block_word[b], def, TRAM_RECORDS_MATRIX_MAX_FIX);
             } else {
-                return tram__fail(err, TRAM_EINPUT, r->source, st->line, col[3],
+                return tram__fail(err, TRAM_EINPUT, r->source, st->line, rcol,
                                   "station '%s': %s matrix is not a rotation (defect %.3g, "
                                   "tolerance %g; expected orthonormal rows and det +1); if it is "
                                   "only rounded, pass --reorthonormalize",
@@ -516,7 +520,7 @@ static tram_status rebuild_with(tram_records *r, const tram_block_convention con
         for (size_t i = 0; i < r->count; i++) {
             tram_station *st = &r->stations[i];
             tram_se3 *dst = b == TRAM_BLOCK_ROBOT ? &st->T_base_flange : &st->T_sensor_target;
-            tram_status s = block_pose(r, st, b, &conv[b], opt, dst, err);
+            tram_status s = block_pose(r, i, b, &conv[b], opt, dst, err);
             if (s != TRAM_OK) return s;
         }
     }
@@ -651,6 +655,7 @@ tram_status tram__check_unique_ids(tram_records *r, tram_error *err)
     size_t *slot = tram__malloc(cap * sizeof *slot);
     if (!slot) return tram__fail(err, TRAM_ENOMEM, r->source, 0, 0, "out of memory");
     const size_t empty = (size_t)-1;
+    tram__hint_fill(slot, cap * sizeof *slot);
     for (size_t i = 0; i < cap; i++) slot[i] = empty;
     tram_status s = TRAM_OK;
     for (size_t i = 0; i < r->count && s == TRAM_OK; i++) {

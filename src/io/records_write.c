@@ -79,6 +79,18 @@ tram_status tram_records_write(const tram_records *r, const tram_output_rep *rep
         return tram__fail(err, TRAM_EINPUT, NULL, 0, 0, "no Euler convention for the output");
     double per_rad = needs_angle ? 1.0 / tram_unit_angle_in_rad(au) : 1.0;
     int nslot = tram__rep_slots(rep->kind);
+    /* Joint readings are written as held: in the records' own units. */
+    size_t nj = rep->with_joints ? r->n_joints : 0;
+    if (nj && (lu != r->length_unit || r->angle_unit == TRAM_ANGLE_UNSET ||
+               (needs_angle && au != r->angle_unit)))
+        return tram__fail(err, TRAM_EINPUT, NULL, 0, 0,
+                          "joint readings are written in the records' own units (%s, %s): "
+                          "convert the poses without changing units",
+                          tram_unit_length_name(r->length_unit), tram_unit_angle_name(r->angle_unit));
+    if (nj) {
+        needs_angle = 1;
+        au = r->angle_unit;
+    }
     int digits = rep->digits >= 1 && rep->digits <= 17 ? rep->digits : 17;
 
     if (!json) {
@@ -96,6 +108,7 @@ tram_status tram_records_write(const tram_records *r, const tram_output_rep *rep
             if (r->has_block[b])
                 for (int k = 0; k < nslot; k++)
                     fprintf(f, ",%s_%s", blocks[b], tram__rep_slot_name(rep->kind, out_slot(rep, k)));
+        for (size_t j = 0; j < nj; j++) fprintf(f, ",joint_%zu", j + 1);
         fputc('\n', f);
         for (size_t i = 0; i < r->count; i++) {
             const tram_station *s = &r->stations[i];
@@ -111,6 +124,9 @@ tram_status tram_records_write(const tram_records *r, const tram_output_rep *rep
                     fprintf(f, ",%.*g", digits, x == 0.0 ? 0.0 : x);
                 }
             }
+            const double *jr = tram_records_joints(r, i);
+            for (size_t j = 0; j < nj; j++)
+                fprintf(f, ",%.17g", jr[j] == 0.0 ? 0.0 : jr[j]);
             fputc('\n', f);
         }
     } else {
@@ -147,6 +163,7 @@ tram_status tram_records_write(const tram_records *r, const tram_output_rep *rep
                     tram__jb_num(jp, bo, tram__rep_slot_name(rep->kind, out_slot(rep, k)),
                                  v[out_slot(rep, k)]);
             }
+            if (nj) tram__jb_vec(jp, so, "joints", tram_records_joints(r, i), (int)nj, 1.0);
         }
         char *text;
         tram_status st = tram__jb_finish(jp, root, 1, 1, &text, err);

@@ -119,6 +119,7 @@ tram_status tram__read_all(const char *path, char **data, size_t *len, tram_erro
         if (!is_stdin) fclose(f);
         return tram__fail(err, TRAM_ENOMEM, shown, 0, 0, "out of memory");
     }
+    tram__hint_fill(buf, cap);
     for (;;) {
         if (n + 1 >= cap) {
             char *nb = tram__realloc(buf, cap * 2);

@@ -267,6 +267,198 @@ static void horn_rotation(const double S[3][3], tram_mat3 *R)
     R->m[2][0] = 2 * (x * z - w * y); R->m[2][1] = 2 * (y * z + w * x); R->m[2][2] = 1 - 2 * (x * x + y * y);
 }
 
+/* The moments about the means, from the raw sums about the first pair. */
+typedef struct centred {
+    double mx[3], my[3];  /* means of the offsets from x0, y0            */
+    double Cxx[3][3];     /* E[dx dx^T]                                  */
+    double S[3][3];       /* S[a][b] = E[dx_a dy_b]                      */
+    double sig_x, sig_y;  /* E|dx|^2, E|dy|^2                            */
+} centred;
+
+static void centre_moments(const moments *m, int d, centred *c)
+{
+    memset(c, 0, sizeof *c);
+    for (int a = 0; a < d; a++) {
+        c->mx[a] = m->sx[a] / m->W;
+        c->my[a] = m->sy[a] / m->W;
+    }
+    c->sig_y = m->syy / m->W;
+    for (int a = 0; a < d; a++) {
+        c->sig_y -= c->my[a] * c->my[a];
+        for (int b = 0; b < d; b++) {
+            c->Cxx[a][b] = m->sxx[a][b] / m->W - c->mx[a] * c->mx[b];
+            c->S[a][b] = m->sxy[a][b] / m->W - c->mx[a] * c->my[b];
+        }
+        c->sig_x += c->Cxx[a][a];
+    }
+}
+
+/* The arguments that no pass over the points can fix. */
+static tram_status check_arguments(const double *weights, size_t n, int d, tram_error *err)
+{
+    if (n < (size_t)d)
+        return tram__fail(err, TRAM_EUNDETERMINED, NULL, 0, 0,
+                          "%zu point pair(s): at least %d are needed in %dD to determine a "
+                          "rotation and translation",
+                          n, d, d);
+    for (size_t i = 0; weights && i < n; i++)
+        if (!(weights[i] >= 0) || !isfinite(weights[i]))
+            return tram__fail(err, TRAM_EINPUT, NULL, 0, 0, "weight %zu is not a finite number >= 0",
+                              i + 1);
+    return TRAM_OK;
+}
+
+/* The weights' sum and the sums' size: refuse rather than hand Inf to
+ * LAPACK when coordinates (or weights) are so large that the sums
+ * overflow. */
+static tram_status check_moments(const moments *m, tram_error *err)
+{
+    if (!(m->W > 0)) return tram__fail(err, TRAM_EUNDETERMINED, NULL, 0, 0, "all weights are zero");
+    if (!moments_finite(m))
+        return tram__fail(err, TRAM_EINPUT, NULL, 0, 0,
+                          "the coordinates or weights are too large for double precision: "
+                          "their weighted squares overflow (rescale the points, e.g. to "
+                          "another length unit)");
+    return TRAM_OK;
+}
+
+/* Spread of the from-points (the singular values of their scatter) into
+ * out->spread; refuses coincident and (in 3D) collinear points. */
+static tram_status check_spread(const centred *c, int d, const double x0[3],
+                                tram_register_result *out, tram_error *err)
+{
+    double C9[9] = {0}, ev[3] = {0}, V[9];
+    for (int a = 0; a < d; a++)
+        for (int b = 0; b < d; b++) C9[a * d + b] = c->Cxx[a][b];
+    if (tram__symeig(d, C9, ev, V) != TRAM_OK)
+        return tram__fail(err, TRAM_ENUMERIC, NULL, 0, 0, "eigen decomposition failed");
+    for (int a = 0; a < d; a++) out->spread[a] = sqrt(fmax(ev[d - 1 - a], 0.0));
+    double big = out->spread[0];
+    if (!(big > 1e-12 * (1.0 + fabs(x0[0]) + fabs(x0[1]) + fabs(x0[2]))))
+        return tram__fail(err, TRAM_EUNDETERMINED, NULL, 0, 0,
+                          "all 'from' points coincide: the rotation cannot be determined");
+    if (d == 3 && !(out->spread[1] > 1e-6 * big)) { /* eigenvalue ratio 1e-12 */
+        const double *u = V + 0; /* eigenvector of the largest eigenvalue: column 2 */
+        return tram__fail(err, TRAM_EUNDETERMINED, NULL, 0, 0,
+                          "the 'from' points are collinear (along %.3f, %.3f, %.3f): the rotation "
+                          "about that line cannot be determined; add a point off the line",
+                          u[2], u[5], u[8]);
+    }
+    return TRAM_OK;
+}
+
+/* The rotation maximising tr(R^T Sigma_xy) (Kabsch / Arun et al. by SVD
+ * with the reflection fix, or Horn's quaternion; in 2D the angle in closed
+ * form, which both give). */
+static tram_status best_rotation(const double S[3][3], int d, tram_register_method method,
+                                 tram_mat3 *R, tram_error *err)
+{
+    tram_so3_identity(R);
+    if (d == 2) {
+        double ang = atan2(S[0][1] - S[1][0], S[0][0] + S[1][1]);
+        R->m[0][0] = cos(ang); R->m[0][1] = -sin(ang);
+        R->m[1][0] = sin(ang); R->m[1][1] = cos(ang);
+        return TRAM_OK;
+    }
+    if (method == TRAM_REGISTER_QUATERNION) {
+        horn_rotation(S, R);
+        return TRAM_OK;
+    }
+    /* Sigma_xy[a][b] = E[dy_a dx_b] = S[b][a] */
+    double Sig[9], U[9], s[3], Vt[9];
+    for (int a = 0; a < 3; a++)
+        for (int b = 0; b < 3; b++) Sig[a * 3 + b] = S[b][a];
+    tram_status ls = tram__svd(3, 3, Sig, U, s, Vt);
+    if (ls != TRAM_OK)
+        return tram__fail(err, ls, NULL, 0, 0, ls == TRAM_ENOMEM ? "out of memory" : "SVD failed");
+    tram_mat3 Um, Vm;
+    memcpy(&Um.m[0][0], U, sizeof U);
+    memcpy(&Vm.m[0][0], Vt, sizeof Vt);
+    double sgn = tram__det3(&Um) * tram__det3(&Vm) < 0 ? -1.0 : 1.0;
+    for (int a = 0; a < 3; a++)
+        for (int b = 0; b < 3; b++)
+            R->m[a][b] = U[a * 3 + 0] * Vt[0 * 3 + b] + U[a * 3 + 1] * Vt[1 * 3 + b] +
+                         sgn * U[a * 3 + 2] * Vt[2 * 3 + b];
+    return TRAM_OK;
+}
+
+/* The information matrix H of the parameters (rotation, translation[,
+ * scale]; np of them) from the moments, for rotation R and scale c. */
+static int information(const moments *m, const double x0[3], const tram_mat3 *R, double c,
+                       int d, int with_scale, double H[49])
+{
+    double Mabs[3][3], s_abs[3];
+    for (int a = 0; a < 3; a++) {
+        s_abs[a] = m->W * x0[a] + m->sx[a];
+        for (int b = 0; b < 3; b++)
+            Mabs[a][b] = m->W * x0[a] * x0[b] + x0[a] * m->sx[b] + m->sx[a] * x0[b] + m->sxx[a][b];
+    }
+    /* v = R x: sum w v v^T = R Mabs R^T, sum w v = R s_abs */
+    double M[3][3] = {{0}}, sv[3] = {0, 0, 0};
+    for (int a = 0; a < d; a++) {
+        for (int b = 0; b < d; b++) sv[a] += R->m[a][b] * s_abs[b];
+        for (int b = 0; b < d; b++)
+            for (int k = 0; k < d; k++)
+                for (int l = 0; l < d; l++) M[a][b] += R->m[a][k] * Mabs[k][l] * R->m[b][l];
+    }
+    int np = (d == 3 ? 6 : 3) + (with_scale ? 1 : 0);
+    memset(H, 0, 49 * sizeof *H);
+    if (d == 3) {
+        double trM = M[0][0] + M[1][1] + M[2][2];
+        tram_mat3 K;
+        tram_so3_hat(sv, &K);
+        for (int a = 0; a < 3; a++)
+            for (int b = 0; b < 3; b++) {
+                H[a * np + b] = c * c * ((a == b) * trM - M[a][b]);
+                H[a * np + 3 + b] = c * K.m[a][b];
+                H[(3 + a) * np + b] = -c * K.m[a][b];
+                H[(3 + a) * np + 3 + b] = (a == b) * m->W;
+            }
+        if (with_scale) {
+            H[6 * np + 6] = trM;
+            for (int a = 0; a < 3; a++) H[6 * np + 3 + a] = H[(3 + a) * np + 6] = sv[a];
+        }
+    } else {
+        double trM = M[0][0] + M[1][1];
+        double perp[2] = {-sv[1], sv[0]};
+        H[0] = c * c * trM;
+        for (int a = 0; a < 2; a++) {
+            H[0 * np + 1 + a] = H[(1 + a) * np + 0] = c * perp[a];
+            H[(1 + a) * np + 1 + a] = m->W;
+        }
+        if (with_scale) {
+            H[3 * np + 3] = trM;
+            for (int a = 0; a < 2; a++) H[3 * np + 1 + a] = H[(1 + a) * np + 3] = sv[a];
+        }
+    }
+    return np;
+}
+
+/* The 1-sigma uncertainties of out's parameters from the moments, the
+ * mean squared residual msr and n pairs (left 0 without degrees of
+ * freedom or when H is singular). */
+static void fill_sigmas(const moments *m, const double x0[3], const tram_mat3 *R, int d,
+                        int with_scale, size_t n, double msr, tram_register_result *out)
+{
+    double H[49], Ci[49];
+    int np = information(m, x0, R, out->scale, d, with_scale, H);
+    double dof = (double)d * (double)n - (double)np;
+    if (!(dof > 0) || tram__spd_inverse(np, H, Ci) != TRAM_OK) return;
+    double s2 = msr * m->W / dof;
+    if (s2 < 0) s2 = 0;
+    if (d == 3) {
+        for (int a = 0; a < 3; a++) {
+            out->rotation_sigma_deg[a] = sqrt(s2 * Ci[a * np + a]) * RAD2DEG;
+            out->translation_sigma[a] = sqrt(s2 * Ci[(3 + a) * np + 3 + a]);
+        }
+        if (with_scale) out->scale_sigma = sqrt(s2 * Ci[6 * np + 6]);
+    } else {
+        out->rotation_sigma_deg[2] = sqrt(s2 * Ci[0]) * RAD2DEG;
+        for (int a = 0; a < 2; a++) out->translation_sigma[a] = sqrt(s2 * Ci[(1 + a) * np + 1 + a]);
+        if (with_scale) out->scale_sigma = sqrt(s2 * Ci[3 * np + 3]);
+    }
+}
+
 tram_status tram_register_points(const double *from, const double *to, const double *weights,
                                  size_t n, const tram_register_options *opt_in,
                                  tram_register_result *out, tram_error *err)
@@ -279,167 +471,33 @@ tram_status tram_register_points(const double *from, const double *to, const dou
     tram_se3_identity(&out->T_to_from);
     out->scale = 1.0;
     out->n = n;
-    if (n < (size_t)d)
-        return tram__fail(err, TRAM_EUNDETERMINED, NULL, 0, 0,
-                          "%zu point pair(s): at least %d are needed in %dD to determine a "
-                          "rotation and translation",
-                          n, d, d);
-    for (size_t i = 0; weights && i < n; i++)
-        if (!(weights[i] >= 0) || !isfinite(weights[i]))
-            return tram__fail(err, TRAM_EINPUT, NULL, 0, 0, "weight %zu is not a finite number >= 0",
-                              i + 1);
+    tram_status st = check_arguments(weights, n, d, err);
+    if (st != TRAM_OK) return st;
     double x0[3], y0[3];
     moments m;
     accumulate(from, to, weights, n, d, opt.threads, x0, y0, &m);
-    if (!(m.W > 0))
-        return tram__fail(err, TRAM_EUNDETERMINED, NULL, 0, 0, "all weights are zero");
-    /* Coordinates (or weights) so large that the sums overflow: refuse
-     * rather than hand Inf to LAPACK. */
-    if (!moments_finite(&m))
-        return tram__fail(err, TRAM_EINPUT, NULL, 0, 0,
-                          "the coordinates or weights are too large for double precision: "
-                          "their weighted squares overflow (rescale the points, e.g. to "
-                          "another length unit)");
+    if ((st = check_moments(&m, err)) != TRAM_OK) return st;
     out->weight_sum = m.W;
-    double mx[3] = {0, 0, 0}, my[3] = {0, 0, 0}, Cxx[3][3] = {{0}}, S[3][3] = {{0}};
-    for (int a = 0; a < d; a++) {
-        mx[a] = m.sx[a] / m.W;
-        my[a] = m.sy[a] / m.W;
-    }
-    double sig_x = 0, sig_y = m.syy / m.W;
-    for (int a = 0; a < d; a++) {
-        sig_y -= my[a] * my[a];
-        for (int b = 0; b < d; b++) {
-            Cxx[a][b] = m.sxx[a][b] / m.W - mx[a] * mx[b];
-            S[a][b] = m.sxy[a][b] / m.W - mx[a] * my[b]; /* E[dx_a dy_b] */
-        }
-        sig_x += Cxx[a][a];
-    }
-    /* Spread of the from-points: the singular values of their scatter. */
-    double C9[9] = {0}, ev[3] = {0}, V[9];
-    for (int a = 0; a < d; a++)
-        for (int b = 0; b < d; b++) C9[a * d + b] = Cxx[a][b];
-    if (tram__symeig(d, C9, ev, V) != TRAM_OK)
-        return tram__fail(err, TRAM_ENUMERIC, NULL, 0, 0, "eigen decomposition failed");
-    for (int a = 0; a < d; a++) out->spread[a] = sqrt(fmax(ev[d - 1 - a], 0.0));
-    double big = out->spread[0];
-    if (!(big > 1e-12 * (1.0 + fabs(x0[0]) + fabs(x0[1]) + fabs(x0[2]))))
-        return tram__fail(err, TRAM_EUNDETERMINED, NULL, 0, 0,
-                          "all 'from' points coincide: the rotation cannot be determined");
-    if (d == 3 && !(out->spread[1] > 1e-6 * big)) { /* eigenvalue ratio 1e-12 */
-        double *u = V + 0; /* eigenvector of the largest eigenvalue: column 2 */
-        return tram__fail(err, TRAM_EUNDETERMINED, NULL, 0, 0,
-                          "the 'from' points are collinear (along %.3f, %.3f, %.3f): the rotation "
-                          "about that line cannot be determined; add a point off the line",
-                          u[2], u[5], u[8]);
-    }
+    centred c;
+    centre_moments(&m, d, &c);
+    if ((st = check_spread(&c, d, x0, out, err)) != TRAM_OK) return st;
     tram_mat3 R;
-    tram_so3_identity(&R);
-    if (d == 3) {
-        if (opt.method == TRAM_REGISTER_QUATERNION) {
-            horn_rotation(S, &R);
-        } else {
-            /* Sigma_xy[a][b] = E[dy_a dx_b] = S[b][a] */
-            double Sig[9], U[9], s[3], Vt[9];
-            for (int a = 0; a < 3; a++)
-                for (int b = 0; b < 3; b++) Sig[a * 3 + b] = S[b][a];
-            tram_status ls = tram__svd(3, 3, Sig, U, s, Vt);
-            if (ls != TRAM_OK)
-                return tram__fail(err, ls, NULL, 0, 0,
-                                  ls == TRAM_ENOMEM ? "out of memory" : "SVD failed");
-            tram_mat3 Um, Vm;
-            memcpy(&Um.m[0][0], U, sizeof U);
-            memcpy(&Vm.m[0][0], Vt, sizeof Vt);
-            double sgn = tram__det3(&Um) * tram__det3(&Vm) < 0 ? -1.0 : 1.0;
-            for (int a = 0; a < 3; a++)
-                for (int b = 0; b < 3; b++)
-                    R.m[a][b] = U[a * 3 + 0] * Vt[0 * 3 + b] + U[a * 3 + 1] * Vt[1 * 3 + b] +
-                                sgn * U[a * 3 + 2] * Vt[2 * 3 + b];
-        }
-    } else {
-        /* 2D: the angle maximising tr(R^T Sigma_xy) in closed form (the SVD
-         * and quaternion forms give the same rotation). */
-        double ang = atan2(S[0][1] - S[1][0], S[0][0] + S[1][1]);
-        R.m[0][0] = cos(ang); R.m[0][1] = -sin(ang);
-        R.m[1][0] = sin(ang); R.m[1][1] = cos(ang);
-    }
+    if ((st = best_rotation(c.S, d, opt.method, &R, err)) != TRAM_OK) return st;
     /* tr(R^T Sigma_xy) = sum_ab R[a][b] Sigma[a][b] = sum_ab R[a][b] S[b][a] */
     double tr = 0;
     for (int a = 0; a < d; a++)
-        for (int b = 0; b < d; b++) tr += R.m[a][b] * S[b][a];
-    double c = opt.scale ? tr / sig_x : 1.0;
+        for (int b = 0; b < d; b++) tr += R.m[a][b] * c.S[b][a];
+    double scale = opt.scale ? tr / c.sig_x : 1.0;
     double rx[3] = {0, 0, 0}, t[3] = {0, 0, 0};
-    double mxa[3] = {x0[0] + mx[0], x0[1] + mx[1], x0[2] + mx[2]};
-    double mya[3] = {y0[0] + my[0], y0[1] + my[1], y0[2] + my[2]};
     for (int a = 0; a < d; a++) {
-        for (int b = 0; b < d; b++) rx[a] += R.m[a][b] * mxa[b];
-        t[a] = mya[a] - c * rx[a];
+        for (int b = 0; b < d; b++) rx[a] += R.m[a][b] * (x0[b] + c.mx[b]);
+        t[a] = y0[a] + c.my[a] - scale * rx[a];
     }
     tram_se3_from_rt(&R, t, &out->T_to_from);
-    out->scale = c;
-    double msr = sig_y - 2 * c * tr + c * c * sig_x;
+    out->scale = scale;
+    double msr = c.sig_y - 2 * scale * tr + scale * scale * c.sig_x;
     out->rms = sqrt(fmax(msr, 0.0));
-    /* Uncertainty from the moments: params (rotation, translation[, scale]). */
-    double Mabs[3][3], s_abs[3];
-    for (int a = 0; a < 3; a++) {
-        s_abs[a] = m.W * x0[a] + m.sx[a];
-        for (int b = 0; b < 3; b++)
-            Mabs[a][b] = m.W * x0[a] * x0[b] + x0[a] * m.sx[b] + m.sx[a] * x0[b] + m.sxx[a][b];
-    }
-    /* v = R x: sum w v v^T = R Mabs R^T, sum w v = R s_abs */
-    double M[3][3] = {{0}}, sv[3] = {0, 0, 0};
-    for (int a = 0; a < d; a++) {
-        for (int b = 0; b < d; b++) sv[a] += R.m[a][b] * s_abs[b];
-        for (int b = 0; b < d; b++)
-            for (int k = 0; k < d; k++)
-                for (int l = 0; l < d; l++) M[a][b] += R.m[a][k] * Mabs[k][l] * R.m[b][l];
-    }
-    int np = (d == 3 ? 6 : 3) + (opt.scale ? 1 : 0);
-    double H[49] = {0}, Ci[49];
-    if (d == 3) {
-        double trM = M[0][0] + M[1][1] + M[2][2];
-        tram_mat3 K;
-        tram_so3_hat(sv, &K);
-        for (int a = 0; a < 3; a++)
-            for (int b = 0; b < 3; b++) {
-                H[a * np + b] = c * c * ((a == b) * trM - M[a][b]);
-                H[a * np + 3 + b] = c * K.m[a][b];
-                H[(3 + a) * np + b] = -c * K.m[a][b];
-                H[(3 + a) * np + 3 + b] = (a == b) * m.W;
-            }
-        if (opt.scale) {
-            H[6 * np + 6] = trM;
-            for (int a = 0; a < 3; a++) H[6 * np + 3 + a] = H[(3 + a) * np + 6] = sv[a];
-        }
-    } else {
-        double trM = M[0][0] + M[1][1];
-        double perp[2] = {-sv[1], sv[0]};
-        H[0] = c * c * trM;
-        for (int a = 0; a < 2; a++) {
-            H[0 * np + 1 + a] = H[(1 + a) * np + 0] = c * perp[a];
-            H[(1 + a) * np + 1 + a] = m.W;
-        }
-        if (opt.scale) {
-            H[3 * np + 3] = trM;
-            for (int a = 0; a < 2; a++) H[3 * np + 1 + a] = H[(1 + a) * np + 3] = sv[a];
-        }
-    }
-    double dof = (double)d * (double)n - (double)np;
-    if (dof > 0 && tram__spd_inverse(np, H, Ci) == TRAM_OK) {
-        double s2 = msr * m.W / dof;
-        if (s2 < 0) s2 = 0;
-        if (d == 3) {
-            for (int a = 0; a < 3; a++) {
-                out->rotation_sigma_deg[a] = sqrt(s2 * Ci[a * np + a]) * RAD2DEG;
-                out->translation_sigma[a] = sqrt(s2 * Ci[(3 + a) * np + 3 + a]);
-            }
-            if (opt.scale) out->scale_sigma = sqrt(s2 * Ci[6 * np + 6]);
-        } else {
-            out->rotation_sigma_deg[2] = sqrt(s2 * Ci[0]) * RAD2DEG;
-            for (int a = 0; a < 2; a++) out->translation_sigma[a] = sqrt(s2 * Ci[(1 + a) * np + 1 + a]);
-            if (opt.scale) out->scale_sigma = sqrt(s2 * Ci[3 * np + 3]);
-        }
-    }
+    fill_sigmas(&m, x0, &R, d, opt.scale != 0, n, msr, out);
     return TRAM_OK;
 }
 

@@ -127,6 +127,18 @@ tram_status tram_solution_to_json(const tram_solution *s, const tram_records *r,
             tram__jb_num(b, md, "noise_length", pr->noise_length);
         }
         tram__pixel_result_json(b, root, s, r);
+        if (s->sensor_scale.estimated) {
+            const tram_scale_result *k = &s->sensor_scale;
+            cJSON *sc = tram__jb_obj(b, root, "sensor_scale");
+            tram__jb_str(b, sc, "definition",
+                         "sensor lengths times scale are the robot's lengths; sigma is its "
+                         "1-sigma; z = (scale - 1) / sigma, p two-sided (normal approximation)");
+            tram__jb_bool(b, sc, "fitted", k->fitted);
+            tram__jb_num(b, sc, "scale", k->scale);
+            tram__jb_num(b, sc, "sigma", k->sigma);
+            tram__jb_num(b, sc, "z", k->z);
+            tram__jb_num(b, sc, "p_value", k->p_value);
+        }
         cJSON *u = tram__jb_obj(b, root, "uncertainty");
         tram__jb_str(b, u, "definition",
                      "1-sigma and 95% (1.96 sigma) per axis from the refinement's "
