@@ -151,15 +151,22 @@ class _RecordsHead(ctypes.Structure):
                 ("angle_unit", ctypes.c_int), ("setup", ctypes.c_int)]
 
 
-def read_records(path, *, length_unit=None, angle_unit=None, reorthonormalize=False, tool=None):
+# TRAM_QUAT_NORM_MAX_FIX (tram/rotation.h): the tolerance of --rounded-quat
+_QUAT_NORM_MAX_FIX = 1e-2
+
+
+def read_records(path, *, length_unit=None, angle_unit=None, reorthonormalize=False,
+                 rounded_quat=False, tool=None):
     """Read a record file (CSV or JSON, docs/records.md).  length_unit and
     angle_unit play the part of the command's --length-unit / --angle-unit
-    (they must agree with the file's directives); tool the part of --tool:
-    the tool's pose in the flange frame, "X,Y,ZUNIT ROTATION" (e.g.
-    "0,0,150mm quat:1,0,0,0"), for a file whose robot poses are tool (TCP)
-    poses (robot-pose: tool-in-base)."""
+    (they must agree with the file's directives); rounded_quat that of
+    --rounded-quat (quaternions within 0.01 of unit norm are normalised);
+    tool the part of --tool: the tool's pose in the flange frame,
+    "X,Y,ZUNIT ROTATION" (e.g. "0,0,150mm quat:1,0,0,0"), for a file whose
+    robot poses are tool (TCP) poses (robot-pose: tool-in-base)."""
     ro = _lib.ReadOptions(_length_unit(length_unit), _angle_unit(angle_unit),
-                          1 if reorthonormalize else 0, 0.0, 0.0)
+                          1 if reorthonormalize else 0,
+                          _QUAT_NORM_MAX_FIX if rounded_quat else 0.0, 0.0)
     h, err = ctypes.c_void_p(), _lib.Error()
     st = _lib.records_read_file(_enc(path), ctypes.byref(ro), ctypes.byref(h), ctypes.byref(err))
     if st != 0:

@@ -16,6 +16,7 @@
  * station's object starts, found by scanning the text.
  */
 #include "io/json_internal.h"
+#include "io/json_pos_internal.h"
 #include "io/records_json_internal.h"
 #include "io/records_schema_internal.h"
 #include "io/records_store_internal.h"
@@ -142,6 +143,25 @@ tram_status tram__records_read_json(const char *name, const char *data, size_t l
                 st = tram__directive_apply(&d, name, 0, 0, keys[i][1], item->valuestring, err);
                 if (st != TRAM_OK) goto done;
             }
+        const char *near = found ? NULL : tram__directive_nearest(k);
+        if (near) {
+            char want[40];
+            size_t j = 0;
+            for (; near[j] && j < sizeof want - 1; j++) want[j] = near[j] == '-' ? '_' : near[j];
+            want[j] = '\0';
+            /* where the key is: scanned only on this error path */
+            long kl = 0, kc = 0;
+            tram__json_pos *pos = NULL;
+            tram_error pe;
+            if (tram__json_pos_scan(name, data, len, &pos, &pe) == TRAM_OK)
+                tram__json_pos_where(pos, k, 1, &kl, &kc);
+            tram__json_pos_free(pos);
+            st = tram__fail(err, TRAM_EINPUT, name, kl, kc,
+                            "unknown key \"%s\": did you mean \"%s\"? (JSON keys are the "
+                            "directives with '_' for '-', docs/records.md)",
+                            k, want);
+            goto done;
+        }
         if (!found) {
             st = tram__fail(err, TRAM_EINPUT, name, 0, 0,
                             "unknown key \"%s\" (known: format, version, length_unit, angle_unit, "

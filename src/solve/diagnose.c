@@ -309,6 +309,20 @@ static size_t make_hypotheses(const tram_records *r, tram_setup setup, hypothesi
                      deg ? "radians" : "degrees", deg ? "degrees" : "radians", bw[b],
                      deg ? "rad" : "deg");
             add_hyp(h, &nh, cap, t, "angle-unit", fix);
+            /* A camera in m and rad beside a robot in mm and deg: both sensor
+             * units at once, so that one run names both directives. */
+            for (size_t k = 0; b == 1 && k < sizeof scales / sizeof scales[0]; k++) {
+                char part[200];
+                memcpy(t, c, sizeof t);
+                t[1].angle_unit = deg ? TRAM_ANGLE_RAD : TRAM_ANGLE_DEG;
+                scale_fix(r, scales[k], part, sizeof part);
+                t[1].length_scale = c[1].length_scale * scales[k];
+                snprintf(fix, sizeof fix,
+                         "the sensor's units both differ from the file's: %s, and add '# "
+                         "sensor-angle-unit: %s' (its angles look like %s)",
+                         part, deg ? "rad" : "deg", deg ? "radians" : "degrees");
+                add_hyp(h, &nh, cap, t, "sensor-units", fix);
+            }
         }
         if (c[b].rep == TRAM_REP_EULER) {
             for (int e = 0; e < TRAM_EULER_COUNT; e++) {

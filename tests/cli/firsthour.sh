@@ -66,3 +66,23 @@ if have_dataset "$jin"; then
        grep -q '1-sigma: not estimated for T_base_target in this mode' "$tmp/out"; then ok
     else bad "solve --points without a model: rc $rc: $(grep -i 'nan\|failed' "$tmp/out" | head -3)"; fi
 fi
+
+# A robot in mm and deg with a camera in m and rad, the sensor directives
+# missing: one run names both (sensor-units), not one per run.
+"$TRAM" convert --to euler:zyx-intrinsic --angle-unit deg "$demo/wrist_camera.csv" >"$tmp/mx_e.csv" 2>/dev/null
+"$TRAM" convert --to rotvec --angle-unit rad "$demo/wrist_camera.csv" >"$tmp/mx_r.csv" 2>/dev/null
+{
+    printf '# setup: eye-in-hand\n# length-unit: mm\n# angle-unit: deg\n# robot-euler: zyx-intrinsic\n'
+    grep -v '^#' "$tmp/mx_e.csv" >"$tmp/mx_e.rows"; grep -v '^#' "$tmp/mx_r.csv" >"$tmp/mx_r.rows"
+    paste -d'|' "$tmp/mx_e.rows" "$tmp/mx_r.rows" | awk -F'|' 'NR == 1 { split($1, a, ","); split($2, b, ",");
+            printf "%s,%s,%s,%s,%s,%s,%s,%s,%s,%s,%s,%s,%s\n", a[1], a[2], a[3], a[4], a[5], a[6], a[7], b[8], b[9], b[10], b[11], b[12], b[13]; next }
+        { split($1, a, ","); split($2, b, ",");
+          printf "%s,%s,%s,%s,%s,%s,%s,%.9g,%.9g,%.9g,%s,%s,%s\n", a[1], a[2], a[3], a[4], a[5], a[6], a[7], b[8] / 1000, b[9] / 1000, b[10] / 1000, b[11], b[12], b[13] }'
+} >"$tmp/mixed_nodecl.csv"
+"$TRAM" solve "$tmp/mixed_nodecl.csv" >"$tmp/out" 2>&1; rc=$?
+[ $rc -eq 3 ] && grep -q "sensor-units: the sensor's units both differ from the file's: add '# sensor-length-unit: m' (lengths 1000 times off), and add '# sensor-angle-unit: rad'" "$tmp/out" && ok ||
+    bad "mixed units without the sensor directives: rc $rc: $(grep WARNING "$tmp/out" | head -2)"
+# with both directives it solves
+sed 's/^# robot-euler: zyx-intrinsic$/# robot-euler: zyx-intrinsic\n# sensor-length-unit: m\n# sensor-angle-unit: rad/' "$tmp/mixed_nodecl.csv" >"$tmp/mixed_decl.csv"
+"$TRAM" solve "$tmp/mixed_decl.csv" >"$tmp/out" 2>&1 && grep -q 'translation (mm) *39\.77' "$tmp/out" && ok ||
+    bad "mixed units with the sensor directives: $(grep -i 'warning\|translation (mm)' "$tmp/out" | head -3)"

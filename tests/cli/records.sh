@@ -49,3 +49,6 @@ expect_error "every missing declaration at once" 2 \
 # point files (the CSV table under points and pixels) skip a byte-order mark too
 f=$(printf '\357\273\277# length-unit: mm\nfrom_x,from_y,from_z,to_x,to_y,to_z\n0,0,0,1,0,0\n1,0,0,2,0,0\n0,1,0,1,1,0\n0,0,1,1,0,1\n' | mk bompairs.csv)
 "$TRAM" register "$f" >"$tmp/out" 2>"$tmp/err" && ok || bad "point file with a byte-order mark: $(cat "$tmp/err")"
+# a JSON record file's misspelt key: where it is, and the key meant
+f=$(printf '{"format": "tram-records", "version": 1,\n "length_unit": "mm", "robot-euler": "zyx-intrinsic",\n "stations": [{"robot": {"x": 1, "y": 2, "z": 3, "qw": 1, "qx": 0, "qy": 0, "qz": 0}}]}\n' | mk jsonkey.json)
+expect_error "JSON key near a directive" 2 'jsonkey.json:2:23: error: unknown key "robot-euler": did you mean "robot_euler"' convert --to quat "$f"

@@ -241,3 +241,17 @@ def test_docs_example_runs():
                 continue
             p = subprocess.run(["sh", "-c", line], capture_output=True, text=True, cwd=ROOT)
             assert p.returncode == 0, f"{line}: {p.stderr}"
+
+
+def test_read_records_rounded_quat(tmp_path):
+    """rounded_quat= is --rounded-quat: a quaternion printed to 2 decimals is
+    refused by default (the message names the option) and normalised with
+    it; the rotation agrees with SciPy Rotation of the normalised numbers."""
+    f = tmp_path / "rounded.csv"
+    f.write_text("# length-unit: mm\nstation,robot_x,robot_y,robot_z,robot_qw,robot_qx,robot_qy,robot_qz\n"
+                 "1,0,0,0,0.99,0.01,-0.12,0.05\n")
+    with pytest.raises(tram.InputError, match="--rounded-quat"):
+        tram.read_records(str(f))
+    rec = tram.read_records(str(f), rounded_quat=True)
+    ref = Rotation.from_quat([0.01, -0.12, 0.05, 0.99]).as_matrix()  # SciPy: scalar last, normalises
+    assert np.allclose(rec.T_base_flange[0][:3, :3], ref, atol=1e-12)
