@@ -142,6 +142,9 @@ int cli_check(int argc, char **argv)
     }
     if (!calib) return cli_usage_error("check", "--calibration FILE is required");
     if (!file) return cli_usage_error("check", "no record file (use '-' for stdin)");
+    const char *inputs[] = {file, calib, chain};
+    if (cli_check_outputs("check", inputs, 3, history, "--history", NULL) != CLI_EXIT_OK)
+        return CLI_EXIT_USAGE;
     tram_error err;
     tram_error_clear(&err);
     tram_calibration *cal = NULL;
