@@ -52,7 +52,7 @@ FUZZ_SECONDS ?= 60
 # make test fixes it so that its short run is repeatable.
 FUZZ_SEED ?= 0
 
-.PHONY: all deps layers test unit python-tests cli-tests ref-tests asan clang-check demo install install-check clean tools bench \
+.PHONY: all deps layers test unit python-tests cli-tests ref-tests asan clang-check demo install install-check install-check-example clean tools bench \
         fuzz fuzz-lib fuzz-bin fuzz-replay coverage valgrind valgrind-run
 
 all: $(B)/tram $(B)/libtram.a $(B)/libtram.so
@@ -95,6 +95,7 @@ $(B)/libtram.a: $(LIB_OBJ)
 
 $(B)/libtram.so: $(LIB_OBJ)
 	$(CC) -shared -Wl,-soname,libtram.so.0 $(EXTRA_LDFLAGS) -o $@ $^ $(PKG_LIBS)
+	ln -sf libtram.so $(B)/libtram.so.0   # the soname, for programs linked against build/
 
 $(B)/tram: $(CLI_OBJ) $(B)/libtram.a
 	$(CC) $(EXTRA_LDFLAGS) -o $@ $(CLI_OBJ) $(B)/libtram.a $(PKG_LIBS)
@@ -224,37 +225,61 @@ bench: deps $(patsubst %,$(B)/bench_%,$(BENCHES))
 	$(B)/bench_detect $(B)/bench_detect.json $(B)
 	@$(PYTHON) bench/merge.py $(B)/bench.json $(patsubst %,$(B)/bench_%.json,$(BENCHES))
 
-# Unit tests (cmocka), one binary per module.
+# Unit tests (cmocka), one binary per module, two at a time (UNIT_JOBS; the
+# CI machine has 2 cores).  Each writes $(B)/tests/NAME.log; the logs are shown
+# in order afterwards.  TEST_ENV holds what every test run shares: BLAS
+# single-threaded (the problems are small; two runs share the cores), and for
+# the sanitizer build TRAM_TEST_SANITIZER=1, which skips the Monte Carlo
+# figure tests (they prove rates in the plain build; their code paths run
+# under the sanitizers in the other tests).  The plain build fails an even
+# sample of 300 allocations per call in tests/test_alloc.c; the sanitizer
+# build fails every one, where LeakSanitizer also checks each error path.
+UNIT_JOBS ?= 2
+TEST_ENV  ?= OPENBLAS_NUM_THREADS=1 TRAM_ALLOC_SAMPLES=300
+UNIT_LOGS := $(patsubst %,%.log,$(TESTS))
+$(B)/tests/%.log: $(B)/tests/%
+	@rc=0; $(TEST_ENV) $< >$@.part 2>&1 || rc=$$?; \
+	  if [ $$rc -ne 0 ]; then cat $@.part; echo "unit: $< failed (exit $$rc)"; exit 1; fi; mv $@.part $@
 unit: $(TESTS)
-	@set -e; for t in $(TESTS); do echo "== $$t"; rc=0; $$t >$$t.log 2>&1 || rc=$$?; cat $$t.log; [ $$rc -eq 0 ] || { echo "unit: $$t failed"; exit 1; }; done; \
-	p=$$(cat $(patsubst %,%.log,$(TESTS)) | sed -n 's/^\[  PASSED  \] \([0-9]*\) test.*/\1/p' | awk '{s+=$$1} END {print s+0}'); \
-	k=$$(cat $(patsubst %,%.log,$(TESTS)) | sed -n 's/^\[  SKIPPED \] \([0-9]*\) test.*/\1/p' | awk '{s+=$$1} END {print s+0}'); \
+	@rm -f $(UNIT_LOGS)
+	@$(MAKE) --no-print-directory -j$(UNIT_JOBS) $(UNIT_LOGS)
+	@for t in $(TESTS); do echo "== $$t"; cat $$t.log; done; \
+	p=$$(cat $(UNIT_LOGS) | sed -n 's/^\[  PASSED  \] \([0-9]*\) test.*/\1/p' | awk '{s+=$$1} END {print s+0}'); \
+	k=$$(cat $(UNIT_LOGS) | sed -n 's/^\[  SKIPPED \] \([0-9]*\) test.*/\1/p' | awk '{s+=$$1} END {print s+0}'); \
 	echo "unit: $$p passed, 0 failed, $$k skipped"
 
 # Command-line tests: exit codes, file:line:column messages, empty stdout.
-cli-tests: $(B)/tram $(B)/gen_demo
-	@TRAM=$(abspath $(B)/tram) GEN_DEMO=$(abspath $(B)/gen_demo) sh tests/cli/run.sh
+# The demo's rendered images (GEN_IMAGES, tests/cli/demo.sh) are left out of
+# the sanitizer build: the same commands run there on the smaller scenes.
+cli-tests: $(B)/tram $(B)/gen_demo $(if $(findstring sanitize,$(EXTRA_CFLAGS)),,$(B)/gen_images)
+	@$(TEST_ENV) TRAM=$(abspath $(B)/tram) GEN_DEMO=$(abspath $(B)/gen_demo) \
+	  GEN_IMAGES=$(if $(findstring sanitize,$(EXTRA_CFLAGS)),,$(abspath $(B)/gen_images)) sh tests/cli/run.sh
 
 # Reference checks against SciPy / NumPy (Debian's python3-scipy).
 ref-tests: $(B)/refhelper $(B)/tram $(B)/render_ref
-	$(PYTHON) tests/ref/check_rotation_scipy.py $(B)/refhelper
-	$(PYTHON) tests/ref/check_solve_scipy.py $(B)/tram
-	$(PYTHON) tests/ref/check_stats_scipy.py $(B)/refhelper
-	$(PYTHON) tests/ref/check_chain_scipy.py $(B)/tram
-	$(PYTHON) tests/ref/check_register_scipy.py $(B)/tram
-	$(PYTHON) tests/ref/check_pixels_scipy.py $(B)/tram
-	$(PYTHON) tests/ref/check_render_numpy.py $(B)/render_ref
-	$(PYTHON) tests/ref/check_intrinsics_scipy.py $(B)/tram
+	$(TEST_ENV) $(PYTHON) tests/ref/check_rotation_scipy.py $(B)/refhelper
+	$(TEST_ENV) $(PYTHON) tests/ref/check_solve_scipy.py $(B)/tram
+	$(TEST_ENV) $(PYTHON) tests/ref/check_scale_scipy.py $(B)/tram
+	$(TEST_ENV) $(PYTHON) tests/ref/check_stats_scipy.py $(B)/refhelper
+	$(TEST_ENV) $(PYTHON) tests/ref/check_chain_scipy.py $(B)/tram
+	$(TEST_ENV) $(PYTHON) tests/ref/check_register_scipy.py $(B)/tram
+	$(TEST_ENV) $(PYTHON) tests/ref/check_pixels_scipy.py $(B)/tram
+	$(TEST_ENV) $(PYTHON) tests/ref/check_render_numpy.py $(B)/render_ref
+	$(TEST_ENV) $(PYTHON) tests/ref/check_intrinsics_scipy.py $(B)/tram
+	$(TEST_ENV) $(PYTHON) tests/ref/check_plan_numpy.py $(B)/tram
+	$(TEST_ENV) $(PYTHON) tests/ref/check_report_scipy.py $(B)/tram
+	$(TEST_ENV) $(PYTHON) tests/ref/check_tool_numpy.py $(B)/tram
 
 # The Python package (python/tram) against the command, SciPy and its docs.
 python-tests: $(B)/tram $(B)/libtram.so
-	@TRAM=$(abspath $(B)/tram) TRAM_LIBRARY=$(abspath $(B)/libtram.so) PYTHONPATH=$(abspath python) \
+	@$(TEST_ENV) TRAM=$(abspath $(B)/tram) TRAM_LIBRARY=$(abspath $(B)/libtram.so) PYTHONPATH=$(abspath python) \
 	  $(PYTHON) -m pytest -q -p no:cacheprovider tests/python
 
 asan:
 	$(MAKE) B=build-asan OPT="-O1 -g -fno-omit-frame-pointer" \
 	  EXTRA_CFLAGS="-fsanitize=address,undefined -fno-sanitize-recover=all" \
-	  EXTRA_LDFLAGS="-fsanitize=address,undefined" unit cli-tests fuzz-replay
+	  EXTRA_LDFLAGS="-fsanitize=address,undefined" \
+	  TEST_ENV="OPENBLAS_NUM_THREADS=1 TRAM_TEST_SANITIZER=1" unit cli-tests fuzz-replay
 
 clang-check:
 	@if command -v clang >/dev/null 2>&1; then \
@@ -297,6 +322,8 @@ install: all
 	ln -sf libtram.so.0 $(DESTDIR)$(PREFIX)/lib/libtram.so
 	install -m 644 include/tram/*.h $(DESTDIR)$(PREFIX)/include/tram/
 	install -m 644 docs/tram.1 $(DESTDIR)$(PREFIX)/share/man/man1/tram.1
+	install -d $(DESTDIR)$(PREFIX)/share/doc/tram
+	install -m 644 docs/*.md $(DESTDIR)$(PREFIX)/share/doc/tram/
 	install -d $(DESTDIR)$(PYDIR)/tram
 	install -m 644 python/tram/*.py $(DESTDIR)$(PYDIR)/tram/
 	sed -e 's|@PREFIX@|$(PREFIX)|g' -e 's|@VERSION@|$(shell sed -n 's/.*TRAM_VERSION_STRING "\(.*\)"/\1/p' include/tram/common.h)|g' \
@@ -310,11 +337,21 @@ install-check: all
 	@printf '#include <tram/tram.h>\n#include <stdio.h>\nint main(void){tram_se3 T;tram_se3_identity(&T);printf("%%s %%g\\n",tram_version(),T.m[3][3]);return 0;}\n' > $(B)/stage/check.c
 	@PKG_CONFIG_SYSROOT_DIR=$(abspath $(B)/stage) PKG_CONFIG_LIBDIR=$(abspath $(B)/stage)/usr/lib/pkgconfig:/usr/lib/x86_64-linux-gnu/pkgconfig:/usr/share/pkgconfig \
 	  $(CC) $(B)/stage/check.c -o $(B)/stage/check $$(PKG_CONFIG_SYSROOT_DIR=$(abspath $(B)/stage) PKG_CONFIG_LIBDIR=$(abspath $(B)/stage)/usr/lib/pkgconfig:/usr/lib/x86_64-linux-gnu/pkgconfig:/usr/share/pkgconfig pkg-config --cflags --libs --static tram)
+	@$(MAKE) --no-print-directory install-check-example
 	@LD_LIBRARY_PATH=$(abspath $(B)/stage)/usr/lib $(B)/stage/check | grep -q '^[0-9.]* 1$$' && test -x $(B)/stage/usr/bin/tram && test -f $(B)/stage/usr/share/man/man1/tram.1 \
 	  && cd / && env -u TRAM_LIBRARY PYTHONPATH=$(abspath $(B)/stage)/usr/lib/python3/dist-packages $(PYTHON) -c \
 	    'import tram, sys; r = tram.solve(sys.argv[1]); assert r.trustworthy; print("installed package:", tram.version(), tram._lib.lib._name)' \
 	    $(abspath datasets/demo/wrist_camera.csv) | grep -q "stage/usr/lib/libtram.so.0" \
-	  && echo "install-check: 2 passed, 0 failed"
+	  && echo "install-check: 3 passed, 0 failed"
+
+# docs/library.md's program (docs/examples/solve_mount.c), built against the
+# staged install through its tram.pc and run on the demo's wrist camera.
+STAGE_PC = PKG_CONFIG_SYSROOT_DIR=$(abspath $(B)/stage) PKG_CONFIG_LIBDIR=$(abspath $(B)/stage)/usr/lib/pkgconfig:/usr/lib/x86_64-linux-gnu/pkgconfig:/usr/share/pkgconfig
+install-check-example:
+	@$(CC) -std=c11 $(WARN) docs/examples/solve_mount.c -o $(B)/stage/solve_mount \
+	  $$($(STAGE_PC) pkg-config --cflags --libs tram)
+	@LD_LIBRARY_PATH=$(abspath $(B)/stage)/usr/lib $(B)/stage/solve_mount datasets/demo/wrist_camera.csv \
+	  | grep -q '^T_flange_sensor translation .*NOT verified on the cell'
 
 clean:
 	rm -rf build build-asan build-clang build-fuzz build-cov

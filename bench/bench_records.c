@@ -100,7 +100,8 @@ static char *generate(size_t n, int json, size_t *len)
     }
     char *buf = NULL;
     FILE *f = open_memstream(&buf, len);
-    tram_output_rep rep = {TRAM_REP_QUAT, TRAM_EULER_UNSET, TRAM_LENGTH_UNSET, TRAM_ANGLE_UNSET};
+    tram_output_rep rep = {.kind = TRAM_REP_QUAT, .euler = TRAM_EULER_UNSET,
+                           .length_unit = TRAM_LENGTH_UNSET, .angle_unit = TRAM_ANGLE_UNSET};
     tram_error e;
     if (!f || tram_records_write(&r, &rep, json, f, &e) != TRAM_OK) exit(1);
     fclose(f);

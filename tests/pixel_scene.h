@@ -113,6 +113,51 @@ static inline void scene_make(scene *s, test_rng *r, tram_setup setup, size_t n,
     free(text);
 }
 
+/* The scene's camera calibrated from nviews other views of its board
+ * (pixel noise sigma_px), full distortion model, skew fixed. */
+static inline tram_intrinsics_result *scene_calibrate(const scene *s, test_rng *r, int nviews, double sigma_px)
+{
+    tram_error e;
+    tram_pixel_obs *co = NULL;
+    assert_int_equal(tram_pixel_obs_create(1280, 960, NULL, &co, &e), TRAM_OK);
+    size_t nc = tram_board_corner_count(&s->board);
+    char ids[54][8];
+    const char *idp[54];
+    double xy[2 * 54];
+    assert_true(nc <= 54);
+    for (size_t c = 0; c < nc; c++) {
+        double m[3];
+        snprintf(ids[c], sizeof ids[c], "%zu", c);
+        idp[c] = ids[c];
+        tram_board_corner(&s->board, c, m);
+        xy[2 * c] = m[0];
+        xy[2 * c + 1] = m[1];
+    }
+    for (int v = 0; v < nviews; v++) {
+        tram_se3 S;
+        char sid[16];
+        scene_view(r, &s->board, &S);
+        snprintf(sid, sizeof sid, "c%02d", v);
+        for (size_t c = 0; c < nc; c++) {
+            double m[3] = {xy[2 * c], xy[2 * c + 1], 0}, p[3], uv[2];
+            tram_se3_apply_point(&S, m, p);
+            assert_true(tram_camera_project(&s->cam, p, uv));
+            if (uv[0] < 0 || uv[1] < 0 || uv[0] > 1279 || uv[1] > 959) continue;
+            assert_int_equal(tram_pixel_obs_add(co, sid, ids[c], uv[0] + sigma_px * test_rng_normal(r),
+                                                uv[1] + sigma_px * test_rng_normal(r), &e), TRAM_OK);
+        }
+    }
+    tram_planar_target tg = {nc, idp, xy};
+    tram_intrinsics_options io;
+    tram_intrinsics_options_init(&io);
+    io.distortion = TRAM_DISTORTION_FULL;
+    tram_intrinsics_result *ir = NULL;
+    tram_status st = tram_intrinsics_calibrate(co, &tg, &io, &ir, &e);
+    if (st != TRAM_OK) fail_msg("%s", e.message);
+    tram_pixel_obs_destroy(co);
+    return ir;
+}
+
 static inline void scene_free(scene *s)
 {
     tram_records_destroy(s->rec);

@@ -16,6 +16,7 @@
 #include "test_util.h"
 
 #include <cjson/cJSON.h>
+#include <unistd.h>
 
 #include "render/render.h"
 
@@ -71,6 +72,7 @@ static struct {
     tram_chain *chain;
     char *pixels, *camera;
     size_t pixels_len, camera_len;
+    char *demo_obs;                 /* 4 board points per demo station (solve --points) */
     tram_pixel_obs *views;          /* 4 views of a 7 x 6 grid (invented) */
     char grid_ids[42][16];
     const char *grid_idp[42];
@@ -78,6 +80,24 @@ static struct {
 } in;
 
 typedef tram_status (*op_fn)(tram_error *err);
+
+/* Observed points of the demo stations: 4 points of the board (an
+ * invented layout, mm) mapped by each station's T_sensor_target. */
+static char *demo_points(const tram_records *r)
+{
+    static const double m[4][3] = {{0, 0, 0}, {120, 0, 0}, {0, 90, 0}, {120, 90, 0}};
+    size_t cap = 100 + r->count * 4 * 100, l = 0;
+    char *t = malloc(cap);
+    l += (size_t)snprintf(t + l, cap - l, "# length-unit: mm\nstation,point,x,y,z\n");
+    for (size_t i = 0; i < r->count; i++)
+        for (int k = 0; k < 4; k++) {
+            double p[3];
+            tram_se3_apply_point(&r->stations[i].T_sensor_target, m[k], p);
+            l += (size_t)snprintf(t + l, cap - l, "%s,c%d,%.6f,%.6f,%.6f\n", r->stations[i].id, k + 1,
+                                  p[0], p[1], p[2]);
+        }
+    return t;
+}
 
 /* A clone that returns NULL has no error struct to fill: say it here. */
 static tram_status nomem(tram_error *err)
@@ -152,8 +172,8 @@ static tram_status op_records_write(tram_error *err)
         char *buf = NULL;
         size_t len = 0;
         FILE *f = open_memstream(&buf, &len);
-        tram_output_rep rep = {TRAM_REP_EULER, TRAM_EULER_ZYX_INTRINSIC, TRAM_LENGTH_M,
-                               TRAM_ANGLE_DEG};
+        tram_output_rep rep = {.kind = TRAM_REP_EULER, .euler = TRAM_EULER_ZYX_INTRINSIC,
+                               .length_unit = TRAM_LENGTH_M, .angle_unit = TRAM_ANGLE_DEG};
         st = tram_records_write(in.rec, &rep, json, f, err);
         fclose(f);
         free(buf);
@@ -167,6 +187,32 @@ static tram_status op_calibration(tram_error *err)
     tram_status st =
         tram_calibration_read_buffer("cal.json", in.cal_text, strlen(in.cal_text), &c, err);
     tram_calibration_destroy(c);
+    return st;
+}
+
+/* The calibration report: the calibration file on disk (written once),
+ * the PDF replaced on every run. */
+static char report_cal[64], report_pdf[80];
+
+static tram_status op_report(tram_error *err)
+{
+    if (!report_cal[0]) {
+        snprintf(report_cal, sizeof report_cal, "/tmp/tram-alloc-cal-XXXXXX");
+        int fd = mkstemp(report_cal);
+        if (fd < 0 || write(fd, in.cal_text, strlen(in.cal_text)) != (ssize_t)strlen(in.cal_text))
+            fail_msg("cannot write the calibration for the report");
+        close(fd);
+        snprintf(report_pdf, sizeof report_pdf, "%s.pdf", report_cal);
+    }
+    tram_report_options opt;
+    memset(&opt, 0, sizeof opt);
+    tram_error e;
+    if (tram_plot_page_parse("a4", &opt.page, &e) != TRAM_OK) fail_msg("a4: %s", e.message);
+    opt.euler = TRAM_EULER_ZYX_INTRINSIC;
+    opt.date_utc = "2026-12-02T12:00:00Z";
+    int pages = 0;
+    tram_status st = tram_report_write_pdf(report_cal, &opt, report_pdf, 1, &pages, err);
+    if (st == TRAM_OK && pages < 2) fail_msg("report: %d pages", pages);
     return st;
 }
 
@@ -231,6 +277,57 @@ static tram_status op_solve(tram_error *err)
         if (st == TRAM_OK) free(text);
     }
     tram_solution_destroy(s);
+    return st;
+}
+
+/* Pose records with the sensor's scale fitted, bootstrap too (scale.c). */
+static tram_status op_solve_scale(tram_error *err)
+{
+    tram_solve_options o;
+    tram_solve_options_init(&o);
+    o.check_conventions = 0;
+    o.fit_scale = 1;
+    o.bootstrap = 3;
+    tram_solution *s;
+    tram_status st = tram_solve(in.rec, TRAM_SETUP_EYE_IN_HAND, &o, &s, err);
+    if (st == TRAM_OK) {
+        char *text;
+        st = tram_solution_to_json(s, in.rec, "auto", 0, &text, err);
+        if (st == TRAM_OK) free(text);
+    }
+    tram_solution_destroy(s);
+    return st;
+}
+
+/* tram solve --points with and without a model, the scale fitted or
+ * tested, and the solution's JSON. */
+static tram_status op_point_solve(tram_error *err)
+{
+    static const char model_text[] = "# length-unit: mm\npoint,x,y,z\nc1,0,0,0\nc2,120,0,0\n"
+                                     "c3,0,90,0\nc4,120,90,0\n";
+    tram_point_obs *obs = NULL;
+    tram_point_model *m = NULL;
+    tram_status st = tram_point_obs_read_buffer("o.csv", in.demo_obs, strlen(in.demo_obs), in.rec,
+                                                &obs, err);
+    if (st == TRAM_OK)
+        st = tram_point_model_read_buffer("m.csv", model_text, sizeof model_text - 1, in.rec, &m, err);
+    for (int k = 0; k < 4 && st == TRAM_OK; k++) {
+        tram_solve_options o;
+        tram_solve_options_init(&o);
+        o.check_conventions = 0;
+        o.trust.pairing_permutations = k == 0 ? 2 : 0; /* few allocations: all are failed in turn */
+        o.fit_scale = k & 1;
+        tram_solution *s = NULL;
+        st = tram_solve_points(in.rec, TRAM_SETUP_EYE_IN_HAND, obs, k & 2 ? m : NULL, &o, &s, err);
+        if (st == TRAM_OK) {
+            char *text;
+            st = tram_solution_to_json(s, in.rec, "auto", 0, &text, err);
+            if (st == TRAM_OK) free(text);
+        }
+        tram_solution_destroy(s);
+    }
+    tram_point_obs_destroy(obs);
+    tram_point_model_destroy(m);
     return st;
 }
 
@@ -441,6 +538,7 @@ static int setup(void **state)
         tram_records_read_buffer("fixed.csv", fixed, sizeof fixed - 1, NULL, &in.fixed_rec, &e))
         fail_msg("%s", e.message);
     free(joints);
+    in.demo_obs = demo_points(in.rec);
     tram_solve_options o;
     tram_solve_options_init(&o);
     o.check_conventions = 0;
@@ -454,6 +552,7 @@ static int setup(void **state)
 static int teardown(void **state)
 {
     (void)state;
+    free(in.demo_obs);
     free(in.csv);
     free(in.json);
     free(in.recheck);
@@ -495,7 +594,9 @@ static tram_status op_pixel_solve(tram_error *err)
     tram_solve_options_init(&so);
     so.check_conventions = 0;
     tram_solution *s = NULL;
-    tram_pixel_solve_options po = {1};
+    tram_pixel_solve_options po;
+    tram_pixel_solve_options_init(&po);
+    po.refine_intrinsics = 1;
     tram_status st = tram_solve_pixels(px.rec, TRAM_SETUP_EYE_IN_HAND, &px.cam, px.obs, px.xyz, &so,
                                        &po, &s, err);
     char *text = NULL;
@@ -506,6 +607,29 @@ static tram_status op_pixel_solve(tram_error *err)
         tram_pose_result pr;
         st = tram_pose_from_pixels(&px.cam, px.xyz, px.obs->uv, 20, &pr, err);
     }
+    return st;
+}
+
+/* The camera held fixed with its calibration covariance (the share of the
+ * intervals from the camera). */
+static tram_status op_pixel_solve_camera_cov(tram_error *err)
+{
+    tram_solve_options so;
+    tram_solve_options_init(&so);
+    so.check_conventions = 0;
+    double cov[TRAM_CAM_NPARAM * TRAM_CAM_NPARAM] = {0};
+    for (int k = 0; k < 4; k++) cov[k * TRAM_CAM_NPARAM + k] = 0.25;
+    cov[TRAM_CAM_K1 * TRAM_CAM_NPARAM + TRAM_CAM_K1] = 1e-6;
+    tram_pixel_solve_options po;
+    tram_pixel_solve_options_init(&po);
+    po.camera_cov = cov;
+    tram_solution *s = NULL;
+    tram_status st = tram_solve_pixels(px.rec, TRAM_SETUP_EYE_IN_HAND, &px.cam, px.obs, px.xyz, &so,
+                                       &po, &s, err);
+    char *text = NULL;
+    if (st == TRAM_OK) st = tram_solution_to_json(s, px.rec, "auto", 0, &text, err);
+    free(text);
+    tram_solution_destroy(s);
     return st;
 }
 
@@ -530,6 +654,7 @@ static void test_pixels(void **state)
     tram_pixel_obs_destroy(all);
     assert_int_equal(tram_pixel_target_from_board(px.obs, &b, TRAM_LENGTH_MM, &px.xyz, &e), TRAM_OK);
     exhaust("solve from pixels (camera refined) + JSON + pose", op_pixel_solve);
+    exhaust("solve from pixels (camera covariance) + JSON", op_pixel_solve_camera_cov);
     tram_pixel_target_free(px.xyz);
     tram_pixel_obs_destroy(px.obs);
     tram_records_destroy(px.rec);
@@ -556,8 +681,13 @@ static void test_writers_and_solvers(void **state)
     exhaust("records write", op_records_write);
     exhaust("solve + bootstrap + calibration JSON", op_solve);
     exhaust("solve with convention checks", op_solve_conventions);
+    exhaust("solve with the sensor scale fitted + bootstrap", op_solve_scale);
+    exhaust("solve from points (model solved / given, scale tested / fitted)", op_point_solve);
     exhaust("check + JSON", op_check);
     exhaust("plot frames", op_plot);
+    exhaust("calibration report (PDF)", op_report);
+    remove(report_pdf);
+    remove(report_cal);
     exhaust("chessboard detection", op_detect);
     render_image_destroy(detect_im);
     detect_im = NULL;

@@ -1,6 +1,7 @@
 /* test_camera_file.c - tests of camera_file.c: the exact round trip of
  * camera files (tram-camera, version 1) with and without a calibration
- * block, and the reader's refusals with file:line:column. */
+ * block (and its correlations), and the reader's refusals with
+ * file:line:column. */
 #include "test_util.h"
 
 static const char good[] =
@@ -48,6 +49,12 @@ static void test_round_trip(void **state)
         cal.free_param[k] = k != TRAM_CAM_SKEW;
         cal.sigma[k] = k != TRAM_CAM_SKEW ? 0.01 * (k + 1) : 0;
     }
+    /* correlations 0.5^|i - j| over the free parameters (positive definite) */
+    cal.has_correlation = 1;
+    for (int a = 0; a < TRAM_CAM_NPARAM; a++)
+        for (int b = 0; b < TRAM_CAM_NPARAM; b++)
+            cal.correlation[a * TRAM_CAM_NPARAM + b] =
+                cal.free_param[a] && cal.free_param[b] ? pow(0.5, abs(a - b)) * (a != b && (a == 9 || b == 9) ? -1 : 1) : 0;
     char *text;
     tram_error err;
     assert_int_equal(tram_camera_to_json(&c, &cal, &text, &err), TRAM_OK);
@@ -65,6 +72,17 @@ static void test_round_trip(void **state)
     assert_int_equal(bc.noutliers, 2);
     assert_true(bc.rms_px == 0.1234);
     assert_string_equal(bc.method, cal.method);
+    assert_int_equal(bc.has_correlation, 1);
+    for (int k = 0; k < TRAM_CAM_NPARAM * TRAM_CAM_NPARAM; k++) assert_true(bc.correlation[k] == cal.correlation[k]);
+    double cov[TRAM_CAM_NPARAM * TRAM_CAM_NPARAM];
+    assert_int_equal(tram_camera_calib_covariance(&bc, cov), 1);
+    assert_true(cov[TRAM_CAM_FX * TRAM_CAM_NPARAM + TRAM_CAM_FY] == 0.01 * 0.02 * 0.5);
+    assert_true(cov[TRAM_CAM_SKEW * TRAM_CAM_NPARAM + TRAM_CAM_SKEW] == 0);
+    bc.has_correlation = 0;
+    assert_int_equal(tram_camera_calib_covariance(&bc, cov), 2);
+    assert_true(cov[TRAM_CAM_FX * TRAM_CAM_NPARAM + TRAM_CAM_FY] == 0);
+    assert_true(cov[TRAM_CAM_P2 * TRAM_CAM_NPARAM + TRAM_CAM_P2] == 0.1 * 0.1);
+    assert_int_equal(tram_camera_calib_covariance(NULL, cov), 0);
     free(text);
     /* the model none has no coefficients at all */
     c.distortion = TRAM_DISTORTION_NONE;
@@ -80,7 +98,7 @@ static void test_round_trip(void **state)
 /* good with one piece of text replaced */
 static char *variant(const char *from, const char *to)
 {
-    static char buf[4096];
+    static char buf[8192];
     const char *p = strstr(good, from);
     assert_non_null(p);
     snprintf(buf, sizeof buf, "%.*s%s%s", (int)(p - good), good, to, p + strlen(from));
@@ -146,13 +164,31 @@ static void test_calibration_refusals(void **state)
         "\"calibration\": {\"method\": \"m\", \"views\": 5, \"points\": 10, \"outliers\": 0, "
         "\"rms_px\": 0.3, \"sigma\": {\"fx\": 1, \"fy\": 1, \"cx\": 1, \"cy\": 1, \"k1\": 1, "
         "\"k2\": 1, \"k3\": 1}, \"fixed\": [\"skew\"]}",
+#define SIG "\"calibration\": {\"method\": \"m\", \"views\": 5, \"points\": 10, \"outliers\": 0, " \
+            "\"rms_px\": 0.3, \"sigma\": {\"fx\": 1, \"fy\": 1, \"cx\": 1, \"cy\": 1, \"skew\": 1, " \
+            "\"k1\": 1, \"k2\": 1}, \"fixed\": [], \"correlation\": "
+#define ROWS_K "\"cy\": {\"skew\": 0, \"k1\": 0, \"k2\": 0}, \"skew\": {\"k1\": 0, \"k2\": 0}, " \
+               "\"k1\": {\"k2\": -0.9}"
+        SIG "{\"fx\": {\"fy\": 1.5, \"cx\": 0, \"cy\": 0, \"skew\": 0, \"k1\": 0, \"k2\": 0}}}",
+        SIG "{\"k2\": {}}}",
+        SIG "{\"fx\": {\"fy\": 0.99, \"cx\": 0.99, \"cy\": 0, \"skew\": 0, \"k1\": 0, \"k2\": 0}, "
+            "\"fy\": {\"cx\": -0.99, \"cy\": 0, \"skew\": 0, \"k1\": 0, \"k2\": 0}, "
+            "\"cx\": {\"cy\": 0, \"skew\": 0, \"k1\": 0, \"k2\": 0}, " ROWS_K "}}",
+        SIG "{\"fx\": {\"fy\": 0.9, \"cx\": 0, \"cy\": 0, \"skew\": 0, \"k1\": 0, \"k2\": 0}, "
+            "\"fy\": {\"fx\": 0.9, \"cx\": 0, \"cy\": 0, \"skew\": 0, \"k1\": 0, \"k2\": 0}}}",
+        SIG "{\"fx\": {\"fy\": 0.9, \"cy\": 0, \"skew\": 0, \"k1\": 0, \"k2\": 0}}}",
     };
     static const char *const needles[] = {"rms_px: expected a number >= 0",
                                           "missing key \"fy\" in calibration.sigma",
                                           "calibration.fixed: expected distinct",
-                                          "\"k3\" is not a free parameter"};
-    for (size_t k = 0; k < 4; k++) {
-        char to[1024];
+                                          "\"k3\" is not a free parameter",
+                                          "correlation of fx and fy 1.5: expected a number in [-1, 1]",
+                                          "\"k2\": expected a free parameter that has a later",
+                                          "not a correlation matrix (not positive semi-definite)",
+                                          "\"fx\" is not a later free parameter",
+                                          "missing key \"cx\" in calibration.correlation.fx"};
+    for (size_t k = 0; k < sizeof needles / sizeof *needles; k++) {
+        char to[2048];
         snprintf(to, sizeof to, "},\n  %s\n}", blocks[k]);
         const char *text = variant("}\n}", to);
         tram_camera c;

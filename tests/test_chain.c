@@ -228,9 +228,20 @@ static void test_records_with_joints(void **state)
     const char *gap = "# length-unit: mm\n# angle-unit: deg\njoint_1,joint_3\n1,2\n";
     assert_int_equal(tram_records_read_buffer("j.csv", gap, strlen(gap), NULL, &r, &e), TRAM_EINPUT);
     assert_non_null(strstr(e.message, "joint_2"));
-    const char *both = "# length-unit: mm\n# angle-unit: deg\njoint_1,robot_x,robot_y,robot_z,"
-                       "robot_qw,robot_qx,robot_qy,robot_qz\n1,0,0,0,1,0,0,0\n";
-    assert_int_equal(tram_records_read_buffer("j.csv", both, strlen(both), NULL, &r, &e), TRAM_EINPUT);
+    /* robot_ and joint_ columns together (tram plan writes them): the
+     * chain's pose must be the robot_ pose, within 0.01 mm and 0.001 deg */
+    const char *both = "# length-unit: mm\n# angle-unit: deg\nstation,joint_1,joint_2,robot_x,robot_y,robot_z,"
+                       "robot_qw,robot_qx,robot_qy,robot_qz\na,90,0,0,550,0,0.70710678118654752,0,0,0.70710678118654752\n";
+    assert_int_equal(tram_records_read_buffer("j.csv", both, strlen(both), NULL, &r, &e), TRAM_OK);
+    assert_int_equal(tram_records_apply_chain(r, c, &e), TRAM_OK);
+    tram_records_destroy(r);
+    const char *off = "# length-unit: mm\n# angle-unit: deg\nstation,joint_1,joint_2,robot_x,robot_y,robot_z,"
+                      "robot_qw,robot_qx,robot_qy,robot_qz\na,90,0,0,550.02,0,0.70710678118654752,0,0,0.70710678118654752\n";
+    assert_int_equal(tram_records_read_buffer("j.csv", off, strlen(off), NULL, &r, &e), TRAM_OK);
+    assert_int_equal(tram_records_apply_chain(r, c, &e), TRAM_EINPUT);
+    assert_int_equal(e.line, 4);
+    assert_non_null(strstr(e.message, "station 'a': the robot_ pose and the chain's pose"));
+    tram_records_destroy(r);
     const char *three = "# length-unit: mm\n# angle-unit: deg\njoint_1,joint_2,joint_3\n1,2,3\n";
     assert_int_equal(tram_records_read_buffer("j.csv", three, strlen(three), NULL, &r, &e), TRAM_OK);
     assert_int_equal(tram_records_apply_chain(r, c, &e), TRAM_EINPUT);

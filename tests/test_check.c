@@ -104,6 +104,7 @@ static void moved(const tram_se3 *T, const double w[3], const double d[3], tram_
 static void test_false_alarms(void **state)
 {
     (void)state;
+    TEST_FIGURES_IN_PLAIN_BUILD_ONLY();
     /* Nothing moved: ok in at least 95% of 200 trials (the test is built
      * for a 1% false-alarm rate; the measured rate is printed). */
     test_rng r = test_rng_seeded("check false alarms", 9001);
@@ -127,6 +128,7 @@ static void test_false_alarms(void **state)
 
 static void detection(tram_setup setup, int which, uint64_t seed)
 {
+    TEST_FIGURES_IN_PLAIN_BUILD_ONLY();
     /* A change of three times the calibration's per-axis 1-sigma station
      * noise on every axis of the moved transform (docs/check.md says why
      * the transform's own 1-sigma is not a detectable size). */

@@ -38,7 +38,7 @@ static tram_camera camera_of(size_t w, size_t h, double f, double k1)
 
 /* A scene of b seen by c with squares of about sq_px pixels, the board's
  * centre at normalised image point (ox, oy), tilted and rolled (degrees);
- * blur 0.6 px, the given noise, 8 x 8 samples at mixed pixels. */
+ * blur 0.6 px, the given noise, 64 lattice samples at mixed pixels. */
 static render_scene scene_of(const tram_board *b, const tram_camera *c, double sq_px, double ox,
                              double oy, double tilt, double tilt_dir, double roll, double noise,
                              unsigned long long seed)

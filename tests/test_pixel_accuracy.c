@@ -5,7 +5,11 @@
  *     tram_solve on those poses): the error of X from pixels is at most the
  *     pose path's on at least 90% of 50 seeds;
  *   - the 95% intervals of X reported from the pixel model contain the
- *     truth in 90-99% of 100 seeds (pooled over the 6 axes). */
+ *     truth in 90-99% of the seeds on every axis: with the camera exact
+ *     (200 seeds), and with the camera calibrated beforehand from other
+ *     views (tram_intrinsics_calibrate, Zhang 2000) and its covariance
+ *     carried into X's (200 seeds); without that covariance the intervals
+ *     are shown to be far too narrow. */
 #include "pixel_scene.h"
 
 static void x_error(const tram_se3 *X, const tram_se3 *truth, double dev[6], double *ang_deg, double *len)
@@ -54,6 +58,7 @@ static tram_solution *pose_path(const scene *s, const tram_solve_options *so)
 static void test_against_pose_path(void **state)
 {
     (void)state;
+    TEST_FIGURES_IN_PLAIN_BUILD_ONLY();
     tram_solve_options so;
     tram_solve_options_init(&so);
     so.check_conventions = 0;
@@ -90,44 +95,104 @@ static void test_against_pose_path(void **state)
     assert_true(better_r >= 0.9 * seeds);
 }
 
-static void test_interval_coverage(void **state)
+/* Coverage of the 95% intervals of X per axis over `seeds` scenes.  With
+ * calibrate: the camera is first calibrated (tram_intrinsics_calibrate,
+ * full model) from 15 other views with the same noise and then held fixed,
+ * its covariance passed (with_cov) or not. */
+static void coverage(uint64_t seed0, int seeds, int calibrate, int with_cov, int inside[6])
 {
-    (void)state;
     tram_solve_options so;
     tram_solve_options_init(&so);
     so.check_conventions = 0;
-    int inside[6] = {0}, seeds = 100, total = 0;
-    printf("[ seed     ] pixel intervals: seeds 56001 .. %d\n", 56000 + seeds);
+    /* with a calibrated camera, the plain least squares (a third of the
+     * time): the default robust path ends in the same least squares over
+     * the corners it keeps, and on these clean corners it keeps about all */
+    so.robust = !calibrate;
+    memset(inside, 0, 6 * sizeof *inside);
     for (int k = 0; k < seeds; k++) {
-        test_rng rng = {56001 + (uint64_t)k};
+        test_rng rng = {seed0 + (uint64_t)k};
         scene s;
         scene_make(&s, &rng, TRAM_SETUP_EYE_IN_HAND, 10, 0.3);
+        tram_camera cam = s.cam;
+        double cov[TRAM_CAM_NPARAM * TRAM_CAM_NPARAM];
+        tram_pixel_solve_options po;
+        tram_pixel_solve_options_init(&po);
+        if (calibrate) {
+            tram_intrinsics_result *ir = scene_calibrate(&s, &rng, 15, 0.3);
+            cam = ir->camera;
+            assert_int_equal(tram_camera_calib_covariance(&ir->calib, cov), 1);
+            if (with_cov) po.camera_cov = cov;
+            tram_intrinsics_result_destroy(ir);
+        }
         tram_solution *a = NULL;
         tram_error e;
-        tram_status st = tram_solve_pixels(s.rec, s.setup, &s.cam, s.obs, s.xyz, &so, NULL, &a, &e);
+        tram_status st = tram_solve_pixels(s.rec, s.setup, &cam, s.obs, s.xyz, &so, &po, &a, &e);
         if (st != TRAM_OK && st != TRAM_EUNDETERMINED) fail_msg("%s", e.message);
         assert_true(a->unc.valid);
+        assert_int_equal(a->pixels->camera_cov_used, calibrate && with_cov);
         double d[6], ang, len;
         x_error(&a->X, &s.X, d, &ang, &len);
-        for (int q = 0; q < 6; q++) {
-            int in = fabs(d[q]) <= 1.96 * sqrt(a->unc.cov[13 * q]);
-            inside[q] += in;
-            total += in;
-        }
+        for (int q = 0; q < 6; q++) inside[q] += fabs(d[q]) <= 1.96 * sqrt(a->unc.cov[13 * q]);
         tram_solution_destroy(a);
         scene_free(&s);
     }
-    printf("[ figures  ] 95%% intervals of X over %d seeds: tx %d%% ty %d%% tz %d%% rx %d%% ry %d%% "
-           "rz %d%%; pooled %.1f%%\n",
-           seeds, inside[0], inside[1], inside[2], inside[3], inside[4], inside[5],
-           100.0 * total / (6.0 * seeds));
-    assert_true(total >= 0.90 * 6 * seeds);
-    assert_true(total <= 0.99 * 6 * seeds);
+}
+
+static void print_coverage(const char *what, int seeds, const int inside[6])
+{
+    printf("[ figures  ] 95%% intervals of X, %s, over %d seeds: tx %.1f%% ty %.1f%% tz %.1f%% "
+           "rx %.1f%% ry %.1f%% rz %.1f%%\n",
+           what, seeds, 100.0 * inside[0] / seeds, 100.0 * inside[1] / seeds, 100.0 * inside[2] / seeds,
+           100.0 * inside[3] / seeds, 100.0 * inside[4] / seeds, 100.0 * inside[5] / seeds);
+}
+
+/* Per axis within 90-99% (issue 15).  For a true 95% the count over n
+ * seeds is binomial with sd sqrt(n 0.95 0.05): 2.2 points at 100 seeds,
+ * where 90% is only 2.3 sd away (6 axes: about 1 set of seeds in 10 fails
+ * an exact interval), 1.5 points at 200 seeds (3.2 sd: 1 in 250). */
+static void assert_per_axis(int seeds, const int inside[6])
+{
+    for (int q = 0; q < 6; q++) {
+        assert_true(inside[q] >= 0.90 * seeds);
+        assert_true(inside[q] <= 0.99 * seeds);
+    }
+}
+
+/* The camera known exactly: the pixel model's covariance alone. */
+static void test_interval_coverage(void **state)
+{
+    (void)state;
+    TEST_FIGURES_IN_PLAIN_BUILD_ONLY();
+    int inside[6], seeds = 200;
+    printf("[ seed     ] pixel intervals, camera exact: seeds 56001 .. %d\n", 56000 + seeds);
+    coverage(56001, seeds, 0, 0, inside);
+    print_coverage("camera exact", seeds, inside);
+    assert_per_axis(seeds, inside);
+}
+
+/* The camera from its own calibration (15 views, 0.3 px): without its
+ * covariance the intervals are far too narrow (the camera's error
+ * dominates); with it (first-order propagation) they hold. */
+static void test_interval_coverage_calibrated_camera(void **state)
+{
+    (void)state;
+    TEST_FIGURES_IN_PLAIN_BUILD_ONLY();
+    int inside[6], bare[6], seeds = 200, nb = 20;
+    printf("[ seed     ] pixel intervals, calibrated camera: seeds 57001 .. %d\n", 57000 + seeds);
+    coverage(57001, seeds, 1, 1, inside);
+    print_coverage("camera calibrated, its covariance included", seeds, inside);
+    coverage(57001, nb, 1, 0, bare);
+    print_coverage("camera calibrated, taken as exact", nb, bare);
+    assert_per_axis(seeds, inside);
+    int pooled = 0;
+    for (int q = 0; q < 6; q++) pooled += bare[q];
+    assert_true(pooled < 0.75 * 6 * nb);
 }
 
 int main(void)
 {
     const struct CMUnitTest tests[] = {cmocka_unit_test(test_against_pose_path),
-                                       cmocka_unit_test(test_interval_coverage)};
+                                       cmocka_unit_test(test_interval_coverage),
+                                       cmocka_unit_test(test_interval_coverage_calibrated_camera)};
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

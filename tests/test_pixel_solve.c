@@ -50,7 +50,9 @@ static void test_refine_intrinsics(void **state)
     start.fy *= 1.01;
     start.cx += 4;
     start.k1 *= 0.9;
-    tram_pixel_solve_options po = {1};
+    tram_pixel_solve_options po;
+    tram_pixel_solve_options_init(&po);
+    po.refine_intrinsics = 1;
     tram_solution *sol = NULL;
     tram_error e;
     tram_status st = tram_solve_pixels(s.rec, s.setup, &start, s.obs, s.xyz, NULL, &po, &sol, &e);

@@ -4,6 +4,10 @@
 
 #define NPT 12
 
+/* The sensor's length scale planted in make_scene: the sensor reports
+ * lengths divided by it (sensor lengths x scale = robot lengths). */
+static double scene_scale = 1.0;
+
 typedef struct scene {
     tram_se3 X, Z;
     double model[NPT * 3];
@@ -63,7 +67,7 @@ static void make_scene(test_rng *rng, size_t n, double sig, size_t npts, scene *
             double q[3], p[3];
             tram_se3_apply_point(&s->Z, s->model + 3 * k, q);
             tram_se3_apply_point(&FXi, q, p);
-            for (int a = 0; a < 3; a++) p[a] += sig * test_rng_normal(rng);
+            for (int a = 0; a < 3; a++) p[a] = p[a] / scene_scale + sig * test_rng_normal(rng);
             ol += (size_t)snprintf(s->obs_text + ol, cap - ol, "s%zu,c%zu,%.17g,%.17g,%.17g\n",
                                    i + 1, k, p[0], p[1], p[2]);
         }
@@ -77,7 +81,7 @@ static void free_scene(scene *s)
     free(s->model_text);
 }
 
-static tram_solution *solve_scene(scene *s, int with_model, tram_status want)
+static tram_solution *solve_scene_fit(scene *s, int with_model, int fit_scale, tram_status want)
 {
     tram_point_obs *obs;
     tram_point_model *m = NULL;
@@ -91,12 +95,101 @@ static tram_solution *solve_scene(scene *s, int with_model, tram_status want)
     tram_solve_options o;
     tram_solve_options_init(&o);
     o.check_conventions = 0;
+    o.fit_scale = fit_scale;
+    o.trust.pairing_permutations = fit_scale ? o.trust.pairing_permutations : 0;
     tram_solution *sol = NULL;
     tram_status st = tram_solve_points(s->r, TRAM_SETUP_EYE_IN_HAND, obs, m, &o, &sol, &e);
     if (st != want) fail_msg("status %d: %s", st, e.message);
     tram_point_obs_destroy(obs);
     tram_point_model_destroy(m);
     return sol;
+}
+
+static tram_solution *solve_scene(scene *s, int with_model, tram_status want)
+{
+    return solve_scene_fit(s, with_model, 0, want);
+}
+
+static double dist_len(const tram_se3 *a, const tram_se3 *b)
+{
+    double ang, len;
+    tram_se3_distance(a, b, &ang, &len);
+    return len;
+}
+
+static int has_diag(const tram_solution *sol, const char *code)
+{
+    for (size_t i = 0; i < sol->ndiag; i++)
+        if (strcmp(sol->diag[i].code, code) == 0) return 1;
+    return 0;
+}
+
+/* A planted sensor scale of 0.3% (issue #13: recovered within 0.03%),
+ * with and without a model; without --fit-scale the test notes it. */
+static void test_scale_planted(void **state)
+{
+    (void)state;
+    test_rng rng = test_rng_seeded("points planted scale 1.003", 12010);
+    scene_scale = 1.003;
+    for (int with_model = 0; with_model < 2; with_model++) {
+        scene s;
+        make_scene(&rng, 12, 0.1, NPT, &s);
+        tram_solution *fit = solve_scene_fit(&s, with_model, 1, TRAM_OK);
+        tram_solution *test = solve_scene_fit(&s, with_model, 0, TRAM_OK);
+        const tram_scale_result *k = &fit->sensor_scale;
+        printf("[ info     ] %s model: scale %.6f (1 sigma %.6f), error %.4f%%; X error %.4f mm "
+               "fitted, %.4f mm with scale 1; note without --fit-scale: %s (z %.1f)\n",
+               with_model ? "given" : "solved", k->scale, k->sigma, 100 * (k->scale - 1.003),
+               dist_len(&fit->X, &s.X), dist_len(&test->X, &s.X),
+               has_diag(test, "sensor-scale-significant") ? "yes" : "no", test->sensor_scale.z);
+        assert_true(k->estimated && k->fitted);
+        assert_true(fabs(k->scale - 1.003) < 0.0003);
+        assert_true(fabs(k->scale - 1.003) < 4 * k->sigma);
+        assert_false(has_diag(fit, "sensor-scale-significant"));
+        assert_true(test->sensor_scale.estimated && !test->sensor_scale.fitted);
+        assert_true(has_diag(test, "sensor-scale-significant"));
+        assert_false(has_diag(test, "sensor-scale-far"));
+        assert_true(fit->trustworthy && test->trustworthy);
+        tram_solution_destroy(fit);
+        tram_solution_destroy(test);
+        free_scene(&s);
+    }
+    /* 5% off: a warning (units or the sensor model), fitted or not. */
+    scene_scale = 1.05;
+    scene s;
+    make_scene(&rng, 12, 0.1, NPT, &s);
+    tram_solution *sol = solve_scene(&s, 0, TRAM_OK);
+    assert_true(has_diag(sol, "sensor-scale-far"));
+    assert_false(sol->trustworthy);
+    tram_solution_destroy(sol);
+    free_scene(&s);
+    scene_scale = 1.0;
+}
+
+/* No planted scale: the note appears in at most about 1% of seeds (the
+ * 3-sigma rule, common practice: 0.27% for a normal z), and z has unit
+ * variance (the scale's sigma is right). */
+static void test_scale_false_note_rate(void **state)
+{
+    (void)state;
+    enum { SEEDS = 100 };
+    test_rng rng = test_rng_seeded("points no scale, 100 scenes", 12011);
+    int notes = 0;
+    double z2 = 0;
+    for (int i = 0; i < SEEDS; i++) {
+        scene s;
+        make_scene(&rng, 8, 0.1, NPT, &s);
+        tram_solution *sol = solve_scene(&s, i % 2, TRAM_OK);
+        assert_true(sol->sensor_scale.estimated);
+        notes += has_diag(sol, "sensor-scale-significant");
+        z2 += sol->sensor_scale.z * sol->sensor_scale.z;
+        tram_solution_destroy(sol);
+        free_scene(&s);
+    }
+    printf("[ info     ] no planted scale: the note in %d of %d scenes; mean z^2 %.3f (1 expected)\n",
+           notes, SEEDS, z2 / SEEDS);
+    assert_true(notes <= 2);
+    assert_true(z2 / SEEDS > 0.6 && z2 / SEEDS < 1.5);
 }
 
 static void test_noise_free_recovery(void **state)
@@ -243,6 +336,8 @@ int main(void)
     const struct CMUnitTest tests[] = {cmocka_unit_test(test_noise_free_recovery),
                                        cmocka_unit_test(test_single_point),
                                        cmocka_unit_test(test_point_refinement_beats_pose),
-                                       cmocka_unit_test(test_file_errors)};
+                                       cmocka_unit_test(test_file_errors),
+                                       cmocka_unit_test(test_scale_planted),
+                                       cmocka_unit_test(test_scale_false_note_rate)};
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

@@ -262,6 +262,7 @@ static void test_jacobian(void **state)
 static void test_covariance_coverage(void **state)
 {
     (void)state;
+    TEST_FIGURES_IN_PLAIN_BUILD_ONLY();
     test_rng rng = test_rng_seeded("pose covariance", 52004);
     double xyz[3 * 54], uv[2 * 54];
     board_points(9, 6, 25.0, xyz);
@@ -299,11 +300,49 @@ static void test_covariance_coverage(void **state)
     }
 }
 
+/* The fold of a strong barrel lens (camera.c): with k1 = -0.5 alone,
+ * d/dr [r (1 + k1 r^2)] = 1 + 3 k1 r^2 vanishes at r_f = sqrt(2/3) (worked
+ * by hand), where the distorted radius peaks at r_f (1 - r_f^2 / 2) =
+ * 0.5443.  A pixel inside that radius unprojects to the ray inside the
+ * fold; one beyond is refused (it has no ray there) and tram_pose names
+ * the fold. */
+static void test_fold(void **state)
+{
+    (void)state;
+    tram_camera c;
+    memset(&c, 0, sizeof c);
+    c.fx = c.fy = 1000;
+    c.cx = 640;
+    c.cy = 480;
+    c.k1 = -0.5;
+    c.distortion = TRAM_DISTORTION_RADIAL2;
+    assert_close(tram_camera_fold_radius(&c), sqrt(2.0 / 3.0), 1e-12);
+    double xy[2], back[2];
+    /* distorted radius 0.5 (inside the peak 0.5443): the near root */
+    assert_true(tram_camera_unproject(&c, (double[2]){640 + 0.3 * 1000, 480 + 0.4 * 1000}, xy));
+    assert_true(hypot(xy[0], xy[1]) < sqrt(2.0 / 3.0));
+    tram_camera_distort(&c, xy, back);
+    assert_close(back[0], 0.3, 1e-12);
+    assert_close(back[1], 0.4, 1e-12);
+    /* distorted radius 0.6: beyond the fold, refused */
+    assert_false(tram_camera_unproject(&c, (double[2]){640 + 0.36 * 1000, 480 + 0.48 * 1000}, xy));
+    c.k1 = 0.1; /* no fold for a pincushion lens */
+    assert_true(isinf(tram_camera_fold_radius(&c)));
+    c.k1 = -0.5;
+    double pts[3 * 4] = {0, 0, 0, 100, 0, 0, 0, 100, 0, 100, 100, 0};
+    double uv[2 * 4] = {640, 480, 700, 480, 640, 540, 640 + 360, 480 + 480};
+    tram_pose_result pr;
+    tram_error e;
+    assert_int_equal(tram_pose_from_pixels(&c, pts, uv, 4, &pr, &e), TRAM_EUNDETERMINED);
+    printf("  refusal: %s\n", e.message);
+    assert_non_null(strstr(e.message, "beyond the fold of the camera's lens model"));
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_planar_exact), cmocka_unit_test(test_nonplanar_exact),
         cmocka_unit_test(test_degenerate), cmocka_unit_test(test_jacobian),
-        cmocka_unit_test(test_covariance_coverage)};
+        cmocka_unit_test(test_covariance_coverage), cmocka_unit_test(test_fold)};
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

@@ -193,6 +193,7 @@ static void test_robust_outliers(void **state)
 static void test_uncertainty(void **state)
 {
     (void)state;
+    TEST_FIGURES_IN_PLAIN_BUILD_ONLY();
     /* The stated 1-sigma matches the scatter of repeated noisy solutions. */
     test_rng rng = test_rng_seeded("register sigma", 11004);
     tram_se3 T;

@@ -137,6 +137,7 @@ static int has_code(const tram_solution *s, const char *code)
 static void test_false_alarms(void **state)
 {
     (void)state;
+    TEST_FIGURES_IN_PLAIN_BUILD_ONLY();
     const size_t sizes[2] = {5, 15};
     for (int su = 0; su < 2; su++) {
         tram_setup setup = su ? TRAM_SETUP_EYE_TO_HAND : TRAM_SETUP_EYE_IN_HAND;

@@ -23,6 +23,20 @@
 #define M_PI 3.14159265358979323846
 #endif
 
+/* Monte Carlo figure tests (hundreds of seeded solves that prove a rate or a
+ * coverage) run in the plain build.  The sanitizer build (make asan sets
+ * TRAM_TEST_SANITIZER=1) skips them: the same code paths run under the
+ * sanitizers in the other tests, at a fraction of the time. */
+#define TEST_FIGURES_IN_PLAIN_BUILD_ONLY()                                                         \
+    do {                                                                                           \
+        const char *san_ = getenv("TRAM_TEST_SANITIZER");                                          \
+        if (san_ && strcmp(san_, "1") == 0) {                                                      \
+            printf("[ info     ] sanitizer build: this Monte Carlo figure is checked in the "     \
+                   "plain build\n");                                                               \
+            skip();                                                                                \
+        }                                                                                          \
+    } while (0)
+
 typedef struct test_rng {
     uint64_t s;
 } test_rng;

@@ -133,17 +133,26 @@ static const char wrist_header[] =
     "sensor_x,sensor_y,sensor_z,sensor_qw,sensor_qx,sensor_qy,sensor_qz\n";
 
 /* Wrist-camera stations looking at the board from above at varied angles;
- * station `bad` (1-based, 0 for none) gets a gross detection error. */
-static int write_wrist(const char *dir, const char *name, char prefix, const char *comment,
-                       const tram_se3 *T_flange_sensor, const tram_se3 *T_base_target, int n,
-                       int bad)
+ * station `bad` (1-based, 0 for none) gets a gross detection error.  With
+ * T_flange_tool the robot poses are logged as tool (TCP) poses. */
+static int write_wrist_tool(const char *dir, const char *name, char prefix, const char *comment,
+                            const tram_se3 *T_flange_sensor, const tram_se3 *T_base_target, int n,
+                            int bad, const tram_se3 *T_flange_tool)
 {
     char path[1024];
     snprintf(path, sizeof path, "%s/%s", dir, name);
     FILE *f = fopen(path, "w");
     if (!f) return 1;
     fputs(comment, f);
-    fputs(wrist_header, f);
+    if (!T_flange_tool) {
+        fputs(wrist_header, f);
+    } else {
+        static const char flange_line[] = "# robot-pose: flange-in-base\n";
+        const char *at = strstr(wrist_header, flange_line);
+        fwrite(wrist_header, 1, (size_t)(at - wrist_header), f);
+        fputs("# robot-pose: tool-in-base\n", f);
+        fputs(at + strlen(flange_line), f);
+    }
     double board[3] = {T_base_target->m[0][3], T_base_target->m[1][3], T_base_target->m[2][3]};
     for (int i = 1; i <= n; i++) {
         double az = uniform() * 2 * PI, el = (45 + 35 * uniform()) * DEG,
@@ -162,12 +171,21 @@ static int write_wrist(const char *dir, const char *name, char prefix, const cha
         add_noise(&St, 0.05, 0.2);
         if (i == bad) add_noise(&St, 1.5, 6.0); /* the bad detection */
         fprintf(f, "%c%02d", prefix, i);
+        if (T_flange_tool) tram_se3_compose(&Tf, T_flange_tool, &Tf); /* the TCP's pose */
         write_euler(f, &Tf);
         write_quat(f, &St, 1.0);
         fprintf(f, "\n");
     }
     fclose(f);
     return 0;
+}
+
+static int write_wrist(const char *dir, const char *name, char prefix, const char *comment,
+                       const tram_se3 *T_flange_sensor, const tram_se3 *T_base_target, int n,
+                       int bad)
+{
+    return write_wrist_tool(dir, name, prefix, comment, T_flange_sensor, T_base_target, n, bad,
+                            NULL);
 }
 
 int main(int argc, char **argv)
@@ -316,5 +334,16 @@ int main(int argc, char **argv)
     }
     fclose(f);
     tram_chain_destroy(arm);
+    /* The wrist camera logged with the gripper's tool offset active on the
+     * controller: TCP poses (docs/records.md, tool poses). */
+    tram_se3 T_flange_tool;
+    pose_from((double[3]){0.0, 0.0, 30.0}, (double[3]){0.0, 0.0, 150.0}, &T_flange_tool);
+    if (write_wrist_tool(argv[1], "wrist_camera_tcp.csv", 't',
+                         "# Demo: the wrist camera logged with the gripper's tool offset active on\n"
+                         "# the controller (invented, tools/gen_demo.c): the robot poses are TCP\n"
+                         "# poses. The gripper's TCP is 150 mm along the flange's z, turned 30 deg\n"
+                         "# about it: --tool '0,0,150mm euler:zyx-intrinsic:30,0,0deg'.\n",
+                         &T_flange_sensor, &T_base_target, 12, 0, &T_flange_tool))
+        return 1;
     return 0;
 }

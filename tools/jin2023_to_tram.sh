@@ -19,9 +19,17 @@
 # declaration to be tested, and tram solve's convention check names the one
 # that fits.
 set -eu
+fail() { echo "jin2023_to_tram.sh: error: $*" >&2; exit 2; }
+[ $# -ge 2 ] && [ $# -le 3 ] || fail "usage: jin2023_to_tram.sh DATASET_DIR OUT_DIR [EULER]"
 src=$1
 out=$2
 euler=${3:-xyz-extrinsic}
+# Fail before writing anything: a missing or partial dataset must not leave
+# empty record files behind that look like a conversion.
+[ -d "$src" ] || fail "$src: no such folder (expected the dataset's eyeinhand_pattern folder, e.g. ../shared/datasets/jin2023/eyeinhand_pattern)"
+[ -f "$src/robot/tcp.txt" ] || fail "$src/robot/tcp.txt: missing (expected one robot pose per line, x y z roll pitch yaw)"
+[ -d "$src/pointUndistort" ] || fail "$src/pointUndistort: missing (expected N_undistort.txt files of 3D corners)"
+ls "$src/pointUndistort" | grep -q '_undistort\.txt$' || fail "$src/pointUndistort: no N_undistort.txt files"
 mkdir -p "$out"
 rec="$out/records.csv"
 pts="$out/points.csv"
@@ -38,7 +46,7 @@ pts="$out/points.csv"
     echo "# length-unit: mm"
     echo "station,point,x,y,z"
 } >"$pts"
-for f in $(ls "$src/pointUndistort" | sort -n); do
+for f in $(ls "$src/pointUndistort" | grep '_undistort\.txt$' | sort -n); do
     n=${f%%_undistort.txt}
     awk -v n="$n" 'NR == n { printf "%s,%s,%s,%s,%s,%s,%s\n", n, $1, $2, $3, $4, $5, $6 }' \
         "$src/robot/tcp.txt" >>"$rec"
@@ -46,3 +54,11 @@ for f in $(ls "$src/pointUndistort" | sort -n); do
     awk -v n="$n" 'NR % 2 == 1 && NF >= 4 { printf "%s,%s,%s,%s,%s\n", n, $1, $2, $3, $4 }' \
         "$src/pointUndistort/$f" >>"$pts"
 done
+# every station needs its robot pose line
+want=$(ls "$src/pointUndistort" | grep -c '_undistort\.txt$')
+got=$(grep -c '^[0-9]' "$rec" || true)
+if [ "$got" -ne "$want" ]; then
+    rm -f "$rec" "$pts"
+    fail "$src/robot/tcp.txt: $got robot poses for $want stations (station N needs line N); nothing written"
+fi
+echo "jin2023_to_tram.sh: $want stations: $rec, $pts" >&2

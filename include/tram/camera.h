@@ -54,10 +54,17 @@ TRAM_API void tram_camera_distort(const tram_camera *c, const double xy[2], doub
  * leaves uv untouched, when Z <= 0. */
 TRAM_API int tram_camera_project(const tram_camera *c, const double p_sensor[3], double uv[2]);
 /* Inverse of the distortion and the intrinsic matrix: the normalised
- * undistorted (x, y) of pixel uv, by Gauss-Newton from the pixel itself
- * (converges for the distortion of real lenses inside the image; returns
- * 0 when it did not reach 1e-12 in 50 steps). */
+ * undistorted (x, y) of pixel uv, by Gauss-Newton from the pixel itself,
+ * kept inside the fold radius (below).  Returns 0 when it did not reach
+ * 1e-12 in 50 steps or when the pixel lies beyond the fold (no ray inside
+ * the fold maps to it; refused within a few steps). */
 TRAM_API int tram_camera_unproject(const tram_camera *c, const double uv[2], double xy[2]);
+/* The fold radius of the radial distortion, normalised and undistorted
+ * (r = sqrt(x^2 + y^2)): where r (1 + k1 r^2 + k2 r^4 + k3 r^6) stops
+ * growing, i.e. 1 + 3 k1 r^2 + 5 k2 r^4 + 7 k3 r^6 = 0 first; INFINITY when
+ * it never does.  Rays beyond it would be imaged back toward the centre:
+ * the model does not describe them. */
+TRAM_API double tram_camera_fold_radius(const tram_camera *c);
 
 
 /* ---- Camera files (docs/camera.md) -------------------------------------
@@ -74,7 +81,10 @@ TRAM_API int tram_camera_unproject(const tram_camera *c, const double uv[2], dou
  * "calibration", written when the camera came from tram intrinsics, holds
  * the method, the number of views, points and outliers, the RMS
  * reprojection error in pixels, and "sigma": the 1-sigma of every free
- * parameter by name, with "fixed" listing the parameters held fixed. */
+ * parameter by name, with "fixed" listing the parameters held fixed, and
+ * optionally "correlation": for each free parameter but the last, its
+ * correlation with each later free parameter (TRAM_CAM_* order), by name:
+ *   "correlation": {"fx": {"fy": 0.91, "cx": -0.05, ...}, "fy": {...}, ...} */
 
 /* Parameter indices, in the order of tram_camera_param_name. */
 enum {
@@ -99,7 +109,20 @@ typedef struct tram_camera_calib {
     int free_param[TRAM_CAM_NPARAM]; /* 1: estimated; 0: held fixed            */
     double sigma[TRAM_CAM_NPARAM];   /* 1-sigma of the free parameters (pixels for
                                         fx..skew, unitless for k, p); 0 for fixed */
+    int has_correlation;             /* 1: correlation below is filled           */
+    double correlation[TRAM_CAM_NPARAM * TRAM_CAM_NPARAM];
+                                     /* row-major, TRAM_CAM_* order: correlation of
+                                        two free parameters (1 on the diagonal);
+                                        0 for fixed ones */
 } tram_camera_calib;
+
+/* The covariance of the calibrated parameters (TRAM_CAM_NPARAM^2,
+ * row-major, TRAM_CAM_* order; pixels^2 for fx..skew): sigma_i sigma_j
+ * rho_ij, with rho the identity when the file gave no correlations.
+ * Returns 0 (cov all zero) when cal is NULL or not present, 1 with the
+ * correlations, 2 with the sigmas alone. */
+TRAM_API int tram_camera_calib_covariance(const tram_camera_calib *cal,
+                                          double cov[TRAM_CAM_NPARAM * TRAM_CAM_NPARAM]);
 
 /* Read a camera file ("-": standard input) or a buffer of len bytes.
  * calib may be NULL; otherwise it is filled (present = 0 when the file has
@@ -209,6 +232,23 @@ TRAM_API tram_status tram_intrinsics_calibrate(const tram_pixel_obs *obs,
                                                const tram_intrinsics_options *opt,
                                                tram_intrinsics_result **out, tram_error *err);
 TRAM_API void tram_intrinsics_result_destroy(tram_intrinsics_result *r);
+
+/* Plain-value access for bindings (intrinsics_access.c).  The camera
+ * file's text of the optimum with its calibration block (as
+ * tram_camera_to_json; free() it); the RMS reprojection error of the
+ * inliers (pixels); a copy of the camera; the number of views; view i's station id (NULL when
+ * out of range); view i's T_sensor_target as a row-major 4x4 in the
+ * target's length unit and its RMS in pixels (rms_px may be NULL; returns
+ * 0 when i is out of range). */
+TRAM_API tram_status tram_intrinsics_camera_json(const tram_intrinsics_result *r, char **text,
+                                                 tram_error *err);
+TRAM_API double tram_intrinsics_rms_px(const tram_intrinsics_result *r);
+/* A copy of the optimum camera. */
+TRAM_API void tram_intrinsics_camera(const tram_intrinsics_result *r, tram_camera *out);
+TRAM_API size_t tram_intrinsics_view_count(const tram_intrinsics_result *r);
+TRAM_API const char *tram_intrinsics_view_id(const tram_intrinsics_result *r, size_t i);
+TRAM_API int tram_intrinsics_view_pose(const tram_intrinsics_result *r, size_t i, double T[16],
+                                       double *rms_px);
 
 /* The pixel of the target point xyz_target (target frame) when the
  * target is at T_sensor_target.  Returns 0, uv untouched, when the point

@@ -86,6 +86,15 @@ TRAM_API void tram_chain_jacobian(const tram_chain *c, const double *readings, d
 TRAM_API tram_status tram_records_apply_chain(tram_records *r, const tram_chain *c,
                                               tram_error *err);
 
+/* Damped least-squares inverse kinematics (Wampler, IEEE T-SMC 16(1),
+ * 1986; Nakamura & Hanafusa, J. Dyn. Sys. Meas. Control 108(3), 1986) on
+ * the chain's geometric Jacobian: readings from q0 (chain units) toward
+ * T_base_flange (chain length unit), kept inside the joint limits.
+ * (ik.c).  Returns 1 when the pose is reached within tol_length and tol_rad (q
+ * then holds the readings), else 0. */
+TRAM_API int tram_chain_ik(const tram_chain *c, const tram_se3 *T_base_flange, const double *q0,
+                           double tol_length, double tol_rad, double *q);
+
 #ifdef __cplusplus
 }
 #endif

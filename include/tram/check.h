@@ -46,6 +46,25 @@ typedef struct tram_calibration {
     char checksum[24];        /* of the calibration's input records               */
     size_t nresiduals;        /* per-station residuals of the solve (0: none)     */
     tram_calibration_residual *residuals; /* owned by the calibration             */
+    /* What a calibration report shows (tram/report.h); read when present,
+     * left empty (NaN, 0, "") when the file does not hold them. */
+    char written_by[64];      /* "tool": the tram that wrote the file             */
+    char method[32];          /* "method": auto or the one asked for              */
+    char start_method[32];    /* "start_method": the closed form the refinement began from */
+    int refined;
+    tram_stats rot_deg_stats; /* residuals.rotation_deg (rms, median, max)        */
+    tram_stats trans_stats;   /* residuals.translation, length unit               */
+    char noise_source[16];    /* "given" or "estimated"                           */
+    double motion_min_deg, motion_max_deg, axis_spread_deg, condition;
+    size_t outliers;
+    char input_source[256];   /* input.source: the record file solved             */
+    size_t ninput;            /* input.stations (0: none)                         */
+    char (*input_ids)[TRAM_STATION_ID_MAX]; /* ninput ids, owned                   */
+    tram_se3 *input_T_base_flange;          /* ninput poses, owned                 */
+    size_t ndiag;             /* diagnostics of the solve, owned                  */
+    tram_diagnostic *diag;
+    int has_tool;             /* solved from tool (TCP) poses: tool_frame          */
+    tram_se3 T_flange_tool;   /* the tool used (length unit)                       */
 } tram_calibration;
 
 /* Read a calibration file.  Wrong format, a newer version, missing or

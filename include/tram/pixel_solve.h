@@ -46,7 +46,18 @@ TRAM_API void tram_pixel_target_free(double *xyz);
 typedef struct tram_pixel_solve_options {
     int refine_intrinsics;   /* 1: free fx, fy, cx, cy and the distortion
                                 model's coefficients too (joint calibration) */
+    const double *camera_cov; /* NULL: the camera is taken as exact.  Else the
+                                covariance of its parameters from their own
+                                calibration (TRAM_CAM_NPARAM^2, row-major,
+                                TRAM_CAM_* order, pixels^2 for fx..skew; e.g.
+                                from tram_camera_calib_covariance), carried
+                                into the covariance of X and Z when the
+                                camera is held fixed (ignored with
+                                refine_intrinsics) */
 } tram_pixel_solve_options;
+
+/* Defaults: the camera held fixed and taken as exact. */
+TRAM_API void tram_pixel_solve_options_init(tram_pixel_solve_options *opt);
 
 /* Pixel results of a solve (owned by the solution). */
 typedef struct tram_pixel_result {
@@ -67,6 +78,11 @@ typedef struct tram_pixel_result {
     tram_camera camera;         /* the camera used (refined when asked)      */
     double camera_sigma[10];    /* 1-sigma of fx fy cx cy skew k1 k2 k3 p1 p2
                                    (0 when held fixed)                        */
+    int camera_cov_used;        /* 1: the covariance of X, Z includes the
+                                   camera's own calibration uncertainty       */
+    double camera_share[12];    /* of each variance of X, Z (translation,
+                                   rotation; X then Z): the fraction that
+                                   comes from the camera (0 when not used)    */
 } tram_pixel_result;
 
 /* Solve from pixels.  r gives the robot poses of the stations (its sensor
@@ -78,7 +94,9 @@ typedef struct tram_pixel_result {
  * view whose pose cannot be found (fewer than 4 corners, collinear
  * corners) is TRAM_EUNDETERMINED naming the station.  Results and status
  * as for tram_solve, with s->pixels filled; the uncertainty of X and Z is
- * that of the pixel model (sigma_px^2 (J^T J)^-1 over the corners used). */
+ * that of the pixel model (sigma_px^2 (J^T J)^-1 over the corners used),
+ * plus, with popt->camera_cov and a fixed camera, the camera's share
+ * G C G^T, G = (J^T J)^-1 J^T J_camera (first-order propagation). */
 TRAM_API tram_status tram_solve_pixels(const tram_records *r, tram_setup setup,
                                        const tram_camera *cam, const tram_pixel_obs *obs,
                                        const double *xyz, const tram_solve_options *opt,

@@ -12,6 +12,7 @@
 
 #include "tram/camera.h"
 #include "tram/image.h"
+#include "tram/plan.h"
 #include "tram/records.h"
 #include "tram/se3.h"
 
@@ -93,6 +94,21 @@ TRAM_API tram_status tram_plot_points(size_t n, const char *const *ids, const do
                                       const int *outlier, double threshold,
                                       tram_length_unit unit, const char *title, int width,
                                       int height, tram_image **out, tram_error *err);
+
+/* A station plan (tram/plan.h): the flange positions of the recorded
+ * stations (grey) and of the proposed ones (numbered in visiting order,
+ * in a distinct colour) in the top and front views, and the 1-sigma of X
+ * now, predicted after the plan and after random feasible stations
+ * (plan_plot.c, docs/plan.md). */
+typedef struct tram_plot_plan_data {
+    const tram_plan_result *plan;
+    size_t n_existing;
+    const tram_se3 *existing;           /* n_existing T_base_flange, or NULL    */
+    const char *title;                  /* NULL: a title with the caution       */
+} tram_plot_plan_data;
+
+TRAM_API tram_status tram_plot_plan(const tram_plot_plan_data *d, int width, int height,
+                                    tram_image **out, tram_error *err);
 
 /* ---- printable boards (src/plot/board_print.c, docs/images.md) ------- */
 

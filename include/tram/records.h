@@ -79,6 +79,8 @@ typedef struct tram_station {
     tram_se3 T_sensor_target; /* valid when the sensor block is present         */
 } tram_station;
 
+#define TRAM_RECORDS_WARNINGS_MAX 8 /* more are counted in n_warnings only */
+
 typedef struct tram_records {
     size_t count;
     tram_station *stations;      /* count entries, owned by the record set     */
@@ -93,6 +95,22 @@ typedef struct tram_records {
     tram_block_convention conv[TRAM_BLOCK_COUNT];
     int reorthonormalize;        /* matrices were projected onto SO(3)          */
     unsigned long long checksum; /* FNV-1a 64 of the input bytes                */
+    /* Tool poses (robot-pose: tool-in-base): the robot block holds T_base_tool,
+     * the TCP's pose, logged with a tool offset active on the controller.
+     * With the tool known, T_base_flange = T_base_tool T_flange_tool^-1;
+     * without it the record set is refused by everything that needs flange
+     * poses (tram_records_require_flange). */
+    int robot_tool;              /* robot-pose: tool-in-base                      */
+    int has_tool;                /* T_flange_tool known and applied              */
+    tram_se3 T_flange_tool;      /* the tool's pose in the flange (length unit)  */
+    long robot_pose_line;        /* line of the robot-pose directive (0: none)   */
+    long tool_line;              /* line of tool-in-flange (0: none or unknown)  */
+    int tool_in_file;            /* the tool came from the file (tool-in-flange) */
+    double quat_norm_tol;        /* the quaternion tolerance read with (0: default) */
+    /* Warnings of the reader, each "file:line:col: warning: ...": e.g. a
+     * comment that looks like a misspelt directive (it is not applied). */
+    size_t n_warnings;
+    char warnings[TRAM_RECORDS_WARNINGS_MAX][512];
     /* The numbers as read, owned by the record set (NULL when absent, e.g.
      * in a set built by hand): station i's block b starts at
      * raw[i * raw_stride + raw_off[b]] (x, y, z, then the rotation
@@ -112,7 +130,10 @@ typedef struct tram_read_options {
     tram_length_unit length_unit; /* given on the command line, or UNSET      */
     tram_angle_unit angle_unit;   /* given on the command line, or UNSET      */
     int reorthonormalize;         /* accept near-rotation matrices and project */
-    double quat_norm_tol;         /* 0: TRAM_QUAT_NORM_TOL                      */
+    double quat_norm_tol;         /* 0: TRAM_QUAT_NORM_TOL; up to
+                                     TRAM_QUAT_NORM_MAX_FIX accepts rounded
+                                     quaternions (they are normalised); a
+                                     larger value is taken as that bound   */
     double matrix_tol;            /* 0: TRAM_RECORDS_MATRIX_TOL                 */
 } tram_read_options;
 
@@ -150,21 +171,55 @@ typedef struct tram_output_rep {
     tram_euler_seq euler;          /* for TRAM_REP_EULER                       */
     tram_length_unit length_unit;  /* UNSET: the records' unit                  */
     tram_angle_unit angle_unit;    /* needed for ROTVEC and EULER                */
+    int quat_xyzw;                 /* QUAT: columns in the order qx,qy,qz,qw
+                                      (scalar last; the names keep each number's
+                                      meaning, so the file reads back the same) */
+    int digits;                    /* significant digits of CSV numbers, 1..17;
+                                      0: 17 (reads back bit for bit)            */
+    int with_joints;               /* 1: also the joint readings (joint_1 ...), in
+                                      the records' own units (no unit change)    */
 } tram_output_rep;
 
-/* Parse "quat", "rotvec", "matrix" or "euler:SEQ"; 0 on success, -1 else. */
+/* Parse "quat", "quat-xyzw", "rotvec", "matrix" or "euler:SEQ"; 0 on
+ * success, -1 else. */
 TRAM_API int tram_output_rep_parse(const char *s, tram_output_rep *out);
 
 /* Write as a v1 record file (CSV when json == 0, else JSON) with the poses
  * in their default direction (flange-in-base, target-in-sensor), every
- * number printed with %.17g so that it reads back exactly. */
+ * number printed with %.17g so that it reads back exactly (CSV: rep->digits
+ * significant digits when set, for people; JSON always 17). */
 TRAM_API tram_status tram_records_write(const tram_records *r, const tram_output_rep *rep,
                                         int json, FILE *f, tram_error *err);
+
+/* ---- tool poses (tool.c, docs/records.md) --------------------------- */
+
+/* Parse the tool's pose in the flange frame from its text form
+ * "X,Y,ZUNIT ROTATION": the translation with its length unit, then
+ * quat:W,X,Y,Z, rotvec:A,B,CUNIT, euler:SEQ:A,B,CUNIT or
+ * matrix:R11,...,R33, e.g. "0,0,150mm quat:1,0,0,0" or
+ * "0,0,0.15m euler:zyx-intrinsic:90,0,0deg".  Nothing is assumed: every
+ * unit and convention is in the text.  *unit gets the translation's unit. */
+TRAM_API tram_status tram_tool_parse(const char *text, tram_se3 *T_flange_tool,
+                                     tram_length_unit *unit, tram_error *err);
+/* Apply a tool (translation in `unit`, converted to the records' unit) to
+ * a record set read with robot-pose: tool-in-base and no tool-in-flange:
+ * every station's T_base_flange becomes T_base_tool T_flange_tool^-1.
+ * Refused when the robot poses are not declared as tool poses or the file
+ * declares its tool already. */
+TRAM_API tram_status tram_records_set_tool(tram_records *r, const tram_se3 *T_flange_tool,
+                                           tram_length_unit unit, tram_error *err);
+/* TRAM_EINPUT (naming the robot-pose directive's line) when the robot
+ * poses are tool poses whose tool is not known; TRAM_OK otherwise.  The
+ * solvers, the mount check and the writer call it first. */
+TRAM_API tram_status tram_records_require_flange(const tram_records *r, tram_error *err);
 
 /* ---- plain-array access (for bindings; records_access.c) ----------- */
 
 /* Number of stations (0 for NULL). */
 TRAM_API size_t tram_records_count(const tram_records *r);
+/* The reader's warning i ("file:line:col: warning: ..."), or NULL when i
+ * is out of range. */
+TRAM_API const char *tram_records_warning(const tram_records *r, size_t i);
 /* Station i's id, or NULL when i is out of range. */
 TRAM_API const char *tram_records_station_id(const tram_records *r, size_t i);
 /* Station i's n_joints joint readings as read (records' units), or NULL

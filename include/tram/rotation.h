@@ -36,6 +36,12 @@ typedef struct tram_quat_wxyz {
 
 /* Default tolerance on | |q| - 1 | for quaternions read from files. */
 #define TRAM_QUAT_NORM_TOL 1e-6
+/* The widest tolerance a reader accepts when asked to normalise rounded
+ * quaternions (tram --rounded-quat, tram_read_options.quat_norm_tol): a
+ * quaternion printed to 4 decimals is off by up to about 1e-4 (common
+ * practice: logs print 4-6 decimals); beyond 1e-2 the numbers are more
+ * likely not a unit quaternion at all (wrong columns, scalar missing). */
+#define TRAM_QUAT_NORM_MAX_FIX 1e-2
 
 /* R from a quaternion; q is normalised first (a zero q gives identity). */
 TRAM_API void tram_quat_wxyz_to_mat3(const tram_quat_wxyz *q, tram_mat3 *out);

@@ -78,6 +78,9 @@ typedef struct tram_solve_options {
     void *progress_ctx;
     tram_trust_options trust; /* plausibility gate, pairing test, geometry; the
                                  pairing test's seed is `seed`                      */
+    int fit_scale;           /* 0 (default): the sensor's length scale is tested
+                                only; 1: fitted with X and Z (docs/solve.md,
+                                "Sensor length scale")                             */
 } tram_solve_options;
 
 TRAM_API void tram_solve_options_init(tram_solve_options *opt);
@@ -86,7 +89,7 @@ TRAM_API void tram_solve_options_init(tram_solve_options *opt);
  * set by name - for bindings, so that they never depend on the struct's
  * layout.  Names: "method" (a tram_method value), "refine", "robust",
  * "pairs" (a tram_pairs_mode value), "noise_length", "noise_angle_rad",
- * "bootstrap", "seed", "check_conventions".  _set returns 0, or -1 for an
+ * "bootstrap", "seed", "check_conventions", "fit_scale".  _set returns 0, or -1 for an
  * unknown name or a value out of range.  destroy(NULL) is a no-op. */
 TRAM_API tram_solve_options *tram_solve_options_create(void);
 TRAM_API int tram_solve_options_set(tram_solve_options *opt, const char *name, double value);
@@ -128,6 +131,19 @@ typedef struct tram_uncertainty {
                                                   the deviation (deg / length) */
 } tram_uncertainty;
 
+/* The sensor's length scale s: sensor lengths (the translations of the
+ * sensor poses, or the observed points) times s are the robot's lengths.
+ * Estimated with X and Z by the refinement (docs/solve.md). */
+typedef struct tram_scale_result {
+    int estimated;   /* 1: the figures below are set                          */
+    int fitted;      /* 1: X, Z and the residuals use s (fit_scale); 0: s was
+                        estimated as a test only and the result uses 1       */
+    double scale;    /* s                                                     */
+    double sigma;    /* its 1-sigma                                           */
+    double z;        /* (s - 1) / sigma                                       */
+    double p_value;  /* two-sided p of s = 1 (normal approximation)           */
+} tram_scale_result;
+
 typedef struct tram_solution {
     tram_setup setup;
     tram_length_unit length_unit;
@@ -157,9 +173,12 @@ typedef struct tram_solution {
     struct tram_point_result *points; /* solves from observed points (tram/points.h) */
     struct tram_pixel_result *pixels; /* solves from pixels (tram/pixel_solve.h) */
     tram_trust_report trust;  /* the plausibility checks' figures                  */
+    tram_scale_result sensor_scale; /* the sensor's length scale                    */
 } tram_solution;
 
 /* Solve.  `setup` must be set (from the records' directive or the caller).
+ * MUST-CHECK: TRAM_OK also comes with results that must not be used; use
+ * X and Z only when solved && trustworthy (docs/library.md).
  * Returns TRAM_OK with *out filled, or TRAM_EUNDETERMINED with *out filled
  * (solved = 0; diagnostics say what cannot be determined and what motion to
  * add), or an error (TRAM_EINPUT, TRAM_ENOMEM, ...) with *out NULL.  The

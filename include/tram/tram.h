@@ -11,6 +11,7 @@
 #include "tram/fileio.h"
 #include "tram/handeye.h"
 #include "tram/plot.h"
+#include "tram/report.h"
 #include "tram/points.h"
 #include "tram/point_solve.h"
 #include "tram/records.h"
@@ -24,5 +25,6 @@
 #include "tram/pose.h"
 #include "tram/pixels.h"
 #include "tram/pixel_solve.h"
+#include "tram/plan.h"
 
 #endif

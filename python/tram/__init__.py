@@ -23,12 +23,15 @@ import json
 import numpy as np
 
 from . import _lib
+from ._camera import (Camera, detect_chessboard, intrinsics, pose_from_pixels, read_board,
+                      read_camera, read_image)
 
 __all__ = ["Error", "InputError", "UndeterminedError", "OutOfMemoryError", "FileError",
            "NumericError", "Records", "Solution", "read_records", "records_from_poses", "solve",
            "register", "check", "fk", "euler_to_matrix", "matrix_to_euler",
            "quat_wxyz_to_matrix", "matrix_to_quat_wxyz", "rotvec_to_matrix", "matrix_to_rotvec",
-           "version"]
+           "version", "read_image", "read_board", "detect_chessboard", "Camera", "read_camera",
+           "intrinsics", "pose_from_pixels"]
 
 
 class Error(Exception):
@@ -148,16 +151,27 @@ class _RecordsHead(ctypes.Structure):
                 ("angle_unit", ctypes.c_int), ("setup", ctypes.c_int)]
 
 
-def read_records(path, *, length_unit=None, angle_unit=None, reorthonormalize=False):
+def read_records(path, *, length_unit=None, angle_unit=None, reorthonormalize=False, tool=None):
     """Read a record file (CSV or JSON, docs/records.md).  length_unit and
     angle_unit play the part of the command's --length-unit / --angle-unit
-    (they must agree with the file's directives)."""
+    (they must agree with the file's directives); tool the part of --tool:
+    the tool's pose in the flange frame, "X,Y,ZUNIT ROTATION" (e.g.
+    "0,0,150mm quat:1,0,0,0"), for a file whose robot poses are tool (TCP)
+    poses (robot-pose: tool-in-base)."""
     ro = _lib.ReadOptions(_length_unit(length_unit), _angle_unit(angle_unit),
                           1 if reorthonormalize else 0, 0.0, 0.0)
     h, err = ctypes.c_void_p(), _lib.Error()
     st = _lib.records_read_file(_enc(path), ctypes.byref(ro), ctypes.byref(h), ctypes.byref(err))
     if st != 0:
         _raise(st, err)
+    if tool is not None:
+        T, u = _lib.SE3(), ctypes.c_int()
+        st = _lib.tool_parse(_enc(tool), ctypes.byref(T), ctypes.byref(u), ctypes.byref(err))
+        if st == 0:
+            st = _lib.records_set_tool(h, ctypes.byref(T), u.value, ctypes.byref(err))
+        if st != 0:
+            _lib.records_destroy(h)
+            _raise(st, err)
     return Records(h.value)
 
 
@@ -193,6 +207,15 @@ def records_from_poses(T_base_flange=None, T_sensor_target=None, *, length_unit,
     if st != 0:
         _raise(st, err)
     return Records(h.value)
+
+
+def _records_arg(records, tool):
+    """A Records from a Records or a path (tool given only with a path)."""
+    if isinstance(records, (str, bytes)) or hasattr(records, "__fspath__"):
+        return read_records(records, tool=tool)
+    if tool is not None:
+        raise InputError(2, "", 0, 0, "tool: give it to read_records with the file")
+    return records
 
 
 def _json_text(ptr):
@@ -237,13 +260,13 @@ class Solution:
 
 
 def solve(records, *, setup=None, method="auto", refine=True, robust=True, noise_length=None,
-          noise_angle_rad=None, bootstrap=0, seed=1, check_conventions=True):
+          noise_angle_rad=None, bootstrap=0, seed=1, check_conventions=True, tool=None):
     """Hand-eye calibration (tram solve).  records: a Records, or a path to a
     record file.  Returns a Solution even when it is not trustworthy (check
     ``trustworthy``); raises UndeterminedError only when nothing could be
-    solved, and InputError for bad input."""
-    if isinstance(records, (str, bytes)) or hasattr(records, "__fspath__"):
-        records = read_records(records)
+    solved, and InputError for bad input.  tool: as for read_records (with
+    a path)."""
+    records = _records_arg(records, tool)
     m = _lib.method_parse(_enc(method))
     opt = _lib.solve_options_create()
     if not opt:
@@ -309,13 +332,12 @@ def register(from_points, to_points, *, weights=None, scale=False, method="svd")
             "rotation_sigma_deg": np.array(res.rotation_sigma_deg), "scale_sigma": res.scale_sigma}
 
 
-def check(calibration, records, *, tolerance_length=None, tolerance_angle_rad=None):
+def check(calibration, records, *, tolerance_length=None, tolerance_angle_rad=None, tool=None):
     """Mount check (tram check): has the mount moved since `calibration`
     (a calibration file's path)?  records: a Records or a record file's
     path.  Returns the library's check document (docs/check.md) as a dict;
-    its "verdict" is the answer."""
-    if isinstance(records, (str, bytes)) or hasattr(records, "__fspath__"):
-        records = read_records(records)
+    its "verdict" is the answer.  tool: as for read_records (with a path)."""
+    records = _records_arg(records, tool)
     cal, err = ctypes.c_void_p(), _lib.Error()
     st = _lib.calibration_read_file(_enc(str(calibration)), ctypes.byref(cal), ctypes.byref(err))
     if st != 0:

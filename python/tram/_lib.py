@@ -82,8 +82,10 @@ class RegisterResult(ctypes.Structure):
 
 
 class CheckOptions(ctypes.Structure):
+    # all of tram_check_options: the library reads every field
     _fields_ = [("use_tolerance", ctypes.c_int), ("tol_length", ctypes.c_double),
-                ("tol_angle_rad", ctypes.c_double)]
+                ("tol_angle_rad", ctypes.c_double), ("no_plausibility", ctypes.c_int),
+                ("pairing_permutations", ctypes.c_size_t), ("seed", ctypes.c_ulonglong)]
 
 
 class ChainHead(ctypes.Structure):
@@ -154,3 +156,79 @@ quat_to_mat3 = _fn("tram_quat_wxyz_to_mat3", V, c_double_p, ctypes.POINTER(Mat3)
 quat_from_mat3 = _fn("tram_quat_wxyz_from_mat3", V, ctypes.POINTER(Mat3), c_double_p)
 rotvec_to_mat3 = _fn("tram_rotvec_to_mat3", V, c_double_p, ctypes.POINTER(Mat3))
 rotvec_from_mat3 = _fn("tram_rotvec_from_mat3", V, ctypes.POINTER(Mat3), c_double_p)
+
+
+# ---- images, cameras, poses (tram/image.h, tram/camera.h, tram/pose.h) ----
+
+class GreyImage(ctypes.Structure):
+    _fields_ = [("width", ctypes.c_size_t), ("height", ctypes.c_size_t),
+                ("pixels", ctypes.POINTER(ctypes.c_float))]
+
+
+class Board(ctypes.Structure):
+    _fields_ = [("kind", ctypes.c_int), ("cols", ctypes.c_int), ("rows", ctypes.c_int),
+                ("square", ctypes.c_double), ("unit", ctypes.c_int)]
+
+
+class DetectOptions(ctypes.Structure):
+    _fields_ = [("min_square_px", ctypes.c_double), ("threads", ctypes.c_int)]
+
+
+class Detection(ctypes.Structure):
+    _fields_ = [("found", ctypes.c_int), ("ncorners", ctypes.c_size_t),
+                ("uv", ctypes.POINTER(ctypes.c_double)), ("nseen", ctypes.c_size_t),
+                ("sharpness", ctypes.c_double), ("reason", ctypes.c_char * 256)]
+
+
+class Camera(ctypes.Structure):
+    _fields_ = [(n, ctypes.c_double) for n in ("fx", "fy", "cx", "cy", "skew", "k1", "k2", "k3", "p1", "p2")] + \
+               [("distortion", ctypes.c_int), ("width", ctypes.c_size_t), ("height", ctypes.c_size_t)]
+
+
+class PlanarTarget(ctypes.Structure):
+    _fields_ = [("n", ctypes.c_size_t), ("id", ctypes.POINTER(ctypes.c_char_p)),
+                ("xy", ctypes.POINTER(ctypes.c_double))]
+
+
+class IntrinsicsOptions(ctypes.Structure):
+    _fields_ = [("distortion", ctypes.c_int), ("free_skew", ctypes.c_int), ("robust", ctypes.c_int),
+                ("huber_k", ctypes.c_double), ("outlier_k", ctypes.c_double),
+                ("max_iterations", ctypes.c_int), ("max_relative_sigma_f", ctypes.c_double)]
+
+
+class PoseResult(ctypes.Structure):
+    _fields_ = [("T_sensor_target", SE3), ("n", ctypes.c_size_t), ("planar", ctypes.c_int),
+                ("iterations", ctypes.c_int), ("rms_px", ctypes.c_double), ("max_px", ctypes.c_double),
+                ("sigma_px", ctypes.c_double), ("cov_valid", ctypes.c_int), ("cov", ctypes.c_double * 36)]
+
+
+grey_image_read_file = _fn("tram_grey_image_read_file", I, S, ctypes.POINTER(ctypes.POINTER(GreyImage)), E)
+grey_image_create = _fn("tram_grey_image_create", I, Z, Z, ctypes.POINTER(ctypes.POINTER(GreyImage)), E)
+grey_image_destroy = _fn("tram_grey_image_destroy", V, ctypes.POINTER(GreyImage))
+board_read_file = _fn("tram_board_read_file", I, S, ctypes.POINTER(Board), E)
+board_corner_count = _fn("tram_board_corner_count", Z, ctypes.POINTER(Board))
+board_corner = _fn("tram_board_corner", V, ctypes.POINTER(Board), Z, c_double_p)
+detect_options_init = _fn("tram_detect_options_init", V, ctypes.POINTER(DetectOptions))
+detect_chessboard = _fn("tram_detect_chessboard", I, ctypes.POINTER(GreyImage), ctypes.POINTER(Board),
+                        ctypes.POINTER(DetectOptions), ctypes.POINTER(ctypes.POINTER(Detection)), E)
+detection_destroy = _fn("tram_detection_destroy", V, ctypes.POINTER(Detection))
+camera_read_file = _fn("tram_camera_read_file", I, S, ctypes.POINTER(Camera), P, E)
+camera_to_json = _fn("tram_camera_to_json", I, ctypes.POINTER(Camera), P, ctypes.POINTER(ctypes.c_void_p), E)
+distortion_parse = _fn("tram_distortion_parse", I, S)
+pixel_obs_read_file = _fn("tram_pixel_obs_read_file", I, S, PP, E)
+pixel_obs_destroy = _fn("tram_pixel_obs_destroy", V, P)
+intrinsics_options_init = _fn("tram_intrinsics_options_init", V, ctypes.POINTER(IntrinsicsOptions))
+intrinsics_calibrate = _fn("tram_intrinsics_calibrate", I, P, ctypes.POINTER(PlanarTarget),
+                           ctypes.POINTER(IntrinsicsOptions), PP, E)
+intrinsics_result_destroy = _fn("tram_intrinsics_result_destroy", V, P)
+intrinsics_camera_json = _fn("tram_intrinsics_camera_json", I, P, ctypes.POINTER(ctypes.c_void_p), E)
+intrinsics_rms_px = _fn("tram_intrinsics_rms_px", D, P)
+intrinsics_camera = _fn("tram_intrinsics_camera", V, P, ctypes.POINTER(Camera))
+intrinsics_view_count = _fn("tram_intrinsics_view_count", Z, P)
+intrinsics_view_id = _fn("tram_intrinsics_view_id", S, P, Z)
+intrinsics_view_pose = _fn("tram_intrinsics_view_pose", I, P, Z, c_double_p, c_double_p)
+pose_from_pixels = _fn("tram_pose_from_pixels", I, ctypes.POINTER(Camera), c_double_p, c_double_p, Z,
+                       ctypes.POINTER(PoseResult), E)
+
+tool_parse = _fn("tram_tool_parse", I, S, ctypes.POINTER(SE3), c_int_p, E)
+records_set_tool = _fn("tram_records_set_tool", I, P, ctypes.POINTER(SE3), I, E)

@@ -5,7 +5,11 @@
  * Model (Brown 1966, "Decentering distortion of lenses"; the radial and
  * decentring terms as written in tram/camera.h).  The inverse is solved by
  * Gauss-Newton on the 2x2 distortion Jacobian, starting from the
- * undistorted guess, which converges in a few steps for real lenses.
+ * undistorted guess, which converges in a few steps for real lenses; it is
+ * kept inside the fold radius of the radial distortion (where r (1 + k1 r^2
+ * + k2 r^4 + k3 r^6) stops growing: a strong barrel lens maps no ray inside
+ * it to pixels beyond), so such pixels are refused in a few steps rather
+ * than after 50, and a point on the far, folded branch is never returned.
  */
 #include <math.h>
 #include <string.h>
@@ -61,12 +65,40 @@ void tram__camera_distort_jacobian(const tram_camera *c, double x, double y, dou
     J[3] = radial + 2.0 * y * y * dradial + 6.0 * c->p1 * y + 2.0 * c->p2 * x;
 }
 
-int tram_camera_unproject(const tram_camera *c, const double uv[2], double xy[2])
+/* The fold of the radial distortion: r_d = r (1 + k1 r^2 + k2 r^4 + k3 r^6)
+ * grows with r until d r_d / dr = 1 + 3 k1 s + 5 k2 s^2 + 7 k3 s^3 = 0
+ * (s = r^2); beyond, the lens model turns back, so a distorted radius has
+ * two preimages or none.  The smallest positive root s by a doubling scan
+ * and bisection (INFINITY when the derivative stays positive, as for
+ * every model without negative coefficients). */
+double tram__camera_fold_r2(const tram_camera *c)
+{
+    double a = 3.0 * c->k1, b = 5.0 * c->k2, d = 7.0 * c->k3;
+    if (a >= 0 && b >= 0 && d >= 0) return INFINITY;
+    double lo = 0.0, hi = 1e-4;
+    while (1.0 + hi * (a + hi * (b + hi * d)) > 0) {
+        lo = hi;
+        hi *= 2.0;
+        if (hi > 1e8) return INFINITY;
+    }
+    for (int it = 0; it < 80; it++) {
+        double m = 0.5 * (lo + hi);
+        if (1.0 + m * (a + m * (b + m * d)) > 0) lo = m;
+        else hi = m;
+    }
+    return lo;
+}
+
+double tram_camera_fold_radius(const tram_camera *c) { return sqrt(tram__camera_fold_r2(c)); }
+
+int tram__camera_unproject_from(const tram_camera *c, double fold_r2, const double uv[2],
+                                const double start[2], double xy[2])
 {
     /* undo the intrinsic matrix */
     double yd = (uv[1] - c->cy) / c->fy;
     double xd = (uv[0] - c->cx - c->skew * yd) / c->fx;
-    double x = xd, y = yd;
+    double x = start[0], y = start[1];
+    int pushed = 0;
     for (int it = 0; it < 50; it++) {
         double cur[2], J[4];
         tram_camera_distort(c, (double[2]){x, y}, cur);
@@ -74,17 +106,60 @@ int tram_camera_unproject(const tram_camera *c, const double uv[2], double xy[2]
         if (fabs(ex) < 1e-12 && fabs(ey) < 1e-12) {
             xy[0] = x;
             xy[1] = y;
-            return 1;
+            return x * x + y * y < fold_r2 ? 1 : -1;
         }
         tram__camera_distort_jacobian(c, x, y, J);
         double det = J[0] * J[3] - J[1] * J[2];
         if (!(fabs(det) > 1e-300)) break;
         x -= (J[3] * ex - J[1] * ey) / det;
         y -= (-J[2] * ex + J[0] * ey) / det;
+        /* A step past the fold goes to the other branch (or nowhere): put it
+         * back inside; a pixel that keeps pulling out has no ray inside. */
+        double r2 = x * x + y * y;
+        if (r2 >= fold_r2) {
+            if (++pushed > 8) {
+                xy[0] = x;
+                xy[1] = y;
+                return -1;
+            }
+            double f = sqrt(fold_r2 / r2) * (1.0 - 0.5 / (double)(1 << pushed));
+            x *= f;
+            y *= f;
+        }
     }
     xy[0] = x;
     xy[1] = y;
     return 0;
+}
+
+int tram__camera_unproject_why(const tram_camera *c, const double uv[2], double xy[2])
+{
+    return tram__camera_unproject_fold(c, tram__camera_fold_r2(c), uv, xy);
+}
+
+int tram__camera_unproject_fold(const tram_camera *c, double fold, const double uv[2], double xy[2])
+{
+    double yd = (uv[1] - c->cy) / c->fy;
+    double start[2] = {(uv[0] - c->cx - c->skew * yd) / c->fx, yd};
+    /* first order: divide by the radial factor at the distorted radius
+     * (two or three steps fewer than from the distorted point itself) */
+    double rd2 = start[0] * start[0] + start[1] * start[1];
+    double radial = 1.0 + rd2 * (c->k1 + rd2 * (c->k2 + rd2 * c->k3));
+    if (radial > 0.5) {
+        start[0] /= radial;
+        start[1] /= radial;
+    }
+    if (start[0] * start[0] + start[1] * start[1] >= fold) {
+        double f = sqrt(0.5 * fold / (start[0] * start[0] + start[1] * start[1]));
+        start[0] *= f;
+        start[1] *= f;
+    }
+    return tram__camera_unproject_from(c, fold, uv, start, xy);
+}
+
+int tram_camera_unproject(const tram_camera *c, const double uv[2], double xy[2])
+{
+    return tram__camera_unproject_why(c, uv, xy) == 1;
 }
 
 int tram_camera_reproject(const tram_camera *c, const tram_se3 *T, const double X[3], double uv[2])

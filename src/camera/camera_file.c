@@ -10,6 +10,7 @@
 #include "io/json_internal.h"
 #include "io/json_pos_internal.h"
 #include "io/text_internal.h"
+#include "math/linalg_internal.h"
 
 #include <cjson/cJSON.h>
 #include <math.h>
@@ -197,6 +198,95 @@ static tram_status read_distortion(reader *r, const cJSON *root, tram_camera *c)
     return TRAM_OK;
 }
 
+/* The next free parameter after k (TRAM_CAM_NPARAM: none). */
+static int next_free(const tram_camera_calib *cal, int k)
+{
+    for (k++; k < TRAM_CAM_NPARAM && !cal->free_param[k]; k++) {}
+    return k;
+}
+
+/* calibration.correlation (optional): for each free parameter but the
+ * last, an object with its correlation to every later free parameter;
+ * each in [-1, 1], and together a positive semi-definite matrix. */
+static tram_status read_correlation(reader *r, const cJSON *o, tram_camera_calib *cal)
+{
+    const cJSON *cr = cJSON_GetObjectItemCaseSensitive(o, "correlation"), *row, *it;
+    if (!cr) return TRAM_OK;
+    tram_status st = object(r, o, "calibration", "correlation", &cr);
+    if (st != TRAM_OK) return st;
+    double *rho = cal->correlation;
+    memset(rho, 0, sizeof cal->correlation);
+    int nfree = 0;
+    for (int k = 0; k < TRAM_CAM_NPARAM; k++)
+        if (cal->free_param[k]) rho[k * TRAM_CAM_NPARAM + k] = 1.0, nfree++;
+    cJSON_ArrayForEach(row, cr)
+    {
+        char p[160];
+        join(p, sizeof p, "calibration.correlation", row->string);
+        int k;
+        for (k = 0; k < TRAM_CAM_NPARAM; k++)
+            if (strcmp(row->string, param_names[k]) == 0) break;
+        if (k == TRAM_CAM_NPARAM || !cal->free_param[k] || next_free(cal, k) == TRAM_CAM_NPARAM)
+            return fail_at(r, p, 1, "calibration.correlation: \"%.40s\": expected a free parameter "
+                           "that has a later free parameter", row->string);
+    }
+    for (int k = 0; k < TRAM_CAM_NPARAM; k++) {
+        if (!cal->free_param[k] || next_free(cal, k) == TRAM_CAM_NPARAM) continue;
+        if ((st = object(r, cr, "calibration.correlation", param_names[k], &row)) != TRAM_OK) return st;
+        char path[160];
+        join(path, sizeof path, "calibration.correlation", param_names[k]);
+        cJSON_ArrayForEach(it, row)
+        {
+            int q;
+            for (q = k + 1; q < TRAM_CAM_NPARAM; q++)
+                if (strcmp(it->string, param_names[q]) == 0) break;
+            if (q == TRAM_CAM_NPARAM || !cal->free_param[q]) {
+                char p[200];
+                join(p, sizeof p, path, it->string);
+                return fail_at(r, p, 1, "%s: \"%.40s\" is not a later free parameter", path, it->string);
+            }
+        }
+        for (int q = next_free(cal, k); q < TRAM_CAM_NPARAM; q = next_free(cal, q)) {
+            double v;
+            if ((st = number(r, row, path, param_names[q], &v)) != TRAM_OK) return st;
+            if (v < -1 || v > 1) {
+                char p[200];
+                join(p, sizeof p, path, param_names[q]);
+                return fail_at(r, p, 0, "correlation of %s and %s %.10g: expected a number in [-1, 1]",
+                               param_names[k], param_names[q], v);
+            }
+            rho[k * TRAM_CAM_NPARAM + q] = rho[q * TRAM_CAM_NPARAM + k] = v;
+        }
+    }
+    /* positive semi-definite, up to the 17 digits written */
+    double A[TRAM_CAM_NPARAM * TRAM_CAM_NPARAM], w[TRAM_CAM_NPARAM], V[TRAM_CAM_NPARAM * TRAM_CAM_NPARAM];
+    int idx[TRAM_CAM_NPARAM], n = 0;
+    for (int k = 0; k < TRAM_CAM_NPARAM; k++)
+        if (cal->free_param[k]) idx[n++] = k;
+    for (int a = 0; a < n; a++)
+        for (int b = 0; b < n; b++) A[a * n + b] = rho[idx[a] * TRAM_CAM_NPARAM + idx[b]];
+    st = tram__symeig(n, A, w, V);
+    if (st == TRAM_ENOMEM) return tram__fail(r->err, st, r->name, 0, 0, "out of memory");
+    if (st != TRAM_OK || w[0] < -1e-9 * (double)nfree)
+        return fail_at(r, "calibration.correlation", 0,
+                       "calibration.correlation: not a correlation matrix (not positive semi-definite)");
+    cal->has_correlation = 1;
+    return TRAM_OK;
+}
+
+int tram_camera_calib_covariance(const tram_camera_calib *cal, double cov[TRAM_CAM_NPARAM * TRAM_CAM_NPARAM])
+{
+    memset(cov, 0, TRAM_CAM_NPARAM * TRAM_CAM_NPARAM * sizeof *cov);
+    if (!cal || !cal->present) return 0;
+    for (int a = 0; a < TRAM_CAM_NPARAM; a++)
+        for (int b = 0; b < TRAM_CAM_NPARAM; b++) {
+            if (!cal->free_param[a] || !cal->free_param[b]) continue;
+            double rho = cal->has_correlation ? cal->correlation[a * TRAM_CAM_NPARAM + b] : a == b;
+            cov[a * TRAM_CAM_NPARAM + b] = cal->sigma[a] * cal->sigma[b] * rho;
+        }
+    return cal->has_correlation ? 1 : 2;
+}
+
 static tram_status read_calibration(reader *r, const cJSON *root, tram_camera_calib *cal,
                                     const tram_camera *c)
 {
@@ -204,12 +294,12 @@ static tram_status read_calibration(reader *r, const cJSON *root, tram_camera_ca
     const cJSON *o = cJSON_GetObjectItemCaseSensitive(root, "calibration");
     if (!o) return TRAM_OK;
     static const char *const known[] = {"method", "views", "points", "outliers", "rms_px",
-                                        "sigma", "fixed", NULL};
+                                        "sigma", "fixed", "correlation", NULL};
     tram_status st;
     const cJSON *sg, *meth = cJSON_GetObjectItemCaseSensitive(o, "method");
     if ((st = object(r, root, "", "calibration", &o)) != TRAM_OK ||
         (st = known_keys(r, o, "calibration", known,
-                         "method, views, points, outliers, rms_px, sigma, fixed")) != TRAM_OK)
+                         "method, views, points, outliers, rms_px, sigma, fixed, correlation")) != TRAM_OK)
         return st;
     if (!cJSON_IsString(meth) || strlen(meth->valuestring) >= sizeof cal->method)
         return fail_at(r, "calibration.method", 0, "calibration.method: expected text of at most %zu characters",
@@ -258,6 +348,7 @@ static tram_status read_calibration(reader *r, const cJSON *root, tram_camera_ca
             return fail_at(r, p, 0, "sigma of %s: expected a number >= 0", param_names[k]);
         }
     }
+    if ((st = read_correlation(r, o, cal)) != TRAM_OK) return st;
     cal->present = 1;
     return TRAM_OK;
 }
@@ -353,6 +444,17 @@ static void write_calibration(tram__jb *b, cJSON *root, const tram_camera *c,
         else
             tram__jb_str(b, fx, NULL, param_names[k]);
     }
+    if (!cal->has_correlation) return;
+    tram_camera_calib free_only = *cal;
+    for (int k = 0; k < TRAM_CAM_NPARAM; k++)
+        free_only.free_param[k] = cal->free_param[k] && tram_distortion_has(c->distortion, k);
+    cJSON *cr = tram__jb_obj(b, o, "correlation");
+    for (int k = 0; k < TRAM_CAM_NPARAM; k++) {
+        if (!free_only.free_param[k] || next_free(&free_only, k) == TRAM_CAM_NPARAM) continue;
+        cJSON *row = tram__jb_obj(b, cr, param_names[k]);
+        for (int q = next_free(&free_only, k); q < TRAM_CAM_NPARAM; q = next_free(&free_only, q))
+            tram__jb_num(b, row, param_names[q], cal->correlation[k * TRAM_CAM_NPARAM + q]);
+    }
 }
 
 tram_status tram_camera_to_json(const tram_camera *c, const tram_camera_calib *cal, char **text,
@@ -366,9 +468,11 @@ tram_status tram_camera_to_json(const tram_camera *c, const tram_camera_calib *c
         for (int k = 0; k < TRAM_CAM_NPARAM; k++)
             bad |= cal->free_param[k] && tram_distortion_has(c->distortion, k) &&
                    (!isfinite(cal->sigma[k]) || cal->sigma[k] < 0);
+        for (int k = 0; cal->has_correlation && k < TRAM_CAM_NPARAM * TRAM_CAM_NPARAM; k++)
+            bad |= !(fabs(cal->correlation[k]) <= 1.0);
         if (bad)
             return tram__fail(err, TRAM_EINPUT, "", 0, 0,
-                              "camera calibration: RMS and sigmas must be finite and >= 0");
+                              "camera calibration: RMS and sigmas must be finite and >= 0, correlations in [-1, 1]");
     }
     tram__jb b = {0};
     cJSON *root = cJSON_CreateObject();

@@ -380,6 +380,17 @@ static tram_status covariance(work *w, const tram_intrinsics_options *opt,
         r->calib.sigma[k] = w->b.free_param[k] ? sqrt(w->cov[(size_t)q * P + (size_t)q]) : 0.0;
         q += w->b.free_param[k];
     }
+    /* the correlations of the camera's parameters, for the camera file: the
+     * solve from pixels carries them into its intervals */
+    memset(r->calib.correlation, 0, sizeof r->calib.correlation);
+    for (int a = 0, qa = 0; a < TRAM_CAM_NPARAM; qa += w->b.free_param[a], a++)
+        for (int b = 0, qb = 0; b < TRAM_CAM_NPARAM; qb += w->b.free_param[b], b++) {
+            if (!w->b.free_param[a] || !w->b.free_param[b]) continue;
+            double d = sqrt(w->cov[(size_t)qa * P + (size_t)qa] * w->cov[(size_t)qb * P + (size_t)qb]);
+            double rho = a == b ? 1.0 : d > 0 ? w->cov[(size_t)qa * P + (size_t)qb] / d : 0.0;
+            r->calib.correlation[a * TRAM_CAM_NPARAM + b] = fmax(-1.0, fmin(1.0, rho));
+        }
+    r->calib.has_correlation = 1;
     for (size_t k = 0; k < w->b.nviews; k++)
         for (int a = 0; a < 3; a++) {
             size_t ir = (size_t)w->b.nint + 6 * k + (size_t)a, itr = ir + 3;

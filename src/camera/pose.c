@@ -19,6 +19,7 @@
 #include "math/so3_internal.h"
 #include "camera/pose_internal.h"
 #include "camera/camera_jac_internal.h"
+#include "camera/camera_internal.h"
 #include "math/linalg_internal.h"
 #include "math/lm_internal.h"
 
@@ -329,14 +330,25 @@ tram_status tram_pose_from_pixels(const tram_camera *cam, const double *xyz, con
         st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
         goto out;
     }
-    for (size_t i = 0; i < n; i++)
-        if (!tram_camera_unproject(cam, uv + 2 * i, xy + 2 * i)) {
+    for (size_t i = 0; i < n; i++) {
+        int why = tram__camera_unproject_why(cam, uv + 2 * i, xy + 2 * i);
+        if (why == -1) {
+            st = tram__fail(err, TRAM_EUNDETERMINED, NULL, 0, 0,
+                            "pixel %zu (%.3f, %.3f) lies beyond the fold of the camera's lens "
+                            "model (its radial distortion turns back for rays %.1f degrees off "
+                            "the optical axis): no ray maps to it; check k1, k2, k3",
+                            i + 1, uv[2 * i], uv[2 * i + 1],
+                            atan(tram_camera_fold_radius(cam)) * 180.0 / TRAM_PI);
+            goto out;
+        }
+        if (why != 1) {
             st = tram__fail(err, TRAM_EUNDETERMINED, NULL, 0, 0,
                             "pixel %zu (%.3f, %.3f) cannot be undistorted by the camera model "
-                            "(outside the region where the distortion is invertible)",
+                            "(no convergence in 50 steps)",
                             i + 1, uv[2 * i], uv[2 * i + 1]);
             goto out;
         }
+    }
     out->planar = shape == 2;
     /* Starts: the homography for a flat point set, EPnP for one spread in
      * 3D, and both for a nearly flat one (within TRAM__PLANAR_RATIO but not

@@ -29,6 +29,11 @@
 #include <stdio.h>
 #include <string.h>
 
+/* Agreement of robot_ columns with the chain's pose (the reach figures of
+ * docs/plan.md). */
+#define POSE_TOL_MM 0.01
+#define POSE_TOL_RAD (0.001 * 3.14159265358979323846 / 180)
+
 void tram_chain_destroy(tram_chain *c)
 {
     if (!c) return;
@@ -553,6 +558,7 @@ tram_status tram_records_apply_chain(tram_records *r, const tram_chain *c, tram_
     double ang = tram_unit_angle_in_rad(r->angle_unit) / tram_unit_angle_in_rad(c->angle_unit);
     double len = tram_unit_length_factor(r->length_unit, c->length_unit);
     double back = tram_unit_length_factor(c->length_unit, r->length_unit);
+    int both = r->has_block[TRAM_BLOCK_ROBOT] && !r->robot_from_chain;
     const tram_chain_element *joint[TRAM_JOINTS_MAX];
     size_t j = 0;
     for (size_t i = 0; i < c->n_elements; i++)
@@ -574,8 +580,20 @@ tram_status tram_records_apply_chain(tram_records *r, const tram_chain *c, tram_
                               "%g] %s",
                               st->id, bad_joint + 1, e->name, q[bad_joint], u, e->lo, e->hi, u);
         }
-        tram_chain_forward(c, q, &st->T_base_flange, NULL);
-        tram_se3_scale_translation(&st->T_base_flange, back, &st->T_base_flange);
+        tram_se3 T;
+        tram_chain_forward(c, q, &T, NULL);
+        tram_se3_scale_translation(&T, back, &T);
+        if (both) { /* robot_ columns too: they must be the chain's pose */
+            double a, l;
+            tram_se3_distance(&st->T_base_flange, &T, &a, &l);
+            if (a > POSE_TOL_RAD || l > POSE_TOL_MM * tram_unit_length_factor(TRAM_LENGTH_MM, r->length_unit))
+                return tram__fail(err, TRAM_EINPUT, r->source, st->line, 0,
+                                  "station '%s': the robot_ pose and the chain's pose from the "
+                                  "joint readings differ by %.3g %s and %.3g deg (at most 0.01 mm and "
+                                  "0.001 deg): wrong chain, units or convention",
+                                  st->id, l, tram_unit_length_name(r->length_unit), a * 180 / TRAM_PI);
+        }
+        st->T_base_flange = T;
     }
     r->has_block[TRAM_BLOCK_ROBOT] = 1;
     r->robot_from_chain = 1;

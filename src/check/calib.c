@@ -2,10 +2,14 @@
  * calib.c - reading calibration files (format tram-calibration, version 1,
  * written by tram solve -o; schema in docs/solve.md).  Strict: the format
  * and version are checked first, then every field the mount check needs,
- * and the transforms must be rigid.
+ * and the transforms must be rigid; then what a calibration report shows
+ * (method, residual statistics, observability, diagnostics, the input
+ * stations), each optional but refused when present and damaged.  Every
+ * refusal names file:line:column (json_pos.c).
  */
 #include "tram/check.h"
 #include "io/json_internal.h"
+#include "io/json_pos_internal.h"
 #include "io/text_internal.h"
 
 #include <cjson/cJSON.h>
@@ -13,7 +17,8 @@
 #include <stdio.h>
 #include <string.h>
 
-
+/* A refusal at the value of `path` (file:line:column of the document). */
+#define BAD(path, ...) tram__json_pos_fail(pos, name, err, path, 0, __VA_ARGS__)
 
 static int read_matrix(const cJSON *m, tram_se3 *T)
 {
@@ -42,15 +47,15 @@ static double number(const cJSON *o, const char *k, int *ok)
 
 /* residuals.stations: optional; when present every entry must hold a
  * station id, numbers (or null) and an outlier flag. */
-static tram_status read_residuals(const char *name, const cJSON *root, tram_calibration *c,
-                                  tram_error *err)
+static tram_status read_residuals(const char *name, const tram__json_pos *pos, const cJSON *root,
+                                  tram_calibration *c, tram_error *err)
 {
     const cJSON *st = cJSON_GetObjectItemCaseSensitive(
         cJSON_GetObjectItemCaseSensitive(root, "residuals"), "stations");
     if (!st) return TRAM_OK;
     if (!cJSON_IsArray(st))
-        return tram__fail(err, TRAM_EINPUT, name, 0, 0,
-                          "damaged calibration file: residuals.stations must be an array");
+        return BAD("residuals.stations",
+                   "damaged calibration file: residuals.stations must be an array");
     size_t n = (size_t)cJSON_GetArraySize(st);
     c->residuals = tram__calloc(n ? n : 1, sizeof *c->residuals);
     if (!c->residuals) return tram__fail(err, TRAM_ENOMEM, name, 0, 0, "out of memory");
@@ -74,13 +79,14 @@ static tram_status read_residuals(const char *name, const cJSON *root, tram_cali
             else
                 ok = 0;
         }
+        char where[48];
+        snprintf(where, sizeof where, "residuals.stations[%zu]", k);
         if (!ok)
-            return tram__fail(err, TRAM_EINPUT, name, 0, 0,
-                              "damaged calibration file: residuals.stations[%zu]: expected "
+            return BAD(where, "damaged calibration file: residuals.stations[%zu]: expected "
                               "\"station\" (text of at most %d characters), \"rotation_deg\" and "
                               "\"translation\" (numbers >= 0 or null) and \"outlier\" (true or "
                               "false)",
-                              k, TRAM_STATION_ID_MAX - 1);
+                       k, TRAM_STATION_ID_MAX - 1);
         snprintf(r->station, sizeof r->station, "%s", id->valuestring);
         r->rotation_deg = x[0];
         r->translation = x[1];
@@ -91,91 +97,65 @@ static tram_status read_residuals(const char *name, const cJSON *root, tram_cali
     return TRAM_OK;
 }
 
-tram_status tram_calibration_read_buffer(const char *name, const char *data, size_t len,
-                                         tram_calibration **out, tram_error *err)
+/* format, version, setup, unit, the transforms, noise, covariance: what a
+ * mount check needs. */
+static tram_status read_core(const char *name, const tram__json_pos *pos, const cJSON *root,
+                             tram_calibration *c, tram_error *err)
 {
-    *out = NULL;
-    cJSON *root;
-    tram_status st = tram__json_parse(name, data, len, "damaged calibration file", &root, err);
-    if (st != TRAM_OK) return st;
-    tram_calibration *c = tram__calloc(1, sizeof *c);
-    if (!c) {
-        cJSON_Delete(root);
-        return tram__fail(err, TRAM_ENOMEM, name, 0, 0, "out of memory");
-    }
-    snprintf(c->source, sizeof c->source, "%s", name);
     const cJSON *fmt = cJSON_GetObjectItemCaseSensitive(root, "format");
     const cJSON *ver = cJSON_GetObjectItemCaseSensitive(root, "version");
-    if (!cJSON_IsString(fmt) || strcmp(fmt->valuestring, "tram-calibration") != 0) {
-        st = tram__fail(err, TRAM_EINPUT, name, 0, 0,
-                        "not a calibration file: \"format\" is not \"tram-calibration\" (write "
-                        "one with tram solve -o)");
-        goto done;
-    }
-    if (!cJSON_IsNumber(ver) || ver->valuedouble != (double)ver->valueint || ver->valueint < 1) {
-        st = tram__fail(err, TRAM_EINPUT, name, 0, 0, "\"version\": expected a positive integer");
-        goto done;
-    }
-    if (ver->valueint > 1) {
-        st = tram__fail(err, TRAM_EINPUT, name, 0, 0,
-                        "calibration format version %d is newer than this tram (%s) reads (1)",
-                        ver->valueint, TRAM_VERSION_STRING);
-        goto done;
-    }
+    if (!cJSON_IsString(fmt) || strcmp(fmt->valuestring, "tram-calibration") != 0)
+        return BAD("format", "not a calibration file: \"format\" is not \"tram-calibration\" "
+                             "(write one with tram solve -o)");
+    if (!cJSON_IsNumber(ver) || ver->valuedouble != (double)ver->valueint || ver->valueint < 1)
+        return BAD("version", "\"version\": expected a positive integer");
+    if (ver->valueint > 1)
+        return BAD("version", "calibration format version %d is newer than this tram (%s) reads (1)",
+                   ver->valueint, TRAM_VERSION_STRING);
     const cJSON *setup = cJSON_GetObjectItemCaseSensitive(root, "setup");
     c->setup = cJSON_IsString(setup) ? tram_setup_parse(setup->valuestring) : TRAM_SETUP_UNSET;
     const cJSON *lu = cJSON_GetObjectItemCaseSensitive(root, "length_unit");
     c->length_unit = cJSON_IsString(lu) ? tram_unit_length_parse(lu->valuestring) : TRAM_LENGTH_UNSET;
-    if (c->setup == TRAM_SETUP_UNSET || c->length_unit == TRAM_LENGTH_UNSET) {
-        st = tram__fail(err, TRAM_EINPUT, name, 0, 0,
-                        "damaged calibration file: \"setup\" or \"length_unit\" missing or invalid");
-        goto done;
-    }
+    if (c->setup == TRAM_SETUP_UNSET || c->length_unit == TRAM_LENGTH_UNSET)
+        return BAD(c->setup == TRAM_SETUP_UNSET ? "setup" : "length_unit",
+                   "damaged calibration file: \"setup\" or \"length_unit\" missing or invalid");
     const cJSON *solved = cJSON_GetObjectItemCaseSensitive(root, "solved");
-    if (!cJSON_IsTrue(solved)) {
-        st = tram__fail(err, TRAM_EINPUT, name, 0, 0, "the calibration file holds no solution");
-        goto done;
-    }
+    if (!cJSON_IsTrue(solved)) return BAD("solved", "the calibration file holds no solution");
     c->trustworthy = cJSON_IsTrue(cJSON_GetObjectItemCaseSensitive(root, "trustworthy"));
     const char *xn = c->setup == TRAM_SETUP_EYE_IN_HAND ? "T_flange_sensor" : "T_base_sensor";
     const char *zn = c->setup == TRAM_SETUP_EYE_IN_HAND ? "T_base_target" : "T_flange_target";
     const cJSON *tr = cJSON_GetObjectItemCaseSensitive(root, "transforms");
     const cJSON *xo = cJSON_GetObjectItemCaseSensitive(tr, xn);
     const cJSON *zo = cJSON_GetObjectItemCaseSensitive(tr, zn);
-    if (read_matrix(cJSON_GetObjectItemCaseSensitive(xo, "matrix"), &c->X) ||
-        read_matrix(cJSON_GetObjectItemCaseSensitive(zo, "matrix"), &c->Z)) {
-        st = tram__fail(err, TRAM_EINPUT, name, 0, 0,
-                        "damaged calibration file: transforms.%s.matrix and transforms.%s.matrix "
-                        "must be rigid 4x4 transforms for a %s calibration",
-                        xn, zn, tram_setup_name(c->setup));
-        goto done;
+    int bx = read_matrix(cJSON_GetObjectItemCaseSensitive(xo, "matrix"), &c->X) != 0;
+    if (bx || read_matrix(cJSON_GetObjectItemCaseSensitive(zo, "matrix"), &c->Z)) {
+        char where[64];
+        snprintf(where, sizeof where, "transforms.%s.matrix", bx ? xn : zn);
+        return BAD(where,
+                   "damaged calibration file: transforms.%s.matrix and transforms.%s.matrix "
+                   "must be rigid 4x4 transforms for a %s calibration",
+                   xn, zn, tram_setup_name(c->setup));
     }
     int ok = 1;
     const cJSON *noise = cJSON_GetObjectItemCaseSensitive(root, "noise");
     c->noise_length = number(noise, "length", &ok);
     c->noise_angle_rad = number(noise, "angle_deg", &ok) * TRAM_PI / 180.0;
-    if (!ok || !(c->noise_length > 0) || !(c->noise_angle_rad > 0)) {
-        st = tram__fail(err, TRAM_EINPUT, name, 0, 0,
-                        "the calibration has no noise estimate (\"noise\"): it was not refined; "
-                        "solve again without --closed-form");
-        goto done;
-    }
+    if (!ok || !(c->noise_length > 0) || !(c->noise_angle_rad > 0))
+        return BAD("noise", "the calibration has no noise estimate (\"noise\"): it was not "
+                            "refined; solve again without --closed-form");
     const cJSON *ob = cJSON_GetObjectItemCaseSensitive(root, "observability");
     double ns = number(ob, "stations", &ok);
     c->stations = ok && ns > 0 && ns < 1e15 ? (size_t)ns : 0; /* no UB on absurd counts */
     const cJSON *cov = cJSON_GetObjectItemCaseSensitive(root, "covariance");
     if (cov) {
-        if (!cJSON_IsArray(cov) || cJSON_GetArraySize(cov) != 144) {
-            st = tram__fail(err, TRAM_EINPUT, name, 0, 0,
-                            "damaged calibration file: \"covariance\" must hold 144 numbers");
-            goto done;
-        }
+        if (!cJSON_IsArray(cov) || cJSON_GetArraySize(cov) != 144)
+            return BAD("covariance", "damaged calibration file: \"covariance\" must hold 144 numbers");
         for (int i = 0; i < 144; i++) {
             const cJSON *v = cJSON_GetArrayItem(cov, i);
             if (!cJSON_IsNumber(v) || !isfinite(v->valuedouble)) {
-                st = tram__fail(err, TRAM_EINPUT, name, 0, 0,
-                                "damaged calibration file: covariance[%d] is not a number", i);
-                goto done;
+                char where[32];
+                snprintf(where, sizeof where, "covariance[%d]", i);
+                return BAD(where, "damaged calibration file: covariance[%d] is not a number", i);
             }
             c->cov[i] = v->valuedouble;
         }
@@ -184,9 +164,186 @@ tram_status tram_calibration_read_buffer(const char *name, const char *data, siz
     const cJSON *in = cJSON_GetObjectItemCaseSensitive(root, "input");
     const cJSON *ck = cJSON_GetObjectItemCaseSensitive(in, "checksum_fnv1a64");
     if (cJSON_IsString(ck)) snprintf(c->checksum, sizeof c->checksum, "%s", ck->valuestring);
-    st = read_residuals(name, root, c, err);
-done:
+    return TRAM_OK;
+}
+
+/* An optional text member `key` of o (at `path`, "" for the root):
+ * absent leaves dst empty, anything but a text that fits is refused. */
+static tram_status opt_text(const char *name, const tram__json_pos *pos, const cJSON *o,
+                            const char *path, const char *key, char *dst, size_t cap,
+                            tram_error *err)
+{
+    const cJSON *v = cJSON_GetObjectItemCaseSensitive(o, key);
+    if (!v) return TRAM_OK;
+    if (!cJSON_IsString(v) || strlen(v->valuestring) >= cap) {
+        char at[96];
+        snprintf(at, sizeof at, "%s%s%s", path, path[0] ? "." : "", key);
+        return BAD(at, "damaged calibration file: \"%s\": expected text of at most %zu characters",
+                   at, cap - 1);
+    }
+    snprintf(dst, cap, "%s", v->valuestring);
+    return TRAM_OK;
+}
+
+/* An optional number (or null): NaN when absent or null. */
+static tram_status opt_num(const char *name, const tram__json_pos *pos, const cJSON *o,
+                           const char *path, const char *key, double *dst, tram_error *err)
+{
+    const cJSON *v = cJSON_GetObjectItemCaseSensitive(o, key);
+    *dst = NAN;
+    if (!v || cJSON_IsNull(v)) return TRAM_OK;
+    if (!cJSON_IsNumber(v) || !isfinite(v->valuedouble))
+        return BAD(path, "damaged calibration file: \"%s\": expected a number or null", path);
+    *dst = v->valuedouble;
+    return TRAM_OK;
+}
+
+static tram_status read_stats(const char *name, const tram__json_pos *pos, const cJSON *res,
+                              const char *key, tram_stats *s, tram_error *err)
+{
+    const cJSON *o = cJSON_GetObjectItemCaseSensitive(res, key);
+    static const char *const k[3] = {"rms", "median", "max"};
+    double *d[3] = {&s->rms, &s->median, &s->max};
+    for (int i = 0; i < 3; i++) {
+        char path[64];
+        snprintf(path, sizeof path, "residuals.%s.%s", key, k[i]);
+        tram_status st = opt_num(name, pos, o, path, k[i], d[i], err);
+        if (st != TRAM_OK) return st;
+    }
+    return TRAM_OK;
+}
+
+static tram_status read_diagnostics(const char *name, const tram__json_pos *pos,
+                                    const cJSON *root, tram_calibration *c, tram_error *err)
+{
+    const cJSON *dg = cJSON_GetObjectItemCaseSensitive(root, "diagnostics");
+    if (!dg) return TRAM_OK;
+    if (!cJSON_IsArray(dg)) return BAD("diagnostics", "damaged calibration file: \"diagnostics\" must be an array");
+    size_t n = (size_t)cJSON_GetArraySize(dg);
+    c->diag = tram__calloc(n ? n : 1, sizeof *c->diag);
+    if (!c->diag) return tram__fail(err, TRAM_ENOMEM, name, 0, 0, "out of memory");
+    const cJSON *it;
+    cJSON_ArrayForEach(it, dg)
+    {
+        tram_diagnostic *d = &c->diag[c->ndiag];
+        char path[40], sev[16] = "";
+        snprintf(path, sizeof path, "diagnostics[%zu]", c->ndiag);
+        tram_status st = opt_text(name, pos, it, path, "code", d->code, sizeof d->code, err);
+        if (st == TRAM_OK) st = opt_text(name, pos, it, path, "severity", sev, sizeof sev, err);
+        if (st == TRAM_OK) st = opt_text(name, pos, it, path, "message", d->message, sizeof d->message, err);
+        if (st != TRAM_OK) return st;
+        if (strcmp(sev, "info") == 0) d->severity = TRAM_SEVERITY_INFO;
+        else if (strcmp(sev, "warning") == 0) d->severity = TRAM_SEVERITY_WARNING;
+        else if (strcmp(sev, "error") == 0) d->severity = TRAM_SEVERITY_ERROR;
+        else {
+            char at[56];
+            snprintf(at, sizeof at, "%s.severity", path);
+            return BAD(at, "damaged calibration file: %s: expected info, warning or error", at);
+        }
+        c->ndiag++;
+    }
+    return TRAM_OK;
+}
+
+/* input.source and input.stations (id and T_base_flange of each). */
+static tram_status read_input(const char *name, const tram__json_pos *pos, const cJSON *root,
+                              tram_calibration *c, tram_error *err)
+{
+    const cJSON *in = cJSON_GetObjectItemCaseSensitive(root, "input");
+    tram_status st = opt_text(name, pos, in, "input", "source", c->input_source,
+                              sizeof c->input_source, err);
+    const cJSON *arr = cJSON_GetObjectItemCaseSensitive(in, "stations");
+    if (st != TRAM_OK || !arr) return st;
+    if (!cJSON_IsArray(arr))
+        return BAD("input.stations", "damaged calibration file: input.stations must be an array");
+    size_t n = (size_t)cJSON_GetArraySize(arr);
+    c->input_ids = tram__calloc(n ? n : 1, sizeof *c->input_ids);
+    c->input_T_base_flange = tram__calloc(n ? n : 1, sizeof *c->input_T_base_flange);
+    if (!c->input_ids || !c->input_T_base_flange)
+        return tram__fail(err, TRAM_ENOMEM, name, 0, 0, "out of memory");
+    const cJSON *it;
+    cJSON_ArrayForEach(it, arr)
+    {
+        char path[48];
+        snprintf(path, sizeof path, "input.stations[%zu]", c->ninput);
+        const cJSON *id = cJSON_GetObjectItemCaseSensitive(it, "station");
+        if (!cJSON_IsString(id) || strlen(id->valuestring) >= TRAM_STATION_ID_MAX ||
+            read_matrix(cJSON_GetObjectItemCaseSensitive(it, "T_base_flange"),
+                        &c->input_T_base_flange[c->ninput]) != 0)
+            return BAD(path, "damaged calibration file: %s: expected \"station\" (text of at most "
+                             "%d characters) and \"T_base_flange\" (a rigid 4x4 transform)",
+                       path, TRAM_STATION_ID_MAX - 1);
+        snprintf(c->input_ids[c->ninput], TRAM_STATION_ID_MAX, "%s", id->valuestring);
+        c->ninput++;
+    }
+    return TRAM_OK;
+}
+
+/* What a report shows beyond the mount check's needs (all optional). */
+static tram_status read_report_fields(const char *name, const tram__json_pos *pos,
+                                      const cJSON *root, tram_calibration *c, tram_error *err)
+{
+    tram_status st = opt_text(name, pos, root, "", "tool", c->written_by, sizeof c->written_by, err);
+    if (st == TRAM_OK) st = opt_text(name, pos, root, "", "method", c->method, sizeof c->method, err);
+    if (st == TRAM_OK)
+        st = opt_text(name, pos, root, "", "start_method", c->start_method,
+                      sizeof c->start_method, err);
+    c->refined = cJSON_IsTrue(cJSON_GetObjectItemCaseSensitive(root, "refined"));
+    const cJSON *res = cJSON_GetObjectItemCaseSensitive(root, "residuals");
+    if (st == TRAM_OK) st = read_stats(name, pos, res, "rotation_deg", &c->rot_deg_stats, err);
+    if (st == TRAM_OK) st = read_stats(name, pos, res, "translation", &c->trans_stats, err);
+    const cJSON *nz = cJSON_GetObjectItemCaseSensitive(root, "noise");
+    if (st == TRAM_OK)
+        st = opt_text(name, pos, nz, "noise", "source", c->noise_source,
+                      sizeof c->noise_source, err);
+    const cJSON *ob = cJSON_GetObjectItemCaseSensitive(root, "observability");
+    static const char *const ok[5] = {"motion_min_deg", "motion_max_deg", "axis_spread_deg",
+                                      "condition", "outliers"};
+    double outl = NAN, *dst[5] = {&c->motion_min_deg, &c->motion_max_deg, &c->axis_spread_deg,
+                                  &c->condition, &outl};
+    for (int i = 0; st == TRAM_OK && i < 5; i++) {
+        char path[48];
+        snprintf(path, sizeof path, "observability.%s", ok[i]);
+        st = opt_num(name, pos, ob, path, ok[i], dst[i], err);
+    }
+    c->outliers = outl >= 0 && outl < 1e15 ? (size_t)outl : 0;
+    const cJSON *tf = cJSON_GetObjectItemCaseSensitive(root, "tool_frame");
+    if (st == TRAM_OK && tf) {
+        if (read_matrix(cJSON_GetObjectItemCaseSensitive(
+                            cJSON_GetObjectItemCaseSensitive(tf, "T_flange_tool"), "matrix"),
+                        &c->T_flange_tool) != 0)
+            return BAD("tool_frame", "damaged calibration file: tool_frame.T_flange_tool.matrix "
+                                     "must be a rigid 4x4 transform");
+        c->has_tool = 1;
+    }
+    if (st == TRAM_OK) st = read_diagnostics(name, pos, root, c, err);
+    if (st == TRAM_OK) st = read_input(name, pos, root, c, err);
+    return st;
+}
+
+tram_status tram_calibration_read_buffer(const char *name, const char *data, size_t len,
+                                         tram_calibration **out, tram_error *err)
+{
+    *out = NULL;
+    cJSON *root;
+    tram_status st = tram__json_parse(name, data, len, "damaged calibration file", &root, err);
+    if (st != TRAM_OK) return st;
+    tram__json_pos *pos = NULL;
+    st = tram__json_pos_scan(name, data, len, &pos, err);
+    if (st != TRAM_OK) {
+        cJSON_Delete(root);
+        return st;
+    }
+    tram_calibration *c = tram__calloc(1, sizeof *c);
+    if (!c) st = tram__fail(err, TRAM_ENOMEM, name, 0, 0, "out of memory");
+    if (c) {
+        snprintf(c->source, sizeof c->source, "%s", name);
+        st = read_core(name, pos, root, c, err);
+    }
+    if (st == TRAM_OK) st = read_residuals(name, pos, root, c, err);
+    if (st == TRAM_OK) st = read_report_fields(name, pos, root, c, err);
     cJSON_Delete(root);
+    tram__json_pos_free(pos);
     if (st != TRAM_OK) {
         tram_calibration_destroy(c);
         return st;
@@ -211,5 +368,8 @@ void tram_calibration_destroy(tram_calibration *c)
 {
     if (!c) return;
     tram__free(c->residuals);
+    tram__free(c->input_ids);
+    tram__free(c->input_T_base_flange);
+    tram__free(c->diag);
     tram__free(c);
 }

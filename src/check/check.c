@@ -446,10 +446,9 @@ static tram_status trust_checks(const tram_calibration *cal, const tram_records 
     return TRAM_OK;
 }
 
-tram_status tram_check(const tram_calibration *cal, const tram_records *r,
-                       const tram_check_options *opt, tram_check_result **out, tram_error *err)
+/* Records a check can use against cal, or an input error. */
+static tram_status check_inputs(const tram_calibration *cal, const tram_records *r, tram_error *err)
 {
-    *out = NULL;
     if (r->setup != TRAM_SETUP_UNSET && r->setup != cal->setup)
         return tram__fail(err, TRAM_EINPUT, r->source, 0, 0,
                           "the records declare setup %s but the calibration %s is %s",
@@ -461,13 +460,207 @@ tram_status tram_check(const tram_calibration *cal, const tram_records *r,
     if (!r->has_block[TRAM_BLOCK_ROBOT] || !r->has_block[TRAM_BLOCK_SENSOR])
         return tram__fail(err, TRAM_EINPUT, r->source, 0, 0,
                           "a check needs both a robot_ and a sensor_ pose block");
+    return TRAM_OK;
+}
+
+/* The test context of the stations P, S (lengths already in the
+ * calibration's unit) against cal. */
+static void init_ctx(ctx *c, const tram_calibration *cal, const tram_se3 *P, const tram_se3 *S,
+                     size_t n)
+{
+    memset(c, 0, sizeof *c);
+    c->P = P;
+    c->S = S;
+    c->n = n;
+    c->X = cal->X;
+    c->Z = cal->Z;
+    c->inv_sa = 1.0 / cal->noise_angle_rad;
+    c->inv_sl = 1.0 / cal->noise_length;
+    c->ht = 1e-3 * (cal->noise_length > 0 ? cal->noise_length : 1.0);
+    c->has_cov = cal->has_cov;
+    for (int a = 0; a < 12; a++)
+        for (int b = 0; b < 12; b++)
+            c->C[param_of_pub(a) * 12 + param_of_pub(b)] = cal->cov[a * 12 + b];
+}
+
+/* Each station's deviation from the stored calibration, and the largest
+ * rotation between two stations' flange orientations (of the first 200). */
+static void station_deviations(const tram_calibration *cal, const ctx *c, tram_check_result *res)
+{
+    for (size_t i = 0; i < c->n; i++) {
+        double rot, tr;
+        tram_handeye_residuals(&c->P[i], &c->S[i], 1, &cal->X, &cal->Z, &rot, &tr);
+        res->stations[i].rot_deg = rot * RAD2DEG;
+        res->stations[i].trans = tr;
+    }
+    double spread = 0;
+    for (size_t i = 0; i < c->n && i < 200; i++)
+        for (size_t j = i + 1; j < c->n && j < 200; j++) {
+            tram_mat3 Ri, Rj;
+            tram_se3_to_rt(&c->P[i], &Ri, NULL);
+            tram_se3_to_rt(&c->P[j], &Rj, NULL);
+            double a = tram_so3_distance(&Ri, &Rj) * RAD2DEG;
+            if (a > spread) spread = a;
+        }
+    res->orientation_spread_deg = spread;
+}
+
+/* Names of the two change models in this setup. */
+static void name_models(tram_check_result *res, tram_setup setup)
+{
+    int eih = setup == TRAM_SETUP_EYE_IN_HAND;
+    res->sensor.model = "sensor-moved";
+    res->target.model = "target-moved";
+    res->sensor.frame = eih ? "flange" : "base";
+    res->target.frame = eih ? "base" : "flange";
+    res->sensor.transform = eih ? "T_flange_sensor" : "T_base_sensor";
+    res->target.transform = eih ? "T_base_target" : "T_flange_target";
+}
+
+/* 1 when some station lies outside the tolerances (index in *worst). */
+static int outside_tolerance(const tram_check_result *res, const tram_check_options *opt,
+                             size_t *worst)
+{
+    int out = 0;
+    double wmax = -1;
+    for (size_t i = 0; i < res->n; i++) {
+        double q = fmax(res->stations[i].trans / fmax(opt->tol_length, 1e-300),
+                        res->stations[i].rot_deg / fmax(opt->tol_angle_rad * RAD2DEG, 1e-300));
+        if (q > 1) out = 1;
+        if (q > wmax) {
+            wmax = q;
+            *worst = i;
+        }
+    }
+    return out;
+}
+
+/* The verdict from the tests and the two models' fits; per_v: the
+ * per-station chi-square that decides which stations disagree. */
+static void decide(tram_check_result *res, int changed, const double *per, const double *per_a,
+                   const double *per_b, const double **per_v)
+{
+    const double *alt = res->best ? per_b : per_a;
+    *per_v = per;
+    if (!changed) {
+        res->verdict = TRAM_VERDICT_OK;
+    } else if (res->n < 2 || res->orientation_spread_deg < MIN_SPREAD_DEG) {
+        res->verdict = TRAM_VERDICT_INCONCLUSIVE;
+        *per_v = alt;
+    } else if (res->sensor.fits && !res->target.fits) {
+        res->verdict = TRAM_VERDICT_SENSOR_MOVED;
+        *per_v = per_a;
+    } else if (res->target.fits && !res->sensor.fits) {
+        res->verdict = TRAM_VERDICT_TARGET_MOVED;
+        *per_v = per_b;
+    } else {
+        res->verdict = res->target.fits ? TRAM_VERDICT_INCONCLUSIVE : TRAM_VERDICT_INCONSISTENT;
+        *per_v = alt;
+    }
+}
+
+/* --tolerance found a station outside it, but the statistical test finds
+ * no change: the tolerance is tighter than the stations' noise can check.
+ * Say so, with a tolerance the data can support. */
+static tram_status tolerance_below_noise(const tram_calibration *cal, const tram_records *r,
+                                         const tram_check_options *opt, size_t worst,
+                                         tram_check_result *res)
+{
+    const char *u = tram_unit_length_name(cal->length_unit);
+    /* one station's 3D deviation from noise alone: RMS sqrt(3) sigma; its
+     * 99.9% bound sqrt(chi2_3(0.999)) sigma (about 4.03 sigma) */
+    double k = sqrt(tram_check_chi2_quantile(3.0, Z_STATION));
+    double sl = cal->noise_length, sa = cal->noise_angle_rad * RAD2DEG;
+    char msg[700];
+    snprintf(msg, sizeof msg,
+             "the tolerance %.4g %s, %.4g deg is tighter than these stations can check: station "
+             "'%s' deviates by %.4g %s and %.4g deg, yet the statistical test finds no change "
+             "(chi2 %.1f against %.1f); from noise alone one station deviates by about %.3g %s "
+             "and %.3g deg (RMS; per-axis noise %.3g %s, %.3g deg stored with the calibration). "
+             "A tolerance the data supports is at least %.2g %s, %.2g deg (the 99.9%% bound of "
+             "one station's deviation when nothing moved); or measure with less noise",
+             opt->tol_length, u, opt->tol_angle_rad * RAD2DEG, r->stations[worst].id,
+             res->stations[worst].trans, u, res->stations[worst].rot_deg, res->chi2_none,
+             res->threshold_none, sqrt(3.0) * sl, u, sqrt(3.0) * sa, sl, u, sa, k * sl, u,
+             k * sa);
+    return add_diag(res, "tolerance-below-noise", TRAM_SEVERITY_WARNING, msg);
+}
+
+/* Why an inconclusive verdict is inconclusive. */
+static tram_status explain_inconclusive(tram_check_result *res)
+{
+    char msg[600];
+    if (res->n < 2)
+        snprintf(msg, sizeof msg,
+                 "one station cannot tell a moved sensor from a moved target: both explain any "
+                 "deviation; add stations with different flange orientations (at least %.0f deg "
+                 "apart)",
+                 MIN_SPREAD_DEG);
+    else if (res->orientation_spread_deg < MIN_SPREAD_DEG)
+        snprintf(msg, sizeof msg,
+                 "the stations' flange orientations differ by at most %.2f deg: a change fixed "
+                 "to the flange and one fixed to the base look the same; add stations rotated "
+                 "by %.0f deg or more (common practice)",
+                 res->orientation_spread_deg, MIN_SPREAD_DEG);
+    else
+        snprintf(msg, sizeof msg,
+                 "both a moved sensor and a moved target explain the deviations although the "
+                 "flange orientations span %.0f deg; add stations rotated about other axes, or "
+                 "repeat the check to rule out a one-off disturbance",
+                 res->orientation_spread_deg);
+    return add_diag(res, "cause-undetermined", TRAM_SEVERITY_WARNING, msg);
+}
+
+/* The tests and the verdict on stations P, S already in cal's unit. */
+static tram_status run_tests(const tram_calibration *cal, const tram_records *r, ctx *c,
+                             const tram_check_options *opt, double *per, tram_check_result *res,
+                             int *tol_only)
+{
+    size_t n = c->n;
+    int all12[12] = {1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1};
+    chi2_with_cov(c, &cal->X, &cal->Z, all12, &res->chi2_none, per);
+    res->dof_none = 6 * n;
+    res->threshold_none = tram_check_chi2_quantile((double)(6 * n), Z_ALPHA3);
+    name_models(res, cal->setup);
+    double *per_a = tram__malloc(2 * n * sizeof *per_a);
+    if (!per_a) return TRAM_ENOMEM;
+    double *per_b = per_a + n;
+    tram_status st;
+    if ((st = model(c, 0, &res->sensor, per_a)) != TRAM_OK ||
+        (st = model(c, 1, &res->target, per_b)) != TRAM_OK) {
+        tram__free(per_a);
+        return st;
+    }
+    res->best = res->target.fit_chi2 < res->sensor.fit_chi2;
+    double thr6 = tram_check_chi2_quantile(6.0, Z_ALPHA3);
+    int stat_changed = res->chi2_none > res->threshold_none || res->sensor.significance > thr6 ||
+                       res->target.significance > thr6;
+    size_t worst = 0;
+    int changed = opt && opt->use_tolerance ? outside_tolerance(res, opt, &worst) : stat_changed;
+    *tol_only = opt && opt->use_tolerance && changed && !stat_changed;
+    const double *per_v;
+    decide(res, changed, per, per_a, per_b, &per_v);
+    if (*tol_only) res->verdict = TRAM_VERDICT_INCONCLUSIVE;
+    double thr_station = tram_check_chi2_quantile(6.0, Z_STATION);
+    for (size_t i = 0; i < n; i++) res->stations[i].disagrees = per_v[i] > thr_station;
+    tram__free(per_a);
+    if (*tol_only) return tolerance_below_noise(cal, r, opt, worst, res);
+    return TRAM_OK;
+}
+
+tram_status tram_check(const tram_calibration *cal, const tram_records *r,
+                       const tram_check_options *opt, tram_check_result **out, tram_error *err)
+{
+    *out = NULL;
+    tram_status tool_st = tram_records_require_flange(r, err);
+    if (tool_st != TRAM_OK) return tool_st;
+    tram_status st = check_inputs(cal, r, err);
+    if (st != TRAM_OK) return st;
     size_t n = r->count;
     tram_check_result *res = tram__calloc(1, sizeof *res);
     ctx c;
-    memset(&c, 0, sizeof c);
     tram_se3 *P = NULL, *S = NULL;
     double *per = NULL;
-    tram_status st = TRAM_OK;
     if (!res || !(res->stations = tram__calloc(n, sizeof *res->stations)) ||
         !(per = tram__malloc(n * sizeof *per)) || tram__station_poses(r, cal->setup, &P, &S) != TRAM_OK) {
         st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
@@ -484,119 +677,23 @@ tram_status tram_check(const tram_calibration *cal, const tram_records *r,
         tram_se3_scale_translation(&P[i], f, &P[i]);
         tram_se3_scale_translation(&S[i], f, &S[i]);
     }
-    c.P = P;
-    c.S = S;
-    c.n = n;
-    c.X = cal->X;
-    c.Z = cal->Z;
-    c.inv_sa = 1.0 / cal->noise_angle_rad;
-    c.inv_sl = 1.0 / cal->noise_length;
-    c.ht = 1e-3 * (cal->noise_length > 0 ? cal->noise_length : 1.0);
-    c.has_cov = cal->has_cov;
-    for (int a = 0; a < 12; a++)
-        for (int b = 0; b < 12; b++)
-            c.C[param_of_pub(a) * 12 + param_of_pub(b)] = cal->cov[a * 12 + b];
-    /* Deviations of each station from the stored calibration. */
-    for (size_t i = 0; i < n; i++) {
-        double rot, tr;
-        tram_handeye_residuals(&P[i], &S[i], 1, &cal->X, &cal->Z, &rot, &tr);
-        res->stations[i].rot_deg = rot * RAD2DEG;
-        res->stations[i].trans = tr;
-    }
-    double spread = 0;
-    for (size_t i = 0; i < n && i < 200; i++)
-        for (size_t j = i + 1; j < n && j < 200; j++) {
-            tram_mat3 Ri, Rj;
-            tram_se3_to_rt(&P[i], &Ri, NULL);
-            tram_se3_to_rt(&P[j], &Rj, NULL);
-            double a = tram_so3_distance(&Ri, &Rj) * RAD2DEG;
-            if (a > spread) spread = a;
-        }
-    res->orientation_spread_deg = spread;
-    int all12[12] = {1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1};
-    chi2_with_cov(&c, &cal->X, &cal->Z, all12, &res->chi2_none, per);
-    res->dof_none = 6 * n;
-    res->threshold_none = tram_check_chi2_quantile((double)(6 * n), Z_ALPHA3);
-    res->sensor.model = "sensor-moved";
-    res->target.model = "target-moved";
-    int eih = cal->setup == TRAM_SETUP_EYE_IN_HAND;
-    res->sensor.frame = eih ? "flange" : "base";
-    res->target.frame = eih ? "base" : "flange";
-    res->sensor.transform = eih ? "T_flange_sensor" : "T_base_sensor";
-    res->target.transform = eih ? "T_base_target" : "T_flange_target";
-    double *per_a = tram__malloc(2 * n * sizeof *per_a);
-    if (!per_a) {
-        st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
+    init_ctx(&c, cal, P, S, n);
+    station_deviations(cal, &c, res);
+    int tol_only = 0;
+    st = run_tests(cal, r, &c, opt, per, res, &tol_only);
+    if (st != TRAM_OK) {
+        st = tram__fail(err, st, NULL, 0, 0,
+                        st == TRAM_ENOMEM ? "out of memory" : "the change could not be estimated");
         goto done;
     }
-    double *per_b = per_a + n;
-    if ((st = model(&c, 0, &res->sensor, per_a)) != TRAM_OK ||
-        (st = model(&c, 1, &res->target, per_b)) != TRAM_OK) {
-        tram__free(per_a);
-        st = tram__fail(err, st, NULL, 0, 0, "the change could not be estimated");
-        goto done;
-    }
-    res->best = res->target.fit_chi2 < res->sensor.fit_chi2;
-    double thr6 = tram_check_chi2_quantile(6.0, Z_ALPHA3);
-    int changed;
-    if (opt && opt->use_tolerance) {
-        changed = 0;
-        for (size_t i = 0; i < n; i++)
-            if (res->stations[i].trans > opt->tol_length ||
-                res->stations[i].rot_deg > opt->tol_angle_rad * RAD2DEG)
-                changed = 1;
-    } else {
-        changed = res->chi2_none > res->threshold_none || res->sensor.significance > thr6 ||
-                  res->target.significance > thr6;
-    }
-    const double *per_v = per;
-    if (!changed) {
-        res->verdict = TRAM_VERDICT_OK;
-    } else if (n < 2 || spread < MIN_SPREAD_DEG) {
-        res->verdict = TRAM_VERDICT_INCONCLUSIVE;
-        per_v = res->best ? per_b : per_a;
-    } else if (res->sensor.fits && !res->target.fits) {
-        res->verdict = TRAM_VERDICT_SENSOR_MOVED;
-        per_v = per_a;
-    } else if (res->target.fits && !res->sensor.fits) {
-        res->verdict = TRAM_VERDICT_TARGET_MOVED;
-        per_v = per_b;
-    } else if (res->target.fits && res->sensor.fits) {
-        res->verdict = TRAM_VERDICT_INCONCLUSIVE;
-        per_v = res->best ? per_b : per_a;
-    } else {
-        res->verdict = TRAM_VERDICT_INCONSISTENT;
-        per_v = res->best ? per_b : per_a;
-    }
-    double thr_station = tram_check_chi2_quantile(6.0, Z_STATION);
-    for (size_t i = 0; i < n; i++) res->stations[i].disagrees = per_v[i] > thr_station;
-    tram__free(per_a);
-    char msg[600];
     if (!cal->trustworthy)
         st = add_diag(res, "calibration-not-trustworthy", TRAM_SEVERITY_WARNING,
                       "the stored calibration was marked not trustworthy when it was solved; "
                       "its warnings apply to this check too");
-    if (st == TRAM_OK && res->verdict == TRAM_VERDICT_INCONCLUSIVE) {
-        if (n < 2)
-            snprintf(msg, sizeof msg,
-                     "one station cannot tell a moved sensor from a moved target: both explain "
-                     "any deviation; add stations with different flange orientations (at least "
-                     "%.0f deg apart)",
-                     MIN_SPREAD_DEG);
-        else if (spread < MIN_SPREAD_DEG)
-            snprintf(msg, sizeof msg,
-                     "the stations' flange orientations differ by at most %.2f deg: a change "
-                     "fixed to the flange and one fixed to the base look the same; add stations "
-                     "rotated by %.0f deg or more (common practice)",
-                     spread, MIN_SPREAD_DEG);
-        else
-            snprintf(msg, sizeof msg,
-                     "both a moved sensor and a moved target explain the deviations; add "
-                     "stations with more varied flange orientations");
-        st = add_diag(res, "cause-undetermined", TRAM_SEVERITY_WARNING, msg);
-    }
+    if (st == TRAM_OK && res->verdict == TRAM_VERDICT_INCONCLUSIVE && !tol_only)
+        st = explain_inconclusive(res);
     int blamed = 0;
-    if (st == TRAM_OK) st = trust_checks(cal, r, &c, opt, res, &blamed);
+    if (st == TRAM_OK && !tol_only) st = trust_checks(cal, r, &c, opt, res, &blamed);
     if (st == TRAM_OK && res->verdict == TRAM_VERDICT_INCONSISTENT)
         st = add_diag(res, "no-rigid-change", TRAM_SEVERITY_WARNING,
                       "neither one rigid change of the sensor mount nor one of the target "

@@ -38,6 +38,8 @@ int cli_intrinsics(int argc, char **argv);
 int cli_pose(int argc, char **argv);
 int cli_board(int argc, char **argv);
 int cli_detect(int argc, char **argv);
+int cli_report_cmd(int argc, char **argv); /* cli_report prints errors */
+int cli_plan(int argc, char **argv);
 /* The standard pictures of a solve into DIR (frames.png, residuals.png). */
 int cli_plot_solution(const tram_records *r, const tram_solution *s, const char *dir, int force);
 extern const char cli_convert_help[];
@@ -50,10 +52,16 @@ extern const char cli_intrinsics_help[];
 extern const char cli_pose_help[];
 extern const char cli_board_help[];
 extern const char cli_detect_help[];
+extern const char cli_report_help[];
+extern const char cli_plan_help[];
 
 /* Read --chain FILE (if given) and turn the records' joint columns into
  * robot poses; returns CLI_EXIT_OK or prints the error and returns 2. */
 int cli_apply_chain(const char *chain_path, tram_records *r);
+/* --tool TEXT (if given): the tool's pose in the flange frame for records
+ * whose robot poses are tool poses (robot-pose: tool-in-base); returns
+ * CLI_EXIT_OK or prints the error and returns 2. */
+int cli_apply_tool(const char *tool, tram_records *r);
 
 /* Option scanning.  If argv[*i] is "--name VALUE" or "--name=VALUE",
  * advance *i past it, set *value and return 1.  A missing value prints an
@@ -62,6 +70,12 @@ int cli_take(int argc, char **argv, int *i, const char *name, const char **value
 /* 1 if argv[*i] is the flag --name (no value). */
 int cli_flag(char **argv, int i, const char *name);
 
+/* out = DIR/NAME with one '/' however many DIR ends in ("pics/" and "pics"
+ * give "pics/frames.png"). */
+void cli_path_join(char *out, size_t cap, const char *dir, const char *name);
+/* Print the record reader's warnings ("file:line:col: warning: ...") on
+ * stderr, e.g. a comment that looks like a misspelt directive. */
+void cli_records_warnings(const tram_records *r);
 /* Print "file:line:col: error: message" for a library error. */
 void cli_report(const tram_error *err);
 /* Print "tram CMD: error: ..." for a usage problem; returns CLI_EXIT_USAGE. */

@@ -36,6 +36,25 @@ int cli_take(int argc, char **argv, int *i, const char *name, const char **value
 
 int cli_flag(char **argv, int i, const char *name) { return strcmp(argv[i], name) == 0; }
 
+void cli_path_join(char *out, size_t cap, const char *dir, const char *name)
+{
+    size_t n = strlen(dir);
+    while (n > 1 && dir[n - 1] == '/') n--;
+    snprintf(out, cap, "%.*s/%s", (int)n, dir, name);
+}
+
+void cli_records_warnings(const tram_records *r)
+{
+    size_t n = r ? r->n_warnings : 0;
+    for (size_t i = 0; i < n; i++) {
+        const char *w = tram_records_warning(r, i);
+        if (w) fprintf(stderr, "%s\n", w);
+    }
+    if (n > TRAM_RECORDS_WARNINGS_MAX)
+        fprintf(stderr, "%s: warning: %zu more warnings not shown\n", r->source,
+                n - TRAM_RECORDS_WARNINGS_MAX);
+}
+
 void cli_report(const tram_error *err)
 {
     char buf[1200];
@@ -107,6 +126,26 @@ int cli_check_outputs(const char *cmd, const char *const *inputs, size_t n, cons
             return cli_usage_error(cmd, "--plot '%s': exists and is not a directory", plot_dir);
         if (access(plot_dir, W_OK | X_OK) != 0)
             return cli_usage_error(cmd, "--plot '%s': the directory is not writable", plot_dir);
+    }
+    return CLI_EXIT_OK;
+}
+
+int cli_apply_tool(const char *tool, tram_records *r)
+{
+    if (!tool) return CLI_EXIT_OK;
+    tram_error err;
+    tram_error_clear(&err);
+    tram_se3 T;
+    tram_length_unit u;
+    tram_status st = tram_tool_parse(tool, &T, &u, &err);
+    if (st == TRAM_OK) st = tram_records_set_tool(r, &T, u, &err);
+    if (st != TRAM_OK) {
+        if (!err.file[0]) {
+            fprintf(stderr, "tram: error: --tool: %s\n", err.message);
+            return CLI_EXIT_USAGE;
+        }
+        cli_report(&err);
+        return CLI_EXIT_USAGE;
     }
     return CLI_EXIT_OK;
 }

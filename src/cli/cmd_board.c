@@ -31,6 +31,9 @@ const char cli_board_help[] =
     "  --png FILE        the same page as a grey PNG at --dpi N (default 300)\n"
     "  --force           replace existing output files\n\n"
     "Every output is written atomically; nothing is written unless all can be.\n"
+    "examples (from the top of the source tree):\n"
+    "  tram board --corners 9x6 --square 18mm -o board.json --pdf board.pdf --force\n"
+    "\n"
     "exit status: 0 success; 2 usage or input error (a board that does not fit the\n"
     "page is refused with the sizes needed and available).\n";
 

@@ -25,12 +25,21 @@ const char cli_check_help[] =
     "  --tolerance L,A      ok means every station within L and A, e.g. 0.5mm,0.1deg\n"
     "                       (default: a statistical test at a 1% false-alarm rate)\n"
     "  --history FILE       append one JSON line per check (atomic append)\n"
+    "  --tool 'X,Y,ZUNIT ROT'  the robot poses are tool (TCP) poses: the tool's pose\n"
+    "                       in the flange, e.g. '0,0,150mm quat:1,0,0,0' (docs/records.md)\n"
+    "  --timestamp T        the time the history records, UTC YYYY-MM-DDTHH:MM:SSZ\n"
+    "                       (default: now), e.g. when the stations were taken earlier\n"
     "  --json               print the result as JSON (docs/check.md)\n"
     "  --pairing-test N     random pairings of the pairing test (default 30)\n"
     "  --seed N             the pairing test's seed (default 1)\n"
     "  --no-plausibility    give the verdict without the convention search, the\n"
     "                       pairing test and the plausibility gate\n"
-    "  --length-unit U, --angle-unit U, --reorthonormalize   as for tram solve\n\n"
+    "  --length-unit U, --angle-unit U, --reorthonormalize, --rounded-quat   as for\n"
+    "                       tram solve\n\n"
+    "examples (from the top of the source tree):\n"
+    "  tram solve --force -o wrist.cal.json datasets/demo/wrist_camera.csv\n"
+    "  tram check --calibration wrist.cal.json --history checks.jsonl datasets/demo/wrist_recheck.csv\n"
+    "\n"
     "exit status: 0 ok; 1 sensor-moved, target-moved or inconsistent; 2 usage or input\n"
     "error; 3 inconclusive.\n";
 
@@ -89,164 +98,268 @@ static const char *advice(tram_verdict v)
     }
 }
 
+/* The command line of one check. */
+typedef struct check_args {
+    const char *calib, *file, *history, *tol, *chain, *stamp, *tool;
+    int json, no_plaus;
+    size_t perms;
+    unsigned long long seed;
+    tram_read_options ro;
+} check_args;
+
+/* One option at argv[*i]: 0 taken, -1 not an option, else the exit status. */
+static int take_option(int argc, char **argv, int *i, check_args *a)
+{
+    const char *v = NULL;
+    char *end;
+    int bad = 0;
+    if (cli_take(argc, argv, i, "--calibration", &a->calib, &bad) ||
+        cli_take(argc, argv, i, "--tolerance", &a->tol, &bad) ||
+        cli_take(argc, argv, i, "--history", &a->history, &bad) ||
+        cli_take(argc, argv, i, "--chain", &a->chain, &bad) ||
+        cli_take(argc, argv, i, "--tool", &a->tool, &bad) ||
+        cli_take(argc, argv, i, "--timestamp", &a->stamp, &bad)) {
+    } else if (cli_take(argc, argv, i, "--length-unit", &v, &bad)) {
+        if (bad) return CLI_EXIT_USAGE;
+        a->ro.length_unit = tram_unit_length_parse(v);
+        if (a->ro.length_unit == TRAM_LENGTH_UNSET)
+            return cli_usage_error("check", "--length-unit '%s': expected mm, cm, m or in", v);
+    } else if (cli_take(argc, argv, i, "--angle-unit", &v, &bad)) {
+        if (bad) return CLI_EXIT_USAGE;
+        a->ro.angle_unit = tram_unit_angle_parse(v);
+        if (a->ro.angle_unit == TRAM_ANGLE_UNSET)
+            return cli_usage_error("check", "--angle-unit '%s': expected deg or rad", v);
+    } else if (cli_take(argc, argv, i, "--pairing-test", &v, &bad)) {
+        if (bad) return CLI_EXIT_USAGE;
+        long n = strtol(v, &end, 10);
+        if (*end || end == v || n < 1 || n > 10000)
+            return cli_usage_error("check", "--pairing-test '%s': expected a count", v);
+        a->perms = (size_t)n;
+    } else if (cli_take(argc, argv, i, "--seed", &v, &bad)) {
+        if (bad) return CLI_EXIT_USAGE;
+        a->seed = strtoull(v, &end, 10);
+        if (*end || end == v) return cli_usage_error("check", "--seed '%s': expected a number", v);
+    } else if (cli_flag(argv, *i, "--no-plausibility")) {
+        a->no_plaus = 1;
+    } else if (cli_flag(argv, *i, "--json")) {
+        a->json = 1;
+    } else if (cli_flag(argv, *i, "--reorthonormalize")) {
+        a->ro.reorthonormalize = 1;
+    } else if (cli_flag(argv, *i, "--rounded-quat")) {
+        a->ro.quat_norm_tol = TRAM_QUAT_NORM_MAX_FIX;
+    } else {
+        return -1;
+    }
+    return bad ? CLI_EXIT_USAGE : 0;
+}
+
+/* 1 when s is "YYYY-MM-DDTHH:MM:SSZ" with fields in range. */
+static int valid_stamp(const char *s)
+{
+    static const char pat[] = "dddd-dd-ddTdd:dd:ddZ";
+    if (strlen(s) != sizeof pat - 1) return 0;
+    for (size_t i = 0; pat[i]; i++)
+        if (pat[i] == 'd' ? !(s[i] >= '0' && s[i] <= '9') : s[i] != pat[i]) return 0;
+    int mo = (s[5] - '0') * 10 + (s[6] - '0'), d = (s[8] - '0') * 10 + (s[9] - '0');
+    int h = (s[11] - '0') * 10 + (s[12] - '0'), mi = (s[14] - '0') * 10 + (s[15] - '0');
+    int se = (s[17] - '0') * 10 + (s[18] - '0');
+    return mo >= 1 && mo <= 12 && d >= 1 && d <= 31 && h <= 23 && mi <= 59 && se <= 60;
+}
+
+static int parse_args(int argc, char **argv, check_args *a)
+{
+    memset(a, 0, sizeof *a);
+    for (int i = 1; i < argc; i++) {
+        int rc = take_option(argc, argv, &i, a);
+        if (rc > 0) return rc;
+        if (rc == 0) continue;
+        if (argv[i][0] == '-' && argv[i][1] != '\0')
+            return cli_usage_error("check", "unknown option '%s'", argv[i]);
+        if (a->file)
+            return cli_usage_error("check", "one record file expected, got '%s' and '%s'", a->file,
+                                   argv[i]);
+        a->file = argv[i];
+    }
+    if (!a->calib) return cli_usage_error("check", "--calibration FILE is required");
+    if (!a->file) return cli_usage_error("check", "no record file (use '-' for stdin)");
+    if (a->stamp && !valid_stamp(a->stamp))
+        return cli_usage_error("check", "--timestamp '%s': expected UTC date and time as "
+                                        "YYYY-MM-DDTHH:MM:SSZ, e.g. 2026-11-02T07:30:00Z",
+                               a->stamp);
+    if (a->stamp && !a->history)
+        return cli_usage_error("check", "--timestamp goes with --history");
+    return CLI_EXIT_OK;
+}
+
+/* The check's options, --tolerance in the calibration's length unit. */
+static int check_options(const check_args *a, const tram_calibration *cal, tram_check_options *co)
+{
+    memset(co, 0, sizeof *co);
+    co->no_plausibility = a->no_plaus;
+    co->pairing_permutations = a->perms;
+    co->seed = a->seed;
+    if (!a->tol) return CLI_EXIT_OK;
+    tram_length_unit tu;
+    if (parse_tol(a->tol, &co->tol_length, &tu, &co->tol_angle_rad) != 0)
+        return cli_usage_error("check", "--tolerance '%s': expected LENGTH,ANGLE with units, "
+                                        "e.g. 0.5mm,0.1deg", a->tol);
+    co->tol_length *= tram_unit_length_factor(tu, cal->length_unit);
+    co->use_tolerance = 1;
+    return CLI_EXIT_OK;
+}
+
+static int has_diag(const tram_check_result *res, const char *code)
+{
+    for (size_t i = 0; i < res->ndiag; i++)
+        if (strcmp(res->diag[i].code, code) == 0) return 1;
+    return 0;
+}
+
+/* The estimated change: attributed only when there is a change to attribute. */
+static void print_changes(const tram_check_result *res, int tol_noise, const char *u)
+{
+    const tram_change *best = res->best ? &res->target : &res->sensor;
+    const tram_change *other = res->best ? &res->sensor : &res->target;
+    if (res->verdict == TRAM_VERDICT_OK || tol_noise) {
+        /* nothing significant moved: no cause to name (a supervisor must not
+         * read "target-moved ... explains the stations" after ok) */
+        printf("no significant change: the deviations are within the stations' noise (the best\n"
+               "  fitting change, %.4f %s and %.4f deg, is not significant and is not a cause)\n",
+               best->translation_norm, u, best->rotation_angle_deg);
+        return;
+    }
+    print_change(best, u, "estimated change");
+    print_change(other, u, "alternative");
+}
+
+/* The test line: what ok means, and how many stations meet it. */
+static void print_test(const tram_check_result *res, const tram_check_options *co, const char *u)
+{
+    if (!co->use_tolerance) {
+        printf("\ntest: chi2 %.1f against %.1f (%zu dof) with the calibration's noise; false "
+               "alarms 1%% (docs/check.md)\n",
+               res->chi2_none, res->threshold_none, res->dof_none);
+        return;
+    }
+    double tol_deg = co->tol_angle_rad * 180.0 / 3.14159265358979323846;
+    size_t within = 0;
+    for (size_t i = 0; i < res->n; i++)
+        if (res->stations[i].trans <= co->tol_length && res->stations[i].rot_deg <= tol_deg)
+            within++;
+    printf("\ntest (--tolerance): ok needs every station within %.4g %s and %.4g deg; %zu of %zu "
+           "are\n",
+           co->tol_length, u, tol_deg, within, res->n);
+}
+
+static void print_report(const tram_check_result *res, const tram_records *r,
+                         const tram_check_options *co, const char *calib)
+{
+    const char *u = tram_unit_length_name(res->length_unit);
+    int tol_noise = has_diag(res, "tolerance-below-noise");
+    printf("tram check: %s, %zu station(s) from %s against %s\n\n", tram_setup_name(res->setup),
+           res->n, r->source, calib);
+    printf("VERDICT: %s\n  %s\n\n", tram_verdict_name(res->verdict),
+           tol_noise ? "NOT DECIDED: nothing changed beyond the stations' noise, but the "
+                       "tolerance is tighter than that noise, so this check cannot confirm it "
+                       "(see the warning). Do not rely on the tolerance until a check passes."
+                     : advice(res->verdict));
+    printf("station deviations from the stored calibration\n  %-16s %12s %12s\n", "station",
+           "rotation deg", u);
+    for (size_t i = 0; i < res->n; i++)
+        printf("  %-16s %12.4f %12.4f%s\n", r->stations[i].id, res->stations[i].rot_deg,
+               res->stations[i].trans, res->stations[i].disagrees ? "   disagrees" : "");
+    printf("\n");
+    print_changes(res, tol_noise, u);
+    print_test(res, co, u);
+    printf("stations' orientations differ by up to %.1f deg\n", res->orientation_spread_deg);
+    for (size_t i = 0; i < res->ndiag; i++)
+        printf("[%s] %s: %s\n", res->diag[i].severity ? "WARNING" : "note", res->diag[i].code,
+               res->diag[i].message);
+    printf("\n%s", cli_safety_text);
+}
+
+/* Append the check to the history file; CLI_EXIT_OK or the exit status. */
+static int append_history(const char *history, const char *given, const tram_check_result *res,
+                          const tram_records *r)
+{
+    char stamp[40], *line = NULL;
+    time_t now = time(NULL);
+    struct tm tmv;
+    gmtime_r(&now, &tmv);
+    strftime(stamp, sizeof stamp, "%Y-%m-%dT%H:%M:%SZ", &tmv);
+    if (given) snprintf(stamp, sizeof stamp, "%s", given);
+    tram_error err;
+    tram_error_clear(&err);
+    int rc = CLI_EXIT_OK;
+    if (tram_check_result_to_json(res, r, 1, stamp, &line, &err) != TRAM_OK ||
+        tram_file_append_line(history, line, &err) != TRAM_OK) {
+        cli_report(&err);
+        rc = CLI_EXIT_USAGE;
+    }
+    free(line);
+    return rc;
+}
+
+/* Print the result (JSON or text) and map the verdict to the exit status. */
+static int report(const check_args *a, const tram_check_result *res, const tram_records *r,
+                  const tram_check_options *co)
+{
+    if (a->history && append_history(a->history, a->stamp, res, r) != CLI_EXIT_OK) return CLI_EXIT_USAGE;
+    if (a->json) {
+        char *text = NULL;
+        tram_error err;
+        tram_error_clear(&err);
+        if (tram_check_result_to_json(res, r, 0, NULL, &text, &err) != TRAM_OK) {
+            cli_report(&err);
+            free(text);
+            return CLI_EXIT_USAGE;
+        }
+        fputs(text, stdout);
+        free(text);
+    } else {
+        print_report(res, r, co, a->calib);
+    }
+    switch (res->verdict) {
+    case TRAM_VERDICT_OK: return CLI_EXIT_OK;
+    case TRAM_VERDICT_INCONCLUSIVE: return CLI_EXIT_UNDETERMINED;
+    default: return CLI_EXIT_VERDICT;
+    }
+}
+
 int cli_check(int argc, char **argv)
 {
-    const char *calib = NULL, *file = NULL, *history = NULL, *tol = NULL, *v = NULL,
-               *chain = NULL;
-    int json = 0, bad = 0, no_plaus = 0;
-    size_t perms = 0;
-    unsigned long long seed = 0;
-    tram_read_options ro;
-    memset(&ro, 0, sizeof ro);
-    for (int i = 1; i < argc; i++) {
-        char *end;
-        if (cli_take(argc, argv, &i, "--calibration", &calib, &bad)) {
-        } else if (cli_take(argc, argv, &i, "--tolerance", &tol, &bad)) {
-        } else if (cli_take(argc, argv, &i, "--history", &history, &bad)) {
-        } else if (cli_take(argc, argv, &i, "--chain", &chain, &bad)) {
-        } else if (cli_take(argc, argv, &i, "--length-unit", &v, &bad)) {
-            if (bad) break;
-            ro.length_unit = tram_unit_length_parse(v);
-            if (ro.length_unit == TRAM_LENGTH_UNSET)
-                return cli_usage_error("check", "--length-unit '%s': expected mm, cm, m or in", v);
-        } else if (cli_take(argc, argv, &i, "--angle-unit", &v, &bad)) {
-            if (bad) break;
-            ro.angle_unit = tram_unit_angle_parse(v);
-            if (ro.angle_unit == TRAM_ANGLE_UNSET)
-                return cli_usage_error("check", "--angle-unit '%s': expected deg or rad", v);
-        } else if (cli_take(argc, argv, &i, "--pairing-test", &v, &bad)) {
-            if (bad) break;
-            long n = strtol(v, &end, 10);
-            if (*end || end == v || n < 1 || n > 10000)
-                return cli_usage_error("check", "--pairing-test '%s': expected a count", v);
-            perms = (size_t)n;
-        } else if (cli_take(argc, argv, &i, "--seed", &v, &bad)) {
-            if (bad) break;
-            seed = strtoull(v, &end, 10);
-            if (*end || end == v) return cli_usage_error("check", "--seed '%s': expected a number", v);
-        } else if (cli_flag(argv, i, "--no-plausibility")) {
-            no_plaus = 1;
-        } else if (cli_flag(argv, i, "--json")) {
-            json = 1;
-        } else if (cli_flag(argv, i, "--reorthonormalize")) {
-            ro.reorthonormalize = 1;
-        } else if (argv[i][0] == '-' && argv[i][1] != '\0') {
-            return cli_usage_error("check", "unknown option '%s'", argv[i]);
-        } else if (file) {
-            return cli_usage_error("check", "one record file expected, got '%s' and '%s'", file,
-                                   argv[i]);
-        } else {
-            file = argv[i];
-        }
-        if (bad) return CLI_EXIT_USAGE;
-    }
-    if (!calib) return cli_usage_error("check", "--calibration FILE is required");
-    if (!file) return cli_usage_error("check", "no record file (use '-' for stdin)");
-    const char *inputs[] = {file, calib, chain};
-    if (cli_check_outputs("check", inputs, 3, history, "--history", NULL) != CLI_EXIT_OK)
+    check_args a;
+    int rc = parse_args(argc, argv, &a);
+    if (rc != CLI_EXIT_OK) return rc;
+    const char *inputs[] = {a.file, a.calib, a.chain, a.tool};
+    if (cli_check_outputs("check", inputs, 4, a.history, "--history", NULL) != CLI_EXIT_OK)
         return CLI_EXIT_USAGE;
     tram_error err;
     tram_error_clear(&err);
     tram_calibration *cal = NULL;
-    tram_status st = tram_calibration_read_file(calib, &cal, &err);
-    if (st != TRAM_OK) {
-        cli_report(&err);
-        return CLI_EXIT_USAGE;
-    }
-    tram_check_options co;
-    memset(&co, 0, sizeof co);
-    co.no_plausibility = no_plaus;
-    co.pairing_permutations = perms;
-    co.seed = seed;
-    if (tol) {
-        tram_length_unit tu;
-        if (parse_tol(tol, &co.tol_length, &tu, &co.tol_angle_rad) != 0) {
-            tram_calibration_destroy(cal);
-            return cli_usage_error("check", "--tolerance '%s': expected LENGTH,ANGLE with units, "
-                                            "e.g. 0.5mm,0.1deg", tol);
-        }
-        co.tol_length *= tram_unit_length_factor(tu, cal->length_unit);
-        co.use_tolerance = 1;
-    }
     tram_records *r = NULL;
-    st = tram_records_read_file(file, &ro, &r, &err);
-    if (st != TRAM_OK) {
-        cli_report(&err);
-        tram_calibration_destroy(cal);
-        return CLI_EXIT_USAGE;
-    }
-    if (cli_apply_chain(chain, r) != CLI_EXIT_OK) {
-        tram_records_destroy(r);
-        tram_calibration_destroy(cal);
-        return CLI_EXIT_USAGE;
-    }
     tram_check_result *res = NULL;
-    st = tram_check(cal, r, &co, &res, &err);
-    if (st != TRAM_OK) {
+    tram_check_options co;
+    if (tram_calibration_read_file(a.calib, &cal, &err) != TRAM_OK) {
         cli_report(&err);
-        tram_records_destroy(r);
-        tram_calibration_destroy(cal);
         return CLI_EXIT_USAGE;
     }
-    int rc = CLI_EXIT_OK;
-    if (history) {
-        char stamp[40], *line = NULL;
-        time_t now = time(NULL);
-        struct tm tmv;
-        gmtime_r(&now, &tmv);
-        strftime(stamp, sizeof stamp, "%Y-%m-%dT%H:%M:%SZ", &tmv);
-        if (tram_check_result_to_json(res, r, 1, stamp, &line, &err) != TRAM_OK ||
-            tram_file_append_line(history, line, &err) != TRAM_OK) {
-            cli_report(&err);
-            rc = CLI_EXIT_USAGE;
-        }
-        free(line);
-    }
-    if (rc == CLI_EXIT_OK && json) {
-        char *text = NULL;
-        if (tram_check_result_to_json(res, r, 0, NULL, &text, &err) != TRAM_OK) {
-            cli_report(&err);
-            rc = CLI_EXIT_USAGE;
-        } else {
-            fputs(text, stdout);
-        }
-        free(text);
-    } else if (rc == CLI_EXIT_OK) {
-        const char *u = tram_unit_length_name(res->length_unit);
-        printf("tram check: %s, %zu station(s) from %s against %s\n\n", tram_setup_name(res->setup),
-               res->n, r->source, calib);
-        printf("VERDICT: %s\n  %s\n\n", tram_verdict_name(res->verdict), advice(res->verdict));
-        printf("station deviations from the stored calibration\n  %-16s %12s %12s\n", "station",
-               "rotation deg", u);
-        for (size_t i = 0; i < res->n; i++)
-            printf("  %-16s %12.4f %12.4f%s\n", r->stations[i].id, res->stations[i].rot_deg,
-                   res->stations[i].trans, res->stations[i].disagrees ? "   disagrees" : "");
-        printf("\n");
-        const tram_change *best = res->best ? &res->target : &res->sensor;
-        const tram_change *other = res->best ? &res->sensor : &res->target;
-        print_change(best, u, res->verdict == TRAM_VERDICT_OK ? "estimated change (not significant)"
-                                                              : "estimated change");
-        print_change(other, u, "alternative");
-        if (co.use_tolerance)
-            printf("\ntest: every station within %.4g %s and %.4g deg\n", co.tol_length, u,
-                   co.tol_angle_rad * 180.0 / 3.14159265358979323846);
-        else
-            printf("\ntest: chi2 %.1f against %.1f (%zu dof) with the calibration's noise; false "
-                   "alarms 1%% (docs/check.md)\n",
-                   res->chi2_none, res->threshold_none, res->dof_none);
-        printf("stations' orientations differ by up to %.1f deg\n", res->orientation_spread_deg);
-        for (size_t i = 0; i < res->ndiag; i++)
-            printf("[%s] %s: %s\n", res->diag[i].severity ? "WARNING" : "note", res->diag[i].code,
-                   res->diag[i].message);
-        printf("\n%s", cli_safety_text);
+    rc = check_options(&a, cal, &co);
+    if (rc == CLI_EXIT_OK && tram_records_read_file(a.file, &a.ro, &r, &err) != TRAM_OK) {
+        cli_report(&err);
+        rc = CLI_EXIT_USAGE;
     }
     if (rc == CLI_EXIT_OK) {
-        switch (res->verdict) {
-        case TRAM_VERDICT_OK: rc = CLI_EXIT_OK; break;
-        case TRAM_VERDICT_INCONCLUSIVE: rc = CLI_EXIT_UNDETERMINED; break;
-        default: rc = CLI_EXIT_VERDICT; break;
-        }
+        cli_records_warnings(r);
+        rc = cli_apply_chain(a.chain, r) != CLI_EXIT_OK || cli_apply_tool(a.tool, r) != CLI_EXIT_OK
+                 ? CLI_EXIT_USAGE
+                 : CLI_EXIT_OK;
     }
+    if (rc == CLI_EXIT_OK && tram_check(cal, r, &co, &res, &err) != TRAM_OK) {
+        cli_report(&err);
+        rc = CLI_EXIT_USAGE;
+    }
+    if (rc == CLI_EXIT_OK) rc = report(&a, res, r, &co);
     tram_check_result_destroy(res);
     tram_records_destroy(r);
     tram_calibration_destroy(cal);

@@ -34,6 +34,12 @@ const char cli_detect_help[] =
     "  --stations FILE   CSV with header image,station naming each image's station\n"
     "                    (default: the image file name without its extension)\n"
     "  --force           replace existing output files\n\n"
+    "examples (from the top of the source tree):\n"
+    "  tram board --corners 9x6 --square 18mm -o board.json --png view.png --dpi 100 --force\n"
+    "  # three copies of one rendered view stand in for three photographs\n"
+    "  for i in 1 2 3; do cp view.png shot_$i.png; done\n"
+    "  tram detect --board board.json -o obs.csv --force shot_1.png shot_2.png shot_3.png\n"
+    "\n"
     "exit status: 0 every image read and at least three boards found; 2 usage or\n"
     "input error (an unreadable, truncated or corrupt image, a non-image, images of\n"
     "different sizes); 3 fewer than three images show the whole board.\n";

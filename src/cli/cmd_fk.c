@@ -23,6 +23,9 @@ const char cli_fk_help[] =
     "  --all-frames        print every link frame instead: a table station,frame,x,y,z,\n"
     "                      qw,qx,qy,qz with the frames base (where the first joint moves),\n"
     "                      one per joint (after it moves), and flange, all in the base frame\n\n"
+    "examples (from the top of the source tree):\n"
+    "  tram fk --chain datasets/demo/arm_dh.json datasets/demo/wrist_camera_joints.csv\n"
+    "\n"
     "exit status: 0 success; 2 usage or input error (e.g. a joint outside its limits,\n"
     "naming the station, the joint and file:line:column).\n";
 
@@ -108,6 +111,7 @@ int cli_fk(int argc, char **argv)
     tram_records *r = NULL;
     tram_status st = tram_chain_read_file(chain, &c, &err);
     if (st == TRAM_OK) st = tram_records_read_file(file, NULL, &r, &err);
+    if (st == TRAM_OK) cli_records_warnings(r);
     if (st == TRAM_OK) st = tram_records_apply_chain(r, c, &err);
     int rc = CLI_EXIT_OK;
     if (st != TRAM_OK) {

@@ -39,6 +39,9 @@ const char cli_intrinsics_help[] =
     "  --plot DIR          pictures: DIR/STATION-residuals.png per view, DIR/residuals.png\n"
     "                      (all views) and DIR/distortion.png\n"
     "  --force             replace existing output files\n\n"
+    "examples (from the top of the source tree):\n"
+    "  tram intrinsics --board tests/cli/data/pixels/board.json -o camera.json --force tests/cli/data/pixels/pixels.csv\n"
+    "\n"
     "exit status: 0 calibrated (warnings are printed); 2 usage or input error (a bad\n"
     "file, a point id that is not on the target, a non-planar model); 3 the views cannot\n"
     "determine the camera (fewer than three views, too little tilt, degenerate views).\n";

@@ -29,7 +29,13 @@ const char cli_plot_help[] =
     "  --calibration F    frames: draw the solved sensor and target too\n"
     "  --chain F          frames: records with joint readings; every link frame is drawn\n"
     "  --tolerance L,A    history: the tolerance band, e.g. 0.5mm,0.1deg\n"
-    "  --robust           points: RANSAC registration (outliers flagged)\n";
+    "  --robust           points: RANSAC registration (outliers flagged)\n"
+    "\n"
+    "examples (from the top of the source tree):\n"
+    "  tram plot frames datasets/demo/wrist_camera.csv -o frames.png --force\n"
+    "  tram plot points tests/cli/data/pairs.csv -o points.png --force\n\n"
+    "exit status: 0 picture written; 2 usage or input error (the message names\n"
+    "file:line:column), or an existing output without --force.\n";
 
 /* st and *img come from a plot call made before this one (the order in
  * which C evaluates arguments is unspecified, so *img is read here). */
@@ -82,7 +88,7 @@ int cli_plot_solution(const tram_records *r, const tram_solution *s, const char 
         tram_plot_frames_data fd = {r->count, F, ids, out, s->setup, s->solved, s->X, s->Z, NULL, 0,
                                     s->length_unit, NULL};
         tram_image *img = NULL;
-        snprintf(path, sizeof path, "%s/frames.png", dir);
+        cli_path_join(path, sizeof path, dir, "frames.png");
         rc = write_png(tram_plot_frames(&fd, 1600, 1000, &img, &err), &img, path, force, &err);
         if (rc == CLI_EXIT_OK) {
             fprintf(stderr, "picture: %s\n", path);
@@ -91,7 +97,7 @@ int cli_plot_solution(const tram_records *r, const tram_solution *s, const char 
                                            4.5943 * s->noise_angle_deg, 4.5943 * s->noise_length,
                                            s->length_unit, NULL};
             img = NULL;
-            snprintf(path, sizeof path, "%s/residuals.png", dir);
+            cli_path_join(path, sizeof path, dir, "residuals.png");
             rc = write_png(tram_plot_residuals(&rd, 1600, 1000, &img, &err), &img, path, force, &err);
             if (rc == CLI_EXIT_OK) fprintf(stderr, "picture: %s\n", path);
         }
@@ -226,6 +232,7 @@ static int plot_frames(const char *file, const tram_calibration *cal, const char
         cli_report(&err);
         return CLI_EXIT_USAGE;
     }
+    cli_records_warnings(r);
     tram_chain *c = NULL;
     tram_se3 *links = NULL;
     int rc = CLI_EXIT_OK;

@@ -31,6 +31,9 @@ const char cli_pose_help[] =
     "                    the robot file's; mm for a model without --robot)\n"
     "  -o FILE           write the record file atomically (default: standard output)\n"
     "  --force           allow -o to replace an existing file\n\n"
+    "examples (from the top of the source tree):\n"
+    "  tram pose --camera tests/cli/data/pixels/camera.json --board tests/cli/data/pixels/board.json tests/cli/data/pixels/pixels.csv\n"
+    "\n"
     "exit status: 0 every pose found; 2 usage or input error; 3 a view whose pose\n"
     "cannot be found (fewer than 4 corners, corners on one line).\n";
 
@@ -222,6 +225,7 @@ int cli_pose(int argc, char **argv)
         tram_read_options ro;
         memset(&ro, 0, sizeof ro);
         st = tram_records_read_file(a.robot, &ro, &rob, &err);
+        if (st == TRAM_OK) cli_records_warnings(rob);
         if (st == TRAM_OK && !rob->has_block[TRAM_BLOCK_ROBOT]) {
             fprintf(stderr, "%s: error: --robot: the file has no robot_ pose columns\n", a.robot);
             rc = CLI_EXIT_USAGE;

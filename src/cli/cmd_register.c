@@ -36,6 +36,9 @@ const char cli_register_help[] =
     "  --pairing-test N    random pairings of the pairing test (default 30; 0: off;\n"
     "                      its seed is --seed)\n"
     "  --no-plausibility   skip the gate and the pairing test\n\n"
+    "examples (from the top of the source tree):\n"
+    "  tram register --scale tests/cli/data/pairs.csv\n"
+    "\n"
     "exit status: 0 success; 2 usage or input error; 3 the points cannot determine the\n"
     "transform (fewer than 3 points in 3D or 2 in 2D, coincident or collinear points),\n"
     "or the residuals are implausible, or the pairing fits no better than random ones.\n";

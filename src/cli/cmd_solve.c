@@ -35,6 +35,10 @@ const char cli_solve_help[] =
     "  --bootstrap N     N station resamples as a second opinion on the uncertainty\n"
     "  --seed N          bootstrap seed (default 1)\n"
     "  --no-convention-check   skip re-solving under the usual convention mistakes\n"
+    "  --fit-scale       solve one length scale of the sensor (its translations, or its\n"
+    "                    points with --points) with the mount; without it the scale is\n"
+    "                    only tested, and a note suggests it when it differs from 1 by\n"
+    "                    more than 3 sigma\n"
     "  --max-residual LEN[+PCT%],ANG   plausibility gate on the station (or point) RMS\n"
     "                    residual, default 5mm+1%,1deg (PCT of the working distance)\n"
     "  --max-offset LEN,LEN   farthest plausible mount from the flange and from the\n"
@@ -44,8 +48,13 @@ const char cli_solve_help[] =
     "  --no-plausibility  skip the gate and the mount geometry check\n"
     "  --length-unit U, --angle-unit U   units when the file does not declare them\n"
     "  --reorthonormalize        accept rounded rotation matrices\n"
+    "  --rounded-quat    accept quaternions rounded to a few decimals (norm within\n"
+    "                    0.01 of 1; default 1e-6) and normalise them\n"
     "  --chain FILE      the record file gives joint readings: compute the flange\n"
     "                    poses with this kinematic chain (docs/chain.md)\n"
+    "  --tool 'X,Y,ZUNIT ROT'  the robot poses are tool (TCP) poses (robot-pose:\n"
+    "                    tool-in-base): the tool's pose in the flange, e.g.\n"
+    "                    '0,0,150mm quat:1,0,0,0' (docs/records.md); gives T_tool_sensor too\n"
     "  --points FILE     the sensor's observed 3D points per station (station,point,x,y,z\n"
     "                    in the sensor frame) instead of sensor_ pose columns\n"
     "  --model FILE      the target's points in its own frame (point,x,y,z); without it\n"
@@ -56,8 +65,12 @@ const char cli_solve_help[] =
     "  --refine-intrinsics   with --pixels: refine the camera's parameters too\n"
     "  --json            print the result as JSON (schema: docs/solve.md)\n"
     "  -o FILE           write the calibration file (JSON) atomically\n"
-    "  --force           allow -o to replace an existing file\n"
+    "  --force           allow -o and --plot to replace existing files\n"
     "  --plot DIR        write frames.png and residuals.png of the solve into DIR\n\n"
+    "examples (from the top of the source tree):\n"
+    "  tram solve datasets/demo/wrist_camera.csv\n"
+    "  tram solve --json -o wrist.cal.json --force datasets/demo/wrist_camera.csv\n"
+    "\n"
     "exit status: 0 solved with no warning; 2 usage or input error; 3 the data cannot\n"
     "determine a trustworthy answer (unobservable motion, or a warning such as a\n"
     "convention that fits far better than the declared one, implausible residuals,\n"
@@ -160,7 +173,13 @@ static void print_transform(const char *name, const char *meaning, const tram_se
     printf("%s  (%s)\n", name, meaning);
     print_matrix(T);
     printf("  translation (%s)        %12.6f %12.6f %12.6f\n", u, t[0], t[1], t[2]);
-    if (s->unc.valid)
+    int sig_ok = s->unc.valid && !isnan(s->unc.sigma[off]) && !isnan(s->unc.sigma[off + 3]);
+    if (s->unc.valid && !sig_ok)
+        printf("    1-sigma: not estimated for %s in this mode%s\n", name,
+               s->points && !s->points->with_model
+                   ? " (the target frame is defined by the solved point model itself)"
+                   : "");
+    if (sig_ok)
         printf("    1-sigma / 95%%          %12.6f %12.6f %12.6f  /  +-%.4g +-%.4g +-%.4g\n",
                s->unc.sigma[off], s->unc.sigma[off + 1], s->unc.sigma[off + 2],
                1.96 * s->unc.sigma[off], 1.96 * s->unc.sigma[off + 1],
@@ -169,7 +188,7 @@ static void print_transform(const char *name, const char *meaning, const tram_se
     printf("  rotation vector (deg)    %12.6f %12.6f %12.6f   angle %.6f\n", w[0] * RAD2DEG,
            w[1] * RAD2DEG, w[2] * RAD2DEG,
            sqrt(w[0] * w[0] + w[1] * w[1] + w[2] * w[2]) * RAD2DEG);
-    if (s->unc.valid)
+    if (sig_ok)
         printf("    rotation 1-sigma (deg, about own x y z) %.4g %.4g %.4g  (95%%: +-%.4g +-%.4g "
                "+-%.4g)\n",
                s->unc.sigma[off + 3], s->unc.sigma[off + 4], s->unc.sigma[off + 5],
@@ -207,14 +226,103 @@ static void print_trust(const tram_solution *s)
                s->trust.pairing_ratio_trans, s->trust.pairing_failed ? "NOT DETERMINED" : "passed");
 }
 
+/* Records of tool (TCP) poses: the tool used, and the fixed transform in
+ * the tool frame as well (T_tool_sensor or T_tool_target). */
+static void print_tool(const tram_solution *s, const tram_records *r, const char *u)
+{
+    if (!r->robot_tool || !r->has_tool) return;
+    int eih = s->setup == TRAM_SETUP_EYE_IN_HAND;
+    tram_se3 T_tool_flange, T;
+    tram_se3_invert(&r->T_flange_tool, &T_tool_flange);
+    tram_se3_compose(&T_tool_flange, eih ? &s->X : &s->Z, &T);
+    tram_mat3 R;
+    double t[3];
+    tram_quat_wxyz q;
+    tram_se3_to_rt(&r->T_flange_tool, &R, t);
+    tram_quat_wxyz_from_mat3(&R, &q);
+    char where[48];
+    if (r->tool_in_file && r->tool_line)
+        snprintf(where, sizeof where, "tool-in-flange, line %ld", r->tool_line);
+    else
+        snprintf(where, sizeof where, r->tool_in_file ? "tool-in-flange" : "--tool");
+    printf("robot poses: tool (TCP) poses, robot-pose tool-in-base; flange poses from the tool\n"
+           "  T_flange_tool (%s): translation (%s) %.6f %.6f %.6f, quaternion (w, x, y, z) "
+           "%.9f %.9f %.9f %.9f\n\n",
+           where, u, t[0], t[1], t[2], q.w, q.x, q.y, q.z);
+    tram_se3_to_rt(&T, &R, t);
+    tram_quat_wxyz_from_mat3(&R, &q);
+    printf("%s  (%s)\n", eih ? "T_tool_sensor" : "T_tool_target",
+           eih ? "pose of the sensor in the tool frame" : "pose of the target in the tool frame");
+    print_matrix(&T);
+    printf("  translation (%s)        %12.6f %12.6f %12.6f\n", u, t[0], t[1], t[2]);
+    printf("  quaternion (w, x, y, z)  %12.9f %12.9f %12.9f %12.9f\n\n", q.w, q.x, q.y, q.z);
+}
+
+/* The sensor's length scale: fitted, or tested against 1 (docs/solve.md). */
+static void print_scale(const tram_solution *s)
+{
+    const tram_scale_result *k = &s->sensor_scale;
+    if (!k->estimated) return;
+    printf("\nsensor length scale (sensor lengths x scale = robot lengths): %.6f, 1 sigma %.6f "
+           "(%+.3f%%), %.2f sigma from 1 (p = %.2g); %s\n",
+           k->scale, k->sigma, 100.0 * (k->scale - 1.0), k->z, k->p_value,
+           k->fitted ? "fitted: the result uses it" : "tested only: the result uses 1");
+}
+
+/* Each closed form's fit on the same stations, outliers included (which is
+ * why they fit worse than the refined result); nothing in modes that solve
+ * without them (observed points). */
+static void print_closed_forms(const tram_solution *s, const char *u)
+{
+    int any = 0;
+    for (int m = 1; m < TRAM_METHOD_COUNT; m++)
+        if (!isnan(s->closed_rot_rms_deg[m])) any = 1;
+    if (!s->solved || !any) return;
+    if (s->n_outliers)
+        printf("closed forms on every station, the %zu outlier(s) included - hence worse than the "
+               "refined result, which leaves them out (rms rotation deg / %s):",
+               s->n_outliers, u);
+    else
+        printf("closed forms (rms rotation deg / %s):", u);
+    for (int m = 1; m < TRAM_METHOD_COUNT; m++) {
+        if (isnan(s->closed_rot_rms_deg[m])) printf(" %s failed;", tram_method_name((tram_method)m));
+        else
+            printf(" %s %.4g/%.4g;", tram_method_name((tram_method)m), s->closed_rot_rms_deg[m],
+                   s->closed_trans_rms[m]);
+    }
+    printf("\n");
+}
+
+/* Each station's residual against the solution, when the mode gives
+ * one per station (solves from observed points without a model report
+ * per-point residuals instead, below). */
+static void print_station_table(const tram_solution *s, const tram_records *r, const char *u)
+{
+    for (size_t i = 0; i < s->n; i++)
+        if (isnan(s->stations[i].rot_deg) || isnan(s->stations[i].trans)) return;
+    printf("station residuals (each station's prediction of %s against the solution)\n", s->Z_name);
+    printf("  %-16s %12s %14s\n", "station", "rotation deg", u);
+    for (size_t i = 0; i < s->n; i++)
+        printf("  %-16s %12.5f %14.5f%s\n", r->stations[i].id, s->stations[i].rot_deg,
+               s->stations[i].trans, s->stations[i].outlier ? "   OUTLIER (excluded)" : "");
+    printf("  %-16s %12.5f %14.5f\n", "rms", s->rot_deg.rms, s->trans.rms);
+    printf("  %-16s %12.5f %14.5f\n", "median", s->rot_deg.median, s->trans.median);
+    printf("  %-16s %12.5f %14.5f\n", "max", s->rot_deg.max, s->trans.max);
+    if (s->n_outliers) printf("  (statistics without the %zu outlier(s))\n", s->n_outliers);
+}
+
 static void print_summary(const tram_solution *s, const tram_records *r)
 {
     const char *u = tram_unit_length_name(s->length_unit);
     printf("tram solve: %s, %zu stations from %s, lengths in %s\n", tram_setup_name(s->setup),
            s->n, r->source, u);
-    if (s->solved) {
+    if (s->solved && s->points && !s->points->with_model)
+        printf("method: linear start from the observed points, then refinement of the mount by "
+               "variable projection with the point model solved too (docs/points.md)\n\n");
+    else if (s->solved)
         printf("method: %s closed form%s\n\n", tram_method_name(s->start_method),
                s->refined ? ", then robust refinement over both unknowns" : " (not refined)");
+    if (s->solved) {
         int eih = s->setup == TRAM_SETUP_EYE_IN_HAND;
         print_transform(s->X_name, eih ? "pose of the sensor in the flange frame"
                                        : "pose of the sensor in the robot base frame",
@@ -222,19 +330,12 @@ static void print_summary(const tram_solution *s, const tram_records *r)
         print_transform(s->Z_name, eih ? "pose of the target in the robot base frame"
                                        : "pose of the target in the flange frame",
                         &s->Z, s, 6, u);
-        printf("station residuals (each station's prediction of %s against the solution)\n",
-               s->Z_name);
-        printf("  %-16s %12s %14s\n", "station", "rotation deg", u);
-        for (size_t i = 0; i < s->n; i++)
-            printf("  %-16s %12.5f %14.5f%s\n", r->stations[i].id, s->stations[i].rot_deg,
-                   s->stations[i].trans, s->stations[i].outlier ? "   OUTLIER (excluded)" : "");
-        printf("  %-16s %12.5f %14.5f\n", "rms", s->rot_deg.rms, s->trans.rms);
-        printf("  %-16s %12.5f %14.5f\n", "median", s->rot_deg.median, s->trans.median);
-        printf("  %-16s %12.5f %14.5f\n", "max", s->rot_deg.max, s->trans.max);
-        if (s->n_outliers) printf("  (statistics without the %zu outlier(s))\n", s->n_outliers);
+        print_tool(s, r, u);
+        print_station_table(s, r, u);
         if (s->points) {
             const tram_point_result *pr = s->points;
-            printf("\n3D point residuals (%s model): rms %.4f %s, median %.4f, max %.4f\n",
+            printf("\n3D point residuals (%s model): rms %.4f %s, median %.4f, largest single "
+                   "point %.4f\n",
                    pr->with_model ? "given" : "solved", pr->point.rms, u, pr->point.median,
                    pr->point.max);
             printf("  per station rms:");
@@ -251,25 +352,21 @@ static void print_summary(const tram_solution *s, const tram_records *r)
             }
         }
         cli_print_pixels(s, r);
-        printf("\nnoise per axis (%s): %.4g deg, %.4g %s\n",
-               s->noise_given ? "given" : "estimated from the residuals", s->noise_angle_deg,
-               s->noise_length, u);
+        print_scale(s);
+        if (isnan(s->noise_angle_deg))
+            printf("\nnoise per axis (%s): %.4g %s (points carry no angle)\n",
+                   s->noise_given ? "given" : "estimated from the residuals", s->noise_length, u);
+        else
+            printf("\nnoise per axis (%s): %.4g deg, %.4g %s\n",
+                   s->noise_given ? "given" : "estimated from the residuals", s->noise_angle_deg,
+                   s->noise_length, u);
     }
     printf("observability: rotation between stations %.2f .. %.2f deg, axis spread %.2f deg",
            s->motion_min_deg, s->motion_max_deg, s->axis_spread_deg);
     if (s->refined) printf(", condition %.3g", s->condition);
     printf("\n");
     print_trust(s);
-    if (s->solved) {
-        printf("closed forms (rms rotation deg / %s):", u);
-        for (int m = 1; m < TRAM_METHOD_COUNT; m++) {
-            if (isnan(s->closed_rot_rms_deg[m])) printf(" %s failed;", tram_method_name((tram_method)m));
-            else
-                printf(" %s %.4g/%.4g;", tram_method_name((tram_method)m),
-                       s->closed_rot_rms_deg[m], s->closed_trans_rms[m]);
-        }
-        printf("\n");
-    }
+    print_closed_forms(s, u);
     if (s->ndiag) {
         printf("\ndiagnostics:\n");
         for (size_t i = 0; i < s->ndiag; i++)
@@ -286,7 +383,7 @@ static void print_summary(const tram_solution *s, const tram_records *r)
 
 /* Everything the command line asked for. */
 typedef struct solve_args {
-    const char *file, *out_path, *noise, *method, *pair_sel, *chain, *points, *model, *plot_dir;
+    const char *file, *out_path, *noise, *method, *pair_sel, *chain, *tool, *points, *model, *plot_dir;
     tram_solve_options so;
     tram_read_options ro;
     tram_setup setup;
@@ -419,7 +516,9 @@ static int take_flag(char **argv, int i, solve_args *a)
     if (cli_flag(argv, i, "--closed-form")) a->so.refine = 0;
     else if (cli_flag(argv, i, "--no-robust")) a->so.robust = 0;
     else if (cli_flag(argv, i, "--no-convention-check")) a->so.check_conventions = 0;
+    else if (cli_flag(argv, i, "--fit-scale")) a->so.fit_scale = 1;
     else if (cli_flag(argv, i, "--reorthonormalize")) a->ro.reorthonormalize = 1;
+    else if (cli_flag(argv, i, "--rounded-quat")) a->ro.quat_norm_tol = TRAM_QUAT_NORM_MAX_FIX;
     else if (cli_flag(argv, i, "--json")) a->json = 1;
     else if (cli_flag(argv, i, "--force")) a->force = 1;
     else return 0;
@@ -441,6 +540,7 @@ static int parse_args(int argc, char **argv, solve_args *a)
             if (rc != CLI_EXIT_OK) return rc;
         } else if (cli_take(argc, argv, &i, "--noise", &a->noise, &bad)) {
         } else if (cli_take(argc, argv, &i, "--chain", &a->chain, &bad)) {
+        } else if (cli_take(argc, argv, &i, "--tool", &a->tool, &bad)) {
         } else if (cli_take(argc, argv, &i, "--plot", &a->plot_dir, &bad)) {
         } else if (cli_take(argc, argv, &i, "--points", &a->points, &bad)) {
         } else if (cli_take(argc, argv, &i, "--model", &a->model, &bad)) {
@@ -470,6 +570,22 @@ static int parse_args(int argc, char **argv, solve_args *a)
     if (!a->file) return cli_usage_error("solve", "no record file (use '-' for stdin)");
     if (a->model && !a->points && !a->pix.pixels)
         return cli_usage_error("solve", "--model goes with --points");
+    if (a->so.fit_scale && a->pix.pixels)
+        return cli_usage_error("solve", "--fit-scale goes with sensor poses or --points, not --pixels");
+    if (a->so.fit_scale && !a->so.refine)
+        return cli_usage_error("solve", "--fit-scale needs the refinement (not --closed-form)");
+    /* Existing outputs are refused before the work, as tram plot -o does. */
+    if (a->plot_dir && !a->force) {
+        static const char *const pics[] = {"frames.png", "residuals.png"};
+        char path[1200];
+        for (size_t k = 0; k < 2; k++) {
+            cli_path_join(path, sizeof path, a->plot_dir, pics[k]);
+            if (access(path, F_OK) == 0)
+                return cli_usage_error("solve", "--plot: %s already exists; not overwritten (pass "
+                                                "--force to replace it)",
+                                       path);
+        }
+    }
     return CLI_EXIT_OK;
 }
 
@@ -570,7 +686,8 @@ static int emit_results(const tram_records *r, const tram_solution *s, const sol
             fprintf(stderr, "tram solve: %s: %s\n",
                     s->diag[i].severity == TRAM_SEVERITY_ERROR ? "error" : "warning",
                     s->diag[i].message);
-    if (rc == CLI_EXIT_OK && a->plot_dir && s->solved) rc = cli_plot_solution(r, s, a->plot_dir, 1);
+    fflush(stdout); /* the report before the picture: lines (stderr) when piped */
+    if (rc == CLI_EXIT_OK && a->plot_dir && s->solved) rc = cli_plot_solution(r, s, a->plot_dir, a->force);
     if (rc == CLI_EXIT_OK && (!s->solved || !s->trustworthy)) rc = CLI_EXIT_UNDETERMINED;
     return rc;
 }
@@ -593,8 +710,11 @@ int cli_solve(int argc, char **argv)
         cli_report(&err);
         return cli_exit_for(st);
     }
+    cli_records_warnings(r);
     tram_pair *pair_list = NULL;
-    rc = cli_apply_chain(a.chain, r) != CLI_EXIT_OK ? CLI_EXIT_USAGE : resolve_setup(r, &a);
+    rc = cli_apply_chain(a.chain, r) != CLI_EXIT_OK || cli_apply_tool(a.tool, r) != CLI_EXIT_OK
+             ? CLI_EXIT_USAGE
+             : resolve_setup(r, &a);
     if (rc == CLI_EXIT_OK) rc = apply_record_options(r, &a, &pair_list);
     if (rc != CLI_EXIT_OK) {
         tram_records_destroy(r);

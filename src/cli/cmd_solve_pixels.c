@@ -6,6 +6,7 @@
 #include "cli.h"
 
 #include <math.h>
+#include <stdio.h>
 #include <string.h>
 
 tram_status cli_solve_pixels(const tram_records *r, tram_setup setup, const cli_pixel_args *a,
@@ -14,10 +15,11 @@ tram_status cli_solve_pixels(const tram_records *r, tram_setup setup, const cli_
     tram_pixel_obs *obs = NULL;
     tram_point_model *mdl = NULL;
     tram_camera cam;
+    tram_camera_calib cal;
     tram_board board;
-    double *xyz = NULL;
+    double *xyz = NULL, cov[TRAM_CAM_NPARAM * TRAM_CAM_NPARAM];
     tram_status st = tram_pixel_obs_read_file(a->pixels, &obs, err);
-    if (st == TRAM_OK) st = tram_camera_read_file(a->camera, &cam, NULL, err);
+    if (st == TRAM_OK) st = tram_camera_read_file(a->camera, &cam, &cal, err);
     if (st == TRAM_OK && a->board) {
         st = tram_board_read_file(a->board, &board, err);
         if (st == TRAM_OK) st = tram_pixel_target_from_board(obs, &board, r->length_unit, &xyz, err);
@@ -25,7 +27,15 @@ tram_status cli_solve_pixels(const tram_records *r, tram_setup setup, const cli_
         st = tram_point_model_read_file(a->model, r, &mdl, err);
         if (st == TRAM_OK) st = tram_pixel_target_from_model(obs, mdl, &xyz, err);
     }
-    tram_pixel_solve_options po = {a->refine_intrinsics};
+    /* the camera file's own uncertainty goes into the intervals of X */
+    int kind = st == TRAM_OK ? tram_camera_calib_covariance(&cal, cov) : 0;
+    tram_pixel_solve_options po;
+    tram_pixel_solve_options_init(&po);
+    po.refine_intrinsics = a->refine_intrinsics;
+    po.camera_cov = kind ? cov : NULL;
+    if (kind == 2 && !a->refine_intrinsics)
+        fprintf(stderr, "tram solve: note: %s gives the camera's 1-sigma without their correlations; "
+                        "its share of the intervals of X treats them as independent\n", a->camera);
     if (st == TRAM_OK) st = tram_solve_pixels(r, setup, &cam, obs, xyz, so, &po, s, err);
     tram_pixel_target_free(xyz);
     tram_point_model_destroy(mdl);

@@ -2,6 +2,9 @@
  * fileio.c - atomic output files: write to a temporary file beside the
  * target, fsync, rename (rename(2) replaces the target atomically on POSIX
  * file systems), and appends of whole lines with one O_APPEND write.
+ * Output files get the mode any new file gets (0666 less the umask, as
+ * open(2) gives it; a replaced file keeps its mode), not mkstemp's 0600:
+ * other users and services read calibrations.
  */
 #include "tram/fileio.h"
 #include "core/tram_internal.h"
@@ -12,6 +15,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include <sys/stat.h>
+#include <time.h>
 #include <unistd.h>
 
 static int write_all(int fd, const char *p, size_t len)
@@ -28,18 +32,38 @@ static int write_all(int fd, const char *p, size_t len)
     return 0;
 }
 
+/* A new file "PATH.tmp.XXXXXX" (name into tmp, cap bytes) opened with
+ * O_CREAT | O_EXCL and mode 0666, so that the umask applies as to any new
+ * file; the suffix from the process id, the clock and the attempt. */
+static int open_temporary(const char *path, char *tmp, size_t cap)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_REALTIME, &ts);
+    unsigned long long x = ((unsigned long long)getpid() << 32) ^ (unsigned long long)ts.tv_nsec ^
+                           ((unsigned long long)ts.tv_sec << 20);
+    for (int attempt = 0; attempt < 100; attempt++) {
+        x = x * 6364136223846793005ULL + 1442695040888963407ULL; /* Knuth's LCG step */
+        snprintf(tmp, cap, "%s.tmp.%06llx", path, (x >> 40) & 0xffffffULL);
+        int fd = open(tmp, O_WRONLY | O_CREAT | O_EXCL, 0666);
+        if (fd >= 0 || errno != EEXIST) return fd;
+    }
+    errno = EEXIST;
+    return -1;
+}
+
 tram_status tram_file_write_atomic(const char *path, const char *data, size_t len, int overwrite,
                                    tram_error *err)
 {
     struct stat sb;
+    int existed = stat(path, &sb) == 0 && S_ISREG(sb.st_mode);
     if (!overwrite && stat(path, &sb) == 0)
         return tram__fail(err, TRAM_EINPUT, path, 0, 0,
                           "already exists; not overwritten (pass --force to replace it)");
     size_t pl = strlen(path);
     char *tmp = tram__malloc(pl + 16);
     if (!tmp) return tram__fail(err, TRAM_ENOMEM, path, 0, 0, "out of memory");
-    snprintf(tmp, pl + 16, "%s.tmp.XXXXXX", path);
-    int fd = mkstemp(tmp);
+    int fd = open_temporary(path, tmp, pl + 16);
+    if (fd >= 0 && existed) fchmod(fd, sb.st_mode & 07777); /* a replaced file keeps its mode */
     if (fd < 0) {
         tram_status st = tram__fail(err, TRAM_EIO, path, 0, 0, "cannot create a temporary file: %s",
                                     strerror(errno));

@@ -36,6 +36,13 @@ tram_status tram_records_read_buffer(const char *name, const char *data, size_t 
                                      tram_error *err)
 {
     *out = NULL;
+    /* A UTF-8 byte-order mark (spreadsheets write one) is not part of the
+     * text: skip it, so that columns count from the first character. */
+    if (len >= 3 && (unsigned char)data[0] == 0xEF && (unsigned char)data[1] == 0xBB &&
+        (unsigned char)data[2] == 0xBF) {
+        data += 3;
+        len -= 3;
+    }
     size_t i = 0;
     while (i < len && (data[i] == ' ' || data[i] == '\t' || data[i] == '\r' || data[i] == '\n'))
         i++;

@@ -16,6 +16,12 @@
 #include <stdio.h>
 #include <string.h>
 
+const char *tram_records_warning(const tram_records *r, size_t i)
+{
+    if (!r || i >= r->n_warnings || i >= TRAM_RECORDS_WARNINGS_MAX) return NULL;
+    return r->warnings[i];
+}
+
 size_t tram_records_count(const tram_records *r) { return r ? r->count : 0; }
 
 const char *tram_records_station_id(const tram_records *r, size_t i)

@@ -45,6 +45,9 @@ typedef struct csv_reader {
     int nfields;
     csv_span *fields;     /* nfields spans                              */
     tram_error *err;
+    long look_line;       /* first comment that looks like a directive  */
+    char look_key[40];
+    const char *look_near;
 } csv_reader;
 
 static int is_blank(char c) { return c == ' ' || c == '\t'; }
@@ -103,6 +106,37 @@ static int directive_split(char *text, char **key, char **value, long *col_off)
     return 1;
 }
 
+/* A comment "# Word_like-this: ..." that is no directive but looks like a
+ * misspelt one (capitals, '_', a typo): it stays a comment, with a warning
+ * that names the directive meant.  col: the column of text[0]. */
+static void warn_lookalike(csv_reader *rd, const char *text, long col, long lineno)
+{
+    const char *p = text;
+    while (is_blank(*p)) p++;
+    const char *k = p;
+    while ((*p >= 'a' && *p <= 'z') || (*p >= 'A' && *p <= 'Z') || (*p >= '0' && *p <= '9') ||
+           *p == '-' || *p == '_')
+        p++;
+    size_t n = (size_t)(p - k);
+    while (is_blank(*p)) p++;
+    if (n == 0 || n >= 40 || *p != ':') return;
+    char key[40];
+    memcpy(key, k, n);
+    key[n] = '\0';
+    const char *near = tram__directive_nearest(key);
+    if (!near) return;
+    if (!rd->look_line) {
+        rd->look_line = lineno;
+        memcpy(rd->look_key, key, n + 1);
+        rd->look_near = near;
+    }
+    tram__records_warn(rd->r, lineno, col + (long)(k - text),
+                       "comment '# %s:' looks like the directive '%s' but is not one (directives "
+                       "are lower-case words with '-', followed by ':'); it is ignored: write "
+                       "'# %s: ...' to apply it",
+                       key, near, near);
+}
+
 /* A comment line; a directive in it is applied.  hash points at the '#'. */
 static tram_status read_comment(csv_reader *rd, const char *line, const char *hash,
                                 const char *e, long lineno)
@@ -112,7 +146,9 @@ static tram_status read_comment(csv_reader *rd, const char *line, const char *ha
     char *key, *value;
     long off;
     tram_status st = TRAM_OK;
-    if (directive_split(text, &key, &value, &off)) {
+    if (!directive_split(text, &key, &value, &off)) {
+        warn_lookalike(rd, text, (long)(hash + 1 - line) + 1, lineno);
+    } else {
         long col = (long)(hash + 1 - line) + off + 1;
         if (rd->header_line)
             /* a directive below the header would silently apply to rows
@@ -340,6 +376,14 @@ tram_status tram__records_read_csv(const char *name, const char *data, size_t le
 
     tram__free(rd.fields);
     tram__schema_free(&rd.schema);
+    if (st == TRAM_EINPUT && rd.look_line) {
+        /* the misspelt directive is the likely cause; its warning would
+         * be lost with the record set */
+        size_t ml = strlen(err->message);
+        snprintf(err->message + ml, sizeof err->message - ml,
+                 " (note: line %ld has '# %s:', which is not a directive; did you mean '# %s:'?)",
+                 rd.look_line, rd.look_key, rd.look_near);
+    }
     if (st != TRAM_OK) {
         tram_records_destroy(r);
         return st;

@@ -123,7 +123,7 @@ tram_status tram__records_read_json(const char *name, const char *data, size_t l
         {"robot_pose", "robot-pose"},   {"sensor_pose", "sensor-pose"},
         {"robot_length_unit", "robot-length-unit"}, {"sensor_length_unit", "sensor-length-unit"},
         {"robot_angle_unit", "robot-angle-unit"},   {"sensor_angle_unit", "sensor-angle-unit"},
-        {"setup", "setup"}};
+        {"tool_in_flange", "tool-in-flange"}, {"setup", "setup"}};
     const cJSON *item;
     cJSON_ArrayForEach(item, root)
     {

@@ -11,9 +11,12 @@
  */
 #include "io/records_schema_internal.h"
 #include "io/records_store_internal.h"
+#include "io/tool_internal.h"
 
 #include <errno.h>
 #include <math.h>
+#include <stdarg.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -74,6 +77,10 @@ int tram_output_rep_parse(const char *s, tram_output_rep *out)
     out->euler = TRAM_EULER_UNSET;
     if (!s) return -1;
     if (strcmp(s, "quat") == 0) out->kind = TRAM_REP_QUAT;
+    else if (strcmp(s, "quat-xyzw") == 0) {
+        out->kind = TRAM_REP_QUAT;
+        out->quat_xyzw = 1;
+    }
     else if (strcmp(s, "rotvec") == 0) out->kind = TRAM_REP_ROTVEC;
     else if (strcmp(s, "matrix") == 0) out->kind = TRAM_REP_MATRIX;
     else if (strncmp(s, "euler:", 6) == 0) {
@@ -86,6 +93,75 @@ int tram_output_rep_parse(const char *s, tram_output_rep *out)
 }
 
 /* ---- directives ---------------------------------------------------- */
+
+/* Every directive, in the order of docs/records.md's table. */
+static const char *const directive_keys[] = {
+    "format",           "length-unit",       "angle-unit",        "robot-length-unit",
+    "sensor-length-unit", "robot-angle-unit", "sensor-angle-unit", "robot-euler",
+    "sensor-euler",     "robot-pose",        "sensor-pose",       "setup",
+    "tool-in-flange"};
+#define N_DIRECTIVES (sizeof directive_keys / sizeof directive_keys[0])
+
+/* Levenshtein distance of two short strings (longer ones count as far). */
+static size_t edit_distance(const char *a, const char *b)
+{
+    size_t na = strlen(a), nb = strlen(b);
+    if (na > 39 || nb > 39) return 99;
+    size_t row[40];
+    for (size_t j = 0; j <= nb; j++) row[j] = j;
+    for (size_t i = 1; i <= na; i++) {
+        size_t diag = row[0];
+        row[0] = i;
+        for (size_t j = 1; j <= nb; j++) {
+            size_t up = row[j];
+            size_t best = diag + (a[i - 1] != b[j - 1]);
+            if (up + 1 < best) best = up + 1;
+            if (row[j - 1] + 1 < best) best = row[j - 1] + 1;
+            row[j] = best;
+            diag = up;
+        }
+    }
+    return row[nb];
+}
+
+const char *tram__directive_nearest(const char *key)
+{
+    char k[40];
+    size_t n = 0;
+    for (; key[n] && n < sizeof k - 1; n++) {
+        char c = key[n];
+        k[n] = c == '_' ? '-' : (c >= 'A' && c <= 'Z') ? (char)(c - 'A' + 'a') : c;
+    }
+    if (key[n]) return NULL;
+    k[n] = '\0';
+    const char *best = NULL;
+    size_t bd = 3;
+    for (size_t i = 0; i < N_DIRECTIVES; i++) {
+        size_t d = edit_distance(k, directive_keys[i]);
+        if (d < bd) {
+            bd = d;
+            best = directive_keys[i];
+        }
+    }
+    /* a short word two edits from "setup" or "format" is more likely prose */
+    if (best && bd > 0 && n < 6 + bd) return NULL;
+    return best;
+}
+
+void tram__records_warn(tram_records *r, long line, long col, const char *fmt, ...)
+{
+    size_t i = r->n_warnings++;
+    if (i >= TRAM_RECORDS_WARNINGS_MAX) return;
+    char *w = r->warnings[i];
+    size_t cap = sizeof r->warnings[i];
+    int n = col > 0 ? snprintf(w, cap, "%s:%ld:%ld: warning: ", r->source, line, col)
+                    : snprintf(w, cap, "%s:%ld: warning: ", r->source, line);
+    if (n < 0 || (size_t)n >= cap) return;
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(w + n, cap - (size_t)n, fmt, ap);
+    va_end(ap);
+}
 
 static tram_status conflict(const char *file, long line, long col, const char *key, long first,
                             tram_error *err)
@@ -149,18 +225,34 @@ tram_status tram__directive_apply(rec_directives *d, const char *file, long line
         d->euler[b] = e;
         d->euler_line[b] = line;
     } else if (strcmp(key, "robot-pose") == 0) {
-        int inv;
+        int inv = 0, tool = 0;
         if (strcmp(value, "flange-in-base") == 0) inv = 0;
         else if (strcmp(value, "base-in-flange") == 0) inv = 1;
+        else if (strcmp(value, "tool-in-base") == 0) tool = 1;
         else
             return tram__fail(err, TRAM_EINPUT, file, line, col,
-                              "robot-pose '%s': expected flange-in-base (T_base_flange) or "
-                              "base-in-flange (T_flange_base)",
+                              "robot-pose '%s': expected flange-in-base (T_base_flange), "
+                              "base-in-flange (T_flange_base) or tool-in-base (T_base_tool, the "
+                              "TCP logged with a tool offset active)",
                               value);
-        if (d->pose_line[0] && d->inverted[0] != inv)
+        if (d->pose_line[0] && (d->inverted[0] != inv || d->robot_tool != tool))
             return conflict(file, line, col, key, d->pose_line[0], err);
         d->inverted[0] = inv;
+        d->robot_tool = tool;
         d->pose_line[0] = line;
+    } else if (strcmp(key, "tool-in-flange") == 0) {
+        size_t at = 0;
+        char why[200];
+        tram_se3 T;
+        tram_length_unit u;
+        if (tram__tool_parse(value, &T, &u, &at, why, sizeof why) != 0)
+            return tram__fail(err, TRAM_EINPUT, file, line, col + (long)at, "tool-in-flange: %s", why);
+        if (d->has_tool && memcmp(&T, &d->tool, sizeof T) != 0)
+            return conflict(file, line, col, key, d->tool_line, err);
+        d->tool = T;
+        d->tool_unit = u;
+        d->has_tool = 1;
+        d->tool_line = line;
     } else if (strcmp(key, "sensor-pose") == 0) {
         int inv;
         if (strcmp(value, "target-in-sensor") == 0) inv = 0;
@@ -199,10 +291,17 @@ tram_status tram__directive_apply(rec_directives *d, const char *file, long line
         d->format_version = (int)v;
         d->format_line = line;
     } else {
+        const char *near = tram__directive_nearest(key);
+        if (near)
+            return tram__fail(err, TRAM_EINPUT, file, line, col,
+                              "unknown directive '%s': did you mean '%s'? (docs/records.md lists "
+                              "every directive)",
+                              key, near);
         return tram__fail(err, TRAM_EINPUT, file, line, col,
-                          "unknown directive '%s' (known: length-unit, angle-unit, robot-euler, "
-                          "sensor-euler, robot-pose, sensor-pose, robot-length-unit, "
-                          "sensor-length-unit, robot-angle-unit, sensor-angle-unit, setup, format)",
+                          "unknown directive '%s' (known: format, length-unit, angle-unit, "
+                          "robot-length-unit, sensor-length-unit, robot-angle-unit, "
+                          "sensor-angle-unit, robot-euler, sensor-euler, robot-pose, "
+                          "sensor-pose, tool-in-flange, setup)",
                           key);
     }
     return TRAM_OK;
@@ -337,10 +436,8 @@ tram_status tram__schema_build(const char *file, const char *const *names, const
                               "joint_n without gaps",
                               nj + 1);
     s->n_joints = nj;
-    if (nj && s->has_block[TRAM_BLOCK_ROBOT])
-        return tram__fail(err, TRAM_EINPUT, file, hl, 0,
-                          "both robot_ pose columns and joint_ columns: give the robot pose one "
-                          "way only");
+    /* Both robot_ and joint_ columns: the pose is read, the joints are
+     * kept; tram_records_apply_chain then checks that they agree. */
     if (!s->has_block[0] && !s->has_block[1] && !nj)
         return tram__fail(err, TRAM_EINPUT, file, hl, 0,
                           "no pose columns: expected robot_x,... (or joint_1,...) and/or "
@@ -369,11 +466,21 @@ static tram_status block_pose(const tram_records *r, size_t i, int b,
         if (c->quat_xyzw) q = (tram_quat_wxyz){v[6], v[3], v[4], v[5]};
         double n = tram_quat_wxyz_norm(&q);
         double tol = opt && opt->quat_norm_tol > 0 ? opt->quat_norm_tol : TRAM_QUAT_NORM_TOL;
-        if (!(fabs(n - 1.0) <= tol))
+        if (tol > TRAM_QUAT_NORM_MAX_FIX) tol = TRAM_QUAT_NORM_MAX_FIX;
+        if (!(fabs(n - 1.0) <= tol)) {
+            /* Name the option only where it would help: a rounded log. */
+            const char *hint = fabs(n - 1.0) <= TRAM_QUAT_NORM_MAX_FIX
+                                   ? "; if the quaternions are only rounded (printed to a few "
+                                     "decimals), pass --rounded-quat to normalise those within "
+                                     "0.01 of unit norm"
+                                   : "; check the column order and that the four columns hold "
+                                     "one quaternion";
             return tram__fail(err, TRAM_EINPUT, r->source, st->line, rcol,
                               "station '%s': %s quaternion norm is %.9g, expected 1 within %g "
-                              "(columns %sqw,qx,qy,qz, scalar first)",
-                              st->id, block_word[b], n, tol, block_prefix[b]);
+                              "(columns %sqw,qx,qy,qz, scalar first)%s",
+                              st->id, block_word[b], n, tol, block_prefix[b],
+                              tol < TRAM_QUAT_NORM_MAX_FIX ? hint : "");
+        }
         tram_quat_wxyz_to_mat3(&q, &R);
         break;
     }
@@ -433,6 +540,7 @@ static tram_status rebuild_with(tram_records *r, const tram_block_convention con
             tram_se3 *dst = b == TRAM_BLOCK_ROBOT ? &st->T_base_flange : &st->T_sensor_target;
             tram_status s = block_pose(r, i, b, &conv[b], opt, dst, err);
             if (s != TRAM_OK) return s;
+            if (b == TRAM_BLOCK_ROBOT && r->robot_tool && r->has_tool) tram__tool_to_flange(r, dst, dst);
         }
     }
     return TRAM_OK;
@@ -444,7 +552,18 @@ tram_status tram_records_rebuild(tram_records *r, const tram_block_convention co
     tram_read_options opt;
     memset(&opt, 0, sizeof opt);
     opt.reorthonormalize = r->reorthonormalize;
+    opt.quat_norm_tol = r->quat_norm_tol;
     return rebuild_with(r, conv, &opt, err);
+}
+
+/* Append one missing declaration to buf ("A; also B"). */
+static void missing_add(char *buf, size_t *len, int *n, const char *what)
+{
+    size_t cap = 700;
+    if (*len < cap)
+        *len += (size_t)snprintf(buf + *len, cap - *len, "%s%s", *n ? "; also " : "", what);
+    if (*len > cap) *len = cap;
+    (*n)++;
 }
 
 tram_status tram__records_finish(tram_records *r, const rec_schema *s, const rec_directives *d,
@@ -460,10 +579,6 @@ tram_status tram__records_finish(tram_records *r, const rec_schema *s, const rec
                               tram_unit_length_name(lu), tram_unit_length_name(opt->length_unit));
         lu = opt->length_unit;
     }
-    if (lu == TRAM_LENGTH_UNSET)
-        return tram__fail(err, TRAM_EINPUT, file, header_line, 0,
-                          "no length unit: add '# length-unit: mm' (or cm, m, in) or pass "
-                          "--length-unit");
     tram_angle_unit au = d->angle_unit;
     if (opt && opt->angle_unit != TRAM_ANGLE_UNSET) {
         if (au != TRAM_ANGLE_UNSET && au != opt->angle_unit)
@@ -472,33 +587,71 @@ tram_status tram__records_finish(tram_records *r, const rec_schema *s, const rec
                               tram_unit_angle_name(au), tram_unit_angle_name(opt->angle_unit));
         au = opt->angle_unit;
     }
+    /* Every missing declaration in one message, so that a file is fixed in
+     * one edit rather than one run per directive. */
+    char missing[700] = "";
+    size_t ml = 0;
+    int nmiss = 0;
+    if (lu == TRAM_LENGTH_UNSET)
+        missing_add(missing, &ml, &nmiss,
+                    "no length unit: add '# length-unit: mm' (or cm, m, in) or pass "
+                    "--length-unit");
     if (s->n_joints && au == TRAM_ANGLE_UNSET && d->block_angle[0] == TRAM_ANGLE_UNSET)
-        return tram__fail(err, TRAM_EINPUT, file, header_line, 0,
-                          "joint columns hold angles but no angle unit is given: add '# "
-                          "angle-unit: deg' (or rad) or pass --angle-unit");
+        missing_add(missing, &ml, &nmiss,
+                    "joint columns hold angles but no angle unit is given: add '# angle-unit: "
+                    "deg' (or rad) or pass --angle-unit");
     tram_angle_unit bau[TRAM_BLOCK_COUNT];
     for (int b = 0; b < TRAM_BLOCK_COUNT; b++) {
         bau[b] = d->block_angle[b] != TRAM_ANGLE_UNSET ? d->block_angle[b] : au;
         if (!s->has_block[b]) continue;
         tram_rep_kind k = s->rep[b];
-        if ((k == TRAM_REP_ROTVEC || k == TRAM_REP_EULER) && bau[b] == TRAM_ANGLE_UNSET)
-            return tram__fail(err, TRAM_EINPUT, file, header_line, 0,
-                              "the %s block holds angles (%s...) but no angle unit is given: add "
-                              "'# angle-unit: deg' (or rad) or pass --angle-unit",
-                              block_word[b], tram__rep_slot_name(k, 3));
-        if (k == TRAM_REP_EULER && d->euler[b] == TRAM_EULER_UNSET)
-            return tram__fail(err, TRAM_EINPUT, file, header_line, 0,
-                              "the %s block holds Euler angles but its convention is not "
-                              "declared: add '# %s-euler: SEQ-intrinsic|SEQ-extrinsic' (e.g. "
-                              "zyx-intrinsic); tram never assumes one",
-                              block_word[b], block_word[b]);
+        char one[300];
+        if ((k == TRAM_REP_ROTVEC || k == TRAM_REP_EULER) && bau[b] == TRAM_ANGLE_UNSET) {
+            snprintf(one, sizeof one,
+                     "the %s block holds angles (%s...) but no angle unit is given: add '# "
+                     "angle-unit: deg' (or rad; '# %s-angle-unit:' for this block only) or pass "
+                     "--angle-unit",
+                     block_word[b], tram__rep_slot_name(k, 3), block_word[b]);
+            missing_add(missing, &ml, &nmiss, one);
+        }
+        if (k == TRAM_REP_EULER && d->euler[b] == TRAM_EULER_UNSET) {
+            snprintf(one, sizeof one,
+                     "the %s block holds Euler angles but its convention is not declared: add "
+                     "'# %s-euler: SEQ-intrinsic|SEQ-extrinsic' (e.g. zyx-intrinsic); tram never "
+                     "assumes one",
+                     block_word[b], block_word[b]);
+            missing_add(missing, &ml, &nmiss, one);
+        }
     }
+    if (nmiss)
+        return tram__fail(err, TRAM_EINPUT, file, header_line, 0, "%s%s", missing,
+                          nmiss > 1 ? " (every missing declaration is listed)" : "");
     r->length_unit = lu;
     /* The record set's angle unit: the common one, else the first block's. */
     r->angle_unit = au != TRAM_ANGLE_UNSET ? au : (bau[0] != TRAM_ANGLE_UNSET ? bau[0] : bau[1]);
     r->setup = d->setup;
     r->n_joints = (size_t)s->n_joints;
     r->reorthonormalize = opt ? opt->reorthonormalize : 0;
+    if (d->has_tool && !d->robot_tool)
+        return tram__fail(err, TRAM_EINPUT, file, d->tool_line, 0,
+                          "tool-in-flange is declared, but the robot poses are not declared as "
+                          "tool poses: add '# robot-pose: tool-in-base' if the controller logged "
+                          "the TCP, or remove the tool");
+    if (d->robot_tool && !s->has_block[TRAM_BLOCK_ROBOT])
+        return tram__fail(err, TRAM_EINPUT, file, d->pose_line[0], 0,
+                          "robot-pose: tool-in-base applies to robot_ pose columns; joint "
+                          "readings give flange poses through the chain");
+    r->robot_tool = d->robot_tool;
+    r->robot_pose_line = d->pose_line[0];
+    r->has_tool = d->has_tool;
+    r->tool_line = d->tool_line;
+    r->tool_in_file = d->has_tool;
+    if (d->has_tool) {
+        r->T_flange_tool = d->tool;
+        double f = tram_unit_length_factor(d->tool_unit, lu);
+        for (int i = 0; i < 3; i++) r->T_flange_tool.m[i][3] *= f;
+    }
+    r->quat_norm_tol = opt ? opt->quat_norm_tol : 0;
     tram_block_convention conv[2];
     for (int b = 0; b < TRAM_BLOCK_COUNT; b++) {
         r->has_block[b] = s->has_block[b];

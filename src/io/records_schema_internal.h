@@ -21,12 +21,24 @@ typedef struct rec_directives {
     tram_length_unit block_length[TRAM_BLOCK_COUNT]; long block_length_line[TRAM_BLOCK_COUNT];
     tram_angle_unit block_angle[TRAM_BLOCK_COUNT]; long block_angle_line[TRAM_BLOCK_COUNT];
     int format_version; long format_line;
+    int robot_tool;                 /* robot-pose: tool-in-base                */
+    int has_tool; long tool_line;   /* tool-in-flange                          */
+    tram_se3 tool; tram_length_unit tool_unit;
 } rec_directives;
 
 /* Apply one directive "key: value" read at file:line:col.  Returns
  * TRAM_EINPUT on an unknown key, a bad value or a conflicting repeat. */
 tram_status tram__directive_apply(rec_directives *d, const char *file, long line, long col,
                                   const char *key, const char *value, tram_error *err);
+
+/* The known directive nearest to `key` after lower-casing it and reading
+ * '_' as '-' (edit distance at most 2, or 0 after that normalising alone);
+ * NULL when none is that near. */
+const char *tram__directive_nearest(const char *key);
+
+/* Keep one reader warning in r: "file:line:col: warning: " and the text. */
+void tram__records_warn(tram_records *r, long line, long col, const char *fmt, ...)
+    TRAM_PRINTF(4, 5);
 
 enum { REC_COL_STATION = 1, REC_COL_VALUE = 2, REC_COL_JOINT = 3 };
 

@@ -52,6 +52,13 @@ static void pose_numbers(const tram_se3 *T, const tram_output_rep *rep, double l
     }
 }
 
+/* The raw slot written k-th: scalar-last quaternions put qw after qz. */
+static int out_slot(const tram_output_rep *rep, int k)
+{
+    if (rep->kind == TRAM_REP_QUAT && rep->quat_xyzw && k >= 3) return k == 6 ? 3 : k + 1;
+    return k;
+}
+
 static const tram_se3 *block_pose(const tram_station *s, int b)
 {
     return b == TRAM_BLOCK_ROBOT ? &s->T_base_flange : &s->T_sensor_target;
@@ -60,6 +67,8 @@ static const tram_se3 *block_pose(const tram_station *s, int b)
 tram_status tram_records_write(const tram_records *r, const tram_output_rep *rep, int json,
                                FILE *f, tram_error *err)
 {
+    tram_status tool_st = tram_records_require_flange(r, err);
+    if (tool_st != TRAM_OK) return tool_st;
     tram_length_unit lu = rep->length_unit != TRAM_LENGTH_UNSET ? rep->length_unit : r->length_unit;
     double lscale = tram_unit_length_factor(r->length_unit, lu);
     int needs_angle = rep->kind == TRAM_REP_ROTVEC || rep->kind == TRAM_REP_EULER;
@@ -72,6 +81,19 @@ tram_status tram_records_write(const tram_records *r, const tram_output_rep *rep
         return tram__fail(err, TRAM_EINPUT, NULL, 0, 0, "no Euler convention for the output");
     double per_rad = needs_angle ? 1.0 / tram_unit_angle_in_rad(au) : 1.0;
     int nslot = tram__rep_slots(rep->kind);
+    /* Joint readings are written as held: in the records' own units. */
+    size_t nj = rep->with_joints ? r->n_joints : 0;
+    if (nj && (lu != r->length_unit || r->angle_unit == TRAM_ANGLE_UNSET ||
+               (needs_angle && au != r->angle_unit)))
+        return tram__fail(err, TRAM_EINPUT, NULL, 0, 0,
+                          "joint readings are written in the records' own units (%s, %s): "
+                          "convert the poses without changing units",
+                          tram_unit_length_name(r->length_unit), tram_unit_angle_name(r->angle_unit));
+    if (nj) {
+        needs_angle = 1;
+        au = r->angle_unit;
+    }
+    int digits = rep->digits >= 1 && rep->digits <= 17 ? rep->digits : 17;
 
     if (!json) {
         fprintf(f, "# format: tram-records-1\n# length-unit: %s\n", tram_unit_length_name(lu));
@@ -87,7 +109,8 @@ tram_status tram_records_write(const tram_records *r, const tram_output_rep *rep
         for (int b = 0; b < 2; b++)
             if (r->has_block[b])
                 for (int k = 0; k < nslot; k++)
-                    fprintf(f, ",%s_%s", blocks[b], tram__rep_slot_name(rep->kind, k));
+                    fprintf(f, ",%s_%s", blocks[b], tram__rep_slot_name(rep->kind, out_slot(rep, k)));
+        for (size_t j = 0; j < nj; j++) fprintf(f, ",joint_%zu", j + 1);
         fputc('\n', f);
         for (size_t i = 0; i < r->count; i++) {
             const tram_station *s = &r->stations[i];
@@ -96,8 +119,16 @@ tram_status tram_records_write(const tram_records *r, const tram_output_rep *rep
                 if (!r->has_block[b]) continue;
                 double v[TRAM_RAW_MAX];
                 pose_numbers(block_pose(s, b), rep, lscale, per_rad, v);
-                for (int k = 0; k < nslot; k++) fprintf(f, ",%.17g", v[k] == 0.0 ? 0.0 : v[k]);
+                for (int k = 0; k < nslot; k++) {
+                    double x = v[out_slot(rep, k)];
+                    /* for people, rounding noise such as 1e-17 prints as 0 */
+                    if (rep->digits && x > -1e-12 && x < 1e-12) x = 0.0;
+                    fprintf(f, ",%.*g", digits, x == 0.0 ? 0.0 : x);
+                }
             }
+            const double *jr = tram_records_joints(r, i);
+            for (size_t j = 0; j < nj; j++)
+                fprintf(f, ",%.17g", jr[j] == 0.0 ? 0.0 : jr[j]);
             fputc('\n', f);
         }
     } else {
@@ -131,8 +162,10 @@ tram_status tram_records_write(const tram_records *r, const tram_output_rep *rep
                 double v[TRAM_RAW_MAX];
                 pose_numbers(block_pose(s, b), rep, lscale, per_rad, v);
                 for (int k = 0; bo && k < nslot; k++)
-                    tram__jb_num(jp, bo, tram__rep_slot_name(rep->kind, k), v[k]);
+                    tram__jb_num(jp, bo, tram__rep_slot_name(rep->kind, out_slot(rep, k)),
+                                 v[out_slot(rep, k)]);
             }
+            if (nj) tram__jb_vec(jp, so, "joints", tram_records_joints(r, i), (int)nj, 1.0);
         }
         char *text;
         tram_status st = tram__jb_finish(jp, root, 1, 1, &text, err);

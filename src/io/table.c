@@ -58,6 +58,12 @@ tram_status tram__table_parse(const char *name, const char *data, size_t len, tr
                               tram_error *err)
 {
     *out = NULL;
+    /* a UTF-8 byte-order mark (spreadsheet exports) is not part of the text */
+    if (len >= 3 && (unsigned char)data[0] == 0xEF && (unsigned char)data[1] == 0xBB &&
+        (unsigned char)data[2] == 0xBF) {
+        data += 3;
+        len -= 3;
+    }
     if (memchr(data, '\0', len))
         return tram__fail(err, TRAM_EINPUT, name, 0, 0, "NUL byte in the file: expected text");
     tram__table *t = tram__calloc(1, sizeof *t);

@@ -45,54 +45,9 @@
 #define MEDIAN_2D 1.17741   /* sqrt(2 ln 2) */
 #define Z_9999 3.7190       /* standard normal 0.9999 quantile */
 
-void tram_pixel_target_free(double *xyz) { tram__free(xyz); }
-
-tram_status tram_pixel_target_from_board(const tram_pixel_obs *obs, const tram_board *b,
-                                         tram_length_unit unit, double **xyz, tram_error *err)
+void tram_pixel_solve_options_init(tram_pixel_solve_options *opt)
 {
-    *xyz = NULL;
-    size_t nc = tram_board_corner_count(b);
-    double f = unit == TRAM_LENGTH_UNSET ? 1.0 : tram_unit_length_factor(b->unit, unit);
-    double *v = tram__malloc((obs->n ? obs->n : 1) * 3 * sizeof *v);
-    if (!v) return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
-    for (size_t i = 0; i < obs->n; i++) {
-        const char *id = obs->point_id[obs->point[i]];
-        char *end;
-        unsigned long k = strtoul(id, &end, 10);
-        if (id[0] < '0' || id[0] > '9' || *end || k >= nc || (id[0] == '0' && id[1])) {
-            tram__free(v);
-            return tram__fail(err, TRAM_EINPUT, obs->source, obs->line[i], 0,
-                              "point '%s' is not a corner of the %dx%d board: expected a corner "
-                              "id 0 .. %zu (r * cols + c)",
-                              id, b->cols, b->rows, nc - 1);
-        }
-        tram_board_corner(b, (size_t)k, v + 3 * i);
-        for (int a = 0; a < 3; a++) v[3 * i + (size_t)a] *= f;
-    }
-    *xyz = v;
-    return TRAM_OK;
-}
-
-tram_status tram_pixel_target_from_model(const tram_pixel_obs *obs, const tram_point_model *m,
-                                         double **xyz, tram_error *err)
-{
-    *xyz = NULL;
-    double *v = tram__malloc((obs->n ? obs->n : 1) * 3 * sizeof *v);
-    if (!v) return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
-    for (size_t i = 0; i < obs->n; i++) {
-        const char *id = obs->point_id[obs->point[i]];
-        size_t j;
-        for (j = 0; j < m->n; j++)
-            if (strcmp(m->id[j], id) == 0) break;
-        if (j == m->n) {
-            tram__free(v);
-            return tram__fail(err, TRAM_EINPUT, obs->source, obs->line[i], 0,
-                              "point '%s' is not in the model %s", id, m->source);
-        }
-        memcpy(v + 3 * i, m->xyz + 3 * j, 3 * sizeof *v);
-    }
-    *xyz = v;
-    return TRAM_OK;
+    memset(opt, 0, sizeof *opt);
 }
 
 /* ---- the pixel refinement ---------------------------------------------- */
@@ -331,8 +286,60 @@ static void stats_of(const double *v, const int *skip, size_t n, double *scratch
     s->max = k ? mx : NAN;
 }
 
-/* Covariance of the pixel model into sol->unc (and the camera's sigmas). */
-static tram_status pixel_covariance(pctx *c, work *wk, tram_solution *sol, tram_pixel_result *pr)
+/* The camera's share of the covariance of X, Z when it is held fixed at
+ * values calibrated beforehand with covariance C (TRAM_CAM order): to
+ * first order the optimum moves by dx = -(J^T J)^-1 J^T J_cam dcam, so
+ * Cov(x) gains G C G^T with G = (J^T J)^-1 J^T J_cam (the propagation of
+ * covariance through a least-squares estimator; Hartley & Zisserman,
+ * "Multiple View Geometry", 2nd ed. 2004, ch. 5, from memory).  Hi is
+ * (J^T J)^-1 of X, Z (12 x 12); the calibration's errors are taken as
+ * independent of this solve's pixels (other images). */
+static tram_status camera_share(const pctx *c, const double *cam_cov, const double *Hi,
+                                tram_solution *sol, tram_pixel_result *pr)
+{
+    pctx cc = *c;
+    cc.ncam = 0;
+    for (int k = 0; k < TRAM__CAM_NPARAM; k++)
+        if (cam_cov[k * TRAM__CAM_NPARAM + k] > 0) cc.cam_idx[cc.ncam++] = k;
+    if (cc.ncam == 0) return TRAM_OK;
+    int np = 12 + cc.ncam;
+    double H[TRAM__LM_MAX_PARAMS * TRAM__LM_MAX_PARAMS], g[TRAM__LM_MAX_PARAMS], r2;
+    tram__lm_problem pb = {np, 2 * cc.nused, pix_eval, pix_commit, &cc};
+    tram_status st = tram__lm_normal(&pb, H, g, &r2);
+    if (st != TRAM_OK) return st;
+    double G[12 * TRAM__CAM_NPARAM], GC[12 * TRAM__CAM_NPARAM];
+    for (int a = 0; a < 12; a++)
+        for (int k = 0; k < cc.ncam; k++) {
+            double s = 0;
+            for (int b = 0; b < 12; b++) s += Hi[a * 12 + b] * H[b * np + 12 + k];
+            G[a * cc.ncam + k] = s;
+        }
+    for (int a = 0; a < 12; a++)
+        for (int k = 0; k < cc.ncam; k++) {
+            double s = 0;
+            for (int q = 0; q < cc.ncam; q++)
+                s += G[a * cc.ncam + q] * cam_cov[cc.cam_idx[q] * TRAM__CAM_NPARAM + cc.cam_idx[k]];
+            GC[a * cc.ncam + k] = s;
+        }
+    for (int a = 0; a < 12; a++)
+        for (int b = 0; b < 12; b++) {
+            double s = 0;
+            for (int k = 0; k < cc.ncam; k++) s += GC[a * cc.ncam + k] * G[b * cc.ncam + k];
+            sol->unc.cov[a * 12 + b] += s;
+            if (a == b) {
+                double v = fmax(sol->unc.cov[a * 12 + a], 0.0);
+                pr->camera_share[a] = v > 0 ? fmax(s, 0.0) / v : 0.0;
+                sol->unc.sigma[a] = (a % 6) >= 3 ? sqrt(v) * 180.0 / TRAM_PI : sqrt(v);
+            }
+        }
+    pr->camera_cov_used = 1;
+    return TRAM_OK;
+}
+
+/* Covariance of the pixel model into sol->unc (and the camera's sigmas);
+ * cam_cov: the fixed camera's own covariance, or NULL. */
+static tram_status pixel_covariance(pctx *c, work *wk, tram_solution *sol, tram_pixel_result *pr,
+                                    const double *cam_cov)
 {
     int np = 12 + c->ncam;
     double H[TRAM__LM_MAX_PARAMS * TRAM__LM_MAX_PARAMS], g[TRAM__LM_MAX_PARAMS], r2;
@@ -366,7 +373,32 @@ static tram_status pixel_covariance(pctx *c, work *wk, tram_solution *sol, tram_
     sol->unc.valid = 1;
     for (int k = 0; k < c->ncam; k++)
         pr->camera_sigma[c->cam_idx[k]] = sqrt(fmax(Hi[(12 + k) * np + 12 + k] * s2, 0.0));
+    if (c->ncam == 0 && cam_cov) {
+        st = camera_share(c, cam_cov, Hi, sol, pr);
+        if (st == TRAM_ENOMEM) return st;
+    }
     return TRAM_OK;
+}
+
+/* Says whether the intervals of X include the fixed camera's own error. */
+static tram_status camera_note(tram_solution *sol, const tram_pixel_result *pr)
+{
+    if (!pr->camera_cov_used)
+        return tram__diag_add(sol, "camera-taken-as-exact", TRAM_SEVERITY_INFO,
+                              "the camera is taken as exact (no calibration uncertainty given): the "
+                              "intervals of X and Z leave out the error of its intrinsics, which "
+                              "often dominates; give the camera file from tram intrinsics, or "
+                              "--refine-intrinsics");
+    double t = 0, rr = 0;
+    for (int a = 0; a < 3; a++) {
+        t = fmax(t, pr->camera_share[a]);
+        rr = fmax(rr, pr->camera_share[3 + a]);
+    }
+    return tram__diag_add(sol, "camera-uncertainty", TRAM_SEVERITY_INFO,
+                          "the intervals of X and Z include the camera's calibration uncertainty "
+                          "(first-order propagation): it makes up to %.0f%% of the variance of X's "
+                          "translation and %.0f%% of its rotation",
+                          100.0 * t, 100.0 * rr);
 }
 
 /* Observed stations of r: each observation's station in r, or an error. */
@@ -601,6 +633,8 @@ tram_status tram_solve_pixels(const tram_records *r, tram_setup setup, const tra
                               tram_error *err)
 {
     *out = NULL;
+    tram_status tool_st = tram_records_require_flange(r, err);
+    if (tool_st != TRAM_OK) return tool_st;
     tram_solve_options defaults;
     tram_solve_options_init(&defaults);
     const tram_solve_options *opt = opt_in ? opt_in : &defaults;
@@ -680,8 +714,10 @@ tram_status tram_solve_pixels(const tram_records *r, tram_setup setup, const tra
             st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
             goto out;
         }
-        if (opt->refine && pixel_covariance(&c, &wk, sol, pr) != TRAM_OK) goto nomem;
+        if (opt->refine && pixel_covariance(&c, &wk, sol, pr, popt ? popt->camera_cov : NULL) != TRAM_OK)
+            goto nomem;
         sol->refined = sol->refined || opt->refine;
+        if (opt->refine && sol->unc.valid && c.ncam == 0 && camera_note(sol, pr) != TRAM_OK) goto nomem;
         if (tram__diag_add(sol, "pixel-refinement", TRAM_SEVERITY_INFO,
                            "refined on the reprojection error of %zu corner(s) of %zu station(s): "
                            "RMS %.4g px; %zu corner(s) and %zu station(s) flagged and left out%s",
@@ -731,46 +767,4 @@ out:
     tram__free(wk.st_excl);
     tram__free(wk.used);
     return st;
-}
-
-void tram__pixel_result_json(tram__jb *b, cJSON *root, const tram_solution *s,
-                             const tram_records *r)
-{
-    const tram_pixel_result *p = s->pixels;
-    if (!p) return;
-    cJSON *o = tram__jb_obj(b, root, "pixels");
-    tram__jb_str(b, o, "unit", "px");
-    tram__jb_str(b, o, "definition",
-                 "reprojection distance of each corner: |project(camera, X^-1 P^-1 Z m) - uv|, "
-                 "pixel origin top-left-pixel-centre");
-    cJSON *st = tram__jb_obj(b, o, "residual");
-    tram__jb_num(b, st, "rms", p->px.rms);
-    tram__jb_num(b, st, "median", p->px.median);
-    tram__jb_num(b, st, "max", p->px.max);
-    tram__jb_num(b, o, "sigma_px", p->sigma_px);
-    tram__jb_num(b, o, "corners", (double)p->nobs);
-    tram__jb_num(b, o, "corner_outliers", (double)p->n_corner_outliers);
-    tram__jb_num(b, o, "station_outliers", (double)p->n_station_outliers);
-    tram__jb_num(b, o, "iterations", p->iterations);
-    cJSON *arr = tram__jb_arr(b, o, "stations");
-    for (size_t i = 0; arr && i < p->nstations; i++) {
-        cJSON *e = tram__jb_obj(b, arr, NULL);
-        if (r && i < r->count) tram__jb_str(b, e, "station", r->stations[i].id);
-        tram__jb_num(b, e, "corners", (double)p->nobs_station[i]);
-        tram__jb_num(b, e, "corners_used", (double)p->nused_station[i]);
-        tram__jb_num(b, e, "rms_px", p->station_rms_px[i]);
-        tram__jb_num(b, e, "pose_rms_px", p->pose_rms_px[i]);
-        tram__jb_bool(b, e, "excluded", p->station_excluded[i]);
-    }
-    cJSON *cam = tram__jb_obj(b, o, "camera");
-    tram__jb_bool(b, cam, "refined", p->intrinsics_refined);
-    for (int k = 0; k < TRAM__CAM_NPARAM; k++) {
-        static const char *const names[TRAM__CAM_NPARAM] = {"fx", "fy", "cx", "cy", "skew",
-                                                            "k1", "k2", "k3", "p1", "p2"};
-        double v[TRAM__CAM_NPARAM];
-        tram__camera_params(&p->camera, v);
-        cJSON *e = tram__jb_obj(b, cam, names[k]);
-        tram__jb_num(b, e, "value", v[k]);
-        tram__jb_num(b, e, "sigma", p->camera_sigma[k]);
-    }
 }

@@ -28,6 +28,7 @@
 #include "math/stats_internal.h"
 #include "solve/plausibility_internal.h"
 #include "solve/pairing_internal.h"
+#include "solve/scale_internal.h"
 
 #include <math.h>
 #include <stdio.h>
@@ -48,12 +49,14 @@ typedef struct pctx {
     double inv_sigma;
     double *q;             /* scratch: npoints * 3           */
     double *qn;            /* scratch: npoints               */
+    const double *scale;   /* the sensor's length scale (1 unless fitted or tested) */
 } pctx;
 
 static void obs_world(const pctx *c, size_t o, const tram_se3 *X, double out[3])
 {
-    double s[3];
-    tram_se3_apply_point(X, c->obs->xyz + 3 * o, s);
+    double s[3], p[3];
+    for (int a = 0; a < 3; a++) p[a] = *c->scale * c->obs->xyz[3 * o + (size_t)a];
+    tram_se3_apply_point(X, p, s);
     tram_se3_apply_point(&c->P[c->obs->station[o]], s, out);
 }
 
@@ -229,6 +232,7 @@ typedef struct setup_data {
     size_t *order, *first, *count;
     int *excluded;
     double *q, *qn, *res;
+    double scale; /* the sensor's length scale: the refinement's 13th parameter */
 } setup_data;
 
 static void free_setup(setup_data *d)
@@ -280,20 +284,23 @@ static tram_status prepare(const tram_records *r, tram_setup setup, const tram_p
     c->q = d->q;
     c->qn = d->qn;
     c->inv_sigma = 1.0;
+    d->scale = 1.0;
+    c->scale = &d->scale;
     return TRAM_OK;
 }
 
-/* Robust per-axis sigma of the included residual norms. */
-static double robust_sigma(const double *res, const int *excl, size_t n)
+/* Robust per-axis sigma of the included residual norms into *sigma;
+ * TRAM_ENOMEM when the work copy cannot be had. */
+static tram_status robust_sigma(const double *res, const int *excl, size_t n, double *sigma)
 {
     double *v = tram__malloc((n ? n : 1) * sizeof *v);
-    if (!v) return NAN;
+    if (!v) return TRAM_ENOMEM;
     size_t k = 0;
     for (size_t i = 0; i < n; i++)
         if (!excl[i]) v[k++] = res[i];
-    double s = tram__median(v, k) / CHI3_MEDIAN_SQRT;
+    *sigma = tram__median(v, k) / CHI3_MEDIAN_SQRT;
     tram__free(v);
-    return s;
+    return TRAM_OK;
 }
 
 /* Median distance of the observed points from the sensor: the working
@@ -363,25 +370,11 @@ static tram_status point_stats(const tram_records *r, const tram_point_obs *obs,
     return TRAM_OK;
 }
 
-static tram_status solve_with_model(const tram_records *r, tram_setup setup,
-                                    const tram_point_obs *obs, const tram_point_model *model,
-                                    const tram_solve_options *opt, tram_solution **out,
-                                    tram_error *err)
+/* Model coordinates per observed point id into mxyz (3 per id). */
+static tram_status model_lookup(const tram_point_obs *obs, const tram_point_model *model,
+                                double *mxyz, tram_error *err)
 {
-    size_t n = r->count, m = obs->npoints;
-    /* Model coordinates per observed point id. */
-    double *mxyz = tram__malloc((m ? m : 1) * 3 * sizeof *mxyz);
-    tram_records *rr = tram_records_clone(r);
-    setup_data d;
-    pctx c;
-    memset(&c, 0, sizeof c);
-    tram_status st = TRAM_OK;
-    tram_solution *sol = NULL;
-    if (!mxyz || !rr || prepare(r, setup, obs, &d, &c) != TRAM_OK) {
-        st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
-        goto out;
-    }
-    for (size_t k = 0; k < m; k++) {
+    for (size_t k = 0; k < obs->npoints; k++) {
         size_t j;
         for (j = 0; j < model->n; j++)
             if (strcmp(model->id[j], obs->point_id[k]) == 0) break;
@@ -389,123 +382,222 @@ static tram_status solve_with_model(const tram_records *r, tram_setup setup,
             long line = 0;
             for (size_t o = 0; o < obs->n && !line; o++)
                 if (obs->point[o] == k) line = obs->line[o];
-            st = tram__fail(err, TRAM_EINPUT, obs->source, line, 0,
-                            "point '%s' is not in the model %s", obs->point_id[k], model->source);
-            goto out;
+            return tram__fail(err, TRAM_EINPUT, obs->source, line, 0,
+                              "point '%s' is not in the model %s", obs->point_id[k], model->source);
         }
         memcpy(mxyz + 3 * k, model->xyz + 3 * j, 3 * sizeof *mxyz);
     }
-    c.model = mxyz;
-    /* Each station's target pose from its points. */
+    return TRAM_OK;
+}
+
+/* Each station's T_sensor_target into rr: the registration of the model to
+ * the station's points (Arun et al. 1987). */
+static tram_status register_stations(const tram_records *r, const tram_point_obs *obs,
+                                     const setup_data *d, const double *mxyz, tram_records *rr,
+                                     tram_error *err)
+{
+    size_t m = obs->npoints;
+    tram_status st = TRAM_OK;
     double *from = tram__malloc((m ? m : 1) * 3 * sizeof *from), *to = tram__malloc((m ? m : 1) * 3 * sizeof *to);
     if (!from || !to) {
         tram__free(from);
         tram__free(to);
-        st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
-        goto out;
+        return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
     }
-    for (size_t i = 0; i < n && st == TRAM_OK; i++) {
-        for (size_t k = 0; k < d.count[i]; k++) {
-            size_t o = d.order[d.first[i] + k];
+    for (size_t i = 0; i < r->count && st == TRAM_OK; i++) {
+        for (size_t k = 0; k < d->count[i]; k++) {
+            size_t o = d->order[d->first[i] + k];
             memcpy(from + 3 * k, mxyz + 3 * obs->point[o], 3 * sizeof *from);
             memcpy(to + 3 * k, obs->xyz + 3 * o, 3 * sizeof *to);
         }
         tram_register_result reg;
         tram_error e;
-        if (tram_register_points(from, to, NULL, d.count[i], NULL, &reg, &e) != TRAM_OK)
+        if (tram_register_points(from, to, NULL, d->count[i], NULL, &reg, &e) != TRAM_OK)
             st = tram__fail(err, TRAM_EUNDETERMINED, obs->source, 0, 0,
                             "station '%s': %zu model point(s) seen: at least 3 non-collinear "
                             "points are needed to find the target's pose (%s)",
-                            r->stations[i].id, d.count[i], e.message);
+                            r->stations[i].id, d->count[i], e.message);
         else
             rr->stations[i].T_sensor_target = reg.T_to_from;
     }
     tram__free(from);
     tram__free(to);
-    if (st != TRAM_OK) goto out;
+    return st;
+}
+
+/* Refinement parameter index (rotation, translation per block) of public
+ * uncertainty index a (translation, rotation per block). */
+static int pub_param(int a)
+{
+    return (a / 6) * 6 + (a % 6 < 3 ? 3 + a % 6 : a % 6 - 3);
+}
+
+/* The first nblk*6 public sigmas and covariance of sol from the
+ * refinement's covariance (parameter order, length and rad). */
+static void store_uncertainty(const double cov[144], int nblk, double cond, tram_solution *sol)
+{
+    for (int a = 0; a < 6 * nblk; a++) {
+        int q = pub_param(a);
+        double sd = sqrt(fmax(cov[q * 12 + q], 0.0));
+        sol->unc.sigma[a] = (a % 6) >= 3 ? sd * 180.0 / TRAM_PI : sd;
+        for (int b = 0; b < 6 * nblk; b++) sol->unc.cov[a * 12 + b] = cov[q * 12 + pub_param(b)];
+    }
+    sol->unc.valid = 1;
+    sol->condition = cond;
+}
+
+/* Sum of squared residual norms of the observations used (not excluded,
+ * of a station with weight w > 0; w NULL: all stations); *k their count. */
+static double used_ss(const tram_point_obs *obs, const setup_data *d, const double *w, size_t *k)
+{
+    double ss = 0;
+    *k = 0;
+    for (size_t o = 0; o < obs->n; o++)
+        if (!d->excluded[o] && (!w || w[obs->station[o]] > 0)) {
+            ss += d->res[o] * d->res[o];
+            (*k)++;
+        }
+    return ss;
+}
+
+/* The scale test of a solve that keeps s = 1 (scale.c): pb0's problem
+ * refined from (X, Z) with the sensor's scale free, its noise from those
+ * residuals (dof0 - 1 degrees of freedom: one parameter more) and
+ * the scale's variance; then back to s = 1 and the residuals at (X, Z).
+ * TRAM_ENOMEM only. */
+static tram_status scale_test(const tram_refine_problem *pb0, const double *w,
+                              const tram_point_obs *obs, setup_data *d, pctx *c, double dof0,
+                              const tram_se3 *X, const tram_se3 *Z, tram_solution *sol)
+{
+    tram_refine_problem pb = *pb0;
+    pb.scale = &d->scale;
+    double inv0 = c->inv_sigma, var = NAN;
+    tram_se3 Xs = *X, Zs = *Z;
+    d->scale = 1.0;
+    tram_status st = dof0 - 1.0 > 0 ? tram__refine_run(&pb, w, 0, &Xs, &Zs) : TRAM_EUNDETERMINED;
+    if (st == TRAM_OK) {
+        size_t k;
+        obs_residuals(c, &Xs, &Zs, d->res);
+        double sig = sqrt(used_ss(obs, d, w, &k) / (dof0 - 1.0));
+        c->inv_sigma = 1.0 / fmax(sig, 1e-12);
+        st = tram__refine_covariance_scale(&pb, w, &Xs, &Zs, 1.0, (double[144]){0}, NULL, &var, NULL);
+    }
+    double s = d->scale;
+    d->scale = 1.0;
+    c->inv_sigma = inv0;
+    obs_residuals(c, X, Z, d->res);
+    if (st == TRAM_ENOMEM) return st;
+    return tram__scale_report(sol, s, st == TRAM_OK ? var : NAN, 0);
+}
+
+/* With a model: the final refinement of X and Z on the 3D point residuals
+ * of the stations the pose solve kept, its noise and covariance, and the
+ * station pose residuals against it. */
+static tram_status refine_on_points(const tram_records *rr, const tram_point_obs *obs,
+                                    int fit_scale, setup_data *d, pctx *c, tram_solution *sol)
+{
+    size_t n = rr->count;
+    double *w = tram__malloc((n ? n : 1) * sizeof *w);
+    if (!w) return TRAM_ENOMEM;
+    size_t maxc = 0;
+    for (size_t i = 0; i < n; i++) {
+        w[i] = sol->stations[i].outlier ? 0.0 : 1.0;
+        if (d->count[i] > maxc) maxc = d->count[i];
+    }
+    obs_residuals(c, &sol->X, &sol->Z, d->res);
+    double sig;
+    if (robust_sigma(d->res, d->excluded, obs->n, &sig) != TRAM_OK) {
+        tram__free(w);
+        return TRAM_ENOMEM;
+    }
+    if (!(sig > 1e-12)) sig = 1e-12;
+    c->inv_sigma = 1.0 / sig;
+    tram_refine_problem pb = {.n = n, .length_scale = 1.0, .eval = eval_model, .nblocks = n,
+                              .maxdim = 3 * (maxc ? maxc : 1), .ctx = c,
+                              .scale = fit_scale ? &d->scale : NULL};
+    tram_status st = tram__refine_run(&pb, w, 0, &sol->X, &sol->Z);
+    if (st == TRAM_OK) {
+        obs_residuals(c, &sol->X, &sol->Z, d->res);
+        size_t k;
+        double ss = used_ss(obs, d, w, &k);
+        double dof = 3.0 * (double)k - 12.0 - (fit_scale ? 1.0 : 0.0);
+        if (dof > 0) c->inv_sigma = 1.0 / fmax(sqrt(ss / dof), 1e-12);
+        double cov[144], cond, var = NAN;
+        tram_status cs = tram__refine_covariance_scale(&pb, w, &sol->X, &sol->Z, 1.0, cov, &cond, &var, NULL);
+        if (cs == TRAM_OK) {
+            store_uncertainty(cov, 2, cond, sol);
+            sol->unc.bootstrap_valid = 0; /* it measured the pose refinement */
+        }
+        st = cs == TRAM_ENOMEM ? cs
+           : fit_scale ? tram__scale_report(sol, d->scale, var, 1)
+                       : scale_test(&pb, w, obs, d, c, dof, &sol->X, &sol->Z, sol);
+        /* Station pose residuals against the refined solution. */
+        double rot, tr;
+        for (size_t i = 0; i < n; i++) {
+            tram_se3 Pi = d->P[i];
+            tram_handeye_residuals(&Pi, &rr->stations[i].T_sensor_target, 1, &sol->X, &sol->Z, &rot, &tr);
+            sol->stations[i].rot_deg = rot * 180.0 / TRAM_PI;
+            sol->stations[i].trans = tr;
+        }
+    }
+    tram__free(w);
+    return st;
+}
+
+/* The point results of a solve with a model, and the plausibility gate on
+ * the 3D point residuals. */
+static tram_status model_point_result(const tram_records *r, const tram_point_obs *obs,
+                                      const tram_solve_options *opt, pctx *c, setup_data *d,
+                                      const double *mxyz, tram_solution *sol, tram_status st,
+                                      tram_error *err)
+{
+    tram_point_result *pr = tram__calloc(1, sizeof *pr);
+    obs_residuals(c, &sol->X, &sol->Z, d->res);
+    if (!pr || point_stats(r, obs, c, d, sol, mxyz, pr) != TRAM_OK) {
+        tram__point_result_free(pr);
+        return st == TRAM_OK ? tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory") : st;
+    }
+    pr->with_model = 1;
+    pr->noise_length = 1.0 / c->inv_sigma;
+    sol->points = pr;
+    /* The pose solve ran the pairing test; gate the point residuals
+     * (once: not again when the station residuals failed already). */
+    if (st == TRAM_OK && !sol->trust.gate_failed &&
+        tram__gate(sol, &opt->trust, points_working_distance(obs), NAN, pr->point.rms,
+                   "3D point") != TRAM_OK)
+        st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
+    return st;
+}
+
+static tram_status solve_with_model(const tram_records *r, tram_setup setup,
+                                    const tram_point_obs *obs, const tram_point_model *model,
+                                    const tram_solve_options *opt, tram_solution **out,
+                                    tram_error *err)
+{
+    size_t m = obs->npoints;
+    double *mxyz = tram__malloc((m ? m : 1) * 3 * sizeof *mxyz);
+    tram_records *rr = tram_records_clone(r);
+    setup_data d;
+    pctx c;
+    memset(&c, 0, sizeof c);
+    memset(&d, 0, sizeof d); /* freed at out: even when prepare is not reached */
+    tram_status st = TRAM_OK;
+    tram_solution *sol = NULL;
+    if (!mxyz || !rr || prepare(r, setup, obs, &d, &c) != TRAM_OK) {
+        st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
+        goto out;
+    }
+    if ((st = model_lookup(obs, model, mxyz, err)) != TRAM_OK) goto out;
+    c.model = mxyz;
+    if ((st = register_stations(r, obs, &d, mxyz, rr, err)) != TRAM_OK) goto out;
     rr->has_block[TRAM_BLOCK_SENSOR] = 1;
     rr->sensor_from_points = 1;
     st = tram_solve(rr, setup, opt, &sol, err);
-    if (st != TRAM_OK || !sol->solved || !opt->refine) goto finish;
-    {
-        /* Refinement on the 3D point residuals. */
-        double *w = tram__malloc((n ? n : 1) * sizeof *w);
-        if (!w) {
-            st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
-            goto finish;
-        }
-        size_t maxc = 0;
-        for (size_t i = 0; i < n; i++) {
-            w[i] = sol->stations[i].outlier ? 0.0 : 1.0;
-            if (d.count[i] > maxc) maxc = d.count[i];
-        }
-        obs_residuals(&c, &sol->X, &sol->Z, d.res);
-        double sig = robust_sigma(d.res, d.excluded, obs->n);
-        if (!(sig > 1e-12)) sig = 1e-12;
-        c.inv_sigma = 1.0 / sig;
-        tram_refine_problem pb = {.n = n, .length_scale = 1.0, .eval = eval_model, .nblocks = n,
-                                  .maxdim = 3 * (maxc ? maxc : 1), .ctx = &c};
-        st = tram__refine_run(&pb, w, 0, &sol->X, &sol->Z);
-        if (st == TRAM_OK) {
-            obs_residuals(&c, &sol->X, &sol->Z, d.res);
-            size_t k = 0;
-            double ss = 0;
-            for (size_t o = 0; o < obs->n; o++)
-                if (w[obs->station[o]] > 0) {
-                    ss += d.res[o] * d.res[o];
-                    k++;
-                }
-            double dof = 3.0 * (double)k - 12.0;
-            if (dof > 0) c.inv_sigma = 1.0 / fmax(sqrt(ss / dof), 1e-12);
-            double cov[144], cond;
-            if (tram__refine_covariance(&pb, w, &sol->X, &sol->Z, 1.0, cov, &cond) == TRAM_OK) {
-                for (int a = 0; a < 12; a++) {
-                    int q = (a / 6) * 6 + (a % 6 < 3 ? 3 + a % 6 : a % 6 - 3);
-                    double sd = sqrt(fmax(cov[q * 12 + q], 0.0));
-                    sol->unc.sigma[a] = (a % 6) >= 3 ? sd * 180.0 / TRAM_PI : sd;
-                    for (int b = 0; b < 12; b++) {
-                        int q2 = (b / 6) * 6 + (b % 6 < 3 ? 3 + b % 6 : b % 6 - 3);
-                        sol->unc.cov[a * 12 + b] = cov[q * 12 + q2];
-                    }
-                }
-                sol->unc.valid = 1;
-                sol->unc.bootstrap_valid = 0; /* it measured the pose refinement */
-                sol->condition = cond;
-            }
-            /* Station pose residuals against the refined solution. */
-            double rot, tr;
-            for (size_t i = 0; i < n; i++) {
-                tram_se3 Pi = d.P[i];
-                tram_handeye_residuals(&Pi, &rr->stations[i].T_sensor_target, 1, &sol->X, &sol->Z, &rot, &tr);
-                sol->stations[i].rot_deg = rot * 180.0 / TRAM_PI;
-                sol->stations[i].trans = tr;
-            }
-        }
-        tram__free(w);
-        if (st != TRAM_OK) {
-            st = tram__fail(err, st, NULL, 0, 0, "point refinement failed");
-            goto finish;
-        }
-    }
-finish:
-    if (sol && sol->solved) {
-        tram_point_result *pr = tram__calloc(1, sizeof *pr);
-        obs_residuals(&c, &sol->X, &sol->Z, d.res);
-        if (!pr || point_stats(r, obs, &c, &d, sol, mxyz, pr) != TRAM_OK) {
-            tram__point_result_free(pr);
-            if (st == TRAM_OK) st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
-        } else {
-            pr->with_model = 1;
-            pr->noise_length = 1.0 / c.inv_sigma;
-            sol->points = pr;
-            /* The pose solve ran the pairing test; gate the point residuals
-             * (once: not again when the station residuals failed already). */
-            if (st == TRAM_OK && !sol->trust.gate_failed &&
-                tram__gate(sol, &opt->trust, points_working_distance(obs), NAN, pr->point.rms,
-                           "3D point") != TRAM_OK)
-                st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
-        }
-    }
+    if (st == TRAM_OK && sol->solved && opt->refine &&
+        (st = refine_on_points(rr, obs, opt->fit_scale, &d, &c, sol)) != TRAM_OK)
+        st = tram__fail(err, st, NULL, 0, 0,
+                        st == TRAM_ENOMEM ? "out of memory" : "point refinement failed");
+    if (sol && sol->solved) st = model_point_result(r, obs, opt, &c, &d, mxyz, sol, st, err);
 out:
     if (st != TRAM_OK && st != TRAM_EUNDETERMINED) {
         tram_solution_destroy(sol);
@@ -525,7 +617,7 @@ typedef struct doc_ctx {
 
 static tram_status free_fit(const tram_records *r, tram_setup setup, const tram_point_obs *obs,
                             tram_se3 *X, tram_se3 *Z, setup_data *d, pctx *c, int robust,
-                            tram_error *err);
+                            int fit_scale, tram_error *err);
 
 static tram_status doctor_fit(const tram_records *r, tram_setup setup, const void *ctx,
                               double *med_rot, double *med_tr, double *mount_len)
@@ -536,7 +628,7 @@ static tram_status doctor_fit(const tram_records *r, tram_setup setup, const voi
     memset(&c, 0, sizeof c);
     tram_se3 X, Z;
     tram_error e;
-    tram_status st = free_fit(r, setup, dc->obs, &X, &Z, &d, &c, 0, &e);
+    tram_status st = free_fit(r, setup, dc->obs, &X, &Z, &d, &c, 0, 0, &e);
     if (st == TRAM_OK) {
         obs_residuals(&c, &X, &Z, d.res);
         *med_rot = 0.0;
@@ -605,7 +697,7 @@ static tram_status points_trust(const tram_records *r, tram_setup setup, const t
 
 static tram_status free_fit(const tram_records *r, tram_setup setup, const tram_point_obs *obs,
                             tram_se3 *X, tram_se3 *Z, setup_data *d, pctx *c, int robust,
-                            tram_error *err)
+                            int fit_scale, tram_error *err)
 {
     if (prepare(r, setup, obs, d, c) != TRAM_OK)
         return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
@@ -613,15 +705,22 @@ static tram_status free_fit(const tram_records *r, tram_setup setup, const tram_
     if (st != TRAM_OK) return st;
     tram_se3_identity(Z);
     tram_refine_problem pb = {.n = r->count, .length_scale = 1.0, .eval = eval_free, .nblocks = 1,
-                              .maxdim = 3 * obs->n, .ctx = c, .nfree = 6};
+                              .maxdim = 3 * obs->n, .ctx = c, .nfree = 6,
+                              .scale = fit_scale ? &d->scale : NULL};
     for (int round = 0; round < (robust ? 2 : 1); round++) {
         obs_residuals(c, X, Z, d->res);
-        double sig = robust_sigma(d->res, d->excluded, obs->n);
+        double sig = 1.0;
+        if (robust_sigma(d->res, d->excluded, obs->n, &sig) != TRAM_OK) st = TRAM_ENOMEM;
         c->inv_sigma = 1.0 / (sig > 1e-12 ? sig : 1e-12);
-        if ((st = tram__refine_run(&pb, NULL, 0, X, Z)) != TRAM_OK) return st;
+        if (st == TRAM_OK) st = tram__refine_run(&pb, NULL, 0, X, Z);
+        if (st == TRAM_OK && robust) {
+            obs_residuals(c, X, Z, d->res);
+            if (robust_sigma(d->res, d->excluded, obs->n, &sig) != TRAM_OK) st = TRAM_ENOMEM;
+        }
+        if (st != TRAM_OK)
+            return tram__fail(err, st, NULL, 0, 0,
+                              st == TRAM_ENOMEM ? "out of memory" : "point refinement failed");
         if (!robust) break;
-        obs_residuals(c, X, Z, d->res);
-        sig = robust_sigma(d->res, d->excluded, obs->n);
         size_t nex = 0;
         for (size_t o = 0; o < obs->n; o++) {
             d->excluded[o] = d->res[o] > OUTLIER_K * sig && d->res[o] > 1e-9;
@@ -634,33 +733,129 @@ static tram_status free_fit(const tram_records *r, tram_setup setup, const tram_
     return TRAM_OK;
 }
 
+/* A solution of the model-free solve before any fit: names and NaNs. */
+static tram_solution *free_solution_new(const tram_records *r, tram_setup setup)
+{
+    tram_solution *sol = tram__calloc(1, sizeof *sol);
+    if (!sol || !(sol->stations = tram__calloc(r->count ? r->count : 1, sizeof *sol->stations))) {
+        tram__free(sol);
+        return NULL;
+    }
+    sol->setup = setup;
+    sol->length_unit = r->length_unit;
+    sol->n = r->count;
+    sol->trustworthy = 1;
+    sol->start_method = TRAM_METHOD_AUTO;
+    sol->X_name = setup == TRAM_SETUP_EYE_IN_HAND ? "T_flange_sensor" : "T_base_sensor";
+    sol->Z_name = setup == TRAM_SETUP_EYE_IN_HAND ? "T_base_target" : "T_flange_target";
+    for (int k = 0; k < TRAM_METHOD_COUNT; k++) sol->closed_rot_rms_deg[k] = sol->closed_trans_rms[k] = NAN;
+    return sol;
+}
+
+/* The model in the target frame: the solved positions q_k mapped by Z^-1. */
+static void free_model(const pctx *c, size_t m, const tram_se3 *Z, double *model)
+{
+    tram_se3 Zi;
+    tram_se3_invert(Z, &Zi);
+    for (size_t k = 0; k < m; k++) tram_se3_apply_point(&Zi, c->q + 3 * k, model + 3 * k);
+}
+
+/* Noise and uncertainty of X (the point positions are eliminated, and
+ * charged to the degrees of freedom); returns the per-axis noise. */
+static tram_status free_uncertainty(const tram_point_obs *obs, int fit_scale, setup_data *d,
+                                    pctx *c, tram_solution *sol, double *noise)
+{
+    size_t m = obs->npoints, k;
+    obs_residuals(c, &sol->X, &sol->Z, d->res);
+    double ss = used_ss(obs, d, NULL, &k);
+    double dof = 3.0 * (double)k - 6.0 - 3.0 * (double)m - (fit_scale ? 1.0 : 0.0);
+    double sig = dof > 0 ? sqrt(ss / dof) : NAN;
+    if (sig > 0) c->inv_sigma = 1.0 / sig;
+    tram_refine_problem pb = {.n = sol->n, .length_scale = 1.0, .eval = eval_free, .nblocks = 1,
+                              .maxdim = 3 * obs->n, .ctx = c, .nfree = 6,
+                              .scale = fit_scale ? &d->scale : NULL};
+    double cov[144], cond, var = NAN;
+    for (int a = 0; a < 12; a++) sol->unc.sigma[a] = NAN;
+    for (int a = 0; a < 144; a++) sol->unc.cov[a] = NAN;
+    tram_status cs = sig > 0 ? tram__refine_covariance_scale(&pb, NULL, &sol->X, &sol->Z, 1.0, cov,
+                                                             &cond, &var, NULL)
+                             : TRAM_EUNDETERMINED;
+    if (cs == TRAM_ENOMEM) return cs; /* an uncertainty lost to memory is a failure */
+    if (cs == TRAM_OK) store_uncertainty(cov, 1, cond, sol);
+    sol->noise_length = sig;
+    sol->noise_angle_deg = NAN;
+    *noise = sig;
+    if (fit_scale) return tram__scale_report(sol, d->scale, var, 1);
+    return sig > 0 ? scale_test(&pb, NULL, obs, d, c, dof, &sol->X, &sol->Z, sol) : TRAM_OK;
+}
+
+/* The point results of the model-free solve and their notes. */
+static tram_status free_point_result(const tram_records *r, const tram_point_obs *obs,
+                                     const pctx *c, const setup_data *d, const double *model,
+                                     double sig, tram_solution *sol)
+{
+    size_t n = r->count;
+    /* Station pose residuals where a station saw 3 or more points. */
+    for (size_t i = 0; i < n; i++) {
+        sol->stations[i].rot_deg = NAN;
+        sol->stations[i].trans = NAN;
+    }
+    tram_point_result *pr = tram__calloc(1, sizeof *pr);
+    if (!pr || point_stats(r, obs, c, d, sol, model, pr) != TRAM_OK) {
+        tram__point_result_free(pr);
+        return TRAM_ENOMEM;
+    }
+    pr->with_model = 0;
+    pr->noise_length = sig;
+    sol->points = pr;
+    for (size_t i = 0; i < n; i++) sol->stations[i].trans = pr->station_rms[i];
+    sol->trans = pr->point;
+    sol->rot_deg.rms = sol->rot_deg.median = sol->rot_deg.max = NAN;
+    size_t nex = 0;
+    for (size_t o = 0; o < obs->n; o++) nex += (size_t)d->excluded[o];
+    if (nex && tram__diag_add(sol, "point-outliers", TRAM_SEVERITY_INFO,
+                              "%zu observed point(s) flagged as outliers and excluded", nex) != TRAM_OK)
+        return TRAM_ENOMEM;
+    if (obs->npoints == 1 && tram__diag_add(sol, "single-point", TRAM_SEVERITY_INFO,
+                                            "one point per station: the sensor's mount and the point's "
+                                            "fixed position were solved; the point has no orientation, "
+                                            "so %s is a translation only",
+                                            sol->Z_name) != TRAM_OK)
+        return TRAM_ENOMEM;
+    return TRAM_OK;
+}
+
+/* Units, conventions and plausibility of the model-free solve; only
+ * TRAM_ENOMEM fails. */
+static tram_status free_checks(const tram_records *r, tram_setup setup, const tram_point_obs *obs,
+                               const tram_solve_options *opt, tram_solution *sol)
+{
+    if (tram__check_units(r, sol) != TRAM_OK) return TRAM_ENOMEM;
+    if (opt->check_conventions) {
+        doc_ctx dc = {obs};
+        tram_status st = tram__check_conventions_with(r, setup, sol, doctor_fit, &dc, 0, &opt->trust,
+                                                      points_working_distance(obs));
+        if (st != TRAM_OK) return st;
+    }
+    return points_trust(r, setup, obs, opt, sol) != TRAM_OK ? TRAM_ENOMEM : TRAM_OK;
+}
+
 static tram_status solve_free(const tram_records *r, tram_setup setup, const tram_point_obs *obs,
                               const tram_solve_options *opt, tram_solution **out, tram_error *err)
 {
-    size_t n = r->count, m = obs->npoints;
-    tram_solution *sol = tram__calloc(1, sizeof *sol);
+    size_t m = obs->npoints;
+    tram_solution *sol = free_solution_new(r, setup);
     setup_data d;
     pctx c;
     memset(&c, 0, sizeof c);
     memset(&d, 0, sizeof d);
     tram_status st = TRAM_OK;
     double *model = NULL;
-    if (!sol || !(sol->stations = tram__calloc(n ? n : 1, sizeof *sol->stations))) {
-        tram__free(sol);
-        return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
-    }
-    sol->setup = setup;
-    sol->length_unit = r->length_unit;
-    sol->n = n;
-    sol->trustworthy = 1;
-    sol->start_method = TRAM_METHOD_AUTO;
-    sol->X_name = setup == TRAM_SETUP_EYE_IN_HAND ? "T_flange_sensor" : "T_base_sensor";
-    sol->Z_name = setup == TRAM_SETUP_EYE_IN_HAND ? "T_base_target" : "T_flange_target";
-    for (int k = 0; k < TRAM_METHOD_COUNT; k++) sol->closed_rot_rms_deg[k] = sol->closed_trans_rms[k] = NAN;
+    if (!sol) return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
     {
         tram_se3 *P, *S;
         if (tram__station_poses(r, setup, &P, &S) == TRAM_OK) {
-            int bad = tram__observability(P, n, setup, sol);
+            int bad = tram__observability(P, r->count, setup, sol);
             tram__free(P);
             tram__free(S);
             if (bad) {
@@ -670,95 +865,16 @@ static tram_status solve_free(const tram_records *r, tram_setup setup, const tra
             }
         }
     }
-    st = free_fit(r, setup, obs, &sol->X, &sol->Z, &d, &c, opt->robust, err);
+    st = free_fit(r, setup, obs, &sol->X, &sol->Z, &d, &c, opt->robust, opt->fit_scale, err);
     if (st != TRAM_OK) goto out;
     sol->solved = 1;
     sol->refined = 1;
-    model = tram__malloc((m ? m : 1) * 3 * sizeof *model);
-    if (!model) {
-        st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
-        goto out;
-    }
-    for (size_t k = 0; k < m; k++) {
-        double pz[3];
-        tram_se3 Zi;
-        tram_se3_invert(&sol->Z, &Zi);
-        tram_se3_apply_point(&Zi, c.q + 3 * k, pz);
-        memcpy(model + 3 * k, pz, sizeof pz);
-    }
-    /* Noise and uncertainty of X (the point positions are eliminated). */
-    obs_residuals(&c, &sol->X, &sol->Z, d.res);
-    size_t k = 0;
-    double ss = 0;
-    for (size_t o = 0; o < obs->n; o++)
-        if (!d.excluded[o]) {
-            ss += d.res[o] * d.res[o];
-            k++;
-        }
-    double dof = 3.0 * (double)k - 6.0 - 3.0 * (double)m;
-    double sig = dof > 0 ? sqrt(ss / dof) : NAN;
-    if (sig > 0) c.inv_sigma = 1.0 / sig;
-    tram_refine_problem pb = {.n = n, .length_scale = 1.0, .eval = eval_free, .nblocks = 1,
-                              .maxdim = 3 * obs->n, .ctx = &c, .nfree = 6};
-    double cov[144], cond;
-    for (int a = 0; a < 12; a++) sol->unc.sigma[a] = NAN;
-    for (int a = 0; a < 144; a++) sol->unc.cov[a] = NAN;
-    if (sig > 0 && tram__refine_covariance(&pb, NULL, &sol->X, &sol->Z, 1.0, cov, &cond) == TRAM_OK) {
-        for (int a = 0; a < 6; a++) {
-            int q = a < 3 ? 3 + a : a - 3;
-            double sd = sqrt(fmax(cov[q * 12 + q], 0.0));
-            sol->unc.sigma[a] = a >= 3 ? sd * 180.0 / TRAM_PI : sd;
-            for (int b = 0; b < 6; b++) {
-                int q2 = b < 3 ? 3 + b : b - 3;
-                sol->unc.cov[a * 12 + b] = cov[q * 12 + q2];
-            }
-        }
-        sol->unc.valid = 1;
-        sol->condition = cond;
-    }
-    sol->noise_length = sig;
-    sol->noise_angle_deg = NAN;
-    /* Station pose residuals where a station saw 3 or more points. */
-    for (size_t i = 0; i < n; i++) {
-        sol->stations[i].rot_deg = NAN;
-        sol->stations[i].trans = NAN;
-    }
-    {
-        tram_point_result *pr = tram__calloc(1, sizeof *pr);
-        if (!pr || point_stats(r, obs, &c, &d, sol, model, pr) != TRAM_OK) {
-            tram__point_result_free(pr);
-            st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
-            goto out;
-        }
-        pr->with_model = 0;
-        pr->noise_length = sig;
-        sol->points = pr;
-        for (size_t i = 0; i < n; i++) sol->stations[i].trans = pr->station_rms[i];
-        sol->trans = pr->point;
-        sol->rot_deg.rms = sol->rot_deg.median = sol->rot_deg.max = NAN;
-        size_t nex = 0;
-        for (size_t o = 0; o < obs->n; o++) nex += (size_t)d.excluded[o];
-        if (nex) {
-            char msg[120];
-            snprintf(msg, sizeof msg, "%zu observed point(s) flagged as outliers and excluded", nex);
-            if (tram__diag_add(sol, "point-outliers", TRAM_SEVERITY_INFO, "%s", msg) != TRAM_OK) goto nomem;
-        }
-        if (m == 1 && tram__diag_add(sol, "single-point", TRAM_SEVERITY_INFO,
-                                     "one point per station: the sensor's mount and the point's "
-                                     "fixed position were solved; the point has no orientation, "
-                                     "so %s is a translation only",
-                                     sol->Z_name) != TRAM_OK)
-            goto nomem;
-    }
-    if (tram__check_units(r, sol) != TRAM_OK) goto nomem;
-    if (opt->check_conventions) {
-        doc_ctx dc = {obs};
-        if ((st = tram__check_conventions_with(r, setup, sol, doctor_fit, &dc, 0, &opt->trust, points_working_distance(obs))) != TRAM_OK) {
-            st = tram__fail(err, st, NULL, 0, 0, "out of memory");
-            goto out;
-        }
-    }
-    if (points_trust(r, setup, obs, opt, sol) != TRAM_OK) goto nomem;
+    if (!(model = tram__malloc((m ? m : 1) * 3 * sizeof *model))) goto nomem;
+    free_model(&c, m, &sol->Z, model);
+    double sig;
+    if (free_uncertainty(obs, opt->fit_scale, &d, &c, sol, &sig) != TRAM_OK) goto nomem;
+    if (free_point_result(r, obs, &c, &d, model, sig, sol) != TRAM_OK) goto nomem;
+    if (free_checks(r, setup, obs, opt, sol) != TRAM_OK) goto nomem;
     goto out;
 nomem:
     st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
@@ -778,6 +894,8 @@ tram_status tram_solve_points(const tram_records *r, tram_setup setup, const tra
                               tram_solution **out, tram_error *err)
 {
     *out = NULL;
+    tram_status tool_st = tram_records_require_flange(r, err);
+    if (tool_st != TRAM_OK) return tool_st;
     tram_solve_options defaults;
     tram_solve_options_init(&defaults);
     const tram_solve_options *opt = opt_in ? opt_in : &defaults;

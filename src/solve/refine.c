@@ -16,6 +16,10 @@
  * reweighted least squares: w_i = 1 / (1 + (u_i / c)^2), u_i^2 = |r_i|^2 / 6,
  * c = 2.3849 (95% efficiency at the normal; Holland & Welsch, Commun.
  * Statist. A6(9), 1977).
+ * Sensor scale (tram solve --fit-scale; docs/solve.md): with pb->scale set,
+ * one more parameter s multiplies the sensor's lengths (the translation of
+ * S_i, or the observed points through eval): the similarity form of the
+ * problem, as in Umeyama's (1991) registration with scale.
  * Covariance: Cov(x) = s^2 (J^T J)^-1 at the solution (s^2 = chi^2 / dof).
  * Bootstrap: stations resampled with replacement (Efron, Ann. Statist. 7(1),
  * 1979), each resample refined from the solution.
@@ -29,6 +33,7 @@
 #include <string.h>
 
 #define NP 12
+#define NPX (NP + 1) /* with the sensor scale */
 #define CAUCHY_C 2.3849
 
 void tram__refine_apply(const tram_se3 *X0, const tram_se3 *Z0, const double x[NP], tram_se3 *X,
@@ -89,7 +94,8 @@ void tram__refine_station_jacobian(const tram_se3 *P, const tram_se3 *S, const t
 }
 
 static size_t nblocks(const tram_refine_problem *pb) { return pb->eval ? pb->nblocks : pb->n; }
-static int nparams(const tram_refine_problem *pb) { return pb->nfree > 0 ? pb->nfree : NP; }
+static int nbase(const tram_refine_problem *pb) { return pb->nfree > 0 ? pb->nfree : NP; }
+static int nparams(const tram_refine_problem *pb) { return nbase(pb) + (pb->scale ? 1 : 0); }
 static size_t maxdim(const tram_refine_problem *pb) { return pb->eval ? pb->maxdim : 6; }
 
 /* Weighted residual of block i; returns its length. */
@@ -97,7 +103,10 @@ static size_t block_eval(const tram_refine_problem *pb, size_t i, const tram_se3
                          const tram_se3 *Z, double *r)
 {
     if (pb->eval) return pb->eval(pb, i, X, Z, r);
-    tram__refine_residual(&pb->P[i], &pb->S[i], X, Z, r);
+    tram_se3 S = pb->S[i];
+    if (pb->scale)
+        for (int k = 0; k < 3; k++) S.m[k][3] *= *pb->scale;
+    tram__refine_residual(&pb->P[i], &S, X, Z, r);
     for (int k = 0; k < 3; k++) {
         r[k] /= pb->sigma_angle;
         r[3 + k] /= pb->sigma_length;
@@ -132,7 +141,7 @@ typedef struct scratch {
 static int scratch_alloc(const tram_refine_problem *pb, scratch *s)
 {
     size_t m = maxdim(pb);
-    s->r = tram__malloc(m * (3 + NP) * sizeof *s->r);
+    s->r = tram__malloc(m * (3 + NPX) * sizeof *s->r);
     if (!s->r) return -1;
     s->rp = s->r + m;
     s->rm = s->rp + m;
@@ -140,15 +149,39 @@ static int scratch_alloc(const tram_refine_problem *pb, scratch *s)
     return 0;
 }
 
+/* The step x (nparams values) from (X, Z) and the scale: the moved poses,
+ * and the moved scale into *scale (unchanged without pb->scale). */
+static void step_apply(const tram_refine_problem *pb, const tram_se3 *X, const tram_se3 *Z,
+                       const double *x, tram_se3 *Xn, tram_se3 *Zn, double *scale)
+{
+    double x12[NP] = {0};
+    memcpy(x12, x, (size_t)nbase(pb) * sizeof *x);
+    tram__refine_apply(X, Z, x12, Xn, Zn);
+    if (pb->scale) *scale = *pb->scale + x[nbase(pb)];
+}
+
+/* Block i's residual with parameter p moved by h (the scale restored). */
+static void eval_moved(const tram_refine_problem *pb, size_t i, const tram_se3 *X,
+                       const tram_se3 *Z, int p, double h, double *r)
+{
+    double x[NPX] = {0}, s0 = pb->scale ? *pb->scale : 1.0, s1 = s0;
+    tram_se3 Xp, Zp;
+    x[p] = h;
+    step_apply(pb, X, Z, x, &Xp, &Zp, &s1);
+    if (pb->scale) *pb->scale = s1;
+    block_eval(pb, i, &Xp, &Zp, r);
+    if (pb->scale) *pb->scale = s0;
+}
+
 /* Normal equations H = sum w J^T J, g = sum w J^T r at (X, Z), with the
  * Jacobian by central differences over the free parameters. */
 static tram_status normal_equations(const tram_refine_problem *pb, const double *w,
-                                    const tram_se3 *X, const tram_se3 *Z, double H[NP * NP],
-                                    double g[NP])
+                                    const tram_se3 *X, const tram_se3 *Z, double H[NPX * NPX],
+                                    double g[NPX])
 {
     int np = nparams(pb);
-    memset(H, 0, NP * NP * sizeof *H);
-    memset(g, 0, NP * sizeof *g);
+    memset(H, 0, NPX * NPX * sizeof *H);
+    memset(g, 0, NPX * sizeof *g);
     scratch sc;
     if (scratch_alloc(pb, &sc)) return TRAM_ENOMEM;
     double ht = 1e-4 * pb->length_scale;
@@ -156,23 +189,18 @@ static tram_status normal_equations(const tram_refine_problem *pb, const double 
         if (!(w[i] > 0)) continue;
         size_t d = block_eval(pb, i, X, Z, sc.r);
         for (int p = 0; p < np; p++) {
-            double x[NP] = {0}, h = (p % 6) < 3 ? 1e-6 : ht;
-            tram_se3 Xp, Zp;
-            x[p] = h;
-            tram__refine_apply(X, Z, x, &Xp, &Zp);
-            block_eval(pb, i, &Xp, &Zp, sc.rp);
-            x[p] = -h;
-            tram__refine_apply(X, Z, x, &Xp, &Zp);
-            block_eval(pb, i, &Xp, &Zp, sc.rm);
-            for (size_t k = 0; k < d; k++) sc.J[k * NP + (size_t)p] = (sc.rp[k] - sc.rm[k]) / (2 * h);
+            double h = p == nbase(pb) ? 1e-6 : (p % 6) < 3 ? 1e-6 : ht;
+            eval_moved(pb, i, X, Z, p, h, sc.rp);
+            eval_moved(pb, i, X, Z, p, -h, sc.rm);
+            for (size_t k = 0; k < d; k++) sc.J[k * NPX + (size_t)p] = (sc.rp[k] - sc.rm[k]) / (2 * h);
         }
         for (int a = 0; a < np; a++) {
             double ga = 0;
-            for (size_t k = 0; k < d; k++) ga += sc.J[k * NP + (size_t)a] * sc.r[k];
+            for (size_t k = 0; k < d; k++) ga += sc.J[k * NPX + (size_t)a] * sc.r[k];
             g[a] += w[i] * ga;
             for (int b = a; b < np; b++) {
                 double hsum = 0;
-                for (size_t k = 0; k < d; k++) hsum += sc.J[k * NP + (size_t)a] * sc.J[k * NP + (size_t)b];
+                for (size_t k = 0; k < d; k++) hsum += sc.J[k * NPX + (size_t)a] * sc.J[k * NPX + (size_t)b];
                 H[a * np + b] += w[i] * hsum;
             }
         }
@@ -188,7 +216,7 @@ static tram_status lm(const tram_refine_problem *pb, const double *w, int max_it
                       tram_se3 *Z, int *iters)
 {
     int np = nparams(pb);
-    double H[NP * NP], g[NP], lambda = 1e-3;
+    double H[NPX * NPX], g[NPX], lambda = 1e-3;
     double *buf = tram__malloc(maxdim(pb) * sizeof *buf);
     if (!buf) return TRAM_ENOMEM;
     double cost = total_cost(pb, w, X, Z, buf);
@@ -198,19 +226,23 @@ static tram_status lm(const tram_refine_problem *pb, const double *w, int max_it
         if ((st = normal_equations(pb, w, X, Z, H, g)) != TRAM_OK) break;
         int accepted = 0, done = 0;
         for (int tries = 0; tries < 12 && !accepted; tries++) {
-            double A[NP * NP], mg[NP], dx[NP] = {0};
+            double A[NPX * NPX], mg[NPX], dx[NPX] = {0};
             memcpy(A, H, sizeof A);
             for (int a = 0; a < np; a++) {
                 A[a * np + a] += lambda * (H[a * np + a] > 1e-300 ? H[a * np + a] : 1e-300);
                 mg[a] = -g[a];
             }
-            if (tram__spd_solve(np, A, mg, dx) != TRAM_OK) {
+            memcpy(dx, mg, (size_t)np * sizeof *dx); /* A is scratch: solved in place */
+            if (tram__spd_solve_overwrite(np, A, dx) != TRAM_OK) {
                 lambda *= 10;
                 continue;
             }
             tram_se3 Xn, Zn;
-            tram__refine_apply(X, Z, dx, &Xn, &Zn);
+            double s0 = pb->scale ? *pb->scale : 1.0, sn = s0;
+            step_apply(pb, X, Z, dx, &Xn, &Zn, &sn);
+            if (pb->scale) *pb->scale = sn;
             double cn = total_cost(pb, w, &Xn, &Zn, buf);
+            if (!(cn <= cost) && pb->scale) *pb->scale = s0; /* rejected: back */
             if (cn <= cost) {
                 double rel = (cost - cn) / (cost > 1e-300 ? cost : 1e-300);
                 *X = Xn;
@@ -281,18 +313,26 @@ tram_status tram__refine_covariance(const tram_refine_problem *pb, const double 
                                     const tram_se3 *X, const tram_se3 *Z, double scale2,
                                     double cov[NP * NP], double *condition)
 {
+    return tram__refine_covariance_scale(pb, station_w, X, Z, scale2, cov, condition, NULL, NULL);
+}
+
+tram_status tram__refine_covariance_scale(const tram_refine_problem *pb, const double *station_w,
+                                          const tram_se3 *X, const tram_se3 *Z, double scale2,
+                                          double cov[NP * NP], double *condition, double *var_scale,
+                                          double cov_scale[NP])
+{
     int np = nparams(pb);
     size_t nb = nblocks(pb);
     double *w = tram__malloc((nb ? nb : 1) * sizeof *w);
     if (!w) return TRAM_ENOMEM;
     for (size_t i = 0; i < nb; i++) w[i] = station_w ? station_w[i] : 1.0;
-    double H[NP * NP], g[NP];
+    double H[NPX * NPX], g[NPX];
     tram_status st = normal_equations(pb, w, X, Z, H, g);
     tram__free(w);
     if (st != TRAM_OK) return st;
     if (condition) {
         /* Condition of the correlation form of H: independent of units. */
-        double C[NP * NP], ev[NP], V[NP * NP];
+        double C[NPX * NPX], ev[NPX], V[NPX * NPX];
         for (int a = 0; a < np; a++)
             for (int b = 0; b < np; b++)
                 C[a * np + b] = H[a * np + b] / sqrt(H[a * np + a] * H[b * np + b]);
@@ -301,13 +341,17 @@ tram_status tram__refine_covariance(const tram_refine_problem *pb, const double 
         else
             *condition = INFINITY;
     }
-    double Ci[NP * NP];
+    double Ci[NPX * NPX];
     st = tram__spd_inverse(np, H, Ci);
     if (st != TRAM_OK) return st;
     /* Into the 12x12 layout; parameters that were not free get NaN. */
+    int nx = nbase(pb), ks = pb->scale ? nx : -1;
     for (int a = 0; a < NP; a++)
         for (int b = 0; b < NP; b++)
-            cov[a * NP + b] = (a < np && b < np) ? Ci[a * np + b] * scale2 : NAN;
+            cov[a * NP + b] = (a < nx && b < nx) ? Ci[a * np + b] * scale2 : NAN;
+    if (var_scale) *var_scale = ks >= 0 ? Ci[ks * np + ks] * scale2 : NAN;
+    if (cov_scale)
+        for (int a = 0; a < NP; a++) cov_scale[a] = ks >= 0 && a < nx ? Ci[a * np + ks] * scale2 : NAN;
     return TRAM_OK;
 }
 
@@ -372,7 +416,9 @@ tram_status tram__refine_bootstrap(const tram_refine_problem *pb, const double *
         if (progress) progress(ctx, "bootstrap", b + 1, resamples);
         if (distinct < 3) continue;
         tram_se3 Xb = *X, Zb = *Z;
+        double s0 = pb->scale ? *pb->scale : 1.0;
         tram_status bs = lm(pb, w, 30, &Xb, &Zb, NULL);
+        if (pb->scale) *pb->scale = s0; /* each resample starts from the solution */
         if (bs == TRAM_ENOMEM) { /* not a failed resample: stop, do not under-report */
             tram__free(in);
             tram__free(w);

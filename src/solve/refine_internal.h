@@ -22,6 +22,10 @@ typedef struct tram_refine_problem {
     size_t nblocks, maxdim;
     const void *ctx;
     int nfree;             /* free parameters: 12 (0 = 12), or 6 for X only */
+    /* NULL, or the sensor's length scale s (sensor length * s = robot
+     * length): one more free parameter after the nfree, updated in place.
+     * eval reads it; the built-in residual scales S's translation by it. */
+    double *scale;
 } tram_refine_problem;
 
 typedef void (*tram__progress_fn)(void *ctx, const char *what, size_t done, size_t total);
@@ -48,6 +52,13 @@ tram_status tram__refine_run(const tram_refine_problem *pb, const double *statio
 tram_status tram__refine_covariance(const tram_refine_problem *pb, const double *station_w,
                                     const tram_se3 *X, const tram_se3 *Z, double scale2,
                                     double cov[144], double *condition);
+/* As tram__refine_covariance, with pb->scale set: also the variance of
+ * the scale (*var_scale) and its covariance with the 12 (cov_scale, NaN
+ * where not free); either may be NULL. */
+tram_status tram__refine_covariance_scale(const tram_refine_problem *pb, const double *station_w,
+                                          const tram_se3 *X, const tram_se3 *Z, double scale2,
+                                          double cov[144], double *condition, double *var_scale,
+                                          double cov_scale[12]);
 /* Weighted chi-square of the residuals into *chi2; TRAM_ENOMEM when the
  * work buffer cannot be had. */
 tram_status tram__refine_chi2(const tram_refine_problem *pb, const double *station_w,

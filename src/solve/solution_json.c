@@ -83,10 +83,24 @@ tram_status tram_solution_to_json(const tram_solution *s, const tram_records *r,
     tram__jb_bool(b, root, "trustworthy", s->trustworthy);
     /* tram never knows whether a result was verified on the cell. */
     tram__jb_bool(b, root, "verified_on_cell", 0);
+    if (r->robot_tool && r->has_tool) {
+        cJSON *tl = tram__jb_obj(b, root, "tool_frame");
+        tram__jb_str(b, tl, "robot_pose", "tool-in-base");
+        tram__jb_str(b, tl, "source", r->tool_in_file ? "tool-in-flange" : "--tool");
+        add_transform(b, tl, "T_flange_tool", &r->T_flange_tool);
+    }
     if (s->solved) {
         cJSON *tr = tram__jb_obj(b, root, "transforms");
         add_transform(b, tr, s->X_name, &s->X);
         add_transform(b, tr, s->Z_name, &s->Z);
+        if (r->robot_tool && r->has_tool) {
+            /* tool (TCP) poses: the fixed transform in the tool frame too */
+            int eih = s->setup == TRAM_SETUP_EYE_IN_HAND;
+            tram_se3 T_tool_flange, T;
+            tram_se3_invert(&r->T_flange_tool, &T_tool_flange);
+            tram_se3_compose(&T_tool_flange, eih ? &s->X : &s->Z, &T);
+            add_transform(b, tr, eih ? "T_tool_sensor" : "T_tool_target", &T);
+        }
         cJSON *res = tram__jb_obj(b, root, "residuals");
         tram__jb_str(b, res, "definition",
                      "per station: rotation angle and translation distance between "
@@ -127,6 +141,18 @@ tram_status tram_solution_to_json(const tram_solution *s, const tram_records *r,
             tram__jb_num(b, md, "noise_length", pr->noise_length);
         }
         tram__pixel_result_json(b, root, s, r);
+        if (s->sensor_scale.estimated) {
+            const tram_scale_result *k = &s->sensor_scale;
+            cJSON *sc = tram__jb_obj(b, root, "sensor_scale");
+            tram__jb_str(b, sc, "definition",
+                         "sensor lengths times scale are the robot's lengths; sigma is its "
+                         "1-sigma; z = (scale - 1) / sigma, p two-sided (normal approximation)");
+            tram__jb_bool(b, sc, "fitted", k->fitted);
+            tram__jb_num(b, sc, "scale", k->scale);
+            tram__jb_num(b, sc, "sigma", k->sigma);
+            tram__jb_num(b, sc, "z", k->z);
+            tram__jb_num(b, sc, "p_value", k->p_value);
+        }
         cJSON *u = tram__jb_obj(b, root, "uncertainty");
         tram__jb_str(b, u, "definition",
                      "1-sigma and 95% (1.96 sigma) per axis from the refinement's "

@@ -21,13 +21,15 @@
  *     squares.
  *  7. Noise from the inlier residuals (dof-corrected), covariance
  *     s^2 (J^T W J)^-1, optional station bootstrap.
- *  8. Convention and unit checks (diagnose.c).
+ *  8. The sensor's length scale, tested or (fit_scale) fitted (scale.c).
+ *  9. Convention and unit checks (diagnose.c).
  */
 #include "solve/refine_internal.h"
 #include "solve/diagnose_internal.h"
 #include "solve/pipeline_internal.h"
 #include "math/stats_internal.h"
 #include "solve/plausibility_internal.h"
+#include "solve/scale_internal.h"
 
 #include <math.h>
 #include <stdarg.h>
@@ -277,6 +279,8 @@ tram_status tram_solve(const tram_records *r, tram_setup setup, const tram_solve
                        tram_solution **out, tram_error *err)
 {
     *out = NULL;
+    tram_status tool_st = tram_records_require_flange(r, err);
+    if (tool_st != TRAM_OK) return tool_st;
     tram_solve_options defaults;
     if (!opt_in) {
         tram_solve_options_init(&defaults);
@@ -341,6 +345,9 @@ tram_status tram_solve(const tram_records *r, tram_setup setup, const tram_solve
     if (opt->refine) {
         st = refine_all(P, S, n, opt, sol, err);
         if (st != TRAM_OK) goto fail;
+        /* The sensor's length scale, tested or fitted (scale.c); a solve
+         * from points or pixels does it on its own residuals. */
+        if (!r->sensor_from_points && tram__scale_poses(P, S, n, opt, sol) != TRAM_OK) goto nomem;
     }
     {
         double *rot = tram__malloc(2 * n * sizeof *rot);

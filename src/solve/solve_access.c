@@ -51,6 +51,9 @@ int tram_solve_options_set(tram_solve_options *opt, const char *name, double val
     } else if (strcmp(name, "bootstrap") == 0) {
         if (whole(value, 0, 1e6, &u)) return -1;
         opt->bootstrap = (size_t)u;
+    } else if (strcmp(name, "fit_scale") == 0) {
+        if (whole(value, 0, 1, &u)) return -1;
+        opt->fit_scale = (int)u;
     } else if (strcmp(name, "seed") == 0) {
         if (whole(value, 0, 9007199254740992.0, &u)) return -1;
         opt->seed = u;

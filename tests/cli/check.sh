@@ -34,7 +34,7 @@ grep -v '^b0[2-8],' "$demo/wrist_bumped.csv" >"$tmp/one.csv"
 [ $rc -eq 0 ] && ok || bad "check --tolerance (rc $rc)"
 # refusals
 sed 's/"version":\t1/"version":\t7/' "$tmp/wrist.cal.json" >"$tmp/newer.json"
-expect_error "newer calibration" 2 "newer.json: error: calibration format version 7 is newer" check --calibration "$tmp/newer.json" "$demo/wrist_recheck.csv"
+expect_error "newer calibration" 2 "newer.json:[0-9]+:[0-9]+: error: calibration format version 7 is newer" check --calibration "$tmp/newer.json" "$demo/wrist_recheck.csv"
 head -c 300 "$tmp/wrist.cal.json" >"$tmp/cut.json"
 expect_error "damaged calibration" 2 "cut.json:[0-9]+:[0-9]+: error: damaged calibration file" check --calibration "$tmp/cut.json" "$demo/wrist_recheck.csv"
 expect_error "other setup" 2 "declare setup eye-to-hand but the calibration" check --calibration "$tmp/wrist.cal.json" "$demo/overhead_camera.csv"

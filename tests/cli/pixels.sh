@@ -75,3 +75,45 @@ if [ -s "$pdocs/examples.sh" ] && (cd "$pdocs" && PATH="$pdocs/bin:$PATH" sh -e 
 else
     bad "docs/pixels.md examples"; cat "$pdocs/err"
 fi
+# A model file in cm instead of the board (the same corners: id r*9+c at
+# (2.5 c, 2.5 r, 0) cm): tram pose converts it to the output unit and says
+# which (mm by default, cm with --length-unit cm), and solve --pixels gives the
+# same X in the record file's mm.
+awk 'BEGIN { print "# length-unit: cm"; print "point,x,y,z"; for (r = 0; r < 6; r++) for (c = 0; c < 9; c++) printf "%d,%.1f,%.1f,0\n", r * 9 + c, 2.5 * c, 2.5 * r }' >"$tmp/model_cm.csv"
+"$TRAM" pose --camera "$px/camera.json" --model "$tmp/model_cm.csv" "$px/pixels.csv" >"$tmp/poses_model.csv" 2>"$tmp/err" \
+    && "$TRAM" pose --camera "$px/camera.json" --model "$tmp/model_cm.csv" --length-unit cm "$px/pixels.csv" >"$tmp/poses_model_cm.csv" 2>>"$tmp/err" \
+    && /usr/bin/python3 - "$tmp/poses.csv" "$tmp/poses_model.csv" "$tmp/poses_model_cm.csv" <<'PY' && ok || { bad "pose --model in cm"; cat "$tmp/err"; }
+import sys
+def read(p):
+    unit, rows, head = None, [], None
+    for line in open(p):
+        if line.startswith("# length-unit:"): unit = line.split(":")[1].strip()
+        if line.startswith("#") or not line.strip(): continue
+        f = line.strip().split(",")
+        if head is None: head = f; continue
+        rows.append(dict(zip(head, f)))
+    return unit, rows
+ub, board = read(sys.argv[1]); um, mm = read(sys.argv[2]); uc, cm = read(sys.argv[3])
+assert ub == "mm" and um == "mm" and uc == "cm", (ub, um, uc)
+worst = 0.0
+for b, m, c in zip(board, mm, cm):
+    for k in ("sensor_x", "sensor_y", "sensor_z"):
+        worst = max(worst, abs(float(b[k]) - float(m[k])), abs(float(b[k]) - 10 * float(c[k])))
+    for k in ("sensor_qw", "sensor_qx", "sensor_qy", "sensor_qz"):
+        assert abs(float(b[k]) - float(m[k])) < 1e-9 and abs(float(b[k]) - float(c[k])) < 1e-9, k
+assert len(board) == len(mm) == len(cm) == 10 and worst < 1e-6, worst
+print("  pixels.sh: pose from the cm model agrees with the board's: %.1e mm (in mm and in cm x 10)" % worst)
+PY
+"$TRAM" solve --json --pixels "$px/pixels.csv" --camera "$px/camera.json" --model "$tmp/model_cm.csv" "$px/robot.csv" \
+    >"$tmp/pix_model.json" 2>"$tmp/err" && "$TRAM" solve --pixels "$px/pixels.csv" --camera "$px/camera.json" \
+    --model "$tmp/model_cm.csv" "$px/robot.csv" >"$tmp/pix_model.txt" 2>>"$tmp/err" \
+    && grep -q "mm" "$tmp/pix_model.txt" && /usr/bin/python3 - "$tmp/pix.json" "$tmp/pix_model.json" <<'PY' && ok || { bad "solve --pixels --model in cm"; cat "$tmp/err"; }
+import json, sys
+a = json.load(open(sys.argv[1])); b = json.load(open(sys.argv[2]))
+assert a["length_unit"] == b["length_unit"] == "mm", (a["length_unit"], b["length_unit"])
+ta = a["transforms"]["T_flange_sensor"]["translation"]; tb = b["transforms"]["T_flange_sensor"]["translation"]
+tza = a["transforms"]["T_base_target"]["translation"]; tzb = b["transforms"]["T_base_target"]["translation"]
+d = max(abs(x - y) for x, y in zip(ta + tza, tb + tzb))
+assert d < 1e-6, d
+print("  pixels.sh: solve --pixels with the cm model: X and Z as with the board (%.1e mm), reported in mm" % d)
+PY

@@ -92,7 +92,7 @@ expect_error "malformed JSON" 2 "bad.json:3:[0-9]+: error: record file: malforme
 f=$(printf '{"format": "tram-records", "version": 1, "length_unit": "mm",\n "stations": [{"robot": {"x": 1, "y": 2, "z": 3, "qw": 1, "qx": 0, "qy": 0, "qz": 0}}]}\n{"x": 1}\n' | mk two.json)
 expect_error "text after the JSON document" 2 "two.json:3:1: error: record file: text after the JSON document" convert --to quat "$f"
 expect_error "no such file" 2 "nosuch.csv: error: cannot open" convert --to quat "$tmp/nosuch.csv"
-expect_error "bad --to" 2 "expected quat, rotvec, matrix or euler:SEQ" convert --to euler:abc "$tmp/good.csv"
+expect_error "bad --to" 2 "expected quat, quat-xyzw, rotvec, matrix or euler:SEQ" convert --to euler:abc "$tmp/good.csv"
 expect_error "unknown subcommand" 2 "unknown subcommand" frobnicate
 expect_error "unknown option" 2 "unknown option '--bogus'" convert --bogus
 
@@ -118,9 +118,44 @@ printf '# length-unit: mm\nrobot_x,robot_y,robot_z,robot_qw,robot_qx,robot_qy,ro
 [ $? -eq 2 ] && [ ! -s "$tmp/out" ] && grep -q '^<stdin>:3:' "$tmp/err" && ok || bad "stdin error location"
 "$TRAM" help convert | grep -q 'usage: tram convert' && ok || bad "help convert"
 
+# The other scripts are independent of one another: each defines what it uses
+# and writes every file it reads.  Each runs in a subshell with a folder of its
+# own as $tmp, in one of CLI_JOBS lanes (default 2, the CI machine's cores);
+# their output and counts are shown in order afterwards.
+run_script() { # run_script FILE NAME
+    (
+        tmp="$tmp/$2.d"
+        mkdir -p "$tmp"
+        pass=0 fail=0 skipped=0
+        . "$1"
+        echo "$pass $fail $skipped" >"$tmp/../$2.count"
+    ) >"$tmp/$2.log" 2>&1
+}
+lanes=${CLI_JOBS:-2}
+lane=0
+while [ "$lane" -lt "$lanes" ]; do
+    (
+        i=0
+        for f in "$here"/*.sh; do
+            [ "$f" = "$here/run.sh" ] && continue
+            [ $((i % lanes)) -eq "$lane" ] && run_script "$f" "$(basename "$f" .sh)"
+            i=$((i + 1))
+        done
+    ) &
+    lane=$((lane + 1))
+done
+wait
 for f in "$here"/*.sh; do
     [ "$f" = "$here/run.sh" ] && continue
-    . "$f"
+    n=$(basename "$f" .sh)
+    echo "== tests/cli/$n.sh"
+    cat "$tmp/$n.log"
+    if [ -s "$tmp/$n.count" ]; then
+        read -r p q k <"$tmp/$n.count"
+        pass=$((pass + p)) fail=$((fail + q)) skipped=$((skipped + k))
+    else
+        bad "tests/cli/$n.sh stopped before its end"
+    fi
 done
 
 echo "cli: $pass passed, $fail failed, $skipped skipped"

@@ -65,5 +65,6 @@ if [ -n "${GEN_DEMO:-}" ]; then
     cmp -s "$tmp/gen/wrist_recheck.csv" "$demo/wrist_recheck.csv" &&
     cmp -s "$tmp/gen/wrist_bumped.csv" "$demo/wrist_bumped.csv" &&
     cmp -s "$tmp/gen/truth_bump.json" "$demo/truth_bump.json" &&
-    cmp -s "$tmp/gen/wrist_camera_joints.csv" "$demo/wrist_camera_joints.csv" && ok || bad "demo data differ from tools/gen_demo.c output"
+    cmp -s "$tmp/gen/wrist_camera_joints.csv" "$demo/wrist_camera_joints.csv" &&
+    cmp -s "$tmp/gen/wrist_camera_tcp.csv" "$demo/wrist_camera_tcp.csv" && ok || bad "demo data differ from tools/gen_demo.c output"
 fi

@@ -46,7 +46,8 @@ def unpack(v, ndist, nviews):
 
 
 def scipy_fit(start_cam, start_poses, ndist, views, xy):
-    """SciPy's optimum: (parameter vector, 1-sigma, residual function)."""
+    """SciPy's optimum: (parameter vector, 1-sigma, residual function,
+    correlation matrix)."""
     def res(v):
         cam, poses = unpack(v, ndist, len(views))
         return np.concatenate([(project(cam, poses[k, :3], poses[k, 3:], xy[ids]) - uv).ravel()
@@ -55,7 +56,8 @@ def scipy_fit(start_cam, start_poses, ndist, views, xy):
     sol = least_squares(res, v0, method="lm", x_scale="jac", xtol=1e-15, ftol=1e-15, gtol=1e-15)
     J, r = sol.jac, sol.fun
     cov = np.linalg.inv(J.T @ J) * (r @ r) / (len(r) - len(v0))
-    return sol.x, np.sqrt(np.diag(cov)), res
+    sd = np.sqrt(np.diag(cov))
+    return sol.x, sd, res, cov / np.outer(sd, sd)
 
 
 def tram_vector(rep, ndist, mm_per_unit):
@@ -80,10 +82,11 @@ def run_tram(tram, d, model, distortion):
     return json.loads(out.stdout)
 
 
-def compare(label, rep, x, sig, res, ndist, mm_per_unit):
+def compare(label, rep, x, sig, res, corr, ndist, mm_per_unit):
     """tram's cost must not exceed SciPy's by more than 1e-9 of it, every
     parameter must agree within 0.002 of its 1-sigma and every 1-sigma
-    within 1%.  (Poorly determined coefficients such as k3 lie in a flat
+    within 1%, and the camera parameters' correlations (the camera file's
+    calibration.correlation) within 0.005.  (Poorly determined coefficients such as k3 lie in a flat
     valley where the two stopping rules leave them apart by a small
     fraction of their sigma.)"""
     vt = tram_vector(rep, ndist, mm_per_unit)
@@ -101,6 +104,17 @@ def compare(label, rep, x, sig, res, ndist, mm_per_unit):
         fails += bad
         print(f"    {n:5s} tram {vt[k]:+.9f} SciPy {x[k]:+.9f} diff {d / sig[k]:+.1e} sigma (tol 2e-3); "
               f"1-sigma tram {gs[n]:.6g} SciPy {sig[k]:.6g} ({100 * ds:+.3f}%, tol 1%){'  FAIL' if bad else ''}")
+    gc = rep["camera"]["calibration"]["correlation"]
+    worst = (0.0, "")
+    for a in range(5 + ndist):
+        for b in range(a + 1, 5 + ndist):
+            d = abs(gc[NAMES[a]][NAMES[b]] - corr[a, b])
+            if d >= worst[0]:
+                worst = (d, f"{NAMES[a]}-{NAMES[b]} tram {gc[NAMES[a]][NAMES[b]]:+.5f} SciPy {corr[a, b]:+.5f}")
+    bad = worst[0] > 0.005
+    fails += bad
+    print(f"    correlations of the camera's parameters: largest difference {worst[0]:.2e} ({worst[1]}; "
+          f"tol 5e-3){'  FAIL' if bad else ''}")
     return fails
 
 
@@ -131,8 +145,8 @@ def synthetic(tram, rng):
     rep = run_tram(tram, d, "model.csv", "full")
     # SciPy starts from the truth perturbed (not from tram's answer)
     start = cam * (1 + 0.01 * rng.standard_normal(10))
-    x, sig, res = scipy_fit(start, poses, 5, views, g)
-    return compare("synthetic, full distortion, free skew", rep, x, sig, res, 5, 1000.0)
+    x, sig, res, corr = scipy_fit(start, poses, 5, views, g)
+    return compare("synthetic, full distortion, free skew", rep, x, sig, res, corr, 5, 1000.0)
 
 
 def zhang(tram, root):
@@ -166,8 +180,8 @@ def zhang(tram, root):
         m = pub[7 + 12 * k: 7 + 12 * (k + 1)]
         R = Rotation.from_matrix(m[:9].reshape(3, 3))  # SciPy takes the nearest rotation
         poses.append(np.concatenate([R.as_rotvec(), m[9:]]))
-    x, sig, res = scipy_fit(start, poses, 2, views, model)
-    return compare("Zhang (2000) example, radial2, free skew", rep, x, sig, res, 2, 25.4)
+    x, sig, res, corr = scipy_fit(start, poses, 2, views, model)
+    return compare("Zhang (2000) example, radial2, free skew", rep, x, sig, res, corr, 2, 25.4)
 
 
 def main():

@@ -7,7 +7,8 @@ python3-numpy), independently of src/camera/camera.c:
   radial k1, k2, k3 and decentring p1, p2), written here from the formula,
   agree with the renderer's to 1e-9 px;
 - the clean image (no blur, noise or lighting): rendered here by full
-  supersampling on the same sub-sample grid (u - 0.5 + (i + 0.5)/n), each
+  supersampling on the same sub-sample lattice (N = n^2 samples
+  (u - 0.5 + (k + 0.5)/N, v - 0.5 + frac((k g + 0.5)/N))), each
   sample undistorted by fixed-point iteration (not the Gauss-Newton of
   camera.c), intersected with the board plane and coloured by the board
   convention (square (-1, -1) black, border white, back side plate, outside
@@ -55,15 +56,25 @@ def undistort(cam, u, v):
     return x, y, ok
 
 
+def lattice(n):
+    """The rank-1 lattice of N = n^2 samples per pixel: generator g, the
+    integer coprime to N nearest N / golden ratio (Niederreiter 1992)."""
+    N = n * n
+    want = N / ((1 + 5 ** 0.5) / 2)
+    cands = [c for c in range(1, N + 1) if np.gcd(c, N) == 1]
+    return N, min(cands, key=lambda c: (abs(c - want), c))
+
+
 def render(sc):
     cam, T = sc["camera"], sc["pose"]
     W, H, n = cam["width"], cam["height"], sc["n"]
     cols, rows, s, B = sc["cols"], sc["rows"], sc["square"], sc["border"]
     black, white, background, plate = sc["levels"]
-    off = (np.arange(n) + 0.5) / n - 0.5
-    uu = (np.arange(W)[:, None] + off[None, :]).reshape(-1)      # W*n sample columns
-    vv = (np.arange(H)[:, None] + off[None, :]).reshape(-1)      # H*n sample rows
-    U, V = np.meshgrid(uu, vv)
+    N, g = lattice(n)
+    k = np.arange(N)
+    du, dv = (k + 0.5) / N - 0.5, np.mod(k * g + 0.5, N) / N - 0.5
+    U = np.arange(W)[None, :, None] + du[None, None, :] + np.zeros((H, 1, 1))   # H x W x N
+    V = np.arange(H)[:, None, None] + dv[None, None, :] + np.zeros((1, W, 1))
     x, y, ok = undistort(cam, U, V)
     R, t = T[:3, :3], T[:3, 3]
     o = -R.T @ t
@@ -83,7 +94,7 @@ def render(sc):
     else:
         col = np.full(U.shape, plate)
     img = np.where(on, col, background)
-    return img.reshape(H, n, W, n).mean(axis=(1, 3))
+    return img.mean(axis=2)
 
 
 def parse(text):
@@ -137,7 +148,7 @@ def main():
         weight = (sc["levels"][1] - sc["levels"][0]) / sc["n"] ** 2   # one sample's worth
         nbad = int((diff > 1e-3).sum())
         expect(f"{sc['name']} image", nbad <= max(2, diff.size // 2000) and diff.max() <= 2.01 * weight,
-               f"{W}x{H}, {sc['n']}x{sc['n']} samples: max |pixel - ref| {diff.max():.2e}, "
+               f"{W}x{H}, {sc['n'] ** 2} lattice samples: max |pixel - ref| {diff.max():.2e}, "
                f"{nbad} pixels differ by > 1e-3 (one sample = {weight:.2f}); board on "
                f"{100 * float((ref != sc['levels'][2]).mean()):.0f}% of the image")
     print(f"check_render_numpy: {checks - fails} passed, {fails} failed")

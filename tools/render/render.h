@@ -14,7 +14,8 @@
  *   2. Adaptive supersampling.  The labels (which square / border cell /
  *      outside region) at the four corners of a pixel are compared; a
  *      pixel whose corners all hit one convex cell is that cell's colour,
- *      any other pixel is the mean of n x n samples on a regular grid.
+ *      any other pixel is the mean of n^2 samples of a rank-1 lattice (one
+ *      in every row and column of an n^2 x n^2 grid: low discrepancy).
  *   3. The background layer: a constant grey, with optional clutter
  *      (rectangles, lines, blobs, small checker patches) drawn behind the
  *      board; optional occluder (a blob in front of the board).
@@ -56,7 +57,7 @@ typedef struct render_scene {
     double black, white;       /* grey levels of the squares (30, 220)          */
     double background;         /* grey level behind the board (110)            */
     double plate;              /* grey of the board's back side (140)          */
-    int supersample;           /* n x n samples at mixed pixels, 1 .. 64 (8)     */
+    int supersample;           /* n: n^2 samples at mixed pixels, 1 .. 64 (8)    */
     double blur_sigma_px;      /* Gaussian blur (0: none)                        */
     double gain_min, gain_max; /* lighting gain ramp across the image (1, 1)    */
     double gain_angle_deg;     /* ramp direction: 0 gain grows with u, 90 with v */
