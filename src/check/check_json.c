@@ -6,6 +6,7 @@
  */
 #include "tram/check.h"
 #include "io/json_internal.h"
+#include "io/json_pos_internal.h"
 #include "io/text_internal.h"
 
 #include <cjson/cJSON.h>
@@ -150,6 +151,22 @@ static int history_grow(tram_check_history *h, size_t cap)
     return t && v && tn && ra && l ? 0 : -1;
 }
 
+/* A history line [p, p + len) at `line` that does not hold `what`: the
+ * column of the member at path (its parent when absent; the line's start
+ * when even the scan fails). */
+static tram_status history_fail(const tram_check_history *h, const char *p, size_t len, long line,
+                                const char *path, const char *what, tram_error *err)
+{
+    tram__json_pos *pos = NULL;
+    tram_error ignored;
+    long l = 1, col = 1;
+    if (tram__json_pos_scan(h->source, p, len, &pos, &ignored) == TRAM_OK)
+        tram__json_pos_where(pos, path, 0, &l, &col);
+    tram__json_pos_free(pos);
+    return tram__fail(err, TRAM_EINPUT, h->source, line, col, "check-history line: expected %s",
+                      what);
+}
+
 /* One history line (not NUL-terminated) into entry h->n. */
 static tram_status history_line(tram_check_history *h, const char *p, size_t len, long line,
                                 tram_error *err)
@@ -163,7 +180,7 @@ static tram_status history_line(tram_check_history *h, const char *p, size_t len
         if (err) err->line = line; /* the slice holds one line: its column stands */
         return st;
     }
-    const char *what = NULL;
+    const char *what = NULL, *path = "";
     const cJSON *ts = cJSON_GetObjectItemCaseSensitive(j, "timestamp_utc");
     const cJSON *v = cJSON_GetObjectItemCaseSensitive(j, "verdict");
     const cJSON *u = cJSON_GetObjectItemCaseSensitive(j, "length_unit");
@@ -177,19 +194,19 @@ static tram_status history_line(tram_check_history *h, const char *p, size_t len
     if (!cJSON_IsObject(j))
         what = "a JSON object";
     else if (when < 0)
-        what = "\"timestamp_utc\" as \"YYYY-MM-DDTHH:MM:SSZ\"";
+        what = "\"timestamp_utc\" as \"YYYY-MM-DDTHH:MM:SSZ\"", path = "timestamp_utc";
     else if (verdict < 0)
-        what = "\"verdict\": ok, sensor-moved, target-moved, inconsistent or inconclusive";
+        what = "\"verdict\": ok, sensor-moved, target-moved, inconsistent or inconclusive",
+        path = "verdict";
     else if (lu == TRAM_LENGTH_UNSET)
-        what = "\"length_unit\": mm, cm, m or in";
+        what = "\"length_unit\": mm, cm, m or in", path = "length_unit";
     else if (!cJSON_IsNumber(tn) || !isfinite(tn->valuedouble) || tn->valuedouble < 0)
-        what = "\"change.translation_norm\": a number >= 0";
+        what = "\"change.translation_norm\": a number >= 0", path = "change.translation_norm";
     else if (!cJSON_IsNumber(ra) || !isfinite(ra->valuedouble) || ra->valuedouble < 0)
-        what = "\"change.rotation_angle_deg\": a number >= 0";
+        what = "\"change.rotation_angle_deg\": a number >= 0", path = "change.rotation_angle_deg";
     if (what) {
         cJSON_Delete(j);
-        return tram__fail(err, TRAM_EINPUT, h->source, line, 0, "check-history line: expected %s",
-                          what);
+        return history_fail(h, p, len, line, path, what, err);
     }
     if (h->n == 0) h->length_unit = lu;
     size_t i = h->n++;
@@ -235,7 +252,8 @@ tram_status tram_check_history_read_buffer(const char *name, const char *data, s
     }
     if (h->n == 0) {
         tram_check_history_destroy(h);
-        return tram__fail(err, TRAM_EINPUT, name, 0, 0,
+        /* at the end of the file: line 1 of an empty one */
+        return tram__fail(err, TRAM_EINPUT, name, line > 0 ? line : 1, 0,
                           "the history file holds no check (write one with tram check --history)");
     }
     *out = h;

@@ -84,6 +84,12 @@ int cli_usage_error(const char *cmd, const char *fmt, ...)
     __attribute__((format(printf, 2, 3)))
 #endif
     ;
+/* Before any work: an output path (-o, --history; may be NULL) that is
+ * one of the n input files (NULL entries skipped), or a --plot directory
+ * (may be NULL) that exists but is not a writable directory, is refused with a
+ * usage error (CLI_EXIT_USAGE); else CLI_EXIT_OK. */
+int cli_check_outputs(const char *cmd, const char *const *inputs, size_t n, const char *out,
+                      const char *option, const char *plot_dir);
 /* Map a library status to an exit code. */
 int cli_exit_for(tram_status s);
 

@@ -3,6 +3,8 @@
  * subcommands.
  */
 #include "cli.h"
+#include <sys/stat.h>
+#include <unistd.h>
 
 #include <stdarg.h>
 #include <string.h>
@@ -95,6 +97,35 @@ int cli_apply_chain(const char *chain_path, tram_records *r)
     if (st != TRAM_OK) {
         cli_report(&err);
         return CLI_EXIT_USAGE;
+    }
+    return CLI_EXIT_OK;
+}
+
+/* 1 when a and b name the same existing file. */
+static int same_file(const char *a, const char *b)
+{
+    struct stat sa, sb;
+    if (strcmp(a, "-") == 0 || strcmp(b, "-") == 0) return 0;
+    return stat(a, &sa) == 0 && stat(b, &sb) == 0 && sa.st_dev == sb.st_dev &&
+           sa.st_ino == sb.st_ino;
+}
+
+int cli_check_outputs(const char *cmd, const char *const *inputs, size_t n, const char *out,
+                      const char *option, const char *plot_dir)
+{
+    for (size_t i = 0; out && i < n; i++)
+        if (inputs[i] && same_file(out, inputs[i]))
+            return cli_usage_error(cmd, "%s '%s' is the input file '%s': refusing to write "
+                                        "over an input",
+                                   option, out, inputs[i]);
+    if (plot_dir) {
+        /* a missing directory is made by the plotting (cli_plot_solution) */
+        struct stat sd;
+        if (stat(plot_dir, &sd) != 0) return CLI_EXIT_OK;
+        if (!S_ISDIR(sd.st_mode))
+            return cli_usage_error(cmd, "--plot '%s': exists and is not a directory", plot_dir);
+        if (access(plot_dir, W_OK | X_OK) != 0)
+            return cli_usage_error(cmd, "--plot '%s': the directory is not writable", plot_dir);
     }
     return CLI_EXIT_OK;
 }

@@ -331,6 +331,9 @@ int cli_check(int argc, char **argv)
     check_args a;
     int rc = parse_args(argc, argv, &a);
     if (rc != CLI_EXIT_OK) return rc;
+    const char *inputs[] = {a.file, a.calib, a.chain, a.tool};
+    if (cli_check_outputs("check", inputs, 4, a.history, "--history", NULL) != CLI_EXIT_OK)
+        return CLI_EXIT_USAGE;
     tram_error err;
     tram_error_clear(&err);
     tram_calibration *cal = NULL;

@@ -698,6 +698,11 @@ int cli_solve(int argc, char **argv)
     solve_args a;
     int rc = parse_args(argc, argv, &a);
     if (rc != CLI_EXIT_OK) return rc;
+    /* every output checked before the solve, so that nothing is written
+     * when one of them would fail */
+    const char *inputs[] = {a.file, a.chain, a.points, a.model};
+    rc = cli_check_outputs("solve", inputs, 4, a.out_path, "-o", a.plot_dir);
+    if (rc != CLI_EXIT_OK) return rc;
     tram_records *r = NULL;
     tram_error err;
     tram_error_clear(&err);

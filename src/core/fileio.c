@@ -92,18 +92,26 @@ tram_status tram_file_write_atomic(const char *path, const char *data, size_t le
 tram_status tram_file_append_line(const char *path, const char *line, tram_error *err)
 {
     size_t n = strlen(line);
-    char *buf = tram__malloc(n + 1);
+    /* room for a newline before the record, when the last line lacks one */
+    char *buf = tram__malloc(n + 2);
     if (!buf) return tram__fail(err, TRAM_ENOMEM, path, 0, 0, "out of memory");
-    memcpy(buf, line, n);
-    buf[n] = '\n';
-    int fd = open(path, O_WRONLY | O_APPEND | O_CREAT, 0644);
+    int fd = open(path, O_RDWR | O_APPEND | O_CREAT, 0644);
     if (fd < 0) {
         tram__free(buf);
         return tram__fail(err, TRAM_EIO, path, 0, 0, "cannot open for appending: %s",
                           strerror(errno));
     }
-    int bad = write_all(fd, buf, n + 1) != 0 || fsync(fd) != 0;
+    off_t old = lseek(fd, 0, SEEK_END);
+    char last = '\n';
+    if (old > 0 && pread(fd, &last, 1, old - 1) != 1) last = '\n';
+    size_t k = 0;
+    if (last != '\n') buf[k++] = '\n'; /* never glue the record onto the last line */
+    memcpy(buf + k, line, n);
+    buf[k + n] = '\n';
+    /* the record in one write; on failure the file goes back to its length */
+    int bad = old < 0 || write_all(fd, buf, k + n + 1) != 0 || fsync(fd) != 0;
     int saved = errno;
+    if (bad && old >= 0 && ftruncate(fd, old) != 0) saved = errno;
     close(fd);
     tram__free(buf);
     if (bad) return tram__fail(err, TRAM_EIO, path, 0, 0, "cannot append: %s", strerror(saved));

@@ -1,9 +1,10 @@
 /*
- * json_build.c - the JSON helpers of json_internal.h: a strict parse of a
- * whole document, and the builder (cJSON under a sticky failure flag, so
+ * json.c - the JSON helpers of json_internal.h: a strict parse of a
+ * whole document (json_check.c's check, then cJSON), and the builder (cJSON under a sticky failure flag, so
  * that a document with a dropped field is never written).
  */
 #include "io/json_internal.h"
+#include "io/json_check_internal.h"
 
 #include <math.h>
 #include <stdio.h>
@@ -12,22 +13,17 @@
 tram_status tram__json_parse(const char *name, const char *data, size_t len, const char *what,
                              cJSON **out, tram_error *err)
 {
-    const char *end = NULL;
-    *out = cJSON_ParseWithLengthOpts(data, len, &end, 0);
-    size_t off = end && end >= data ? (size_t)(end - data) : 0;
-    if (off > len) off = len;
-    if (*out) /* only blanks may follow the document */
-        while (off < len && (data[off] == ' ' || data[off] == '\t' || data[off] == '\r' ||
-                             data[off] == '\n'))
-            off++;
-    if (*out && off == len) return TRAM_OK;
-    long line, col;
-    tram__offset_pos(data, off, &line, &col);
-    tram_status st = tram__fail(err, TRAM_EINPUT, name, line, col, "%s: %s", what,
-                                *out ? "text after the JSON document" : "malformed JSON");
-    cJSON_Delete(*out);
     *out = NULL;
-    return st;
+    /* every refusal, with its position, comes from the strict check */
+    tram_status st = tram__json_check(name, data, len, what, err);
+    if (st != TRAM_OK) return st;
+    *out = cJSON_ParseWithLength(data, len);
+    /* the text is valid JSON within cJSON's nesting limit: a failure is
+     * an allocation inside cJSON */
+    if (!*out)
+        return tram__fail(err, TRAM_ENOMEM, name, 0, 0, "%s: out of memory while parsing the JSON",
+                          what);
+    return TRAM_OK;
 }
 
 /* Add item to parent (under key, or appended when key is NULL); on any

@@ -41,10 +41,13 @@ void tram__jb_matrix4(tram__jb *b, cJSON *parent, const char *key, const tram_se
 tram_status tram__jb_finish(tram__jb *b, cJSON *root, int formatted, int newline, char **text,
                             tram_error *err);
 
-/* Parse one whole JSON document of len bytes (no NUL needed).  On a
- * syntax error, or text after the document, fail with TRAM_EINPUT naming
- * name:line:column and "<what>: malformed JSON" / "text after the JSON
- * document"; *out is NULL then.  The caller deletes *out. */
+/* Parse one whole JSON document of len bytes (no NUL needed), after the
+ * strict check of json_check.c: a syntax error ("<what>: malformed JSON:
+ * ..."), text after the document, nesting beyond cJSON's limit, a key
+ * given twice in one object, or a number beyond double range (1e400)
+ * fail with TRAM_EINPUT naming name:line:column; an allocation failure
+ * inside cJSON with TRAM_ENOMEM.  *out is NULL then.  The caller deletes
+ * *out. */
 tram_status tram__json_parse(const char *name, const char *data, size_t len, const char *what,
                              cJSON **out, tram_error *err);
 

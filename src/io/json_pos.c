@@ -1,7 +1,8 @@
 /*
  * json_pos.c - positions of the members of a JSON document (RFC 8259
- * grammar) and refusal of duplicate keys, by a scan of text that cJSON has
- * already accepted (see json_pos_internal.h).  The scan only has to find
+ * grammar), by a scan of text that tram__json_parse has already accepted
+ * (json_check.c refused duplicate keys, out-of-range numbers and syntax
+ * errors with their positions; see json_pos_internal.h).  The scan only has to find
  * where values start and end, so it skips over strings (with their
  * escapes), numbers and literals without converting them.
  */
@@ -66,7 +67,6 @@ static tram_status value(scan *c, const char *path, int depth);
 
 static tram_status object(scan *c, const char *path, int depth)
 {
-    size_t first = c->p->n; /* the members of this object are recorded after it */
     c->i++;
     blanks(c);
     if (c->i < c->len && c->s[c->i] == '}') {
@@ -79,19 +79,6 @@ static tram_status object(scan *c, const char *path, int depth)
         char child[160];
         int klen = (int)(ke - kb);
         snprintf(child, sizeof child, "%s%s%.*s", path, *path ? "." : "", klen, c->s + kb);
-        /* a duplicate is a direct member of this object with the same raw key */
-        for (size_t k = first; k < c->p->n; k++) {
-            const tram__json_item *it = &c->p->item[k];
-            if (it->path[0] && strcmp(it->path, child) == 0) {
-                long l1, c1, l2, c2;
-                tram__offset_pos(c->s, it->key_off, &l1, &c1);
-                tram__offset_pos(c->s, key_off, &l2, &c2);
-                return tram__fail(c->err, TRAM_EINPUT, c->name, l2, c2,
-                                  "key \"%.*s\" given twice in one object (first at line %ld, "
-                                  "column %ld)",
-                                  klen > 60 ? 60 : klen, c->s + kb, l1, c1);
-            }
-        }
         blanks(c);
         c->i++; /* ':' */
         blanks(c);

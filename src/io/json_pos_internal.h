@@ -1,9 +1,10 @@
 /*
  * json_pos_internal.h - where the members of a JSON document are in its
- * text, and refusal of duplicate keys.  cJSON keeps neither the position
- * of an item nor the second of two equal keys (it returns the first), so
- * strict readers scan the text once more, after cJSON has accepted it, to
- * name file:line:column in their messages.
+ * text.  cJSON keeps no position of an item, so readers that check
+ * meanings scan the text once more, after tram__json_parse has accepted it
+ * (and refused, with their positions, syntax errors, duplicate keys and
+ * numbers beyond double range: json_check.c), to name file:line:column in
+ * their messages.  The one way to fail at a member: tram__json_pos_fail.
  *
  * Paths: members as "a.b.c", array elements as "a[3]", the root as "".
  */
@@ -24,9 +25,8 @@ typedef struct tram__json_pos {
     tram__json_item *item;
 } tram__json_pos;
 
-/* Scan data (a document cJSON has parsed).  TRAM_EINPUT naming
- * name:line:column of the second key when an object holds a key twice;
- * TRAM_ENOMEM.  Free with tram__json_pos_free. */
+/* Scan data (a document tram__json_parse has accepted).  TRAM_EINPUT for
+ * nesting deeper than 64; TRAM_ENOMEM.  Free with tram__json_pos_free. */
 tram_status tram__json_pos_scan(const char *name, const char *data, size_t len,
                                 tram__json_pos **out, tram_error *err);
 void tram__json_pos_free(tram__json_pos *p);

@@ -1,0 +1,61 @@
+# tests/cli/holes.sh - the input holes of issue 16 stay closed (sourced by
+# run.sh): duplicate JSON keys and numbers beyond double range in every
+# JSON reader, outputs checked before any work, history appends, and the
+# messages' file:line:column.  Each case names what it keeps fixed.
+demo="$here/../../datasets/demo"
+h="$tmp/holes"
+mkdir -p "$h"
+"$TRAM" solve --force -o "$h/cal.json" "$demo/wrist_camera.csv" >/dev/null 2>&1 || bad "holes: solve for a calibration"
+rec='{"format":"tram-records","version":1,"length_unit":"mm","stations":[{"station":"a","robot":{"x":1,"y":2,"z":3,"qw":1,"qx":0,"qy":0,"qz":0}}]}'
+
+# duplicate keys: records, calibration, chain, history
+printf '%s' "$rec" | sed 's/"length_unit":"mm"/"length_unit":"m","length_unit":"mm"/' >"$h/dup.json"
+expect_error "duplicate key in a JSON record file" 2 'dup\.json:1:56: .*key "length_unit" given twice' convert --to quat "$h/dup.json"
+printf '%s' "$rec" | sed 's/"length_unit":"mm"/"length_unit":"mm","\\u006cength_unit":"m"/' >"$h/dup_escaped.json"
+expect_error "duplicate key spelt with an escape" 2 'dup_escaped\.json:1:[0-9]+: .*given twice' convert --to quat "$h/dup_escaped.json"
+sed '0,/"length_unit"/s/"length_unit"\(:[[:space:]]*"[a-z]*"\),/"length_unit"\1, "length_unit"\1,/' "$h/cal.json" >"$h/cal_dup.json"
+expect_error "duplicate key in a calibration file" 2 'cal_dup\.json:[0-9]+:[0-9]+: .*key "length_unit" given twice' check --calibration "$h/cal_dup.json" "$demo/wrist_recheck.csv"
+sed '0,/"length_unit"/s/"length_unit"\(: *"[a-z]*"\),/"length_unit"\1, "length_unit"\1,/' "$demo/arm_dh.json" >"$h/chain_dup.json"
+expect_error "duplicate key in a chain file" 2 'chain_dup\.json:[0-9]+:[0-9]+: .*key "length_unit" given twice' fk --chain "$h/chain_dup.json" "$demo/wrist_camera_joints.csv"
+"$TRAM" check --calibration "$h/cal.json" --history "$h/hist.jsonl" "$demo/wrist_recheck.csv" >/dev/null 2>&1
+sed 's/"verdict":"\([a-z-]*\)"/"verdict":"\1","verdict":"\1"/' "$h/hist.jsonl" >"$h/hist_dup.jsonl"
+expect_error "duplicate key in a history file" 2 'hist_dup\.jsonl:1:[0-9]+: .*key "verdict" given twice' plot history "$h/hist_dup.jsonl" -o "$h/hist.png"
+
+# numbers beyond double range: records and chain (cJSON reads them as inf)
+printf '%s' "$rec" | sed 's/"x":1,/"x":1e400,/' >"$h/big.json"
+expect_error "1e400 in a JSON record file" 2 'big\.json:1:[0-9]+: .*"x": number 1e400 is beyond double range' convert --to quat "$h/big.json"
+sed 's/"a": 150,/"a": 1e400,/' "$demo/arm_dh.json" >"$h/chain_big.json"
+expect_error "1e400 in a chain file" 2 'chain_big\.json:[0-9]+:[0-9]+: .*1e400 is beyond double range' fk --chain "$h/chain_big.json" "$demo/wrist_camera_joints.csv"
+printf '%s' "$rec" | sed 's/"x":1,/"x":-1e999,/' >"$h/neg.json"
+expect_error "-1e999 in a solve input names the file" 2 'neg\.json:1:[0-9]+: .*beyond double range' solve --setup eye-in-hand "$h/neg.json"
+printf '%s' "$rec" | sed 's/"qz":0}}/"qz":0}/' >"$h/cut.json"
+expect_error "truncated JSON names line and column" 2 'cut\.json:1:[0-9]+: error: record file: malformed JSON' convert --to quat "$h/cut.json"
+
+# outputs checked before any work: --plot on a regular file, -o on the input, --history on the input
+: >"$h/afile"
+expect_error "solve --plot on a regular file" 2 "--plot .*afile.*not a directory" solve --plot "$h/afile" -o "$h/out.cal.json" "$demo/wrist_camera.csv"
+[ ! -e "$h/out.cal.json" ] && ok || bad "solve --plot on a regular file left -o written"
+cp "$demo/wrist_camera.csv" "$h/rec.csv"
+expect_error "solve --force -o on its input" 2 "-o .*is the input file" solve --force -o "$h/rec.csv" "$h/rec.csv"
+cmp -s "$demo/wrist_camera.csv" "$h/rec.csv" && ok || bad "solve -o on its input changed the input"
+cp "$demo/wrist_recheck.csv" "$h/chk.csv"
+expect_error "check --history on its input" 2 "--history .*is the input file" check --calibration "$h/cal.json" --history "$h/chk.csv" "$h/chk.csv"
+cmp -s "$demo/wrist_recheck.csv" "$h/chk.csv" && ok || bad "check --history on its input changed the input"
+
+# history: a last line without its newline is not glued onto
+head -n 1 "$h/hist.jsonl" | tr -d '\n' >"$h/hist_nonl.jsonl"
+"$TRAM" check --calibration "$h/cal.json" --history "$h/hist_nonl.jsonl" "$demo/wrist_recheck.csv" >/dev/null 2>&1
+[ "$(wc -l <"$h/hist_nonl.jsonl")" -eq 2 ] && "$TRAM" plot history "$h/hist_nonl.jsonl" -o "$h/hist2.png" >/dev/null 2>&1 && ok || bad "history append after a line without newline"
+printf '\n\n' >"$h/hist_empty.jsonl"
+expect_error "an empty history names its last line, not line 0" 2 'hist_empty\.jsonl:2: .*holds no check' plot history "$h/hist_empty.jsonl" -o "$h/hist3.png"
+
+# CSV: hexadecimal numbers and directives after the header
+printf '# length-unit: mm\nstation,robot_x,robot_y,robot_z,robot_qw,robot_qx,robot_qy,robot_qz\na,0x1p3,2,3,1,0,0,0\n' >"$h/hex.csv"
+expect_error "hexadecimal float in CSV" 2 'hex\.csv:3:3: .*hexadecimal' convert --to quat "$h/hex.csv"
+printf '# length-unit: mm\nstation,robot_x,robot_y,robot_z,robot_qw,robot_qx,robot_qy,robot_qz\na,1,2,3,1,0,0,0\n# robot-pose: base-in-flange\n' >"$h/late.csv"
+expect_error "directive after the data rows" 2 'late\.csv:4:3: .*after the header' convert --to quat "$h/late.csv"
+
+# messages that name what was given: an empty name, a directory
+expect_error "solve ''" 2 'empty file name' solve ''
+mkdir -p "$h/adir"
+expect_error "a directory as input" 2 'adir: error: is a directory' solve "$h/adir"
