@@ -71,6 +71,256 @@ static const char *string_member(const cJSON *o, const char *key)
     return cJSON_IsString(v) ? v->valuestring : NULL;
 }
 
+/* The "format" and "version" members of the top level. */
+static tram_status json_check_header(const cJSON *root, const char *name, tram_error *err)
+{
+    const char *fmt = string_member(root, "format");
+    if (!fmt || strcmp(fmt, "tram-records") != 0)
+        return tram__fail(err, TRAM_EINPUT, name, 1, 0, "\"format\": expected \"tram-records\"");
+    const cJSON *ver = cJSON_GetObjectItemCaseSensitive(root, "version");
+    if (!cJSON_IsNumber(ver) || ver->valuedouble != (double)ver->valueint || ver->valueint < 1)
+        return tram__fail(err, TRAM_EINPUT, name, 1, 0, "\"version\": expected the integer 1");
+    if (ver->valueint > 1)
+        return tram__fail(err, TRAM_EINPUT, name, 1, 0,
+                          "record format version %d is newer than this tram (%s) reads (1)",
+                          ver->valueint, TRAM_VERSION_STRING);
+    return TRAM_OK;
+}
+
+/* Top-level keys: the directives, with '_' for '-'. */
+/* Where the top-level key k is in the text (scanned only on an error path). */
+static void json_key_where(const char *name, const char *data, size_t len, const char *k,
+                           long *line, long *col)
+{
+    tram__json_pos *pos = NULL;
+    tram_error pe;
+    *line = *col = 0;
+    if (tram__json_pos_scan(name, data, len, &pos, &pe) == TRAM_OK)
+        tram__json_pos_where(pos, k, 1, line, col);
+    tram__json_pos_free(pos);
+}
+
+static tram_status json_read_directives(const cJSON *root, const char *data, size_t len,
+                                        rec_directives *d, const char *name, tram_error *err)
+{
+    static const char *const keys[][2] = {
+        {"length_unit", "length-unit"}, {"angle_unit", "angle-unit"},
+        {"robot_euler", "robot-euler"}, {"sensor_euler", "sensor-euler"},
+        {"robot_pose", "robot-pose"},   {"sensor_pose", "sensor-pose"},
+        {"robot_length_unit", "robot-length-unit"}, {"sensor_length_unit", "sensor-length-unit"},
+        {"robot_angle_unit", "robot-angle-unit"},   {"sensor_angle_unit", "sensor-angle-unit"},
+        {"tool_in_flange", "tool-in-flange"}, {"setup", "setup"}};
+    const cJSON *item;
+    cJSON_ArrayForEach(item, root)
+    {
+        const char *k = item->string;
+        if (strcmp(k, "format") == 0 || strcmp(k, "version") == 0 || strcmp(k, "stations") == 0 ||
+            strcmp(k, "comment") == 0)
+            continue;
+        int found = 0;
+        for (size_t i = 0; i < sizeof keys / sizeof keys[0]; i++)
+            if (strcmp(k, keys[i][0]) == 0) {
+                found = 1;
+                if (!cJSON_IsString(item))
+                    return tram__fail(err, TRAM_EINPUT, name, 0, 0, "\"%s\": expected a string", k);
+                tram_status st =
+                    tram__directive_apply(d, name, 0, 0, keys[i][1], item->valuestring, err);
+                if (st != TRAM_OK) return st;
+            }
+        const char *near = found ? NULL : tram__directive_nearest(k);
+        if (near) {
+            char want[40];
+            size_t j = 0;
+            for (; near[j] && j < sizeof want - 1; j++) want[j] = near[j] == '-' ? '_' : near[j];
+            want[j] = '\0';
+            long kl, kc;
+            json_key_where(name, data, len, k, &kl, &kc);
+            return tram__fail(err, TRAM_EINPUT, name, kl, kc,
+                              "unknown key \"%s\": did you mean \"%s\"? (JSON keys are the "
+                              "directives with '_' for '-', docs/records.md)",
+                              k, want);
+        }
+        if (!found)
+            return tram__fail(err, TRAM_EINPUT, name, 0, 0,
+                              "unknown key \"%s\" (known: format, version, length_unit, angle_unit, "
+                              "robot_euler, sensor_euler, robot_pose, sensor_pose, robot_length_unit, "
+                              "sensor_length_unit, robot_angle_unit, sensor_angle_unit, tool_in_flange, setup, "
+                              "comment, stations)",
+                              k);
+    }
+    return TRAM_OK;
+}
+
+static const char *const blocks[2] = {"robot", "sensor"};
+
+/* Schema from the first station's keys (line0 is where it starts); every
+ * station must match it.  names has room for every column; *nj gets the
+ * number of joint readings. */
+static tram_status json_schema_from_first(const cJSON *first, long line0, const char **names,
+                                          int *nj, rec_schema *schema, const char *name,
+                                          tram_error *err)
+{
+    char colnames[2 * TRAM_RAW_MAX + TRAM_JOINTS_MAX][24];
+    int ncol = 0;
+    for (int b = 0; b < 2; b++) {
+        const cJSON *blk = cJSON_IsObject(first) ? cJSON_GetObjectItemCaseSensitive(first, blocks[b]) : NULL;
+        if (!blk) continue;
+        if (!cJSON_IsObject(blk))
+            return tram__fail(err, TRAM_EINPUT, name, line0, 0,
+                              "stations[0].%s: expected an object of pose numbers", blocks[b]);
+        const cJSON *v;
+        cJSON_ArrayForEach(v, blk)
+        {
+            if (ncol >= 2 * TRAM_RAW_MAX)
+                return tram__fail(err, TRAM_EINPUT, name, line0, 0,
+                                  "stations[0].%s: too many keys", blocks[b]);
+            snprintf(colnames[ncol], sizeof colnames[ncol], "%s_%.8s", blocks[b], v->string);
+            names[ncol] = colnames[ncol];
+            ncol++;
+        }
+    }
+    const cJSON *j0 = cJSON_IsObject(first) ? cJSON_GetObjectItemCaseSensitive(first, "joints") : NULL;
+    *nj = 0;
+    if (j0) {
+        *nj = cJSON_IsArray(j0) ? cJSON_GetArraySize(j0) : -1;
+        if (*nj < 1 || *nj > TRAM_JOINTS_MAX)
+            return tram__fail(err, TRAM_EINPUT, name, line0, 0,
+                              "stations[0].joints: expected an array of 1 to %d joint readings",
+                              TRAM_JOINTS_MAX);
+        for (int j = 0; j < *nj; j++) {
+            snprintf(colnames[ncol], sizeof colnames[ncol], "joint_%d", j + 1);
+            names[ncol] = colnames[ncol];
+            ncol++;
+        }
+    }
+    if (ncol == 0)
+        return tram__fail(err, TRAM_EINPUT, name, line0, 0,
+                          "stations[0]: expected \"robot\" (or \"joints\") and/or \"sensor\"");
+    long hl[2 * TRAM_RAW_MAX + TRAM_JOINTS_MAX];
+    for (int i = 0; i < ncol; i++) hl[i] = line0;
+    return tram__schema_build(name, names, hl, NULL, ncol, schema, err);
+}
+
+/* The id of station k ("station", a string or an integer, or its number),
+ * stored in r; then the check that the station has only known keys. */
+static tram_status json_station_id(tram_records *r, const cJSON *so, size_t k, long line,
+                                   size_t *id_used, const char *name, tram_error *err)
+{
+    tram_station *s = &r->stations[k];
+    const cJSON *idv = cJSON_GetObjectItemCaseSensitive(so, "station");
+    char num[24];
+    const char *id = num;
+    size_t idlen;
+    if (!idv) {
+        idlen = (size_t)snprintf(num, sizeof num, "%zu", k + 1);
+    } else if (cJSON_IsString(idv) && idv->valuestring[0] &&
+               (idlen = strlen(idv->valuestring)) < TRAM_STATION_ID_MAX) {
+        id = idv->valuestring;
+    } else if (cJSON_IsNumber(idv) && idv->valuedouble == (double)idv->valueint) {
+        idlen = (size_t)snprintf(num, sizeof num, "%d", idv->valueint);
+    } else {
+        return tram__fail(err, TRAM_EINPUT, name, line, 0,
+                          "stations[%zu].station: expected a non-empty string (at most %d "
+                          "characters) or an integer",
+                          k, TRAM_STATION_ID_MAX - 1);
+    }
+    s->id = tram__records_put_id(r, id_used, id, idlen);
+    const cJSON *m;
+    cJSON_ArrayForEach(m, so)
+    {
+        if (strcmp(m->string, "station") && strcmp(m->string, "robot") &&
+            strcmp(m->string, "sensor") && strcmp(m->string, "joints"))
+            return tram__fail(err, TRAM_EINPUT, name, line, 0,
+                              "stations[%zu]: unknown key \"%s\" (expected station, robot, "
+                              "joints, sensor)",
+                              k, m->string);
+    }
+    return TRAM_OK;
+}
+
+/* The nj joint readings of station k, as many as in stations[0]. */
+static tram_status json_station_joints(tram_records *r, const cJSON *so, size_t k, long line,
+                                       int nj, const char *name, tram_error *err)
+{
+    const cJSON *jv = cJSON_GetObjectItemCaseSensitive(so, "joints");
+    if (nj > 0 || jv) {
+        if (!cJSON_IsArray(jv) || cJSON_GetArraySize(jv) != nj)
+            return tram__fail(err, TRAM_EINPUT, name, line, 0,
+                              "stations[%zu].joints: expected %d joint readings as in "
+                              "stations[0]",
+                              k, nj);
+        for (int j = 0; j < nj; j++) {
+            const cJSON *x = cJSON_GetArrayItem(jv, j);
+            if (!cJSON_IsNumber(x))
+                return tram__fail(err, TRAM_EINPUT, name, line, 0,
+                                  "stations[%zu].joints[%d]: expected a finite number", k, j);
+            r->joints[k * r->n_joints + (size_t)j] = x->valuedouble;
+        }
+    }
+    return TRAM_OK;
+}
+
+/* The robot and sensor pose blocks of station k, with the keys of stations[0]. */
+static tram_status json_station_blocks(tram_records *r, const cJSON *so, size_t k, long line,
+                                       const rec_schema *schema, const char *name,
+                                       tram_error *err)
+{
+    for (int b = 0; b < 2; b++) {
+        const cJSON *blk = cJSON_GetObjectItemCaseSensitive(so, blocks[b]);
+        if (!schema->has_block[b]) {
+            if (blk)
+                return tram__fail(err, TRAM_EINPUT, name, line, 0,
+                                  "stations[%zu].%s: not in the first station; every station "
+                                  "must have the same blocks",
+                                  k, blocks[b]);
+            continue;
+        }
+        if (!cJSON_IsObject(blk))
+            return tram__fail(err, TRAM_EINPUT, name, line, 0,
+                              "stations[%zu].%s: missing; expected an object of pose numbers", k,
+                              blocks[b]);
+        int count = 0;
+        const cJSON *v;
+        cJSON_ArrayForEach(v, blk) count++;
+        if (count != schema->nslots[b])
+            return tram__fail(err, TRAM_EINPUT, name, line, 0,
+                              "stations[%zu].%s: %d keys, expected %d as in stations[0]", k,
+                              blocks[b], count, schema->nslots[b]);
+        for (int slot = 0; slot < schema->nslots[b]; slot++) {
+            const char *key = tram__rep_slot_name(schema->rep[b], slot);
+            v = cJSON_GetObjectItemCaseSensitive(blk, key);
+            if (!v)
+                return tram__fail(err, TRAM_EINPUT, name, line, 0,
+                                  "stations[%zu].%s.%s: missing (every station must use the "
+                                  "rotation set of stations[0])",
+                                  k, blocks[b], key);
+            if (!cJSON_IsNumber(v))
+                return tram__fail(err, TRAM_EINPUT, name, line, 0,
+                                  "stations[%zu].%s.%s: expected a finite number", k, blocks[b],
+                                  key);
+            tram__records_raw(r, k, b)[slot] = v->valuedouble;
+        }
+    }
+    return TRAM_OK;
+}
+
+/* One station object, the k-th of the array, starting on the given line. */
+static tram_status json_read_station(tram_records *r, const cJSON *so, size_t k, long line,
+                                     int nj, const rec_schema *schema, size_t *id_used,
+                                     const char *name, tram_error *err)
+{
+    tram_station *s = &r->stations[k];
+    s->line = line;
+    if (!cJSON_IsObject(so))
+        return tram__fail(err, TRAM_EINPUT, name, line, 0, "stations[%zu]: expected an object", k);
+    memset(&s->T_base_flange, 0, sizeof s->T_base_flange);
+    memset(&s->T_sensor_target, 0, sizeof s->T_sensor_target);
+    tram_status st = json_station_id(r, so, k, line, id_used, name, err);
+    if (st == TRAM_OK) st = json_station_joints(r, so, k, line, nj, name, err);
+    if (st == TRAM_OK) st = json_station_blocks(r, so, k, line, schema, name, err);
+    return st;
+}
+
 tram_status tram__records_read_json(const char *name, const char *data, size_t len,
                                     const tram_read_options *opt, tram_records **out,
                                     tram_error *err)
@@ -99,79 +349,9 @@ tram_status tram__records_read_json(const char *name, const char *data, size_t l
     snprintf(r->source, sizeof r->source, "%s", name);
     r->checksum = tram__fnv1a64(data, len);
 
-    const char *fmt = string_member(root, "format");
-    if (!fmt || strcmp(fmt, "tram-records") != 0) {
-        st = tram__fail(err, TRAM_EINPUT, name, 1, 0,
-                        "\"format\": expected \"tram-records\"");
-        goto done;
-    }
-    const cJSON *ver = cJSON_GetObjectItemCaseSensitive(root, "version");
-    if (!cJSON_IsNumber(ver) || ver->valuedouble != (double)ver->valueint ||
-        ver->valueint < 1) {
-        st = tram__fail(err, TRAM_EINPUT, name, 1, 0, "\"version\": expected the integer 1");
-        goto done;
-    }
-    if (ver->valueint > 1) {
-        st = tram__fail(err, TRAM_EINPUT, name, 1, 0,
-                        "record format version %d is newer than this tram (%s) reads (1)",
-                        ver->valueint, TRAM_VERSION_STRING);
-        goto done;
-    }
-    /* Top-level keys: the directives, with '_' for '-'. */
-    static const char *const keys[][2] = {
-        {"length_unit", "length-unit"}, {"angle_unit", "angle-unit"},
-        {"robot_euler", "robot-euler"}, {"sensor_euler", "sensor-euler"},
-        {"robot_pose", "robot-pose"},   {"sensor_pose", "sensor-pose"},
-        {"robot_length_unit", "robot-length-unit"}, {"sensor_length_unit", "sensor-length-unit"},
-        {"robot_angle_unit", "robot-angle-unit"},   {"sensor_angle_unit", "sensor-angle-unit"},
-        {"tool_in_flange", "tool-in-flange"}, {"setup", "setup"}};
-    const cJSON *item;
-    cJSON_ArrayForEach(item, root)
-    {
-        const char *k = item->string;
-        if (strcmp(k, "format") == 0 || strcmp(k, "version") == 0 || strcmp(k, "stations") == 0 ||
-            strcmp(k, "comment") == 0)
-            continue;
-        int found = 0;
-        for (size_t i = 0; i < sizeof keys / sizeof keys[0]; i++)
-            if (strcmp(k, keys[i][0]) == 0) {
-                found = 1;
-                if (!cJSON_IsString(item)) {
-                    st = tram__fail(err, TRAM_EINPUT, name, 0, 0, "\"%s\": expected a string", k);
-                    goto done;
-                }
-                st = tram__directive_apply(&d, name, 0, 0, keys[i][1], item->valuestring, err);
-                if (st != TRAM_OK) goto done;
-            }
-        const char *near = found ? NULL : tram__directive_nearest(k);
-        if (near) {
-            char want[40];
-            size_t j = 0;
-            for (; near[j] && j < sizeof want - 1; j++) want[j] = near[j] == '-' ? '_' : near[j];
-            want[j] = '\0';
-            /* where the key is: scanned only on this error path */
-            long kl = 0, kc = 0;
-            tram__json_pos *pos = NULL;
-            tram_error pe;
-            if (tram__json_pos_scan(name, data, len, &pos, &pe) == TRAM_OK)
-                tram__json_pos_where(pos, k, 1, &kl, &kc);
-            tram__json_pos_free(pos);
-            st = tram__fail(err, TRAM_EINPUT, name, kl, kc,
-                            "unknown key \"%s\": did you mean \"%s\"? (JSON keys are the "
-                            "directives with '_' for '-', docs/records.md)",
-                            k, want);
-            goto done;
-        }
-        if (!found) {
-            st = tram__fail(err, TRAM_EINPUT, name, 0, 0,
-                            "unknown key \"%s\" (known: format, version, length_unit, angle_unit, "
-                            "robot_euler, sensor_euler, robot_pose, sensor_pose, robot_length_unit, "
-                            "sensor_length_unit, robot_angle_unit, sensor_angle_unit, setup, "
-                            "comment, stations)",
-                            k);
-            goto done;
-        }
-    }
+    st = json_check_header(root, name, err);
+    if (st == TRAM_OK) st = json_read_directives(root, data, len, &d, name, err);
+    if (st != TRAM_OK) goto done;
     const cJSON *sts = cJSON_GetObjectItemCaseSensitive(root, "stations");
     if (!cJSON_IsArray(sts) || cJSON_GetArraySize(sts) == 0) {
         st = tram__fail(err, TRAM_EINPUT, name, 0, 0,
@@ -186,59 +366,10 @@ tram_status tram__records_read_json(const char *name, const char *data, size_t l
         goto done;
     }
     station_lines(data, len, lines, n);
-    /* Schema from the first station's keys; every station must match it. */
-    char colnames[2 * TRAM_RAW_MAX + TRAM_JOINTS_MAX][24];
-    int ncol = 0;
-    const cJSON *first = cJSON_GetArrayItem(sts, 0);
-    static const char *const blocks[2] = {"robot", "sensor"};
-    for (int b = 0; b < 2; b++) {
-        const cJSON *blk = cJSON_IsObject(first) ? cJSON_GetObjectItemCaseSensitive(first, blocks[b]) : NULL;
-        if (!blk) continue;
-        if (!cJSON_IsObject(blk)) {
-            st = tram__fail(err, TRAM_EINPUT, name, lines[0], 0,
-                            "stations[0].%s: expected an object of pose numbers", blocks[b]);
-            goto done;
-        }
-        const cJSON *v;
-        cJSON_ArrayForEach(v, blk)
-        {
-            if (ncol >= 2 * TRAM_RAW_MAX) {
-                st = tram__fail(err, TRAM_EINPUT, name, lines[0], 0,
-                                "stations[0].%s: too many keys", blocks[b]);
-                goto done;
-            }
-            snprintf(colnames[ncol], sizeof colnames[ncol], "%s_%.8s", blocks[b], v->string);
-            names[ncol] = colnames[ncol];
-            ncol++;
-        }
-    }
-    const cJSON *j0 = cJSON_IsObject(first) ? cJSON_GetObjectItemCaseSensitive(first, "joints") : NULL;
-    int nj = 0;
-    if (j0) {
-        nj = cJSON_IsArray(j0) ? cJSON_GetArraySize(j0) : -1;
-        if (nj < 1 || nj > TRAM_JOINTS_MAX) {
-            st = tram__fail(err, TRAM_EINPUT, name, lines[0], 0,
-                            "stations[0].joints: expected an array of 1 to %d joint readings",
-                            TRAM_JOINTS_MAX);
-            goto done;
-        }
-        for (int j = 0; j < nj; j++) {
-            snprintf(colnames[ncol], sizeof colnames[ncol], "joint_%d", j + 1);
-            names[ncol] = colnames[ncol];
-            ncol++;
-        }
-    }
-    if (ncol == 0) {
-        st = tram__fail(err, TRAM_EINPUT, name, lines[0], 0,
-                        "stations[0]: expected \"robot\" (or \"joints\") and/or \"sensor\"");
-        goto done;
-    }
-    {
-        long hl[2 * TRAM_RAW_MAX + TRAM_JOINTS_MAX];
-        for (int i = 0; i < ncol; i++) hl[i] = lines[0];
-        st = tram__schema_build(name, names, hl, NULL, ncol, &schema, err);
-        if (st != TRAM_OK) goto done;
-    }
+    int nj;
+    st = json_schema_from_first(cJSON_GetArrayItem(sts, 0), lines[0], names, &nj, &schema, name,
+                                err);
+    if (st != TRAM_OK) goto done;
     {
         /* the ids are strings of the text or generated numbers */
         rec_layout l = {{schema.nslots[0] * schema.has_block[0],
@@ -251,111 +382,8 @@ tram_status tram__records_read_json(const char *name, const char *data, size_t l
     /* walk the list (cJSON_GetArrayItem would make the loop quadratic) */
     const cJSON *so = sts->child;
     for (size_t k = 0; k < n; k++, so = so->next) {
-        tram_station *s = &r->stations[k];
-        s->line = lines[k];
-        if (!cJSON_IsObject(so)) {
-            st = tram__fail(err, TRAM_EINPUT, name, lines[k], 0,
-                            "stations[%zu]: expected an object", k);
-            goto done;
-        }
-        memset(&s->T_base_flange, 0, sizeof s->T_base_flange);
-        memset(&s->T_sensor_target, 0, sizeof s->T_sensor_target);
-        const cJSON *idv = cJSON_GetObjectItemCaseSensitive(so, "station");
-        char num[24];
-        const char *id = num;
-        size_t idlen;
-        if (!idv) {
-            idlen = (size_t)snprintf(num, sizeof num, "%zu", k + 1);
-        } else if (cJSON_IsString(idv) && idv->valuestring[0] &&
-                   (idlen = strlen(idv->valuestring)) < TRAM_STATION_ID_MAX) {
-            id = idv->valuestring;
-        } else if (cJSON_IsNumber(idv) && idv->valuedouble == (double)idv->valueint) {
-            idlen = (size_t)snprintf(num, sizeof num, "%d", idv->valueint);
-        } else {
-            st = tram__fail(err, TRAM_EINPUT, name, lines[k], 0,
-                            "stations[%zu].station: expected a non-empty string (at most %d "
-                            "characters) or an integer",
-                            k, TRAM_STATION_ID_MAX - 1);
-            goto done;
-        }
-        s->id = tram__records_put_id(r, &id_used, id, idlen);
-        const cJSON *m;
-        cJSON_ArrayForEach(m, so)
-        {
-            if (strcmp(m->string, "station") && strcmp(m->string, "robot") &&
-                strcmp(m->string, "sensor") && strcmp(m->string, "joints")) {
-                st = tram__fail(err, TRAM_EINPUT, name, lines[k], 0,
-                                "stations[%zu]: unknown key \"%s\" (expected station, robot, "
-                                "joints, sensor)",
-                                k, m->string);
-                goto done;
-            }
-        }
-        const cJSON *jv = cJSON_GetObjectItemCaseSensitive(so, "joints");
-        if (nj > 0 || jv) {
-            if (!cJSON_IsArray(jv) || cJSON_GetArraySize(jv) != nj) {
-                st = tram__fail(err, TRAM_EINPUT, name, lines[k], 0,
-                                "stations[%zu].joints: expected %d joint readings as in "
-                                "stations[0]",
-                                k, nj);
-                goto done;
-            }
-            for (int j = 0; j < nj; j++) {
-                const cJSON *x = cJSON_GetArrayItem(jv, j);
-                if (!cJSON_IsNumber(x)) {
-                    st = tram__fail(err, TRAM_EINPUT, name, lines[k], 0,
-                                    "stations[%zu].joints[%d]: expected a finite number", k, j);
-                    goto done;
-                }
-                r->joints[k * r->n_joints + (size_t)j] = x->valuedouble;
-            }
-        }
-        for (int b = 0; b < 2; b++) {
-            const cJSON *blk = cJSON_GetObjectItemCaseSensitive(so, blocks[b]);
-            if (!schema.has_block[b]) {
-                if (blk) {
-                    st = tram__fail(err, TRAM_EINPUT, name, lines[k], 0,
-                                    "stations[%zu].%s: not in the first station; every station "
-                                    "must have the same blocks",
-                                    k, blocks[b]);
-                    goto done;
-                }
-                continue;
-            }
-            if (!cJSON_IsObject(blk)) {
-                st = tram__fail(err, TRAM_EINPUT, name, lines[k], 0,
-                                "stations[%zu].%s: missing; expected an object of pose numbers",
-                                k, blocks[b]);
-                goto done;
-            }
-            int count = 0;
-            const cJSON *v;
-            cJSON_ArrayForEach(v, blk) count++;
-            if (count != schema.nslots[b]) {
-                st = tram__fail(err, TRAM_EINPUT, name, lines[k], 0,
-                                "stations[%zu].%s: %d keys, expected %d as in stations[0]", k,
-                                blocks[b], count, schema.nslots[b]);
-                goto done;
-            }
-            for (int slot = 0; slot < schema.nslots[b]; slot++) {
-                const char *key = tram__rep_slot_name(schema.rep[b], slot);
-                v = cJSON_GetObjectItemCaseSensitive(blk, key);
-                if (!v) {
-                    st = tram__fail(err, TRAM_EINPUT, name, lines[k], 0,
-                                    "stations[%zu].%s.%s: missing (every station must use the "
-                                    "rotation set of stations[0])",
-                                    k, blocks[b], key);
-                    goto done;
-                }
-                if (!cJSON_IsNumber(v)) {
-                    st = tram__fail(err, TRAM_EINPUT, name, lines[k], 0,
-                                    "stations[%zu].%s.%s: expected a finite number", k, blocks[b],
-                                    key);
-                    goto done;
-                }
-                tram__records_raw(r, k, b)[slot] = v->valuedouble;
-            }
-        }
+        st = json_read_station(r, so, k, lines[k], nj, &schema, &id_used, name, err);
+        if (st != TRAM_OK) goto done;
         r->count++;
     }
     st = tram__records_fit_ids(r, id_used, name, err);

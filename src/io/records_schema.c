@@ -171,8 +171,13 @@ static tram_status conflict(const char *file, long line, long col, const char *k
                       key, first);
 }
 
-tram_status tram__directive_apply(rec_directives *d, const char *file, long line, long col,
-                                  const char *key, const char *value, tram_error *err)
+/* The common parameter list of the directive helpers below. */
+#define DIR_ARGS                                                                                  \
+    rec_directives *d, const char *file, long line, long col, const char *key, const char *value, \
+        tram_error *err
+
+/* length-unit, angle-unit and their robot-/sensor- forms. */
+static tram_status directive_unit(DIR_ARGS)
 {
     if (strcmp(key, "length-unit") == 0) {
         tram_length_unit u = tram_unit_length_parse(value);
@@ -202,7 +207,7 @@ tram_status tram__directive_apply(rec_directives *d, const char *file, long line
             return conflict(file, line, col, key, d->block_length_line[b], err);
         d->block_length[b] = u;
         d->block_length_line[b] = line;
-    } else if (strcmp(key, "robot-angle-unit") == 0 || strcmp(key, "sensor-angle-unit") == 0) {
+    } else {
         int b = key[0] == 'r' ? TRAM_BLOCK_ROBOT : TRAM_BLOCK_SENSOR;
         tram_angle_unit u = tram_unit_angle_parse(value);
         if (u == TRAM_ANGLE_UNSET)
@@ -212,19 +217,31 @@ tram_status tram__directive_apply(rec_directives *d, const char *file, long line
             return conflict(file, line, col, key, d->block_angle_line[b], err);
         d->block_angle[b] = u;
         d->block_angle_line[b] = line;
-    } else if (strcmp(key, "robot-euler") == 0 || strcmp(key, "sensor-euler") == 0) {
-        int b = key[0] == 'r' ? TRAM_BLOCK_ROBOT : TRAM_BLOCK_SENSOR;
-        tram_euler_seq e = tram_euler_parse(value);
-        if (e == TRAM_EULER_UNSET)
-            return tram__fail(err, TRAM_EINPUT, file, line, col,
-                              "%s '%s': expected an axis sequence and a kind, e.g. "
-                              "zyx-intrinsic or xyz-extrinsic",
-                              key, value);
-        if (d->euler_line[b] && d->euler[b] != e)
-            return conflict(file, line, col, key, d->euler_line[b], err);
-        d->euler[b] = e;
-        d->euler_line[b] = line;
-    } else if (strcmp(key, "robot-pose") == 0) {
+    }
+    return TRAM_OK;
+}
+
+/* robot-euler, sensor-euler. */
+static tram_status directive_euler(DIR_ARGS)
+{
+    int b = key[0] == 'r' ? TRAM_BLOCK_ROBOT : TRAM_BLOCK_SENSOR;
+    tram_euler_seq e = tram_euler_parse(value);
+    if (e == TRAM_EULER_UNSET)
+        return tram__fail(err, TRAM_EINPUT, file, line, col,
+                          "%s '%s': expected an axis sequence and a kind, e.g. "
+                          "zyx-intrinsic or xyz-extrinsic",
+                          key, value);
+    if (d->euler_line[b] && d->euler[b] != e)
+        return conflict(file, line, col, key, d->euler_line[b], err);
+    d->euler[b] = e;
+    d->euler_line[b] = line;
+    return TRAM_OK;
+}
+
+/* robot-pose and sensor-pose: which way the logged transforms point. */
+static tram_status directive_pose(DIR_ARGS)
+{
+    if (strcmp(key, "robot-pose") == 0) {
         int inv = 0, tool = 0;
         if (strcmp(value, "flange-in-base") == 0) inv = 0;
         else if (strcmp(value, "base-in-flange") == 0) inv = 1;
@@ -240,20 +257,7 @@ tram_status tram__directive_apply(rec_directives *d, const char *file, long line
         d->inverted[0] = inv;
         d->robot_tool = tool;
         d->pose_line[0] = line;
-    } else if (strcmp(key, "tool-in-flange") == 0) {
-        size_t at = 0;
-        char why[200];
-        tram_se3 T;
-        tram_length_unit u;
-        if (tram__tool_parse(value, &T, &u, &at, why, sizeof why) != 0)
-            return tram__fail(err, TRAM_EINPUT, file, line, col + (long)at, "tool-in-flange: %s", why);
-        if (d->has_tool && memcmp(&T, &d->tool, sizeof T) != 0)
-            return conflict(file, line, col, key, d->tool_line, err);
-        d->tool = T;
-        d->tool_unit = u;
-        d->has_tool = 1;
-        d->tool_line = line;
-    } else if (strcmp(key, "sensor-pose") == 0) {
+    } else {
         int inv;
         if (strcmp(value, "target-in-sensor") == 0) inv = 0;
         else if (strcmp(value, "sensor-in-target") == 0) inv = 1;
@@ -266,46 +270,104 @@ tram_status tram__directive_apply(rec_directives *d, const char *file, long line
             return conflict(file, line, col, key, d->pose_line[1], err);
         d->inverted[1] = inv;
         d->pose_line[1] = line;
-    } else if (strcmp(key, "setup") == 0) {
-        tram_setup s = tram_setup_parse(value);
-        if (s == TRAM_SETUP_UNSET)
-            return tram__fail(err, TRAM_EINPUT, file, line, col,
-                              "setup '%s': expected eye-in-hand or eye-to-hand", value);
-        if (d->setup_line && d->setup != s) return conflict(file, line, col, key, d->setup_line, err);
-        d->setup = s;
-        d->setup_line = line;
-    } else if (strcmp(key, "format") == 0) {
-        if (strncmp(value, "tram-records-", 13) != 0)
-            return tram__fail(err, TRAM_EINPUT, file, line, col,
-                              "format '%s': expected tram-records-1", value);
-        char *end;
-        errno = 0;
-        long v = strtol(value + 13, &end, 10);
-        if (*end || end == value + 13 || v < 1)
-            return tram__fail(err, TRAM_EINPUT, file, line, col,
-                              "format '%s': expected tram-records-1", value);
-        if (v > 1)
-            return tram__fail(err, TRAM_EINPUT, file, line, col,
-                              "format version %ld is newer than this tram (%s) reads (1)", v,
-                              TRAM_VERSION_STRING);
-        d->format_version = (int)v;
-        d->format_line = line;
-    } else {
-        const char *near = tram__directive_nearest(key);
-        if (near)
-            return tram__fail(err, TRAM_EINPUT, file, line, col,
-                              "unknown directive '%s': did you mean '%s'? (docs/records.md lists "
-                              "every directive)",
-                              key, near);
-        return tram__fail(err, TRAM_EINPUT, file, line, col,
-                          "unknown directive '%s' (known: format, length-unit, angle-unit, "
-                          "robot-length-unit, sensor-length-unit, robot-angle-unit, "
-                          "sensor-angle-unit, robot-euler, sensor-euler, robot-pose, "
-                          "sensor-pose, tool-in-flange, setup)",
-                          key);
     }
     return TRAM_OK;
 }
+
+/* tool-in-flange. */
+static tram_status directive_tool(DIR_ARGS)
+{
+    size_t at = 0;
+    char why[200];
+    tram_se3 T;
+    tram_length_unit u;
+    if (tram__tool_parse(value, &T, &u, &at, why, sizeof why) != 0)
+        return tram__fail(err, TRAM_EINPUT, file, line, col + (long)at, "tool-in-flange: %s", why);
+    if (d->has_tool && memcmp(&T, &d->tool, sizeof T) != 0)
+        return conflict(file, line, col, key, d->tool_line, err);
+    d->tool = T;
+    d->tool_unit = u;
+    d->has_tool = 1;
+    d->tool_line = line;
+    return TRAM_OK;
+}
+
+/* setup. */
+static tram_status directive_setup(DIR_ARGS)
+{
+    tram_setup s = tram_setup_parse(value);
+    if (s == TRAM_SETUP_UNSET)
+        return tram__fail(err, TRAM_EINPUT, file, line, col,
+                          "setup '%s': expected eye-in-hand or eye-to-hand", value);
+    if (d->setup_line && d->setup != s) return conflict(file, line, col, key, d->setup_line, err);
+    d->setup = s;
+    d->setup_line = line;
+    return TRAM_OK;
+}
+
+/* format: tram-records-N, N at most the version this tram reads. */
+static tram_status directive_format(DIR_ARGS)
+{
+    (void)key;
+    if (strncmp(value, "tram-records-", 13) != 0)
+        return tram__fail(err, TRAM_EINPUT, file, line, col,
+                          "format '%s': expected tram-records-1", value);
+    char *end;
+    errno = 0;
+    long v = strtol(value + 13, &end, 10);
+    if (*end || end == value + 13 || v < 1)
+        return tram__fail(err, TRAM_EINPUT, file, line, col,
+                          "format '%s': expected tram-records-1", value);
+    if (v > 1)
+        return tram__fail(err, TRAM_EINPUT, file, line, col,
+                          "format version %ld is newer than this tram (%s) reads (1)", v,
+                          TRAM_VERSION_STRING);
+    d->format_version = (int)v;
+    d->format_line = line;
+    return TRAM_OK;
+}
+
+/* A key that is no directive: the error, with the nearest name if any. */
+static tram_status directive_unknown(const char *file, long line, long col, const char *key,
+                                     tram_error *err)
+{
+    const char *near = tram__directive_nearest(key);
+    if (near)
+        return tram__fail(err, TRAM_EINPUT, file, line, col,
+                          "unknown directive '%s': did you mean '%s'? (docs/records.md lists "
+                          "every directive)",
+                          key, near);
+    return tram__fail(err, TRAM_EINPUT, file, line, col,
+                      "unknown directive '%s' (known: format, length-unit, angle-unit, "
+                      "robot-length-unit, sensor-length-unit, robot-angle-unit, "
+                      "sensor-angle-unit, robot-euler, sensor-euler, robot-pose, "
+                      "sensor-pose, tool-in-flange, setup)",
+                      key);
+}
+
+tram_status tram__directive_apply(rec_directives *d, const char *file, long line, long col,
+                                  const char *key, const char *value, tram_error *err)
+{
+    tram_status (*apply)(DIR_ARGS) = NULL;
+    if (strcmp(key, "length-unit") == 0 || strcmp(key, "angle-unit") == 0 ||
+        strcmp(key, "robot-length-unit") == 0 || strcmp(key, "sensor-length-unit") == 0 ||
+        strcmp(key, "robot-angle-unit") == 0 || strcmp(key, "sensor-angle-unit") == 0)
+        apply = directive_unit;
+    else if (strcmp(key, "robot-euler") == 0 || strcmp(key, "sensor-euler") == 0)
+        apply = directive_euler;
+    else if (strcmp(key, "robot-pose") == 0 || strcmp(key, "sensor-pose") == 0)
+        apply = directive_pose;
+    else if (strcmp(key, "tool-in-flange") == 0)
+        apply = directive_tool;
+    else if (strcmp(key, "setup") == 0)
+        apply = directive_setup;
+    else if (strcmp(key, "format") == 0)
+        apply = directive_format;
+    else
+        return directive_unknown(file, line, col, key, err);
+    return apply(d, file, line, col, key, value, err);
+}
+#undef DIR_ARGS
 
 /* ---- schema -------------------------------------------------------- */
 

@@ -54,6 +54,113 @@ static char *trim(char *s, char **end_out)
     return s;
 }
 
+/* A comment line s (from line, number lineno): a '# key: value' directive is
+ * kept in t->dir; other comments are skipped. */
+static tram_status table_directive(tram__table *t, const char *line, char *s, long lineno,
+                                   size_t *cap_dir, const char *name, tram_error *err)
+{
+    char *k = s + 1;
+    while (*k == ' ' || *k == '\t') k++;
+    char *q = k;
+    while ((*q >= 'a' && *q <= 'z') || (*q >= '0' && *q <= '9') || *q == '-') q++;
+    if (q > k && *q == ':') {
+        *q = '\0';
+        char *v = trim(q + 1, NULL);
+        if (strlen(k) >= sizeof t->dir->key || strlen(v) >= sizeof t->dir->value) {
+            /* refused, not cut: a shortened value would be another value */
+            return tram__fail(err, TRAM_EINPUT, name, lineno, (long)(k - line) + 1,
+                              "directive '%.39s': %s longer than %zu characters", k,
+                              strlen(k) >= sizeof t->dir->key ? "key" : "value",
+                              (strlen(k) >= sizeof t->dir->key ? sizeof t->dir->key
+                                                               : sizeof t->dir->value) - 1);
+        }
+        if (t->ndir == *cap_dir) {
+            size_t nc = *cap_dir ? 2 * *cap_dir : 8;
+            tram__directive *d = tram__realloc(t->dir, nc * sizeof *d);
+            if (!d) return tram__fail(err, TRAM_ENOMEM, name, lineno, 0, "out of memory");
+            t->dir = d;
+            *cap_dir = nc;
+        }
+        tram__directive *d = &t->dir[t->ndir++];
+        snprintf(d->key, sizeof d->key, "%s", k);
+        snprintf(d->value, sizeof d->value, "%s", v);
+        d->line = lineno;
+        d->col = (long)(k - line) + 1;
+    }
+    return TRAM_OK;
+}
+
+/* A line of fields, split at commas: the header (the first such line) or a
+ * data row with as many fields. */
+static tram_status table_row(tram__table *t, char *line, long lineno, size_t *cap_rows,
+                             const char *name, tram_error *err)
+{
+    size_t nf = 1;
+    for (char *c = line; *c; c++) nf += *c == ',';
+    if (!t->header_line) {
+        t->header_line = lineno;
+        t->ncols = nf;
+        t->names = tram__calloc(nf, sizeof *t->names);
+        t->name_col = tram__calloc(nf, sizeof *t->name_col);
+        if (!t->names || !t->name_col) goto nomem;
+    } else if (nf != t->ncols) {
+        return tram__fail(err, TRAM_EINPUT, name, lineno, 0,
+                          "%s row: %zu fields, expected %zu as in the header (line %ld)",
+                          nf < t->ncols ? "short" : "long", nf, t->ncols, t->header_line);
+    } else {
+        if (t->nrows == *cap_rows) {
+            size_t nc = *cap_rows ? 2 * *cap_rows : 64;
+            char **cells = tram__realloc(t->cells, nc * t->ncols * sizeof *cells);
+            if (!cells) goto nomem;
+            t->cells = cells;
+            long *cc = tram__realloc(t->cell_col, nc * t->ncols * sizeof *cc);
+            if (!cc) goto nomem;
+            t->cell_col = cc;
+            long *rl = tram__realloc(t->row_line, nc * sizeof *rl);
+            if (!rl) goto nomem;
+            t->row_line = rl;
+            *cap_rows = nc;
+        }
+        t->row_line[t->nrows] = lineno;
+    }
+    char *f = line;
+    for (size_t i = 0; i < nf; i++) {
+        char *c = strchr(f, ',');
+        if (c) *c = '\0';
+        char *v = trim(f, NULL);
+        long col = (long)(v - line) + 1;
+        if (t->header_line == lineno) {
+            if (!*v)
+                return tram__fail(err, TRAM_EINPUT, name, lineno, col, "empty column name in the header");
+            t->names[i] = v;
+            t->name_col[i] = col;
+        } else {
+            t->cells[t->nrows * t->ncols + i] = v;
+            t->cell_col[t->nrows * t->ncols + i] = col;
+        }
+        f = c ? c + 1 : f + strlen(f);
+    }
+    if (t->header_line != lineno) t->nrows++;
+    return TRAM_OK;
+nomem:
+    return tram__fail(err, TRAM_ENOMEM, name, lineno, 0, "out of memory");
+}
+
+/* After the last line (number lineno): a header was found and names no
+ * column twice. */
+static tram_status table_check_header(const tram__table *t, long lineno, const char *name,
+                                      tram_error *err)
+{
+    if (!t->header_line)
+        return tram__fail(err, TRAM_EINPUT, name, lineno, 0, "no header row: expected a line of column names");
+    for (size_t i = 0; i < t->ncols; i++)
+        for (size_t j = 0; j < i; j++)
+            if (strcmp(t->names[i], t->names[j]) == 0)
+                return tram__fail(err, TRAM_EINPUT, name, t->header_line, t->name_col[i],
+                                  "column '%s' appears twice", t->names[i]);
+    return TRAM_OK;
+}
+
 tram_status tram__table_parse(const char *name, const char *data, size_t len, tram__table **out,
                               tram_error *err)
 {
@@ -87,105 +194,17 @@ tram_status tram__table_parse(const char *name, const char *data, size_t len, tr
         char *line = p;
         p = nl ? nl + 1 : p + strlen(p);
         char *s = trim(line, NULL);
-        if (*s == '#') {
-            char *k = s + 1;
-            while (*k == ' ' || *k == '\t') k++;
-            char *q = k;
-            while ((*q >= 'a' && *q <= 'z') || (*q >= '0' && *q <= '9') || *q == '-') q++;
-            if (q > k && *q == ':') {
-                *q = '\0';
-                char *v = trim(q + 1, NULL);
-                if (strlen(k) >= sizeof t->dir->key || strlen(v) >= sizeof t->dir->value) {
-                    /* refused, not cut: a shortened value would be another value */
-                    st = tram__fail(err, TRAM_EINPUT, name, lineno, (long)(k - line) + 1,
-                                    "directive '%.39s': %s longer than %zu characters", k,
-                                    strlen(k) >= sizeof t->dir->key ? "key" : "value",
-                                    (strlen(k) >= sizeof t->dir->key ? sizeof t->dir->key
-                                                                     : sizeof t->dir->value) - 1);
-                    goto fail;
-                }
-                if (t->ndir == cap_dir) {
-                    size_t nc = cap_dir ? 2 * cap_dir : 8;
-                    tram__directive *d = tram__realloc(t->dir, nc * sizeof *d);
-                    if (!d) goto nomem;
-                    t->dir = d;
-                    cap_dir = nc;
-                }
-                tram__directive *d = &t->dir[t->ndir++];
-                snprintf(d->key, sizeof d->key, "%s", k);
-                snprintf(d->value, sizeof d->value, "%s", v);
-                d->line = lineno;
-                d->col = (long)(k - line) + 1;
-            }
-        } else if (*s) {
-            /* split at commas */
-            size_t nf = 1;
-            for (char *c = line; *c; c++) nf += *c == ',';
-            if (!t->header_line) {
-                t->header_line = lineno;
-                t->ncols = nf;
-                t->names = tram__calloc(nf, sizeof *t->names);
-                t->name_col = tram__calloc(nf, sizeof *t->name_col);
-                if (!t->names || !t->name_col) goto nomem;
-            } else if (nf != t->ncols) {
-                st = tram__fail(err, TRAM_EINPUT, name, lineno, 0,
-                                "%s row: %zu fields, expected %zu as in the header (line %ld)",
-                                nf < t->ncols ? "short" : "long", nf, t->ncols, t->header_line);
-                goto fail;
-            } else {
-                if (t->nrows == cap_rows) {
-                    size_t nc = cap_rows ? 2 * cap_rows : 64;
-                    char **cells = tram__realloc(t->cells, nc * t->ncols * sizeof *cells);
-                    if (!cells) goto nomem;
-                    t->cells = cells;
-                    long *cc = tram__realloc(t->cell_col, nc * t->ncols * sizeof *cc);
-                    if (!cc) goto nomem;
-                    t->cell_col = cc;
-                    long *rl = tram__realloc(t->row_line, nc * sizeof *rl);
-                    if (!rl) goto nomem;
-                    t->row_line = rl;
-                    cap_rows = nc;
-                }
-                t->row_line[t->nrows] = lineno;
-            }
-            char *f = line;
-            for (size_t i = 0; i < nf; i++) {
-                char *c = strchr(f, ',');
-                if (c) *c = '\0';
-                char *v = trim(f, NULL);
-                long col = (long)(v - line) + 1;
-                if (t->header_line == lineno) {
-                    if (!*v) {
-                        st = tram__fail(err, TRAM_EINPUT, name, lineno, col, "empty column name in the header");
-                        goto fail;
-                    }
-                    t->names[i] = v;
-                    t->name_col[i] = col;
-                } else {
-                    t->cells[t->nrows * t->ncols + i] = v;
-                    t->cell_col[t->nrows * t->ncols + i] = col;
-                }
-                f = c ? c + 1 : f + strlen(f);
-            }
-            if (t->header_line != lineno) t->nrows++;
-        }
+        if (*s == '#')
+            st = table_directive(t, line, s, lineno, &cap_dir, name, err);
+        else if (*s)
+            st = table_row(t, line, lineno, &cap_rows, name, err);
+        if (st != TRAM_OK) goto fail;
         if (!nl) break;
     }
-    if (!t->header_line) {
-        st = tram__fail(err, TRAM_EINPUT, name, lineno, 0, "no header row: expected a line of column names");
-        goto fail;
-    }
-    for (size_t i = 0; i < t->ncols; i++)
-        for (size_t j = 0; j < i; j++)
-            if (strcmp(t->names[i], t->names[j]) == 0) {
-                st = tram__fail(err, TRAM_EINPUT, name, t->header_line, t->name_col[i],
-                                "column '%s' appears twice", t->names[i]);
-                goto fail;
-            }
+    st = table_check_header(t, lineno, name, err);
+    if (st != TRAM_OK) goto fail;
     *out = t;
     return TRAM_OK;
-nomem:
-    st = tram__fail(err, TRAM_ENOMEM, name, lineno, 0, "out of memory");
 fail:
     tram__table_free(t);
     return st;

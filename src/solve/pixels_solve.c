@@ -628,6 +628,86 @@ static tram_status check_inputs(const tram_records *r, tram_setup setup, const t
     return TRAM_OK;
 }
 
+/* Keep the observed stations of r in rr, in the records' order: keep[i] gets
+ * the index in rr of record station i (or (size_t)-1), ost[o] the rr station
+ * of observation o.  Returns the number kept. */
+static size_t keep_observed(const tram_records *r, const tram_pixel_obs *obs, const size_t *obs_r,
+                            tram_records *rr, size_t *keep, size_t *ost)
+{
+    size_t n = obs->n, nr = r->count;
+    size_t nk = 0;
+    for (size_t i = 0; i < nr; i++) keep[i] = (size_t)-1;
+    for (size_t o = 0; o < n; o++) keep[obs_r[o]] = 0;
+    for (size_t i = 0; i < nr; i++)
+        if (keep[i] == 0) {
+            rr->stations[nk] = r->stations[i];
+            keep[i] = nk++;
+        }
+    rr->count = nk;
+    for (size_t o = 0; o < n; o++) ost[o] = keep[obs_r[o]];
+    return nk;
+}
+
+/* The refinement of a solved pose-path result sol on the reprojection error
+ * of the nk stations' corners, its uncertainty, and its diagnostics. */
+static tram_status refine_on_pixels(const tram_pixel_obs *obs, const double *xyz,
+                                    const size_t *ost, const tram_se3 *P, const tram_camera *cam,
+                                    const tram_solve_options *opt,
+                                    const tram_pixel_solve_options *popt, work *wk, size_t nk,
+                                    const tram_records *rr, tram_solution *sol,
+                                    tram_pixel_result *pr, tram_error *err)
+{
+    size_t n = obs->n;
+    pctx c;
+    memset(&c, 0, sizeof c);
+    c.obs = obs;
+    c.xyz = xyz;
+    c.ost = ost;
+    c.P = P;
+    c.w = wk->w;
+    c.used = wk->used;
+    c.X = sol->X;
+    c.Z = sol->Z;
+    c.cam = *cam;
+    if (popt && popt->refine_intrinsics && opt->refine) {
+        c.ncam = tram__camera_free_params(cam, c.cam_idx);
+        if (popt->free_skew) c.cam_idx[c.ncam++] = TRAM_CAM_SKEW;
+    }
+    int rc = 0;
+    if (opt->refine) rc = refine_pixels(&c, wk, nk, opt->robust, &pr->iterations);
+    else
+        for (size_t o = 0; o < n; o++) wk->excl[o] = 0;
+    if (rc == -2) return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
+    if (rc != 0)
+        return tram__fail(err, TRAM_EUNDETERMINED, obs->source, 0, 0,
+                          "the refinement on pixels put target corners behind the camera: "
+                          "the views or the robot poses do not fit the target");
+    pr->intrinsics_refined = c.ncam > 0;
+    if (fill_results(&c, wk, rr, P, sol, pr) != TRAM_OK) goto nomem;
+    if (opt->refine && pixel_covariance(&c, wk, sol, pr, popt ? popt->camera_cov : NULL) != TRAM_OK)
+        goto nomem;
+    if (opt->refine && opt->bootstrap > 0 && pixel_bootstrap(&c, wk, nk, opt, sol) != TRAM_OK)
+        goto nomem;
+    sol->refined = sol->refined || opt->refine;
+    if (opt->refine && sol->unc.valid && c.ncam == 0 && camera_note(sol, pr) != TRAM_OK) goto nomem;
+    if (tram__diag_add(sol, "pixel-refinement", TRAM_SEVERITY_INFO,
+                       "refined on the reprojection error of %zu corner(s) of %zu station(s): "
+                       "RMS %.4g px; %zu corner(s) and %zu station(s) flagged and left out%s",
+                       n - pr->n_corner_outliers, nk - pr->n_station_outliers, pr->px.rms,
+                       pr->n_corner_outliers, pr->n_station_outliers,
+                       pr->intrinsics_refined ? "; the camera's intrinsics were refined too" : "") != TRAM_OK)
+        goto nomem;
+    if (pr->n_station_outliers * 3 > nk &&
+        tram__diag_add(sol, "many-pixel-outliers", TRAM_SEVERITY_WARNING,
+                       "%zu of %zu stations do not fit the others on pixels: check the robot "
+                       "poses, the camera file and the board before using this result",
+                       pr->n_station_outliers, nk) != TRAM_OK)
+        goto nomem;
+    return TRAM_OK;
+nomem:
+    return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
+}
+
 tram_status tram_solve_pixels(const tram_records *r, tram_setup setup, const tram_camera *cam,
                               const tram_pixel_obs *obs, const double *xyz,
                               const tram_solve_options *opt_in,
@@ -659,17 +739,7 @@ tram_status tram_solve_pixels(const tram_records *r, tram_setup setup, const tra
         goto out;
     }
     if ((st = map_stations(r, obs, obs_r, err)) != TRAM_OK) goto out;
-    /* keep the observed stations, in the records' order */
-    size_t nk = 0;
-    for (size_t i = 0; i < nr; i++) keep[i] = (size_t)-1;
-    for (size_t o = 0; o < n; o++) keep[obs_r[o]] = 0;
-    for (size_t i = 0; i < nr; i++)
-        if (keep[i] == 0) {
-            rr->stations[nk] = r->stations[i];
-            keep[i] = nk++;
-        }
-    rr->count = nk;
-    for (size_t o = 0; o < n; o++) ost[o] = keep[obs_r[o]];
+    size_t nk = keep_observed(r, obs, obs_r, rr, keep, ost);
     rr->has_block[TRAM_BLOCK_SENSOR] = 1;
     rr->sensor_from_points = 1; /* no raw sensor numbers to re-read */
     if ((st = station_poses(cam, obs, xyz, ost, rr, pose_rms, err)) != TRAM_OK) goto out;
@@ -687,59 +757,12 @@ tram_status tram_solve_pixels(const tram_records *r, tram_setup setup, const tra
         else P[i] = rr->stations[i].T_base_flange;
     }
     if (sol->solved) {
-        pctx c;
-        memset(&c, 0, sizeof c);
-        c.obs = obs;
-        c.xyz = xyz;
-        c.ost = ost;
-        c.P = P;
-        c.w = wk.w;
-        c.used = wk.used;
-        c.X = sol->X;
-        c.Z = sol->Z;
-        c.cam = *cam;
-        if (popt && popt->refine_intrinsics && opt->refine) {
-            c.ncam = tram__camera_free_params(cam, c.cam_idx);
-            if (popt->free_skew) c.cam_idx[c.ncam++] = TRAM_CAM_SKEW;
-        }
-        int rc = 0;
-        if (opt->refine) rc = refine_pixels(&c, &wk, nk, opt->robust, &pr->iterations);
-        else
-            for (size_t o = 0; o < n; o++) wk.excl[o] = 0;
-        if (rc == -2) {
-            st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
+        tram_status rst =
+            refine_on_pixels(obs, xyz, ost, P, cam, opt, popt, &wk, nk, rr, sol, pr, err);
+        if (rst != TRAM_OK) {
+            st = rst;
             goto out;
         }
-        if (rc != 0) {
-            st = tram__fail(err, TRAM_EUNDETERMINED, obs->source, 0, 0,
-                            "the refinement on pixels put target corners behind the camera: "
-                            "the views or the robot poses do not fit the target");
-            goto out;
-        }
-        pr->intrinsics_refined = c.ncam > 0;
-        if (fill_results(&c, &wk, rr, P, sol, pr) != TRAM_OK) {
-            st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
-            goto out;
-        }
-        if (opt->refine && pixel_covariance(&c, &wk, sol, pr, popt ? popt->camera_cov : NULL) != TRAM_OK)
-            goto nomem;
-        if (opt->refine && opt->bootstrap > 0 && pixel_bootstrap(&c, &wk, nk, opt, sol) != TRAM_OK)
-            goto nomem;
-        sol->refined = sol->refined || opt->refine;
-        if (opt->refine && sol->unc.valid && c.ncam == 0 && camera_note(sol, pr) != TRAM_OK) goto nomem;
-        if (tram__diag_add(sol, "pixel-refinement", TRAM_SEVERITY_INFO,
-                           "refined on the reprojection error of %zu corner(s) of %zu station(s): "
-                           "RMS %.4g px; %zu corner(s) and %zu station(s) flagged and left out%s",
-                           n - pr->n_corner_outliers, nk - pr->n_station_outliers, pr->px.rms,
-                           pr->n_corner_outliers, pr->n_station_outliers,
-                           pr->intrinsics_refined ? "; the camera's intrinsics were refined too" : "") != TRAM_OK)
-            goto nomem;
-        if (pr->n_station_outliers * 3 > nk &&
-            tram__diag_add(sol, "many-pixel-outliers", TRAM_SEVERITY_WARNING,
-                           "%zu of %zu stations do not fit the others on pixels: check the robot "
-                           "poses, the camera file and the board before using this result",
-                           pr->n_station_outliers, nk) != TRAM_OK)
-            goto nomem;
     }
     if (nk < nr &&
         tram__diag_add(sol, "stations-without-pixels", TRAM_SEVERITY_INFO,
