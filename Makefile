@@ -236,7 +236,7 @@ cli-tests: $(B)/tram $(B)/gen_demo
 	@TRAM=$(abspath $(B)/tram) GEN_DEMO=$(abspath $(B)/gen_demo) sh tests/cli/run.sh
 
 # Reference checks against SciPy / NumPy (Debian's python3-scipy).
-ref-tests: $(B)/refhelper $(B)/tram $(B)/render_ref
+ref-tests: $(B)/refhelper $(B)/tram $(B)/render_ref $(B)/libtram.so
 	$(PYTHON) tests/ref/check_rotation_scipy.py $(B)/refhelper
 	$(PYTHON) tests/ref/check_solve_scipy.py $(B)/tram
 	$(PYTHON) tests/ref/check_stats_scipy.py $(B)/refhelper
@@ -245,6 +245,8 @@ ref-tests: $(B)/refhelper $(B)/tram $(B)/render_ref
 	$(PYTHON) tests/ref/check_pixels_scipy.py $(B)/tram
 	$(PYTHON) tests/ref/check_render_numpy.py $(B)/render_ref
 	$(PYTHON) tests/ref/check_intrinsics_scipy.py $(B)/tram
+	OPENBLAS_NUM_THREADS=1 TRAM_LIBRARY=$(abspath $(B)/libtram.so) PYTHONPATH=$(abspath python) \
+	  $(PYTHON) tests/ref/check_noise_scipy.py
 
 # The Python package (python/tram) against the command, SciPy and its docs.
 python-tests: $(B)/tram $(B)/libtram.so

@@ -16,8 +16,10 @@
  * re-solved; then X is refined by variable projection (Golub & Pereyra,
  * SIAM J. Numer. Anal. 10(2), 1973): for each X the q_k are their least-
  * squares values, the mean of P_i X p over the point's observations.
- * Observations whose residual exceeds 4.59 robust sigmas (as for stations
- * in solve.c) are excluded and the refinement repeated.
+ * Observations whose residual exceeds sqrt(chi2_3(1 - 0.01 / n)) robust
+ * sigmas (n observations: Bonferroni's bound keeps the rate of honest
+ * files with any exclusion at 1%, as for stations in solve_refine.c) are
+ * excluded and the refinement repeated.
  */
 #include "tram/point_solve.h"
 #include "tram/register.h"
@@ -34,7 +36,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#define OUTLIER_K 4.5943
+#define FAMILY_ALPHA 0.01 /* rate of honest files with any observation excluded */
 #define CHI3_MEDIAN_SQRT 1.5381722
 
 typedef struct pctx {
@@ -469,6 +471,7 @@ static tram_status solve_with_model(const tram_records *r, tram_setup setup,
                     }
                 }
                 sol->unc.valid = 1;
+                tram__unc_intervals(&sol->unc, dof);
                 sol->unc.bootstrap_valid = 0; /* it measured the pose refinement */
                 sol->condition = cond;
             }
@@ -622,9 +625,10 @@ static tram_status free_fit(const tram_records *r, tram_setup setup, const tram_
         if (!robust) break;
         obs_residuals(c, X, Z, d->res);
         sig = robust_sigma(d->res, d->excluded, obs->n);
+        double k = sqrt(tram__chi2_quantile(1.0 - FAMILY_ALPHA / (double)obs->n, 3.0));
         size_t nex = 0;
         for (size_t o = 0; o < obs->n; o++) {
-            d->excluded[o] = d->res[o] > OUTLIER_K * sig && d->res[o] > 1e-9;
+            d->excluded[o] = d->res[o] > k * sig && d->res[o] > 1e-9;
             nex += (size_t)d->excluded[o];
         }
         if (nex == 0) break;
@@ -714,6 +718,7 @@ static tram_status solve_free(const tram_records *r, tram_setup setup, const tra
             }
         }
         sol->unc.valid = 1;
+        tram__unc_intervals(&sol->unc, dof);
         sol->condition = cond;
     }
     sol->noise_length = sig;

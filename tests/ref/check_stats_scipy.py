@@ -6,7 +6,7 @@ against SciPy's scipy.stats (Debian python3-scipy):
   Wilson & Hilferty 1931) at the tail probabilities it uses, for the degrees
   of freedom of 1 to 100 stations: within 1.2% of scipy.stats.chi2.ppf, and
   never below it by more than 0.1% (a test may be conservative, not lax);
-- the constants in src/math/stats.c and src/solve/solve.c: sqrt of the median of chi2(3) and sqrt of
+- the constants in src/math/stats.c and src/solve/solve_refine.c: sqrt of the median of chi2(3) and sqrt of
   its 0.9999 quantile; and the normal quantiles in src/check/check.c;
 - Student's t, Fisher's F and chi-square quantiles (src/math/stats.c, used by the solve's
   intervals and its outlier test) against scipy.stats.t.ppf and f.ppf, to a
@@ -68,7 +68,7 @@ def main():
     expect("chi-square quantiles", worst < 1e-9, f"{len(ccases)} cases, worst relative error {worst:.1e}")
 
     stats = open(os.path.join(root, "src", "math", "stats.c")).read()
-    solve = open(os.path.join(root, "src", "solve", "solve.c")).read()
+    solve = open(os.path.join(root, "src", "solve", "solve_refine.c")).read()
     check = open(os.path.join(root, "src", "check", "check.c")).read()
     c1 = float(re.search(r"#define CHI3_MEDIAN_SQRT ([0-9.]+)", stats).group(1))
     c2 = float(re.search(r"#define OUTLIER_K ([0-9.]+)", solve).group(1))
