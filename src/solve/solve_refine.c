@@ -209,8 +209,9 @@ static void station_test(fit *f, const tram_se3 *X, const tram_se3 *Z, int *flag
     tram__noise_station_stat(&f->pb, f->w, X, Z, f->C, &f->nm, f->T);
     double inv = 0;
     for (int a = 0; a < 6; a++) inv += 1.0 / f->nm.dof[a];
-    double nu = 6.0 / inv;
-    double q = tram__f_quantile(1.0 - FAMILY_ALPHA / (double)f->n, 6.0, nu);
+    double nu = inv > 0 ? 6.0 / inv : INFINITY, p = 1.0 - FAMILY_ALPHA / (double)f->n;
+    /* noise given (known): chi-square(6) / 6, the limit of F(6, nu) */
+    double q = isfinite(nu) ? tram__f_quantile(p, 6.0, nu) : tram__chi2_quantile(p, 6.0) / 6.0;
     for (size_t i = 0; i < f->n; i++) flag[i] = !(f->T[i] / 6.0 <= q);
 }
 

@@ -45,6 +45,11 @@ assert abs(n["angle_per_axis_deg"][2] - 0.05) < 1e-12 and abs(n["robot_length"] 
 assert abs(n["robot_angle_deg"] - 0.005) < 1e-12, n
 PY
 then ok; else bad "solve --noise per axis, --robot-noise"; cat "$tmp/err"; fi
+# the docs' example (docs/solve.md, "Noise model"): the demo's bad station p14 is still flagged
+"$TRAM" solve --noise 0.1/0.1/0.3mm,0.05deg --robot-noise 0.02mm,0.005deg "$demo/wrist_camera.csv" >"$tmp/out" 2>"$tmp/err"
+rc=$?
+[ "$rc" -eq 0 ] && grep -q 'robot noise (given, isotropic): 0.005 deg, 0.02 mm' "$tmp/out" && grep -q '^  p14 .*OUTLIER' "$tmp/out" \
+    && ok || { bad "docs noise example (exit $rc)"; cat "$tmp/out" "$tmp/err"; }
 expect_error "solve noise with two axes" 2 "--noise '0.1/0.3mm,0.05deg': expected" solve --noise 0.1/0.3mm,0.05deg "$demo/wrist_camera.csv"
 expect_error "solve robot noise per axis" 2 "--robot-noise '0.1/0.1/0.3mm,0.01deg': expected" solve --robot-noise 0.1/0.1/0.3mm,0.01deg "$demo/wrist_camera.csv"
 expect_error "solve bad pair" 2 "--pairs 'p01': expected auto, all, consecutive or ID:ID" solve --pairs p01 "$demo/wrist_camera.csv"
