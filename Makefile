@@ -256,7 +256,7 @@ cli-tests: $(B)/tram $(B)/gen_demo $(if $(findstring sanitize,$(EXTRA_CFLAGS)),,
 	  GEN_IMAGES=$(if $(findstring sanitize,$(EXTRA_CFLAGS)),,$(abspath $(B)/gen_images)) sh tests/cli/run.sh
 
 # Reference checks against SciPy / NumPy (Debian's python3-scipy).
-ref-tests: $(B)/refhelper $(B)/tram $(B)/render_ref
+ref-tests: $(B)/refhelper $(B)/tram $(B)/render_ref $(B)/libtram.so
 	$(TEST_ENV) $(PYTHON) tests/ref/check_rotation_scipy.py $(B)/refhelper
 	$(TEST_ENV) $(PYTHON) tests/ref/check_solve_scipy.py $(B)/tram
 	$(TEST_ENV) $(PYTHON) tests/ref/check_scale_scipy.py $(B)/tram
@@ -269,6 +269,8 @@ ref-tests: $(B)/refhelper $(B)/tram $(B)/render_ref
 	$(TEST_ENV) $(PYTHON) tests/ref/check_plan_numpy.py $(B)/tram
 	$(TEST_ENV) $(PYTHON) tests/ref/check_report_scipy.py $(B)/tram
 	$(TEST_ENV) $(PYTHON) tests/ref/check_tool_numpy.py $(B)/tram
+	$(TEST_ENV) TRAM_LIBRARY=$(abspath $(B)/libtram.so) PYTHONPATH=$(abspath python) \
+	  $(PYTHON) tests/ref/check_noise_scipy.py
 
 # The Python package (python/tram) against the command, SciPy and its docs.
 python-tests: $(B)/tram $(B)/libtram.so

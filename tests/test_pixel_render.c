@@ -32,9 +32,10 @@ static void matrix_of(const cJSON *m, tram_se3 *T)
 
 static double num(const cJSON *o, const char *k) { return cJSON_GetObjectItemCaseSensitive(o, k)->valuedouble; }
 
+/* X errors (mm, deg) of the solve from pixels (al, aa) and of the pose
+ * path on the same corners (bl, ba); the 95% bound of tx and the pixel RMS. */
 static void compare(const tram_records *rec, const tram_camera *cam, const tram_pixel_obs *obs,
-                    const double *xyz, const tram_se3 *Xt, const char *what, size_t found,
-                    double px_err, int strict)
+                    const double *xyz, const tram_se3 *Xt, double out[6])
 {
     tram_error e;
     const tram_se3 X = *Xt;
@@ -68,16 +69,11 @@ static void compare(const tram_records *rec, const tram_camera *cam, const tram_
     tram_solution *b = NULL;
     st = tram_solve(rr, TRAM_SETUP_EYE_IN_HAND, &so, &b, &e);
     if (st != TRAM_OK && st != TRAM_EUNDETERMINED) fail_msg("%s", e.message);
-    double aa, al, ba, bl;
-    tram_se3_distance(&a->X, &X, &aa, &al);
-    tram_se3_distance(&b->X, &X, &ba, &bl);
-    printf("[ figures  ] rendered demo, %s (%zu of %zu boards detected; corner error rms %.3f px): "
-           "X error from pixels %.4f mm / %.5f deg (rms %.3f px, 95%% bound of tx %.4f mm), pose path "
-           "%.4f mm / %.5f deg\n",
-           what, found, rec->count, px_err, al, aa, a->pixels->px.rms, 1.96 * a->unc.sigma[0], bl, ba);
-    assert_true(found >= 10);
-    if (strict) assert_true(al <= bl && aa <= ba);
-    assert_true(al < 0.5 && aa < 0.05);
+    tram_se3_distance(&a->X, &X, &out[1], &out[0]);
+    tram_se3_distance(&b->X, &X, &out[3], &out[2]);
+    out[4] = a->unc.half95[0];
+    out[5] = a->pixels->px.rms;
+    assert_true(out[0] < 0.5 && out[1] < 0.05);
     tram_solution_destroy(a);
     tram_solution_destroy(b);
     tram_records_destroy(rr);
@@ -110,6 +106,7 @@ static void test_rendered_demo(void **state)
     test_rng rng = test_rng_seeded("rendered demo, corner noise", 58000);
     size_t nc = tram_board_corner_count(&board), k = 0;
     double *xyz = malloc(rec->count * nc * 3 * sizeof *xyz);
+    double *tuv = malloc(rec->count * nc * 2 * sizeof *tuv); /* the true corners */
     tram_detect_options dopt;
     tram_detect_options_init(&dopt);
     dopt.threads = 1;
@@ -143,6 +140,8 @@ static void test_rendered_demo(void **state)
                 assert_int_equal(tram_pixel_obs_add(noisy, rec->stations[i].id, pid,
                                                     truth.uv[2 * c] + 0.3 * test_rng_normal(&rng),
                                                     truth.uv[2 * c + 1] + 0.3 * test_rng_normal(&rng), &e), TRAM_OK);
+                tuv[2 * k] = truth.uv[2 * c];
+                tuv[2 * k + 1] = truth.uv[2 * c + 1];
                 tram_board_corner(&board, c, xyz + 3 * k++);
                 det_err2 += tram__sq_t(d->uv[2 * c] - truth.uv[2 * c]) + tram__sq_t(d->uv[2 * c + 1] - truth.uv[2 * c + 1]);
                 det_n++;
@@ -152,8 +151,46 @@ static void test_rendered_demo(void **state)
         render_truth_free(&truth);
         render_image_destroy(im);
     }
-    compare(rec, &cam, obs, xyz, &X, "detector corners", found, sqrt(det_err2 / (double)(det_n ? det_n : 1)), 0);
-    compare(rec, &cam, noisy, xyz, &X, "true corners + 0.3 px", found, 0.3, 1);
+    double f[6];
+    compare(rec, &cam, obs, xyz, &X, f);
+    printf("[ figures  ] rendered demo, detector corners (%zu of %zu boards detected; corner error rms "
+           "%.3f px): X error from pixels %.4f mm / %.5f deg (rms %.3f px, 95%% bound of tx %.4f mm), "
+           "pose path %.4f mm / %.5f deg\n",
+           found, rec->count, sqrt(det_err2 / (double)(det_n ? det_n : 1)), f[0], f[1], f[5], f[4], f[2], f[3]);
+    assert_true(found >= 10);
+    /* True corners + 0.3 px: the solve from pixels is the maximum-likelihood
+     * answer for this noise and the pose path is not, so pixels must do at
+     * least as well - over several noise draws, in RMS: once the pose path
+     * weighs each pose's depth noise as it is (the noise model of
+     * src/solve/noise.c), a single draw can go either way. */
+    enum { DRAWS = 8 };
+    double ss[4] = {0};
+    printf("[ seed     ] rendered demo, corner noise: draw 0 as above, draw k > 0 seed 58000 + 1000 k\n");
+    for (int d = 0; d < DRAWS; d++) {
+        tram_pixel_obs *nz = noisy;
+        if (d > 0) {
+            test_rng rk = {58000 + 1000 * (uint64_t)d};
+            assert_int_equal(tram_pixel_obs_create(cam.width, cam.height, NULL, &nz, &e), TRAM_OK);
+            for (size_t o = 0; o < noisy->n; o++)
+                assert_int_equal(tram_pixel_obs_add(nz, noisy->station_id[noisy->station[o]],
+                                                    noisy->point_id[noisy->point[o]],
+                                                    tuv[2 * o] + 0.3 * test_rng_normal(&rk),
+                                                    tuv[2 * o + 1] + 0.3 * test_rng_normal(&rk), &e),
+                                 TRAM_OK);
+        }
+        compare(rec, &cam, nz, xyz, &X, f);
+        if (d == 0)
+            printf("[ figures  ] rendered demo, true corners + 0.3 px, draw 0: X error from pixels %.4f mm / "
+                   "%.5f deg (rms %.3f px, 95%% bound of tx %.4f mm), pose path %.4f mm / %.5f deg\n",
+                   f[0], f[1], f[5], f[4], f[2], f[3]);
+        for (int q = 0; q < 4; q++) ss[q] += f[q] * f[q] / DRAWS;
+        if (d > 0) tram_pixel_obs_destroy(nz);
+    }
+    for (int q = 0; q < 4; q++) ss[q] = sqrt(ss[q]);
+    printf("[ figures  ] rendered demo, true corners + 0.3 px, %d draws: RMS X error from pixels %.4f mm / "
+           "%.5f deg, pose path %.4f mm / %.5f deg\n", DRAWS, ss[0], ss[1], ss[2], ss[3]);
+    assert_true(ss[0] <= ss[2] && ss[1] <= ss[3]);
+    free(tuv);
     tram_pixel_obs_destroy(noisy);
     tram_records_destroy(rec);
     tram_pixel_obs_destroy(obs);

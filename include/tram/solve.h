@@ -81,6 +81,15 @@ typedef struct tram_solve_options {
     int fit_scale;           /* 0 (default): the sensor's length scale is tested
                                 only; 1: fitted with X and Z (docs/solve.md,
                                 "Sensor length scale")                             */
+    /* The sensor's noise per axis of the sensor's frame (docs/solve.md, "Noise
+     * model"): when all six are > 0 they are used instead of noise_length and
+     * noise_angle_rad (1-sigma; length unit, rad). */
+    double noise_length_axis[3];
+    double noise_angle_axis_rad[3];
+    /* The robot's isotropic noise of the flange pose (1-sigma per axis;
+     * length unit, rad); 0 (default): none modelled apart from the sensor's */
+    double robot_noise_length;
+    double robot_noise_angle_rad;
 } tram_solve_options;
 
 TRAM_API void tram_solve_options_init(tram_solve_options *opt);
@@ -89,7 +98,9 @@ TRAM_API void tram_solve_options_init(tram_solve_options *opt);
  * set by name - for bindings, so that they never depend on the struct's
  * layout.  Names: "method" (a tram_method value), "refine", "robust",
  * "pairs" (a tram_pairs_mode value), "noise_length", "noise_angle_rad",
- * "bootstrap", "seed", "check_conventions", "fit_scale".  _set returns 0, or -1 for an
+ * "noise_length_x" ("_y", "_z"), "noise_angle_rad_x" ("_y", "_z"),
+ * "robot_noise_length", "robot_noise_angle_rad", "bootstrap", "seed",
+ * "check_conventions", "fit_scale".  _set returns 0, or -1 for an
  * unknown name or a value out of range.  destroy(NULL) is a no-op. */
 TRAM_API tram_solve_options *tram_solve_options_create(void);
 TRAM_API int tram_solve_options_set(tram_solve_options *opt, const char *name, double value);
@@ -118,8 +129,10 @@ typedef struct tram_stats {
 } tram_stats;
 
 /* Uncertainty of X and Z.  Index order of the 12 values: X translation
- * x, y, z (length, parent frame), X rotation about its own x, y, z axes
- * (deg), Z translation, Z rotation.  The 95% bound is 1.96 sigma. */
+ * x, y, z (length, along the parent frame's axes), X rotation about its
+ * own x, y, z axes (deg), Z translation, Z rotation.  The 95% bound is
+ * half95 = t_0.975(dof) sigma, Student's t with the degrees of freedom of
+ * each value (docs/solve.md, "Intervals"). */
 typedef struct tram_uncertainty {
     int valid;
     double sigma[12];
@@ -129,6 +142,8 @@ typedef struct tram_uncertainty {
     double bootstrap_sigma[12];
     double bootstrap_lo[12], bootstrap_hi[12]; /* 2.5 and 97.5 percentiles of
                                                   the deviation (deg / length) */
+    double half95[12];   /* 95% half-width, units of sigma                  */
+    double dof[12];      /* degrees of freedom of each sigma (inf: known)   */
 } tram_uncertainty;
 
 /* The sensor's length scale s: sensor lengths (the translations of the
@@ -158,8 +173,17 @@ typedef struct tram_solution {
     tram_station_result *stations;
     size_t n_outliers;
     tram_stats rot_deg, trans; /* over the stations not flagged                */
-    double noise_length, noise_angle_deg; /* per-axis noise used as weights    */
+    double noise_length, noise_angle_deg; /* sensor noise used as weights: RMS
+                                             over the sensor's three axes      */
     int noise_given;
+    int noise_per_axis;       /* 1: per axis; 2: one value for the rotation axes,
+                                 one for translation x and y, one for z; 0: one
+                                 for rotation, one for translation            */
+    double noise_length_axis[3], noise_angle_axis_deg[3]; /* per axis of the
+                                 sensor's frame                                */
+    double noise_dof[6];      /* degrees of freedom of the estimates (rotation
+                                 x y z, translation x y z; inf when given)     */
+    double robot_noise_length, robot_noise_angle_deg; /* the robot term used   */
     tram_uncertainty unc;
     /* observability (Tsai & Lenz 1989's station advice) */
     double motion_min_deg, motion_max_deg; /* relative rotation angles         */

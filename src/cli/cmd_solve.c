@@ -30,8 +30,11 @@ const char cli_solve_help[] =
     "                    or a selection of station ids, e.g. p01:p02,p01:p07,p03:p09\n"
     "  --closed-form     report the closed form only, without refinement\n"
     "  --no-robust       plain least squares, no outlier exclusion\n"
-    "  --noise LEN,ANG   per-axis station noise used as weights, e.g. 0.2mm,0.05deg\n"
-    "                    (default: estimated from the residuals)\n"
+    "  --noise LEN,ANG   the sensor's noise (1-sigma) used as weights, one value or\n"
+    "                    three for the sensor frame's x/y/z axes, e.g. 0.2mm,0.05deg or\n"
+    "                    0.1/0.1/0.3mm,0.05deg (default: estimated from the residuals)\n"
+    "  --robot-noise LEN,ANG   the robot's isotropic noise of the flange pose, e.g.\n"
+    "                    0.02mm,0.005deg (default: none apart from the sensor's)\n"
     "  --bootstrap N     N station resamples as a second opinion on the uncertainty\n"
     "  --seed N          bootstrap seed (default 1)\n"
     "  --no-convention-check   skip re-solving under the usual convention mistakes\n"
@@ -85,28 +88,49 @@ static void progress(void *ctx, const char *what, size_t done, size_t total)
     if (done == total) fputc('\n', stderr);
 }
 
-static int parse_noise(const char *v, double *len, double *ang, tram_length_unit file_unit,
-                       int *len_unit_given, tram_length_unit *len_unit)
+/* One or three '/'-separated positive numbers, then text up to `stop`
+ * (the unit) into u; the numbers into v[3] (one number: all three).
+ * Returns the end of the unit, or NULL. */
+static const char *noise_values(const char *p, char stop, double v[3], char *u, size_t usz)
 {
-    /* "0.2mm,0.05deg" */
-    const char *comma = strchr(v, ',');
-    if (!comma) return -1;
+    int k = 0;
     char *end;
-    *len = strtod(v, &end);
-    if (end == v || !(*len > 0)) return -1;
-    char u[8] = {0};
-    size_t ul = (size_t)(comma - end);
-    if (ul == 0 || ul >= sizeof u) return -1;
-    memcpy(u, end, ul);
-    *len_unit = tram_unit_length_parse(u);
-    if (*len_unit == TRAM_LENGTH_UNSET) return -1;
-    *len_unit_given = 1;
-    (void)file_unit;
-    *ang = strtod(comma + 1, &end);
-    if (end == comma + 1 || !(*ang > 0)) return -1;
-    tram_angle_unit au = tram_unit_angle_parse(end);
+    for (;;) {
+        v[k] = strtod(p, &end);
+        if (end == p || !(v[k] > 0) || !isfinite(v[k])) return NULL;
+        k++;
+        p = end;
+        if (*p != '/') break;
+        if (k == 3) return NULL;
+        p++;
+    }
+    if (k == 2) return NULL;
+    if (k == 1) v[1] = v[2] = v[0];
+    const char *e = strchr(p, stop);
+    if (!e) e = p + strlen(p);
+    size_t ul = (size_t)(e - p);
+    if (ul == 0 || ul >= usz) return NULL;
+    memcpy(u, p, ul);
+    u[ul] = 0;
+    return e;
+}
+
+/* "0.2mm,0.05deg" or per axis of the sensor's frame "0.1/0.1/0.3mm,
+ * 0.05/0.05/0.08deg": lengths in the records' unit, angles in rad. */
+static int parse_noise(const char *v, double len[3], double ang[3], tram_length_unit file_unit)
+{
+    char u[8];
+    const char *e = noise_values(v, ',', len, u, sizeof u);
+    if (!e || *e != ',') return -1;
+    tram_length_unit lu = tram_unit_length_parse(u);
+    if (lu == TRAM_LENGTH_UNSET) return -1;
+    e = noise_values(e + 1, '\0', ang, u, sizeof u);
+    tram_angle_unit au = e ? tram_unit_angle_parse(u) : TRAM_ANGLE_UNSET;
     if (au == TRAM_ANGLE_UNSET) return -1;
-    *ang *= tram_unit_angle_in_rad(au);
+    for (int k = 0; k < 3; k++) {
+        len[k] *= tram_unit_length_factor(lu, file_unit);
+        ang[k] *= tram_unit_angle_in_rad(au);
+    }
     return 0;
 }
 
@@ -183,8 +207,7 @@ static void print_transform(const char *name, const char *meaning, const tram_se
     if (sig_ok)
         printf("    1-sigma / 95%%          %12.6f %12.6f %12.6f  /  +-%.4g +-%.4g +-%.4g\n",
                s->unc.sigma[off], s->unc.sigma[off + 1], s->unc.sigma[off + 2],
-               1.96 * s->unc.sigma[off], 1.96 * s->unc.sigma[off + 1],
-               1.96 * s->unc.sigma[off + 2]);
+               s->unc.half95[off], s->unc.half95[off + 1], s->unc.half95[off + 2]);
     printf("  quaternion (w, x, y, z)  %12.9f %12.9f %12.9f %12.9f\n", q.w, q.x, q.y, q.z);
     printf("  rotation vector (deg)    %12.6f %12.6f %12.6f   angle %.6f\n", w[0] * RAD2DEG,
            w[1] * RAD2DEG, w[2] * RAD2DEG,
@@ -193,8 +216,7 @@ static void print_transform(const char *name, const char *meaning, const tram_se
         printf("    rotation 1-sigma (deg, about own x y z) %.4g %.4g %.4g  (95%%: +-%.4g +-%.4g "
                "+-%.4g)\n",
                s->unc.sigma[off + 3], s->unc.sigma[off + 4], s->unc.sigma[off + 5],
-               1.96 * s->unc.sigma[off + 3], 1.96 * s->unc.sigma[off + 4],
-               1.96 * s->unc.sigma[off + 5]);
+               s->unc.half95[off + 3], s->unc.half95[off + 4], s->unc.half95[off + 5]);
     if (s->unc.bootstrap_valid)
         printf("    bootstrap 1-sigma: translation %.4g %.4g %.4g %s, rotation %.4g %.4g %.4g "
                "deg (%zu resamples)\n",
@@ -203,6 +225,39 @@ static void print_transform(const char *name, const char *meaning, const tram_se
                s->unc.bootstrap_sigma[off + 4], s->unc.bootstrap_sigma[off + 5],
                s->unc.bootstrap_used);
     printf("\n");
+}
+
+/* The noise model used as weights (docs/solve.md, "Noise model"). */
+static void print_noise(const tram_solution *s, const char *u)
+{
+    if (isnan(s->noise_angle_deg)) {
+        printf("\nnoise per axis (%s): %.4g %s (points carry no angle)\n",
+               s->noise_given ? "given" : "estimated from the residuals", s->noise_length, u);
+        return;
+    }
+    if (!s->refined || s->pixels || s->points) {
+        printf("\nnoise per axis (%s): %.4g deg, %.4g %s\n",
+               s->noise_given ? "given" : "estimated from the residuals", s->noise_angle_deg,
+               s->noise_length, u);
+        return;
+    }
+    const double *a = s->noise_angle_axis_deg, *l = s->noise_length_axis;
+    printf("\nsensor noise, 1-sigma per axis of the sensor frame (%s): rotation %.4g %.4g %.4g deg, "
+           "translation %.4g %.4g %.4g %s\n",
+           s->noise_given               ? "given"
+           : s->noise_per_axis == 1     ? "estimated from the residuals"
+           : s->noise_per_axis == 2     ? "estimated from the residuals, one value for the rotation "
+                                          "axes, one for x and y, one for z"
+                                        : "estimated from the residuals, one value for the 3 axes",
+           a[0], a[1], a[2], l[0], l[1], l[2], u);
+    if (!s->noise_given)
+        printf("  degrees of freedom of the estimates: rotation %.3g %.3g %.3g, translation %.3g "
+               "%.3g %.3g\n",
+               s->noise_dof[0], s->noise_dof[1], s->noise_dof[2], s->noise_dof[3], s->noise_dof[4],
+               s->noise_dof[5]);
+    if (s->robot_noise_length > 0 || s->robot_noise_angle_deg > 0)
+        printf("  robot noise (given, isotropic): %.4g deg, %.4g %s\n", s->robot_noise_angle_deg,
+               s->robot_noise_length, u);
 }
 
 static const char *sev(tram_severity s)
@@ -354,13 +409,7 @@ static void print_summary(const tram_solution *s, const tram_records *r)
         }
         cli_print_pixels(s, r);
         print_scale(s);
-        if (isnan(s->noise_angle_deg))
-            printf("\nnoise per axis (%s): %.4g %s (points carry no angle)\n",
-                   s->noise_given ? "given" : "estimated from the residuals", s->noise_length, u);
-        else
-            printf("\nnoise per axis (%s): %.4g deg, %.4g %s\n",
-                   s->noise_given ? "given" : "estimated from the residuals", s->noise_angle_deg,
-                   s->noise_length, u);
+        print_noise(s, u);
     }
     printf("observability: rotation between stations %.2f .. %.2f deg, axis spread %.2f deg",
            s->motion_min_deg, s->motion_max_deg, s->axis_spread_deg);
@@ -384,7 +433,8 @@ static void print_summary(const tram_solution *s, const tram_records *r)
 
 /* Everything the command line asked for. */
 typedef struct solve_args {
-    const char *file, *out_path, *noise, *method, *pair_sel, *chain, *tool, *points, *model, *plot_dir;
+    const char *file, *out_path, *noise, *robot_noise, *method, *pair_sel, *chain, *tool, *points, *model,
+        *plot_dir;
     tram_solve_options so;
     tram_read_options ro;
     tram_setup setup;
@@ -539,6 +589,7 @@ static int parse_args(int argc, char **argv, solve_args *a)
         if (take_solver_option(argc, argv, &i, a, &bad, &rc) ||
             take_trust_option(argc, argv, &i, a, &bad, &rc)) {
             if (rc != CLI_EXIT_OK) return rc;
+        } else if (cli_take(argc, argv, &i, "--robot-noise", &a->robot_noise, &bad)) {
         } else if (cli_take(argc, argv, &i, "--noise", &a->noise, &bad)) {
         } else if (cli_take(argc, argv, &i, "--chain", &a->chain, &bad)) {
         } else if (cli_take(argc, argv, &i, "--tool", &a->tool, &bad)) {
@@ -616,14 +667,27 @@ static int resolve_setup(const tram_records *r, solve_args *a)
 static int apply_record_options(const tram_records *r, solve_args *a, tram_pair **pair_list)
 {
     if (a->noise) {
-        double len, ang;
-        int given = 0;
-        tram_length_unit nu;
-        if (parse_noise(a->noise, &len, &ang, r->length_unit, &given, &nu) != 0)
-            return cli_usage_error("solve", "--noise '%s': expected LENGTH,ANGLE with units, e.g. "
-                                            "0.2mm,0.05deg", a->noise);
-        a->so.noise_length = len * tram_unit_length_factor(nu, r->length_unit);
-        a->so.noise_angle_rad = ang;
+        double len[3], ang[3];
+        if (parse_noise(a->noise, len, ang, r->length_unit) != 0)
+            return cli_usage_error("solve", "--noise '%s': expected LENGTH,ANGLE with units, each "
+                                            "one value or three per sensor axis, e.g. 0.2mm,0.05deg "
+                                            "or 0.1/0.1/0.3mm,0.05deg", a->noise);
+        for (int k = 0; k < 3; k++) {
+            a->so.noise_length_axis[k] = len[k];
+            a->so.noise_angle_axis_rad[k] = ang[k];
+        }
+        a->so.noise_length = sqrt((len[0] * len[0] + len[1] * len[1] + len[2] * len[2]) / 3);
+        a->so.noise_angle_rad = sqrt((ang[0] * ang[0] + ang[1] * ang[1] + ang[2] * ang[2]) / 3);
+    }
+    if (a->robot_noise) {
+        double len[3], ang[3];
+        if (parse_noise(a->robot_noise, len, ang, r->length_unit) != 0 || len[1] != len[0] ||
+            len[2] != len[0] || ang[1] != ang[0] || ang[2] != ang[0])
+            return cli_usage_error("solve", "--robot-noise '%s': expected LENGTH,ANGLE with units "
+                                            "(one value each), e.g. 0.02mm,0.005deg",
+                                   a->robot_noise);
+        a->so.robot_noise_length = len[0];
+        a->so.robot_noise_angle_rad = ang[0];
     }
     if (a->pair_sel) {
         int prc = parse_pairs(a->pair_sel, r, pair_list, &a->so.npair_list);

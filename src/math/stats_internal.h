@@ -1,5 +1,6 @@
 /*
- * stats_internal.h - order statistics without allocation (stats.c).
+ * stats_internal.h - order statistics without allocation, and the t and F
+ * quantiles (stats.c).
  */
 #ifndef TRAM_STATS_INTERNAL_H
 #define TRAM_STATS_INTERNAL_H
@@ -21,5 +22,20 @@ double tram__robust_sigma3(const double *norms, size_t n);
 
 /* Median of get(ctx, 0 .. n-1) without a copy; 0 for n = 0. */
 double tram__median_of(size_t n, double (*get)(const void *ctx, size_t i), const void *ctx);
+
+/* Regularised incomplete beta function I_x(a, b) (a, b > 0); 0 for
+ * x <= 0 and 1 for x >= 1. */
+double tram__beta_inc(double a, double b, double x);
+
+/* Quantile of Student's t with nu (> 0, not necessarily whole) degrees
+ * of freedom at probability p in (0, 1); NaN outside. */
+double tram__t_quantile(double p, double nu);
+
+/* Quantile of Fisher's F(d1, d2) at probability p in (0, 1); NaN outside. */
+double tram__f_quantile(double p, double d1, double d2);
+
+/* Quantile of the chi-square distribution with k (> 0) degrees of freedom
+ * at probability p in (0, 1); NaN outside. */
+double tram__chi2_quantile(double p, double k);
 
 #endif

@@ -111,6 +111,15 @@ double tram__length_scale(const tram_se3 *P, const tram_se3 *S, size_t n)
     return m > 0 ? m : 1.0;
 }
 
+void tram__unc_intervals(tram_uncertainty *u, double dof)
+{
+    double t = dof > 0 ? tram__t_quantile(0.975, dof) : NAN;
+    for (int a = 0; a < 12; a++) {
+        u->dof[a] = dof > 0 ? dof : NAN;
+        u->half95[a] = t * u->sigma[a];
+    }
+}
+
 void tram__floor_noise(double *sa, double *sl, double lscale)
 {
     /* Noise-free data: keep the weights finite. */

@@ -36,6 +36,10 @@ void tram__pixel_result_free(struct tram_pixel_result *p);
  * origins: the problem's length scale (1 when it is 0). */
 double tram__length_scale(const tram_se3 *P, const tram_se3 *S, size_t n);
 
+/* 95% half-widths of u's sigmas with Student's t at dof degrees of
+ * freedom, the same for all 12 (NaN when dof <= 0). */
+void tram__unc_intervals(tram_uncertainty *u, double dof);
+
 /* Floor the noise of noise-free data so that weights stay finite. */
 void tram__floor_noise(double *sa, double *sl, double lscale);
 

@@ -372,6 +372,7 @@ static tram_status pixel_covariance(pctx *c, work *wk, tram_solution *sol, tram_
         for (int b = 0; b < 12; b++) sol->unc.cov[a * 12 + b] = Hi[a * np + b] * s2;
     }
     sol->unc.valid = 1;
+    tram__unc_intervals(&sol->unc, dof);
     for (int k = 0; k < c->ncam; k++)
         pr->camera_sigma[c->cam_idx[k]] = sqrt(fmax(Hi[(12 + k) * np + 12 + k] * s2, 0.0));
     if (c->ncam == 0 && cam_cov) {

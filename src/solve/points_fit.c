@@ -15,6 +15,7 @@
  * Umeyama, IEEE Trans. PAMI 13(4), 1991) and reports it (scale.c).
  */
 #include "solve/points_fit_internal.h"
+#include "solve/pipeline_internal.h"
 #include "math/linalg_internal.h"
 #include "math/stats_internal.h"
 #include "solve/scale_internal.h"
@@ -345,7 +346,8 @@ static int pub_param(int a)
 
 /* The first nblk*6 public sigmas and covariance of sol from the
  * refinement's covariance (parameter order, length and rad). */
-void tram__pts_store_uncertainty(const double cov[144], int nblk, double cond, tram_solution *sol)
+void tram__pts_store_uncertainty(const double cov[144], int nblk, double cond, double dof,
+                                 tram_solution *sol)
 {
     for (int a = 0; a < 6 * nblk; a++) {
         int q = pub_param(a);
@@ -354,6 +356,7 @@ void tram__pts_store_uncertainty(const double cov[144], int nblk, double cond, t
         for (int b = 0; b < 6 * nblk; b++) sol->unc.cov[a * 12 + b] = cov[q * 12 + pub_param(b)];
     }
     sol->unc.valid = 1;
+    tram__unc_intervals(&sol->unc, dof); /* Student-t half-widths */
     sol->condition = cond;
 }
 

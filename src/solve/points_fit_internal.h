@@ -78,7 +78,8 @@ tram_status tram__pts_stats(const tram_records *r, const tram_point_obs *obs,
 
 /* The first nblk*6 public sigmas and covariance of sol from the
  * refinement's covariance (parameter order, length and rad). */
-void tram__pts_store_uncertainty(const double cov[144], int nblk, double cond, tram_solution *sol);
+void tram__pts_store_uncertainty(const double cov[144], int nblk, double cond, double dof,
+                                 tram_solution *sol);
 
 /* Sum of squared residual norms of the observations used (not excluded,
  * of a station with weight w > 0; w NULL: all stations); *k their count. */

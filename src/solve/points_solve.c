@@ -16,8 +16,10 @@
  * re-solved; then X is refined by variable projection (Golub & Pereyra,
  * SIAM J. Numer. Anal. 10(2), 1973): for each X the q_k are their least-
  * squares values, the mean of P_i X p over the point's observations.
- * Observations whose residual exceeds 4.59 robust sigmas (as for stations
- * in solve.c) are excluded and the refinement repeated.
+ * Observations whose residual exceeds sqrt(chi2_3(1 - 0.01 / n)) robust
+ * sigmas (n observations: Bonferroni's bound keeps the rate of honest
+ * files with any exclusion at 1%, as for stations in solve_refine.c) are
+ * excluded and the refinement repeated.
  * The residuals, the linear start and the statistics are in points_fit.c;
  * the sensor's length scale (--fit-scale) is one more parameter of both
  * refinements (scale.c).
@@ -37,7 +39,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#define OUTLIER_K 4.5943
+#define FAMILY_ALPHA 0.01 /* rate of honest files with any observation excluded */
 
 /* Model coordinates per observed point id into mxyz (3 per id). */
 static tram_status model_lookup(const tram_point_obs *obs, const tram_point_model *model,
@@ -129,7 +131,7 @@ static tram_status refine_on_points(const tram_records *rr, const tram_point_obs
         double cov[144], cond, var = NAN;
         tram_status cs = tram__refine_covariance_scale(&pb, w, &sol->X, &sol->Z, 1.0, cov, &cond, &var, NULL);
         if (cs == TRAM_OK) {
-            tram__pts_store_uncertainty(cov, 2, cond, sol);
+            tram__pts_store_uncertainty(cov, 2, cond, dof, sol);
             sol->unc.bootstrap_valid = 0; /* it measured the pose refinement */
         }
         st = cs == TRAM_ENOMEM ? cs
@@ -325,9 +327,10 @@ static tram_status free_fit(const tram_records *r, tram_setup setup, const tram_
             return tram__fail(err, st, NULL, 0, 0,
                               st == TRAM_ENOMEM ? "out of memory" : "point refinement failed");
         if (!robust) break;
+        double k_out = sqrt(tram__chi2_quantile(1.0 - FAMILY_ALPHA / (double)obs->n, 3.0));
         size_t nex = 0;
         for (size_t o = 0; o < obs->n; o++) {
-            d->excluded[o] = d->res[o] > OUTLIER_K * sig && d->res[o] > 1e-9;
+            d->excluded[o] = d->res[o] > k_out * sig && d->res[o] > 1e-9;
             nex += (size_t)d->excluded[o];
         }
         if (nex == 0) break;
@@ -385,7 +388,7 @@ static tram_status free_uncertainty(const tram_point_obs *obs, int fit_scale, tr
                                                              &cond, &var, NULL)
                              : TRAM_EUNDETERMINED;
     if (cs == TRAM_ENOMEM) return cs; /* an uncertainty lost to memory is a failure */
-    if (cs == TRAM_OK) tram__pts_store_uncertainty(cov, 1, cond, sol);
+    if (cs == TRAM_OK) tram__pts_store_uncertainty(cov, 1, cond, dof, sol);
     sol->noise_length = sig;
     sol->noise_angle_deg = NAN;
     *noise = sig;

@@ -9,7 +9,7 @@
  * weighted by Cauchy's loss, w_i = 1 / (1 + (u_i / c)^2), u_i^2 = |r_i|^2
  * / 6, c = 2.3849 (Holland & Welsch, Commun. Statist. A6(9), 1977), with
  * the noise from the medians of the closed form's residuals, and the
- * Jacobian in closed form (the SO(3) Jacobians, not finite differences).
+ * Jacobian in closed form (refine.c's, the SO(3) Jacobians).
  * A reading
  * that does not fit cannot be made to fit by more iterations, so the
  * cost of a wrong reading is bounded by the cap instead of by the full
@@ -27,70 +27,6 @@
 
 #define CAUCHY_C 2.3849
 
-/* Inverse right Jacobian of SO(3) at phi (Chirikjian, "Stochastic Models,
- * Information Theory, and Lie Groups", vol. 2, 2012):
- *   Jr^-1 = I + 1/2 [phi]x + (1/th^2 - (1 + cos th) / (2 th sin th)) [phi]x^2,
- * and Jl^-1(phi) = Jr^-1(-phi). */
-static void jr_inv(const double phi[3], double sign, double J[3][3])
-{
-    double p[3] = {sign * phi[0], sign * phi[1], sign * phi[2]};
-    double th2 = p[0] * p[0] + p[1] * p[1] + p[2] * p[2], th = sqrt(th2);
-    double c = th < 1e-6 ? 1.0 / 12.0 : 1.0 / th2 - (1.0 + cos(th)) / (2.0 * th * sin(th));
-    if (th > 3.1) c = 1.0 / th2; /* near pi the series is ill-defined; a bounded step */
-    tram_mat3 K;
-    tram_so3_hat(p, &K);
-    for (int i = 0; i < 3; i++)
-        for (int j = 0; j < 3; j++) {
-            double k2 = 0;
-            for (int m = 0; m < 3; m++) k2 += K.m[i][m] * K.m[m][j];
-            J[i][j] = (i == j) + 0.5 * K.m[i][j] + c * k2;
-        }
-}
-
-/* Whitened residual of one station and its analytic Jacobian in the
- * parameters of tram__refine_apply (w_X, dt_X, w_Z, dt_Z).  With
- * D = R_Z^T R_P R_X R_S and phi = log D: a rotation w_X of X on the right
- * gives D exp(R_S^T w_X), a rotation w_Z of Z gives exp(-w_Z) D; the
- * translation R_P (R_X t_S + t_X) + t_P - t_Z moves by -R_P R_X [t_S]x w_X,
- * R_P dt_X and -dt_Z. */
-static void station_jacobian(const tram_se3 *P, const tram_se3 *S, const tram_se3 *X,
-                             const tram_se3 *Z, double inv_sa, double inv_sl, double r[6],
-                             double J[6][12])
-{
-    tram__refine_residual(P, S, X, Z, r);
-    tram_mat3 RP, RX, RS, RPX;
-    double tS[3];
-    tram_se3_to_rt(P, &RP, NULL);
-    tram_se3_to_rt(X, &RX, NULL);
-    tram_se3_to_rt(S, &RS, tS);
-    tram_so3_mul(&RP, &RX, &RPX);
-    double Jr[3][3], Jl[3][3];
-    jr_inv(r, 1.0, Jr);
-    jr_inv(r, -1.0, Jl);
-    memset(J, 0, 6 * 12 * sizeof(double));
-    for (int i = 0; i < 3; i++)
-        for (int j = 0; j < 3; j++) {
-            double a = 0; /* (Jr^-1 R_S^T)_ij */
-            for (int m = 0; m < 3; m++) a += Jr[i][m] * RS.m[j][m];
-            J[i][j] = a * inv_sa;
-            J[i][6 + j] = -Jl[i][j] * inv_sa;
-        }
-    tram_mat3 K;
-    tram_so3_hat(tS, &K);
-    for (int i = 0; i < 3; i++)
-        for (int j = 0; j < 3; j++) {
-            double a = 0;
-            for (int m = 0; m < 3; m++) a += RPX.m[i][m] * K.m[m][j];
-            J[3 + i][j] = -a * inv_sl;
-            J[3 + i][3 + j] = RP.m[i][j] * inv_sl;
-            J[3 + i][9 + j] = -(double)(i == j) * inv_sl;
-        }
-    for (int k = 0; k < 3; k++) {
-        r[k] *= inv_sa;
-        r[3 + k] *= inv_sl;
-    }
-}
-
 /* Cauchy-weighted cost and, when H != NULL, the normal equations. */
 static double weighted_system(const tram_se3 *P, const tram_se3 *S, size_t n, const tram_se3 *X,
                               const tram_se3 *Z, double inv_sa, double inv_sl, double H[144],
@@ -104,7 +40,7 @@ static double weighted_system(const tram_se3 *P, const tram_se3 *S, size_t n, co
     for (size_t i = 0; i < n; i++) {
         double r[6], J[6][12];
         if (H) {
-            station_jacobian(&P[i], &S[i], X, Z, inv_sa, inv_sl, r, J);
+            tram__refine_station_jacobian(&P[i], &S[i], X, Z, inv_sa, inv_sl, 0.0, r, J);
         } else {
             tram__refine_residual(&P[i], &S[i], X, Z, r);
             for (int k = 0; k < 3; k++) {

@@ -9,9 +9,16 @@
  * Zhat_i = P_i X S_i the target pose predicted by the station:
  *     r_i = ( log(R_Z^T R_Zhat_i) / sigma_angle ,  (t_Zhat_i - t_Z) / sigma_length )
  * i.e. the rotation and translation between prediction and observation,
- * each scaled by its per-axis noise.  Minimised by Levenberg-Marquardt
- * (Marquardt, SIAM J. Appl. Math. 11(2), 1963) with a central-difference
- * Jacobian; the normal equations are solved through LAPACKE (dposv).
+ * each whitened by the station's noise (noise.c: per-axis noise in the
+ * sensor's frame plus the robot's) or scaled by per-axis sigmas.
+ * Minimised by Levenberg-Marquardt (Marquardt, SIAM J. Appl. Math. 11(2),
+ * 1963) with the analytic Jacobian on SE(3): with D = R_Z^T R_P R_X R_S
+ * and phi = log D, a rotation w_X of X on the right gives D exp(R_S^T w_X),
+ * a rotation w_Z of Z gives exp(-w_Z) D, so d phi = Jr^-1(phi) R_S^T w_X
+ * - Jl^-1(phi) w_Z; the translation R_P (R_X t_S + t_X) + t_P - t_Z moves
+ * by -R_P R_X [t_S]x w_X + R_P dt_X - dt_Z (generic residual blocks keep
+ * central differences); the normal equations are solved through LAPACKE
+ * (dposv).
  * The robust loss is Cauchy's, applied per station by iteratively
  * reweighted least squares: w_i = 1 / (1 + (u_i / c)^2), u_i^2 = |r_i|^2 / 6,
  * c = 2.3849 (95% efficiency at the normal; Holland & Welsch, Commun.
@@ -69,28 +76,109 @@ void tram__refine_residual(const tram_se3 *P, const tram_se3 *S, const tram_se3 
     for (int i = 0; i < 3; i++) r[3 + i] = th[i] - tZ[i];
 }
 
-/* Weighted residual and its Jacobian (central differences) for one station. */
-void tram__refine_station_jacobian(const tram_se3 *P, const tram_se3 *S, const tram_se3 *X,
-                             const tram_se3 *Z, double inv_sa, double inv_sl, double ht,
-                             double r[6], double J[6][NP])
+/* Inverse right Jacobian of SO(3) at phi (Chirikjian, "Stochastic Models,
+ * Information Theory, and Lie Groups", vol. 2, 2012):
+ *   Jr^-1 = I + 1/2 [phi]x + (1/th^2 - (1 + cos th) / (2 th sin th)) [phi]x^2,
+ * and Jl^-1(phi) = Jr^-1(-phi). */
+static void jr_inv(const double phi[3], double sign, double J[3][3])
+{
+    double p[3] = {sign * phi[0], sign * phi[1], sign * phi[2]};
+    double th2 = p[0] * p[0] + p[1] * p[1] + p[2] * p[2], th = sqrt(th2);
+    double c = th < 1e-6 ? 1.0 / 12.0 : 1.0 / th2 - (1.0 + cos(th)) / (2.0 * th * sin(th));
+    if (th > 3.1) c = 1.0 / th2; /* near pi the series is ill-defined; a bounded step */
+    tram_mat3 K;
+    tram_so3_hat(p, &K);
+    for (int i = 0; i < 3; i++)
+        for (int j = 0; j < 3; j++) {
+            double k2 = 0;
+            for (int m = 0; m < 3; m++) k2 += K.m[i][m] * K.m[m][j];
+            J[i][j] = (i == j) + 0.5 * K.m[i][j] + c * k2;
+        }
+}
+
+void tram__refine_station_raw(const tram_se3 *P, const tram_se3 *S, const tram_se3 *X,
+                              const tram_se3 *Z, double r[6], double J[6][NP])
 {
     tram__refine_residual(P, S, X, Z, r);
-    for (int k = 0; k < 3; k++) {
-        r[k] *= inv_sa;
-        r[3 + k] *= inv_sl;
+    tram_mat3 RP, RX, RS, RPX, K;
+    double tS[3], Jr[3][3], Jl[3][3];
+    tram_se3_to_rt(P, &RP, NULL);
+    tram_se3_to_rt(X, &RX, NULL);
+    tram_se3_to_rt(S, &RS, tS);
+    tram_so3_mul(&RP, &RX, &RPX);
+    jr_inv(r, 1.0, Jr);
+    jr_inv(r, -1.0, Jl);
+    memset(J, 0, 6 * NP * sizeof(double));
+    for (int i = 0; i < 3; i++)
+        for (int j = 0; j < 3; j++) {
+            double a = 0; /* (Jr^-1 R_S^T)_ij */
+            for (int m = 0; m < 3; m++) a += Jr[i][m] * RS.m[j][m];
+            J[i][j] = a;
+            J[i][6 + j] = -Jl[i][j];
+        }
+    tram_so3_hat(tS, &K);
+    for (int i = 0; i < 3; i++)
+        for (int j = 0; j < 3; j++) {
+            double a = 0;
+            for (int m = 0; m < 3; m++) a += RPX.m[i][m] * K.m[m][j];
+            J[3 + i][j] = -a;
+            J[3 + i][3 + j] = RP.m[i][j];
+            J[3 + i][9 + j] = -(double)(i == j);
+        }
+}
+
+void tram__refine_station_jacobian(const tram_se3 *P, const tram_se3 *S, const tram_se3 *X,
+                                   const tram_se3 *Z, double inv_sa, double inv_sl, double ht,
+                                   double r[6], double J[6][NP])
+{
+    (void)ht; /* the Jacobian is analytic */
+    tram__refine_station_raw(P, S, X, Z, r, J);
+    for (int k = 0; k < 6; k++) {
+        double f = k < 3 ? inv_sa : inv_sl;
+        r[k] *= f;
+        for (int p = 0; p < NP; p++) J[k][p] *= f;
     }
-    for (int p = 0; p < NP; p++) {
-        double x[NP] = {0}, h = (p % 6) < 3 ? 1e-6 : ht, rp[6], rm[6];
-        tram_se3 Xp, Zp;
-        x[p] = h;
-        tram__refine_apply(X, Z, x, &Xp, &Zp);
-        tram__refine_residual(P, S, &Xp, &Zp, rp);
-        x[p] = -h;
-        tram__refine_apply(X, Z, x, &Xp, &Zp);
-        tram__refine_residual(P, S, &Xp, &Zp, rm);
-        for (int k = 0; k < 6; k++)
-            J[k][p] = (rp[k] - rm[k]) / (2 * h) * (k < 3 ? inv_sa : inv_sl);
+}
+
+/* v (3 values, stride `stride`) <- W v for the 3x3 row-major W. */
+static void whiten3(const double *W, double *v, size_t stride)
+{
+    double a = v[0], b = v[stride], c = v[2 * stride];
+    for (int i = 0; i < 3; i++) v[(size_t)i * stride] = W[3 * i] * a + W[3 * i + 1] * b + W[3 * i + 2] * c;
+}
+
+/* Weight a station's raw residual (and Jacobian when J != NULL) in place:
+ * by the per-station whitening of the noise model, or by the sigmas. */
+static void station_weigh(const tram_refine_problem *pb, size_t i, double r[6], double J[6][NP])
+{
+    if (pb->W) {
+        const double *W = pb->W + 18 * i;
+        whiten3(W, r, 1);
+        whiten3(W + 9, r + 3, 1);
+        if (J)
+            for (int p = 0; p < NP; p++) {
+                whiten3(W, &J[0][p], NP);
+                whiten3(W + 9, &J[3][p], NP);
+            }
+        return;
     }
+    for (int k = 0; k < 6; k++) {
+        double f = k < 3 ? 1.0 / pb->sigma_angle : 1.0 / pb->sigma_length;
+        r[k] *= f;
+        if (J)
+            for (int p = 0; p < NP; p++) J[k][p] *= f;
+    }
+}
+
+void tram__refine_weighted(const tram_refine_problem *pb, size_t i, const tram_se3 *X,
+                           const tram_se3 *Z, double r[6], double J[6][NP])
+{
+    tram_se3 S = pb->S[i];
+    if (pb->scale)
+        for (int k = 0; k < 3; k++) S.m[k][3] *= *pb->scale;
+    if (J) tram__refine_station_raw(&pb->P[i], &S, X, Z, r, J);
+    else tram__refine_residual(&pb->P[i], &S, X, Z, r);
+    station_weigh(pb, i, r, J);
 }
 
 static size_t nblocks(const tram_refine_problem *pb) { return pb->eval ? pb->nblocks : pb->n; }
@@ -103,14 +191,7 @@ static size_t block_eval(const tram_refine_problem *pb, size_t i, const tram_se3
                          const tram_se3 *Z, double *r)
 {
     if (pb->eval) return pb->eval(pb, i, X, Z, r);
-    tram_se3 S = pb->S[i];
-    if (pb->scale)
-        for (int k = 0; k < 3; k++) S.m[k][3] *= *pb->scale;
-    tram__refine_residual(&pb->P[i], &S, X, Z, r);
-    for (int k = 0; k < 3; k++) {
-        r[k] /= pb->sigma_angle;
-        r[3 + k] /= pb->sigma_length;
-    }
+    tram__refine_weighted(pb, i, X, Z, r, NULL);
     return 6;
 }
 
@@ -149,6 +230,22 @@ static int scratch_alloc(const tram_refine_problem *pb, scratch *s)
     return 0;
 }
 
+/* Add w J^T J and w J^T r of one block (d rows of J, row stride ld). */
+static void accumulate(int np, size_t ld, size_t d, double w, const double *J, const double *r,
+                       double H[NPX * NPX], double g[NPX])
+{
+    for (int a = 0; a < np; a++) {
+        double ga = 0;
+        for (size_t k = 0; k < d; k++) ga += J[k * ld + (size_t)a] * r[k];
+        g[a] += w * ga;
+        for (int b = a; b < np; b++) {
+            double hsum = 0;
+            for (size_t k = 0; k < d; k++) hsum += J[k * ld + (size_t)a] * J[k * ld + (size_t)b];
+            H[a * np + b] += w * hsum;
+        }
+    }
+}
+
 /* The step x (nparams values) from (X, Z) and the scale: the moved poses,
  * and the moved scale into *scale (unchanged without pb->scale). */
 static void step_apply(const tram_refine_problem *pb, const tram_se3 *X, const tram_se3 *Z,
@@ -173,15 +270,58 @@ static void eval_moved(const tram_refine_problem *pb, size_t i, const tram_se3 *
     if (pb->scale) *pb->scale = s0;
 }
 
-/* Normal equations H = sum w J^T J, g = sum w J^T r at (X, Z), with the
- * Jacobian by central differences over the free parameters. */
-static tram_status normal_equations(const tram_refine_problem *pb, const double *w,
-                                    const tram_se3 *X, const tram_se3 *Z, double H[NPX * NPX],
-                                    double g[NPX])
+/* Station residuals (eval == NULL): the analytic Jacobian. */
+static void normal_stations(const tram_refine_problem *pb, const double *w, const tram_se3 *X,
+                            const tram_se3 *Z, int np, double H[NPX * NPX], double g[NPX])
 {
-    int np = nparams(pb);
-    memset(H, 0, NPX * NPX * sizeof *H);
-    memset(g, 0, NPX * sizeof *g);
+    for (size_t i = 0; i < pb->n; i++) {
+        if (!(w[i] > 0)) continue;
+        double r[6], J[6][NP];
+        tram__refine_weighted(pb, i, X, Z, r, J);
+        accumulate(np, NP, 6, w[i], &J[0][0], r, H, g);
+    }
+}
+
+/* Generic blocks: central differences over the free parameters, with the
+ * 2 np perturbed (X, Z) built once for all blocks (they do not depend on
+ * the block). */
+static tram_status normal_blocks(const tram_refine_problem *pb, const double *w,
+                                 const tram_se3 *X, const tram_se3 *Z, int np,
+                                 double H[NPX * NPX], double g[NPX])
+{
+    scratch sc;
+    if (scratch_alloc(pb, &sc)) return TRAM_ENOMEM;
+    double ht = 1e-4 * pb->length_scale, hs[NP];
+    tram_se3 Xp[2 * NP], Zp[2 * NP];
+    for (int p = 0; p < np; p++) {
+        double x[NP] = {0};
+        hs[p] = (p % 6) < 3 ? 1e-6 : ht;
+        x[p] = hs[p];
+        tram__refine_apply(X, Z, x, &Xp[2 * p], &Zp[2 * p]);
+        x[p] = -hs[p];
+        tram__refine_apply(X, Z, x, &Xp[2 * p + 1], &Zp[2 * p + 1]);
+    }
+    for (size_t i = 0; i < nblocks(pb); i++) {
+        if (!(w[i] > 0)) continue;
+        size_t d = block_eval(pb, i, X, Z, sc.r);
+        for (int p = 0; p < np; p++) {
+            block_eval(pb, i, &Xp[2 * p], &Zp[2 * p], sc.rp);
+            block_eval(pb, i, &Xp[2 * p + 1], &Zp[2 * p + 1], sc.rm);
+            for (size_t k = 0; k < d; k++)
+                sc.J[k * NP + (size_t)p] = (sc.rp[k] - sc.rm[k]) / (2 * hs[p]);
+        }
+        accumulate(np, NP, d, w[i], sc.J, sc.r, H, g);
+    }
+    tram__free(sc.r);
+    return TRAM_OK;
+}
+
+/* With the sensor scale free (pb->scale): central differences over the
+ * nbase pose parameters and the scale, block by block. */
+static tram_status normal_scaled(const tram_refine_problem *pb, const double *w,
+                                 const tram_se3 *X, const tram_se3 *Z, int np,
+                                 double H[NPX * NPX], double g[NPX])
+{
     scratch sc;
     if (scratch_alloc(pb, &sc)) return TRAM_ENOMEM;
     double ht = 1e-4 * pb->length_scale;
@@ -192,22 +332,31 @@ static tram_status normal_equations(const tram_refine_problem *pb, const double 
             double h = p == nbase(pb) ? 1e-6 : (p % 6) < 3 ? 1e-6 : ht;
             eval_moved(pb, i, X, Z, p, h, sc.rp);
             eval_moved(pb, i, X, Z, p, -h, sc.rm);
-            for (size_t k = 0; k < d; k++) sc.J[k * NPX + (size_t)p] = (sc.rp[k] - sc.rm[k]) / (2 * h);
+            for (size_t k = 0; k < d; k++)
+                sc.J[k * NPX + (size_t)p] = (sc.rp[k] - sc.rm[k]) / (2 * h);
         }
-        for (int a = 0; a < np; a++) {
-            double ga = 0;
-            for (size_t k = 0; k < d; k++) ga += sc.J[k * NPX + (size_t)a] * sc.r[k];
-            g[a] += w[i] * ga;
-            for (int b = a; b < np; b++) {
-                double hsum = 0;
-                for (size_t k = 0; k < d; k++) hsum += sc.J[k * NPX + (size_t)a] * sc.J[k * NPX + (size_t)b];
-                H[a * np + b] += w[i] * hsum;
-            }
-        }
+        accumulate(np, NPX, d, w[i], sc.J, sc.r, H, g);
     }
+    tram__free(sc.r);
+    return TRAM_OK;
+}
+
+/* Normal equations H = sum w J^T J, g = sum w J^T r at (X, Z) (np x np,
+ * np = nparams). */
+static tram_status normal_equations(const tram_refine_problem *pb, const double *w,
+                                    const tram_se3 *X, const tram_se3 *Z, double H[NPX * NPX],
+                                    double g[NPX])
+{
+    int np = nparams(pb);
+    memset(H, 0, NPX * NPX * sizeof *H);
+    memset(g, 0, NPX * sizeof *g);
+    tram_status st = TRAM_OK;
+    if (pb->scale) st = normal_scaled(pb, w, X, Z, np, H, g);
+    else if (!pb->eval) normal_stations(pb, w, X, Z, np, H, g);
+    else st = normal_blocks(pb, w, X, Z, np, H, g);
+    if (st != TRAM_OK) return st;
     for (int a = 0; a < np; a++)
         for (int b = 0; b < a; b++) H[a * np + b] = H[b * np + a];
-    tram__free(sc.r);
     return TRAM_OK;
 }
 
@@ -283,6 +432,8 @@ tram_status tram__refine_run(const tram_refine_problem *pb, const double *statio
     tram_status st = TRAM_OK;
     if (!robust) {
         st = lm(pb, w, 100, X, Z, NULL);
+        /* settle station problems to rounding level (tram__refine_polish) */
+        if (st == TRAM_OK && !pb->eval) st = tram__refine_polish(pb, w, 2, X, Z);
     } else {
         /* IRLS: re-derive the Cauchy weights from the residuals, refit. */
         for (int outer = 0; outer < 8 && st == TRAM_OK; outer++) {
@@ -306,6 +457,31 @@ tram_status tram__refine_run(const tram_refine_problem *pb, const double *statio
     }
     tram__free(w);
     tram__free(buf);
+    return st;
+}
+
+tram_status tram__refine_polish(const tram_refine_problem *pb, const double *station_w, int steps,
+                                tram_se3 *X, tram_se3 *Z)
+{
+    size_t nb = nblocks(pb);
+    int np = nparams(pb);
+    double *w = tram__malloc((nb ? nb : 1) * sizeof *w);
+    if (!w) return TRAM_ENOMEM;
+    for (size_t i = 0; i < nb; i++) w[i] = station_w ? station_w[i] : 1.0;
+    tram_status st = TRAM_OK;
+    for (int it = 0; it < steps && st == TRAM_OK; it++) {
+        double H[NPX * NPX], g[NPX], dx[NPX] = {0};
+        if ((st = normal_equations(pb, w, X, Z, H, g)) != TRAM_OK) break;
+        for (int a = 0; a < np; a++) dx[a] = -g[a];
+        if (tram__spd_solve_overwrite(np, H, dx) != TRAM_OK) break; /* singular: keep LM's answer */
+        tram_se3 Xn, Zn;
+        double sn = pb->scale ? *pb->scale : 1.0;
+        step_apply(pb, X, Z, dx, &Xn, &Zn, &sn);
+        if (pb->scale) *pb->scale = sn;
+        *X = Xn;
+        *Z = Zn;
+    }
+    tram__free(w);
     return st;
 }
 

@@ -14,6 +14,10 @@ typedef struct tram_refine_problem {
     double sigma_angle;    /* per-axis rotation noise (rad) used as weight  */
     double sigma_length;   /* per-axis translation noise (length unit)      */
     double length_scale;   /* typical translation size, for the FD step     */
+    const double *W;       /* NULL, or per station the 3x3 whitening of the
+                              rotation residual then of the translation
+                              residual (row-major, 18 values; noise.c),
+                              used instead of the two sigmas               */
     /* Generic residual blocks.  eval == NULL: block i is station i's pose
      * residual weighted by the sigmas.  Otherwise eval fills the weighted
      * residual of block i (at most maxdim values) and returns its length. */
@@ -36,16 +40,30 @@ void tram__refine_apply(const tram_se3 *X0, const tram_se3 *Z0, const double x[1
 /* Unweighted residual of one station: rotation vector (rad), translation. */
 void tram__refine_residual(const tram_se3 *P, const tram_se3 *S, const tram_se3 *X,
                            const tram_se3 *Z, double r[6]);
+/* Unweighted residual of one station and its analytic Jacobian with
+ * respect to the 12 parameters of tram__refine_apply. */
+void tram__refine_station_raw(const tram_se3 *P, const tram_se3 *S, const tram_se3 *X,
+                              const tram_se3 *Z, double r[6], double J[6][12]);
+/* Station i's residual whitened as the problem weighs it (pb->W or the
+ * sigmas), and its Jacobian when J != NULL (pb->eval must be NULL). */
+void tram__refine_weighted(const tram_refine_problem *pb, size_t i, const tram_se3 *X,
+                           const tram_se3 *Z, double r[6], double J[6][12]);
 /* Weighted residual r (rotation / sigma_angle, translation / sigma_length)
  * of one station and its Jacobian with respect to the 12 parameters
- * (central differences; ht is the translation step). */
+ * (analytic; ht, once the finite-difference step, is not used). */
 void tram__refine_station_jacobian(const tram_se3 *P, const tram_se3 *S, const tram_se3 *X,
                                    const tram_se3 *Z, double inv_sa, double inv_sl, double ht,
                                    double r[6], double J[6][12]);
 /* Refine X, Z in place.  station_w: per-station weights (NULL = 1; 0
- * excludes a station).  robust: Cauchy IRLS on top of the weights. */
+ * excludes a station).  robust: Cauchy IRLS on top of the weights;
+ * without it, station problems end with tram__refine_polish. */
 tram_status tram__refine_run(const tram_refine_problem *pb, const double *station_w, int robust,
                              tram_se3 *X, tram_se3 *Z);
+/* `steps` plain Gauss-Newton steps from a converged (X, Z): they settle
+ * the parameters to rounding level, where the cost no longer changes
+ * measurably (so that answers are smooth functions of the data). */
+tram_status tram__refine_polish(const tram_refine_problem *pb, const double *station_w, int steps,
+                                tram_se3 *X, tram_se3 *Z);
 /* Covariance (12x12, parameter units) = scale2 * (J^T W J)^-1 and the
  * condition number of the correlation form of J^T W J; entries of
  * parameters that are not free are NaN. */

@@ -8,23 +8,16 @@
  *  3. Every closed form; the one with the smallest robust residual score
  *     (median rotation and translation residuals, each relative to the best
  *     median over all methods) is the start, unless one is requested.
- *  4. Weights: per-axis noise given by the caller, or estimated robustly
- *     from the residuals (median residual norm / sqrt(2.366), the median of
- *     a chi-square with 3 degrees of freedom being 2.366).
- *  5. Robust refinement (Cauchy loss), noise re-estimated, refined again.
- *  6. Outliers: a station whose rotation or translation residual exceeds
- *     sqrt(chi2_3(0.9999)) = 4.59 robust sigmas (sigma from the median, as
- *     in step 4) is flagged and excluded - a median-based rule in the
- *     spirit of Hampel's (J. Am. Statist. Assoc. 69(346), 1974), scaled for
- *     residual norms of 3-vectors so an honest station is flagged with
- *     probability 1e-4 per residual; the rest are refined by plain least
- *     squares.
- *  7. Noise from the inlier residuals (dof-corrected), covariance
- *     s^2 (J^T W J)^-1, optional station bootstrap.
- *  8. The sensor's length scale, tested or (fit_scale) fitted (scale.c).
- *  9. Convention and unit checks (diagnose.c).
+ *  4. Refinement (solve_refine.c): robust start, feasible generalised
+ *     least squares with the noise model (noise.c: per-axis noise in the
+ *     sensor's frame, a robot term), the per-station outlier test with a
+ *     family-wise rate of 1%, covariance and Student-t intervals, optional
+ *     station bootstrap.
+ *  5. The sensor's length scale, tested or (fit_scale) fitted (scale.c).
+ *  6. Convention and unit checks (diagnose.c), plausibility (plausibility.c).
  */
 #include "solve/refine_internal.h"
+#include "solve/solve_refine_internal.h"
 #include "solve/diagnose_internal.h"
 #include "solve/pipeline_internal.h"
 #include "math/stats_internal.h"
@@ -70,20 +63,6 @@ static tram_status stats_of(const double *v, const int *skip, size_t n, double f
     out->max = mx;
     tram__free(c);
     return TRAM_OK;
-}
-
-/* Outlier rule on residual norms of 3-vectors: flag x_i above
- * sqrt(chi2_3(0.9999)) = 4.59 robust sigmas, sigma = median / sqrt(2.366).
- * The norms of isotropic 3D Gaussian residuals follow sigma * chi_3, so an
- * honest station is flagged with probability 1e-4 per residual (more with
- * few stations, where the median itself is uncertain). */
-#define OUTLIER_K 4.5943 /* sqrt(21.1075), the 0.9999 quantile of chi-square(3) */
-
-static void flag_outliers(const double *x, size_t n, double floor_abs, int *flag)
-{
-    double sigma = tram__robust_sigma3(x, n);
-    for (size_t i = 0; i < n; i++)
-        if (x[i] > OUTLIER_K * sigma && x[i] > floor_abs) flag[i] = 1;
 }
 
 static tram_status pick_start(const tram_se3 *P, const tram_se3 *S, size_t n,
@@ -158,120 +137,149 @@ static tram_status pick_start(const tram_se3 *P, const tram_se3 *S, size_t n,
     return TRAM_OK;
 }
 
-/* Public uncertainty index (translation, rotation per block) to the
- * refinement's parameter index (rotation, translation per block). */
-static int pub_to_param(int a)
+/* The inputs a solve needs; TRAM_EINPUT with the fix otherwise. */
+static tram_status check_inputs(const tram_records *r, tram_setup setup, tram_error *err)
 {
-    int block = a / 6, k = a % 6;
-    return block * 6 + (k < 3 ? 3 + k : k - 3);
+    if (setup == TRAM_SETUP_UNSET)
+        return tram__fail(err, TRAM_EINPUT, r->source, 0, 0,
+                          "no setup: add '# setup: eye-in-hand' (or eye-to-hand) or pass --setup");
+    if (!r->has_block[TRAM_BLOCK_ROBOT] && r->n_joints)
+        return tram__fail(err, TRAM_EINPUT, r->source, 0, 0,
+                          "the record file gives joint readings (joint_1 ...): pass --chain FILE "
+                          "to compute the flange poses");
+    if (!r->has_block[TRAM_BLOCK_ROBOT] || !r->has_block[TRAM_BLOCK_SENSOR])
+        return tram__fail(err, TRAM_EINPUT, r->source, 0, 0,
+                          "solving needs both a robot_ and a sensor_ pose block");
+    return TRAM_OK;
 }
 
-static tram_status refine_all(const tram_se3 *P, const tram_se3 *S, size_t n,
-                              const tram_solve_options *opt, tram_solution *sol, tram_error *err)
+/* An empty solution for n stations of the setup; NULL when out of memory. */
+static tram_solution *solution_create(const tram_records *r, tram_setup setup)
 {
-    double *rot = tram__malloc(3 * n * sizeof *rot);
-    int *flag = tram__calloc(n, sizeof *flag);
-    if (!rot || !flag) {
+    tram_solution *sol = tram__calloc(1, sizeof *sol);
+    if (!sol) return NULL;
+    size_t n = r->count;
+    sol->setup = setup;
+    sol->length_unit = r->length_unit;
+    sol->n = n;
+    sol->trustworthy = 1;
+    sol->X_name = setup == TRAM_SETUP_EYE_IN_HAND ? "T_flange_sensor" : "T_base_sensor";
+    sol->Z_name = setup == TRAM_SETUP_EYE_IN_HAND ? "T_base_target" : "T_flange_target";
+    tram_se3_identity(&sol->X);
+    tram_se3_identity(&sol->Z);
+    sol->stations = tram__calloc(n ? n : 1, sizeof *sol->stations);
+    if (!sol->stations) {
+        tram__free(sol);
+        return NULL;
+    }
+    return sol;
+}
+
+/* The station pairs of the AX=XB closed forms: the caller's selection or
+ * the options' mode.  *pairs is freed by the caller. */
+static tram_status station_pairs(const tram_solve_options *opt, size_t n, tram_pair **pairs,
+                                 size_t *np, tram_error *err)
+{
+    *pairs = NULL;
+    *np = 0;
+    if (opt->npair_list == 0) {
+        if (tram_handeye_pairs(n, opt->pairs, pairs, np) != TRAM_OK)
+            return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
+        return TRAM_OK;
+    }
+    for (size_t k = 0; k < opt->npair_list; k++)
+        if (opt->pair_list[k].i >= n || opt->pair_list[k].j >= n ||
+            opt->pair_list[k].i == opt->pair_list[k].j)
+            return tram__fail(err, TRAM_EINPUT, NULL, 0, 0,
+                              "station pair %zu: expected two different stations of the file", k + 1);
+    *pairs = tram__malloc(opt->npair_list * sizeof **pairs);
+    if (!*pairs) return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
+    memcpy(*pairs, opt->pair_list, opt->npair_list * sizeof **pairs);
+    *np = opt->npair_list;
+    return TRAM_OK;
+}
+
+/* Per-station residuals of the solution and their statistics over the
+ * stations not flagged; TRAM_ENOMEM when out of memory. */
+static tram_status residual_stats(const tram_se3 *P, const tram_se3 *S, size_t n,
+                                  tram_solution *sol)
+{
+    double *rot = tram__malloc(2 * (n ? n : 1) * sizeof *rot);
+    int *skip = tram__malloc((n ? n : 1) * sizeof *skip);
+    if (!rot || !skip) {
         tram__free(rot);
-        tram__free(flag);
-        return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
+        tram__free(skip);
+        return TRAM_ENOMEM;
     }
-    double *tr = rot + n, *w = rot + 2 * n;
-    tram_refine_problem pb = {.P = P, .S = S, .n = n, .sigma_angle = opt->noise_angle_rad,
-                              .sigma_length = opt->noise_length,
-                              .length_scale = tram__length_scale(P, S, n)};
-    int given = opt->noise_angle_rad > 0 && opt->noise_length > 0;
-    tram_status st = TRAM_OK;
-    tram_handeye_residuals(P, S, n, &sol->X, &sol->Z, rot, tr);
-    for (int round = 0; round < 2 && st == TRAM_OK; round++) {
-        if (!given) {
-            pb.sigma_angle = tram__robust_sigma3(rot, n);
-            pb.sigma_length = tram__robust_sigma3(tr, n);
-        }
-        tram__floor_noise(&pb.sigma_angle, &pb.sigma_length, pb.length_scale);
-        st = tram__refine_run(&pb, NULL, opt->robust, &sol->X, &sol->Z);
-        tram_handeye_residuals(P, S, n, &sol->X, &sol->Z, rot, tr);
-        if (!opt->robust) break;
+    tram_handeye_residuals(P, S, n, &sol->X, &sol->Z, rot, rot + n);
+    for (size_t i = 0; i < n; i++) {
+        sol->stations[i].rot_deg = rot[i] * 180.0 / TRAM_PI;
+        sol->stations[i].trans = rot[n + i];
+        skip[i] = sol->stations[i].outlier;
+        sol->n_outliers += (size_t)skip[i];
     }
-    if (st == TRAM_OK && opt->robust) {
-        flag_outliers(rot, n, 1e-9, flag);
-        flag_outliers(tr, n, 1e-9 * pb.length_scale, flag);
-        size_t nout = 0;
-        for (size_t i = 0; i < n; i++) nout += (size_t)flag[i];
-        if (n - nout < 3) memset(flag, 0, n * sizeof *flag); /* too few left: keep all */
-    }
-    for (size_t i = 0; i < n; i++) w[i] = flag[i] ? 0.0 : 1.0;
-    size_t nin = 0;
-    for (size_t i = 0; i < n; i++) nin += flag[i] ? 0 : 1;
-    if (st == TRAM_OK) st = tram__refine_run(&pb, w, 0, &sol->X, &sol->Z);
-    if (st == TRAM_OK) {
-        tram_handeye_residuals(P, S, n, &sol->X, &sol->Z, rot, tr);
-        if (!given && nin > 2) {
-            /* Per-axis noise from the inliers, 6 of the 12 parameters
-             * charged to each of rotation and translation. */
-            double sr = 0, stt = 0;
-            for (size_t i = 0; i < n; i++)
-                if (!flag[i]) {
-                    sr += rot[i] * rot[i];
-                    stt += tr[i] * tr[i];
-                }
-            pb.sigma_angle = sqrt(sr / (double)(3 * nin - 6));
-            pb.sigma_length = sqrt(stt / (double)(3 * nin - 6));
-            tram__floor_noise(&pb.sigma_angle, &pb.sigma_length, pb.length_scale);
-            st = tram__refine_run(&pb, w, 0, &sol->X, &sol->Z);
-            tram_handeye_residuals(P, S, n, &sol->X, &sol->Z, rot, tr);
-        }
-    }
-    if (st == TRAM_OK) {
-        sol->refined = 1;
-        sol->noise_angle_deg = pb.sigma_angle * 180.0 / TRAM_PI;
-        sol->noise_length = pb.sigma_length;
-        sol->noise_given = given;
-        double chi2 = 0;
-        st = tram__refine_chi2(&pb, w, &sol->X, &sol->Z, &chi2);
-        double dof = 6.0 * (double)nin - 12.0;
-        double s2 = dof > 0 ? chi2 / dof : 1.0;
-        tram_status cs = st == TRAM_OK ? tram__refine_covariance(&pb, w, &sol->X, &sol->Z, s2,
-                                                                 sol->unc.cov, &sol->condition)
-                                       : st;
-        if (cs == TRAM_ENOMEM) st = cs; /* an uncertainty lost to memory is a failure */
-        if (cs == TRAM_OK) {
-            sol->unc.valid = 1;
-            /* Public order: translation before rotation in each block. */
-            double c[144];
-            for (int a = 0; a < 12; a++)
-                for (int b = 0; b < 12; b++) c[a * 12 + b] = sol->unc.cov[pub_to_param(a) * 12 + pub_to_param(b)];
-            memcpy(sol->unc.cov, c, sizeof c);
-            for (int a = 0; a < 12; a++) {
-                double sd = sqrt(fmax(sol->unc.cov[a * 12 + a], 0.0));
-                sol->unc.sigma[a] = (a % 6) >= 3 ? sd * 180.0 / TRAM_PI : sd;
-            }
-        } else {
-            sol->condition = INFINITY;
-        }
-        if (st == TRAM_OK && opt->bootstrap > 0) {
-            double sg[12], lo[12], hi[12];
-            size_t used = 0;
-            st = tram__refine_bootstrap(&pb, w, &sol->X, &sol->Z, opt->bootstrap, opt->seed,
-                                        opt->progress, opt->progress_ctx, sg, lo, hi, &used);
-            if (st == TRAM_OK && used > 1) {
-                sol->unc.bootstrap_valid = 1;
-                sol->unc.bootstrap_used = used;
-                for (int a = 0; a < 12; a++) {
-                    int q = pub_to_param(a);
-                    double f = (a % 6) >= 3 ? 180.0 / TRAM_PI : 1.0;
-                    sol->unc.bootstrap_sigma[a] = sg[q] * f;
-                    sol->unc.bootstrap_lo[a] = lo[q] * f;
-                    sol->unc.bootstrap_hi[a] = hi[q] * f;
-                }
-            }
-        }
-    }
-    for (size_t i = 0; i < n; i++) sol->stations[i].outlier = flag[i];
+    tram_status ss = stats_of(rot, skip, n, 180.0 / TRAM_PI, &sol->rot_deg);
+    if (ss == TRAM_OK) ss = stats_of(rot + n, skip, n, 1.0, &sol->trans);
     tram__free(rot);
-    tram__free(flag);
-    if (st == TRAM_ENOMEM) return tram__fail(err, st, NULL, 0, 0, "out of memory");
-    if (st != TRAM_OK) return tram__fail(err, st, NULL, 0, 0, "refinement failed");
+    tram__free(skip);
+    return ss;
+}
+
+/* The outlier and conditioning diagnostics of a solved solution. */
+static tram_status solve_diagnostics(const tram_records *r, tram_solution *sol)
+{
+    size_t n = sol->n;
+    if (sol->n_outliers) {
+        char list[400] = "";
+        size_t used = 0;
+        for (size_t i = 0; i < n && used < sizeof list - 70; i++)
+            if (sol->stations[i].outlier)
+                used += (size_t)snprintf(list + used, sizeof list - used, "%s%s", used ? ", " : "",
+                                         r->stations[i].id);
+        if (3 * sol->n_outliers > n) {
+            if (tram__diag_add(sol, "many-outliers", TRAM_SEVERITY_WARNING,
+                               "%zu of %zu stations disagree with the rest (%s): more than a "
+                               "third, so this is a data problem, not a few bad stations",
+                               sol->n_outliers, n, list) != TRAM_OK)
+                return TRAM_ENOMEM;
+        } else if (tram__diag_add(sol, "outliers", TRAM_SEVERITY_INFO,
+                                  "%zu station(s) flagged as outliers and excluded from the final "
+                                  "refinement: %s",
+                                  sol->n_outliers, list) != TRAM_OK)
+            return TRAM_ENOMEM;
+    }
+    if (sol->refined && !(sol->condition < 1e6) &&
+        tram__diag_add(sol, "ill-conditioned", TRAM_SEVERITY_WARNING,
+                       "the refinement is ill-conditioned (condition %.3g): some directions "
+                       "of the result are barely determined; add stations with larger and "
+                       "more varied rotations",
+                       sol->condition) != TRAM_OK)
+        return TRAM_ENOMEM;
+    return TRAM_OK;
+}
+
+/* Everything after the closed-form start: refinement, residuals, checks. */
+static tram_status solve_stages(const tram_records *r, tram_setup setup, const tram_se3 *P,
+                                tram_se3 *S, const tram_solve_options *opt,
+                                tram_solution *sol, tram_error *err)
+{
+    size_t n = r->count;
+    tram_status st;
+    if (opt->refine && (st = tram__solve_refine(P, S, n, setup, opt, sol, err)) != TRAM_OK)
+        return st;
+    /* The sensor's length scale, tested or fitted (scale.c); a solve from
+     * points or pixels does it on its own residuals. */
+    if (opt->refine && !r->sensor_from_points && tram__scale_poses(P, S, n, opt, sol) != TRAM_OK)
+        return TRAM_ENOMEM;
+    if (residual_stats(P, S, n, sol) != TRAM_OK) return TRAM_ENOMEM;
+    sol->solved = 1;
+    if (solve_diagnostics(r, sol) != TRAM_OK || tram__check_units(r, sol) != TRAM_OK)
+        return TRAM_ENOMEM;
+    if (opt->check_conventions && tram__check_conventions(r, setup, sol, &opt->trust) != TRAM_OK)
+        return TRAM_ENOMEM;
+    /* Plausibility gate, pairing test and mount geometry (plausibility.c). */
+    if (tram__trust_checks(r, setup, P, S, n, &opt->trust, opt->seed, sol) != TRAM_OK)
+        return TRAM_ENOMEM;
     return TRAM_OK;
 }
 
@@ -287,135 +295,34 @@ tram_status tram_solve(const tram_records *r, tram_setup setup, const tram_solve
         opt_in = &defaults;
     }
     const tram_solve_options *opt = opt_in;
-    if (setup == TRAM_SETUP_UNSET)
-        return tram__fail(err, TRAM_EINPUT, r->source, 0, 0,
-                          "no setup: add '# setup: eye-in-hand' (or eye-to-hand) or pass --setup");
-    if (!r->has_block[TRAM_BLOCK_ROBOT] && r->n_joints)
-        return tram__fail(err, TRAM_EINPUT, r->source, 0, 0,
-                          "the record file gives joint readings (joint_1 ...): pass --chain FILE "
-                          "to compute the flange poses");
-    if (!r->has_block[TRAM_BLOCK_ROBOT] || !r->has_block[TRAM_BLOCK_SENSOR])
-        return tram__fail(err, TRAM_EINPUT, r->source, 0, 0,
-                          "solving needs both a robot_ and a sensor_ pose block");
-    tram_solution *sol = tram__calloc(1, sizeof *sol);
+    tram_status st = check_inputs(r, setup, err);
+    if (st != TRAM_OK) return st;
+    tram_solution *sol = solution_create(r, setup);
     if (!sol) return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
-    size_t n = r->count;
-    sol->setup = setup;
-    sol->length_unit = r->length_unit;
-    sol->n = n;
-    sol->trustworthy = 1;
-    sol->X_name = setup == TRAM_SETUP_EYE_IN_HAND ? "T_flange_sensor" : "T_base_sensor";
-    sol->Z_name = setup == TRAM_SETUP_EYE_IN_HAND ? "T_base_target" : "T_flange_target";
-    tram_se3_identity(&sol->X);
-    tram_se3_identity(&sol->Z);
-    sol->stations = tram__calloc(n ? n : 1, sizeof *sol->stations);
+    size_t n = r->count, np = 0;
     tram_se3 *P = NULL, *S = NULL;
     tram_pair *pairs = NULL;
-    size_t np = 0;
-    tram_status st = TRAM_OK;
-    if (!sol->stations || tram__station_poses(r, setup, &P, &S) != TRAM_OK) goto nomem;
-    if (opt->npair_list > 0) {
-        pairs = tram__malloc(opt->npair_list * sizeof *pairs);
-        if (!pairs) goto nomem;
-        for (size_t k = 0; k < opt->npair_list; k++) {
-            if (opt->pair_list[k].i >= n || opt->pair_list[k].j >= n ||
-                opt->pair_list[k].i == opt->pair_list[k].j) {
-                st = tram__fail(err, TRAM_EINPUT, NULL, 0, 0,
-                                "station pair %zu: expected two different stations of the file", k + 1);
-                goto fail;
-            }
-            pairs[k] = opt->pair_list[k];
+    if (tram__station_poses(r, setup, &P, &S) != TRAM_OK) {
+        st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
+    } else if ((st = station_pairs(opt, n, &pairs, &np, err)) == TRAM_OK) {
+        if (tram__observability(P, n, setup, sol)) {
+            st = tram__check_units(r, sol) != TRAM_OK
+                     ? tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory")
+                     : tram__fail(err, TRAM_EUNDETERMINED, r->source, 0, 0, "%s",
+                                  sol->ndiag ? sol->diag[sol->ndiag - 1].message
+                                             : "the data cannot determine the answer");
+        } else if ((st = pick_start(P, S, n, pairs, np, opt, sol, err)) == TRAM_OK &&
+                   (st = solve_stages(r, setup, P, S, opt, sol, err)) == TRAM_ENOMEM) {
+            st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
         }
-        np = opt->npair_list;
-    } else if (tram_handeye_pairs(n, opt->pairs, &pairs, &np) != TRAM_OK) {
-        goto nomem;
     }
-    if (tram__observability(P, n, setup, sol)) {
-        if (tram__check_units(r, sol) != TRAM_OK) goto nomem;
-        tram__free(pairs);
-        tram__free(P);
-        tram__free(S);
-        *out = sol;
-        return tram__fail(err, TRAM_EUNDETERMINED, r->source, 0, 0, "%s",
-                          sol->ndiag ? sol->diag[sol->ndiag - 1].message
-                                     : "the data cannot determine the answer");
-    }
-    st = pick_start(P, S, n, pairs, np, opt, sol, err);
-    if (st != TRAM_OK) goto fail;
-    if (opt->refine) {
-        st = refine_all(P, S, n, opt, sol, err);
-        if (st != TRAM_OK) goto fail;
-        /* The sensor's length scale, tested or fitted (scale.c); a solve
-         * from points or pixels does it on its own residuals. */
-        if (!r->sensor_from_points && tram__scale_poses(P, S, n, opt, sol) != TRAM_OK) goto nomem;
-    }
-    {
-        double *rot = tram__malloc(2 * n * sizeof *rot);
-        int *skip = tram__malloc(n * sizeof *skip);
-        if (!rot || !skip) {
-            tram__free(rot);
-            tram__free(skip);
-            goto nomem;
-        }
-        tram_handeye_residuals(P, S, n, &sol->X, &sol->Z, rot, rot + n);
-        for (size_t i = 0; i < n; i++) {
-            sol->stations[i].rot_deg = rot[i] * 180.0 / TRAM_PI;
-            sol->stations[i].trans = rot[n + i];
-            skip[i] = sol->stations[i].outlier;
-            sol->n_outliers += (size_t)skip[i];
-        }
-        tram_status ss = stats_of(rot, skip, n, 180.0 / TRAM_PI, &sol->rot_deg);
-        if (ss == TRAM_OK) ss = stats_of(rot + n, skip, n, 1.0, &sol->trans);
-        tram__free(rot);
-        tram__free(skip);
-        if (ss != TRAM_OK) goto nomem;
-    }
-    sol->solved = 1;
-    if (sol->n_outliers) {
-        char list[400] = "";
-        size_t used = 0;
-        for (size_t i = 0; i < n && used < sizeof list - 70; i++)
-            if (sol->stations[i].outlier)
-                used += (size_t)snprintf(list + used, sizeof list - used, "%s%s", used ? ", " : "",
-                                         r->stations[i].id);
-        if (3 * sol->n_outliers > n) {
-            if (tram__diag_add(sol, "many-outliers", TRAM_SEVERITY_WARNING,
-                               "%zu of %zu stations disagree with the rest (%s): more than a "
-                               "third, so this is a data problem, not a few bad stations",
-                               sol->n_outliers, n, list) != TRAM_OK)
-                goto nomem;
-        } else if (tram__diag_add(sol, "outliers", TRAM_SEVERITY_INFO,
-                                  "%zu station(s) flagged as outliers and excluded from the final "
-                                  "refinement: %s",
-                                  sol->n_outliers, list) != TRAM_OK)
-            goto nomem;
-    }
-    if (sol->refined && !(sol->condition < 1e6)) {
-        if (tram__diag_add(sol, "ill-conditioned", TRAM_SEVERITY_WARNING,
-                           "the refinement is ill-conditioned (condition %.3g): some directions "
-                           "of the result are barely determined; add stations with larger and "
-                           "more varied rotations",
-                           sol->condition) != TRAM_OK)
-            goto nomem;
-    }
-    if (tram__check_units(r, sol) != TRAM_OK) goto nomem;
-    if (opt->check_conventions && (st = tram__check_conventions(r, setup, sol, &opt->trust)) != TRAM_OK) {
-        st = tram__fail(err, st, NULL, 0, 0, "out of memory");
-        goto fail;
-    }
-    /* Plausibility gate, pairing test and mount geometry (plausibility.c). */
-    if (tram__trust_checks(r, setup, P, S, n, &opt->trust, opt->seed, sol) != TRAM_OK) goto nomem;
     tram__free(pairs);
     tram__free(P);
     tram__free(S);
-    *out = sol;
-    return TRAM_OK;
-nomem:
-    st = tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
-fail:
-    tram__free(pairs);
-    tram__free(P);
-    tram__free(S);
+    if (st == TRAM_OK || st == TRAM_EUNDETERMINED) {
+        *out = sol; /* undetermined: filled, solved = 0 */
+        return st;
+    }
     tram_solution_destroy(sol);
     return st;
 }

@@ -37,6 +37,19 @@ int tram_solve_options_set(tram_solve_options *opt, const char *name, double val
         *(name[6] == 'l' ? &opt->noise_length : &opt->noise_angle_rad) = value;
         return 0;
     }
+    static const char *const axis_names[] = {"noise_length_x", "noise_length_y", "noise_length_z",
+                                             "noise_angle_rad_x", "noise_angle_rad_y",
+                                             "noise_angle_rad_z", "robot_noise_length",
+                                             "robot_noise_angle_rad"};
+    for (int k = 0; k < 8; k++)
+        if (strcmp(name, axis_names[k]) == 0) {
+            if (!(value >= 0) || !isfinite(value)) return -1;
+            double *slot = k < 3 ? &opt->noise_length_axis[k]
+                           : k < 6 ? &opt->noise_angle_axis_rad[k - 3]
+                           : k == 6 ? &opt->robot_noise_length : &opt->robot_noise_angle_rad;
+            *slot = value;
+            return 0;
+        }
     if (strcmp(name, "method") == 0) {
         if (whole(value, 0, (double)TRAM_METHOD_COUNT - 1, &u)) return -1;
         opt->method = (tram_method)u;

@@ -31,8 +31,27 @@ expect_error "register unit conflict" 2 "w3.csv:1: error: the file declares leng
 grep -q 'method: park-martin closed form (not refined)' "$tmp/out" && ok || { bad "solve --method --closed-form"; cat "$tmp/err"; }
 "$TRAM" solve --noise 0.2mm,0.05deg --bootstrap 30 --seed 5 --no-robust --no-convention-check \
     --pairs p01:p02,p01:p07,p03:p09,p04:p12 "$demo/wrist_camera.csv" >"$tmp/out" 2>"$tmp/err"
-grep -q 'noise per axis (given): 0.05 deg, 0.2 mm' "$tmp/out" && grep -q '(30 resamples)' "$tmp/out" && ok || { bad "solve --noise --bootstrap --pairs"; cat "$tmp/out" "$tmp/err"; }
+grep -q 'sensor noise, 1-sigma per axis of the sensor frame (given): rotation 0.05 0.05 0.05 deg, translation 0.2 0.2 0.2 mm' "$tmp/out" && grep -q '(30 resamples)' "$tmp/out" && ok || { bad "solve --noise --bootstrap --pairs"; cat "$tmp/out" "$tmp/err"; }
 expect_error "solve bad noise" 2 "--noise" solve --noise 0.2 "$demo/wrist_camera.csv"
+# per-axis sensor noise (the sensor frame's x/y/z) and the robot's noise (docs/solve.md, "Noise model")
+"$TRAM" solve --json --noise 0.1/0.1/0.3mm,0.05deg --robot-noise 0.02mm,0.005deg --no-convention-check \
+    "$demo/wrist_camera.csv" >"$tmp/out" 2>"$tmp/err"
+if /usr/bin/python3 - "$tmp/out" <<'PY'
+import json, sys
+n = json.load(open(sys.argv[1]))["noise"]
+assert n["source"] == "given" and n["frame"] == "sensor", n
+assert [round(x, 12) for x in n["length_per_axis"]] == [0.1, 0.1, 0.3], n
+assert abs(n["angle_per_axis_deg"][2] - 0.05) < 1e-12 and abs(n["robot_length"] - 0.02) < 1e-12, n
+assert abs(n["robot_angle_deg"] - 0.005) < 1e-12, n
+PY
+then ok; else bad "solve --noise per axis, --robot-noise"; cat "$tmp/err"; fi
+# the docs' example (docs/solve.md, "Noise model"): the demo's bad station p14 is still flagged
+"$TRAM" solve --noise 0.1/0.1/0.3mm,0.05deg --robot-noise 0.02mm,0.005deg "$demo/wrist_camera.csv" >"$tmp/out" 2>"$tmp/err"
+rc=$?
+[ "$rc" -eq 0 ] && grep -q 'robot noise (given, isotropic): 0.005 deg, 0.02 mm' "$tmp/out" && grep -q '^  p14 .*OUTLIER' "$tmp/out" \
+    && ok || { bad "docs noise example (exit $rc)"; cat "$tmp/out" "$tmp/err"; }
+expect_error "solve noise with two axes" 2 "--noise '0.1/0.3mm,0.05deg': expected" solve --noise 0.1/0.3mm,0.05deg "$demo/wrist_camera.csv"
+expect_error "solve robot noise per axis" 2 "--robot-noise '0.1/0.1/0.3mm,0.01deg': expected" solve --robot-noise 0.1/0.1/0.3mm,0.01deg "$demo/wrist_camera.csv"
 expect_error "solve bad pair" 2 "--pairs 'p01': expected auto, all, consecutive or ID:ID" solve --pairs p01 "$demo/wrist_camera.csv"
 expect_error "solve unknown station in pairs" 2 "--pairs: no station 'zz'" solve --pairs p01:zz "$demo/wrist_camera.csv"
 expect_error "solve bad method" 2 "--method" solve --method best "$demo/wrist_camera.csv"

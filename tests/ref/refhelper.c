@@ -14,12 +14,16 @@
  *   apply    q(4) t(3) p(3)     -> 3
  *   mean     n q1(4) .. qn(4)   -> w x y z
  *   chi2q    k z                -> chi-square quantile (tram_check_chi2_quantile)
+ *   tq       p nu               -> Student t quantile (tram__t_quantile, internal)
+ *   fq       p d1 d2            -> F quantile (tram__f_quantile, internal)
+ *   cq       p k                -> chi-square quantile (tram__chi2_quantile, internal)
  */
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
 #include "tram/tram.h"
+#include "math/stats_internal.h"
 
 static void put(const double *v, int n)
 {
@@ -100,6 +104,15 @@ int main(void)
             pose(v, v + 4, &A);
             tram_se3_apply_point(&A, v + 7, out);
             put(out, 3);
+        } else if (strcmp(op, "tq") == 0 && !get(v, 2)) {
+            double q = tram__t_quantile(v[0], v[1]);
+            put(&q, 1);
+        } else if (strcmp(op, "cq") == 0 && !get(v, 2)) {
+            double q = tram__chi2_quantile(v[0], v[1]);
+            put(&q, 1);
+        } else if (strcmp(op, "fq") == 0 && !get(v, 3)) {
+            double q = tram__f_quantile(v[0], v[1], v[2]);
+            put(&q, 1);
         } else if (strcmp(op, "chi2q") == 0 && !get(v, 2)) {
             double q = tram_check_chi2_quantile(v[0], v[1]);
             put(&q, 1);
