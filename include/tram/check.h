@@ -65,6 +65,12 @@ typedef struct tram_calibration {
     tram_diagnostic *diag;
     int has_tool;             /* solved from tool (TCP) poses: tool_frame          */
     tram_se3 T_flange_tool;   /* the tool used (length unit)                       */
+    /* The 95% half-widths the solve reported (uncertainty.<name>.translation_95
+     * and rotation_95_deg: Student-t with the solve's degrees of freedom), in
+     * the public order of cov but rotations in deg; has_half95 0 when the file
+     * has none (then 1.96 sigma is the normal approximation). */
+    int has_half95;
+    double half95[12];
 } tram_calibration;
 
 /* Read a calibration file.  Wrong format, a newer version, missing or

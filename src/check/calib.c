@@ -279,6 +279,31 @@ static tram_status read_input(const char *name, const tram__json_pos *pos, const
     return TRAM_OK;
 }
 
+/* The solve's 95% half-widths of both transforms (optional: kept only
+ * when all twelve are positive numbers). */
+static void read_half95(const cJSON *root, tram_calibration *c)
+{
+    const char *xn = c->setup == TRAM_SETUP_EYE_IN_HAND ? "T_flange_sensor" : "T_base_sensor";
+    const char *zn = c->setup == TRAM_SETUP_EYE_IN_HAND ? "T_base_target" : "T_flange_target";
+    const cJSON *u = cJSON_GetObjectItemCaseSensitive(root, "uncertainty");
+    static const char *const keys[2] = {"translation_95", "rotation_95_deg"};
+    int ok = 1;
+    for (int t = 0; t < 2; t++) {
+        const cJSON *o = cJSON_GetObjectItemCaseSensitive(u, t ? zn : xn);
+        for (int k = 0; k < 2; k++) {
+            const cJSON *v = cJSON_GetObjectItemCaseSensitive(o, keys[k]);
+            if (!cJSON_IsArray(v) || cJSON_GetArraySize(v) != 3) ok = 0;
+            for (int i = 0; ok && i < 3; i++) {
+                const cJSON *x = cJSON_GetArrayItem(v, i);
+                double h = cJSON_IsNumber(x) ? x->valuedouble : NAN;
+                if (!(h > 0) || !isfinite(h)) ok = 0;
+                c->half95[6 * t + 3 * k + i] = h;
+            }
+        }
+    }
+    c->has_half95 = ok;
+}
+
 /* What a report shows beyond the mount check's needs (all optional). */
 static tram_status read_report_fields(const char *name, const tram__json_pos *pos,
                                       const cJSON *root, tram_calibration *c, tram_error *err)
@@ -316,6 +341,7 @@ static tram_status read_report_fields(const char *name, const tram__json_pos *po
                                      "must be a rigid 4x4 transform");
         c->has_tool = 1;
     }
+    if (st == TRAM_OK) read_half95(root, c);
     if (st == TRAM_OK) st = read_diagnostics(name, pos, root, c, err);
     if (st == TRAM_OK) st = read_input(name, pos, root, c, err);
     return st;

@@ -4,8 +4,9 @@
  * quaternion, rotation vector, Euler angles in the named convention,
  * 1-sigma and 95% intervals), stations and residuals with the pictures,
  * observability and diagnostics, input files with SHA-256 hashes, and
- * the sign-off lines.  The 95% interval is value +- 1.96 sigma per axis
- * (normal approximation, as the calibration file defines it).  Rotation
+ * the sign-off lines.  The 95% interval is the solve's (Student t) when the
+ * calibration file holds it, else value +- 1.96 sigma per axis
+ * (normal approximation, for files without intervals).  Rotation
  * uncertainty is about the transform's own axes (small rotation vector),
  * not per Euler angle.  Nothing here says or implies that the result is
  * verified: tram cannot know.
@@ -205,23 +206,32 @@ static void transform(tram__doc *d, const tram__report_ctx *c, int which)
         para(d, "Uncertainty: not in the calibration file (no covariance was computed).");
         return;
     }
-    int off = which == 0 ? 0 : 6;
-    mono(d, "uncertainty             value        1-sigma      95%% interval (value +- 1.96 sigma)");
+    int off = which == 0 ? 0 : 6, t95 = c->cal->has_half95;
+    mono(d, t95 ? "uncertainty             value        1-sigma      95%% interval (Student t)"
+                : "uncertainty             value        1-sigma      95%% interval (value +- 1.96 sigma)");
     const char ax[3] = {'x', 'y', 'z'};
     for (int i = 0; i < 3; i++) {
         double s = sqrt(c->cal->cov[(off + i) * 12 + off + i]);
+        double hw = t95 ? c->cal->half95[off + i] : 1.96 * s;
         mono(d, "  translation %c (%s) %12.6f  %10.6f    %.6f .. %.6f  (+-%.6f)", ax[i], unit(c), t[i],
-             s, t[i] - 1.96 * s, t[i] + 1.96 * s, 1.96 * s);
+             s, t[i] - hw, t[i] + hw, hw);
     }
     for (int i = 0; i < 3; i++) {
         double s = sqrt(c->cal->cov[(off + 3 + i) * 12 + off + 3 + i]) * RAD2DEG;
-        mono(d, "  rotation about own %c (deg)      %10.6f    +-%.6f", ax[i], s, 1.96 * s);
+        double hw = t95 ? c->cal->half95[off + 3 + i] : 1.96 * s;
+        mono(d, "  rotation about own %c (deg)      %10.6f    +-%.6f", ax[i], s, hw);
     }
     tram__doc_para(d, 8, 12, 0,
-                   "Translation uncertainty along the parent frame's axes; rotation uncertainty as "
-                   "a small rotation about the transform's own axes (not per Euler angle). From "
-                   "the refinement's Jacobian scaled by the residual variance; the 95% interval "
-                   "is the normal approximation, 1.96 sigma per axis.");
+                   t95 ? "Translation uncertainty along the parent frame's axes; rotation uncertainty "
+                         "as a small rotation about the transform's own axes (not per Euler angle). "
+                         "From the refinement's Jacobian and the noise model; the 95% interval is the "
+                         "solve's, a Student-t quantile with the degrees of freedom of each sigma "
+                         "(docs/solve.md)."
+                       : "Translation uncertainty along the parent frame's axes; rotation uncertainty "
+                         "as a small rotation about the transform's own axes (not per Euler angle). "
+                         "From the refinement's Jacobian scaled by the residual variance; the 95% "
+                         "interval is the normal approximation, 1.96 sigma per axis (the calibration "
+                         "file holds no interval of its own).");
 }
 
 /* ---- stations --------------------------------------------------------- */
