@@ -59,3 +59,37 @@ expect_error "directive after the data rows" 2 'late\.csv:4:3: .*after the heade
 expect_error "solve ''" 2 'empty file name' solve ''
 mkdir -p "$h/adir"
 expect_error "a directory as input" 2 'adir: error: is a directory' solve "$h/adir"
+
+# the covariance of a calibration file is a covariance (issue 16: -I gave
+# the verdict ok with every sigma 0): positive variances, symmetric, PSD
+# (eigenvalues through LAPACKE), 144 numbers; and a check refuses a
+# calibration without one rather than dropping its uncertainty silently
+# cov_put NAME AWK-EXPR: cal.json with covariance[i] (i = 0..143, row-major) set to EXPR
+cov_put() {
+    awk -v e="$2" 'BEGIN { FS = "\t" }
+        /^\t"covariance":/ { n = split($0, a, /[][]/); split(a[2], v, ", ");
+            s = "\t\"covariance\":\t[";
+            for (i = 0; i < 144; i++) { r = int(i / 12); c = i % 12; x = v[i + 1];
+                if (e == "negI") x = (r == c) ? -1 : 0;
+                else if (e == "asym" && i == 1) x = x + 1;
+                else if (e == "notpsd") x = (r == c) ? 1 : ((i == 1 || i == 12) ? 2 : 0);
+                else if (e == "nan" && i == 5) x = "null";
+                s = s (i ? ", " : "") x }
+            if (e == "short") s = "\t\"covariance\":\t[1, 2, 3";
+            print s "]"; next }
+        { print }' "$h/cal.json" >"$h/$1"
+}
+cov_put cov_negI.json negI
+expect_error "covariance -I" 2 'cov_negI\.json:[0-9]+:[0-9]+: error: damaged calibration file: covariance\[0\] .* is -1: expected a variance > 0' check --calibration "$h/cov_negI.json" "$demo/wrist_recheck.csv"
+cov_put cov_asym.json asym
+expect_error "asymmetric covariance" 2 'cov_asym\.json:[0-9]+:[0-9]+: error: damaged calibration file: the covariance is not symmetric: covariance\[12\]' check --calibration "$h/cov_asym.json" "$demo/wrist_recheck.csv"
+cov_put cov_notpsd.json notpsd
+expect_error "covariance not PSD" 2 'cov_notpsd\.json:[0-9]+:[0-9]+: error: .*not positive semi-definite' check --calibration "$h/cov_notpsd.json" "$demo/wrist_recheck.csv"
+expect_error "covariance not PSD in plot" 2 'cov_notpsd\.json:[0-9]+:[0-9]+: error: .*not positive semi-definite' plot residuals --calibration "$h/cov_notpsd.json" -o "$h/res.png"
+cov_put cov_nan.json nan
+expect_error "covariance with a null" 2 'cov_nan\.json:[0-9]+:[0-9]+: error: damaged calibration file: covariance\[5\] is not a number' check --calibration "$h/cov_nan.json" "$demo/wrist_recheck.csv"
+cov_put cov_short.json short
+expect_error "covariance of the wrong size" 2 'cov_short\.json:[0-9]+:[0-9]+: error: .*"covariance" must hold 144 numbers' check --calibration "$h/cov_short.json" "$demo/wrist_recheck.csv"
+awk '/^\t"covariance":/ { sub(/,$/, "", prev); skip = 1 } NR > 1 && !held { print prev } { held = skip; skip = 0; if (!held) prev = $0 } END { print prev }' "$h/cal.json" >"$h/cov_none.json"
+expect_error "calibration without covariance" 2 'cov_none\.json:1:1: error: the calibration holds no "covariance"' check --calibration "$h/cov_none.json" "$demo/wrist_recheck.csv"
+"$TRAM" check --calibration "$h/cal.json" "$demo/wrist_recheck.csv" >/dev/null 2>&1 && ok || bad "the covariance check refused the solve's own calibration"
