@@ -458,15 +458,15 @@ static tram_status check_inputs(const tram_calibration *cal, const tram_records 
                           "a check needs to weigh the calibration's own uncertainty: solve again "
                           "with stations that determine both transforms (tram solve -o)");
     if (r->setup != TRAM_SETUP_UNSET && r->setup != cal->setup)
-        return tram__fail(err, TRAM_EINPUT, r->source, 0, 0,
+        return tram__fail(err, TRAM_EINPUT, r->source, r->count ? r->stations[0].line : 0, 0,
                           "the records declare setup %s but the calibration %s is %s",
                           tram_setup_name(r->setup), cal->source, tram_setup_name(cal->setup));
     if (!r->has_block[TRAM_BLOCK_ROBOT] && r->n_joints)
-        return tram__fail(err, TRAM_EINPUT, r->source, 0, 0,
+        return tram__fail(err, TRAM_EINPUT, r->source, r->count ? r->stations[0].line : 0, 0,
                           "the record file gives joint readings (joint_1 ...): pass --chain FILE "
                           "to compute the flange poses");
     if (!r->has_block[TRAM_BLOCK_ROBOT] || !r->has_block[TRAM_BLOCK_SENSOR])
-        return tram__fail(err, TRAM_EINPUT, r->source, 0, 0,
+        return tram__fail(err, TRAM_EINPUT, r->source, r->count ? r->stations[0].line : 0, 0,
                           "a check needs both a robot_ and a sensor_ pose block");
     return TRAM_OK;
 }

@@ -654,9 +654,9 @@ static int resolve_setup(const tram_records *r, solve_args *a)
     if (a->setup == TRAM_SETUP_UNSET) a->setup = r->setup;
     if (a->setup == TRAM_SETUP_UNSET) {
         fprintf(stderr,
-                "%s: error: no setup: add '# setup: eye-in-hand' (or eye-to-hand) or pass "
+                "%s:%ld: error: no setup: add '# setup: eye-in-hand' (or eye-to-hand) or pass "
                 "--setup\n",
-                r->source);
+                r->source, r->count ? r->stations[0].line : 1L);
         return CLI_EXIT_USAGE;
     }
     return CLI_EXIT_OK;

@@ -202,3 +202,20 @@ tram_status tram__json_pos_fail(const tram__json_pos *p, const char *name, tram_
     tram__json_pos_where(p, path, key, &line, &col);
     return tram__fail(err, TRAM_EINPUT, name, line, col, "%s", msg);
 }
+
+tram_status tram__json_pos_fail_text(const char *name, const char *data, size_t len,
+                                     tram_error *err, const char *path, int key,
+                                     const char *fmt, ...)
+{
+    char msg[700];
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(msg, sizeof msg, fmt, ap);
+    va_end(ap);
+    tram__json_pos *p = NULL;
+    tram_status st = tram__json_pos_scan(name, data, len, &p, err);
+    if (st != TRAM_OK) return st; /* out of memory: that is the error now */
+    st = tram__json_pos_fail(p, name, err, path, key, "%s", msg);
+    tram__json_pos_free(p);
+    return st;
+}

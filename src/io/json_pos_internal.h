@@ -43,4 +43,12 @@ tram_status tram__json_pos_fail(const tram__json_pos *p, const char *name, tram_
                                 const char *path, int key, const char *fmt, ...)
     TRAM_PRINTF(6, 7);
 
+/* tram__json_pos_fail on a text scanned now, for readers that keep no
+ * positions (large documents) and look one up only on their error path.
+ * data must have been accepted by tram__json_parse.  TRAM_ENOMEM when the
+ * scan runs out of memory. */
+tram_status tram__json_pos_fail_text(const char *name, const char *data, size_t len,
+                                     tram_error *err, const char *path, int key,
+                                     const char *fmt, ...) TRAM_PRINTF(7, 8);
+
 #endif

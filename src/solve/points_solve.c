@@ -513,10 +513,10 @@ tram_status tram_solve_points(const tram_records *r, tram_setup setup, const tra
     tram_solve_options_init(&defaults);
     const tram_solve_options *opt = opt_in ? opt_in : &defaults;
     if (setup == TRAM_SETUP_UNSET)
-        return tram__fail(err, TRAM_EINPUT, r->source, 0, 0,
+        return tram__fail(err, TRAM_EINPUT, r->source, r->count ? r->stations[0].line : 0, 0,
                           "no setup: add '# setup: eye-in-hand' (or eye-to-hand) or pass --setup");
     if (!r->has_block[TRAM_BLOCK_ROBOT])
-        return tram__fail(err, TRAM_EINPUT, r->source, 0, 0,
+        return tram__fail(err, TRAM_EINPUT, r->source, r->count ? r->stations[0].line : 0, 0,
                           r->n_joints ? "the record file gives joint readings: pass --chain FILE"
                                       : "solving from points needs the robot poses (robot_ columns)");
     if (model) return solve_with_model(r, setup, obs, model, opt, out, err);
