@@ -125,3 +125,17 @@ expect_error "robot-only CSV in solve" 2 'robonly\.csv:3: error: solving needs b
 expect_error "robot-only CSV without setup" 2 'robonly\.csv:3: error: no setup' solve "$h/robonly.csv"
 expect_error "robot-only CSV in check" 2 'robonly\.csv:3: error: a check needs both' check --calibration "$h/cal.json" "$h/robonly.csv"
 expect_error "robot-only CSV in fk" 2 'robonly\.csv:3: error: --chain needs joint columns' fk --chain "$demo/arm_dh.json" "$h/robonly.csv"
+
+# solve --points with a record file that also has sensor columns: the
+# solve says which data it used and names the ignored columns
+awk -F, 'BEGIN { print "# length-unit: mm"; print "station,point,x,y,z" }
+    /^#/ || /^station/ { next }
+    { w = $11; a = $12; b = $13; c = $14   # target points (0,0,0), (80,0,0), (0,50,0)
+      printf "%s,o,%s,%s,%s\n", $1, $8, $9, $10
+      printf "%s,u,%.4f,%.4f,%.4f\n", $1, $8 + 80 * (1 - 2 * (b * b + c * c)), $9 + 80 * 2 * (a * b + c * w), $10 + 80 * 2 * (a * c - b * w)
+      printf "%s,v,%.4f,%.4f,%.4f\n", $1, $8 + 50 * 2 * (a * b - c * w), $9 + 50 * (1 - 2 * (a * a + c * c)), $10 + 50 * 2 * (b * c + a * w) }' \
+    "$demo/wrist_camera.csv" >"$h/pts.csv"
+"$TRAM" solve --points "$h/pts.csv" "$demo/wrist_camera.csv" >"$h/out" 2>"$h/err"
+grep -q "sensor-columns-ignored: the record file .*wrist_camera.csv also has sensor pose columns (sensor_x, sensor_y, sensor_z, sensor_qw, sensor_qx, sensor_qy, sensor_qz): they are ignored; this solve uses the observed points of .*pts.csv only" "$h/out" &&
+    ok || { bad "solve --points with sensor columns: no note (rc $?)"; head -5 "$h/err"; }
+"$TRAM" solve --json --points "$h/pts.csv" "$demo/wrist_camera.csv" 2>/dev/null | grep -q '"code":[[:space:]]*"sensor-columns-ignored"' && ok || bad "solve --points --json: no sensor-columns-ignored diagnostic"
