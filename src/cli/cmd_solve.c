@@ -771,6 +771,9 @@ int cli_solve(int argc, char **argv)
     tram_records *r = NULL;
     tram_error err;
     tram_error_clear(&err);
+    /* without --setup the file must declare it: listed by the reader with
+     * every other missing declaration, in one run */
+    a.ro.need_setup = a.setup == TRAM_SETUP_UNSET;
     tram_status st = tram_records_read_file(a.file, &a.ro, &r, &err);
     if (st != TRAM_OK) {
         cli_report(&err);

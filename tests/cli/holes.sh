@@ -122,7 +122,7 @@ sed 's/"convention": "dh"/"convention": "dhh"/' "$demo/arm_dh.json" >"$h/chain_c
 expect_error "chain file: unknown convention" 2 'chain_conv\.json:3:17: error: convention: expected' fk --chain "$h/chain_conv.json" "$demo/wrist_camera_joints.csv"
 printf '# length-unit: mm\nstation,robot_x,robot_y,robot_z,robot_qw,robot_qx,robot_qy,robot_qz\na,1,2,3,1,0,0,0\nb,1,2,3,1,0,0,0\nc,1,2,3,1,0,0,0\n' >"$h/robonly.csv"
 expect_error "robot-only CSV in solve" 2 'robonly\.csv:3: error: solving needs both a robot_ and a sensor_ pose block' solve --setup eye-in-hand "$h/robonly.csv"
-expect_error "robot-only CSV without setup" 2 'robonly\.csv:3: error: no setup' solve "$h/robonly.csv"
+expect_error "robot-only CSV without setup" 2 'robonly\.csv:2: error: no setup' solve "$h/robonly.csv"
 expect_error "robot-only CSV in check" 2 'robonly\.csv:3: error: a check needs both' check --calibration "$h/cal.json" "$h/robonly.csv"
 expect_error "robot-only CSV in fk" 2 'robonly\.csv:3: error: --chain needs joint columns' fk --chain "$demo/arm_dh.json" "$h/robonly.csv"
 
@@ -139,3 +139,15 @@ awk -F, 'BEGIN { print "# length-unit: mm"; print "station,point,x,y,z" }
 grep -q "sensor-columns-ignored: the record file .*wrist_camera.csv also has sensor pose columns (sensor_x, sensor_y, sensor_z, sensor_qw, sensor_qx, sensor_qy, sensor_qz): they are ignored; this solve uses the observed points of .*pts.csv only" "$h/out" &&
     ok || { bad "solve --points with sensor columns: no note (rc $?)"; head -5 "$h/err"; }
 "$TRAM" solve --json --points "$h/pts.csv" "$demo/wrist_camera.csv" 2>/dev/null | grep -q '"code":[[:space:]]*"sensor-columns-ignored"' && ok || bad "solve --points --json: no sensor-columns-ignored diagnostic"
+
+# every missing declaration in one run (issue 17): length unit, Euler
+# convention, setup (when solve has no --setup) and a tool that does not
+# fit the robot poses, listed in one message; exit 2 as before
+grep -v '^# \(setup\|length-unit\|robot-euler\):' "$demo/wrist_camera.csv" >"$h/miss3.csv"
+expect_error "three missing declarations in one run" 2 "miss3\\.csv:[0-9]+: error: no length unit: .*; also the robot block holds Euler angles but its convention is not declared: .*; also no setup: add '# setup: eye-in-hand' .* \\(every missing declaration is listed\\)" solve "$h/miss3.csv"
+"$TRAM" solve --setup eye-in-hand "$h/miss3.csv" >/dev/null 2>"$h/err"; grep -q "no setup" "$h/err" && bad "solve --setup still lists the setup as missing" || ok
+"$TRAM" convert --to quat "$h/miss3.csv" >/dev/null 2>"$h/err"; grep -q "no setup" "$h/err" && bad "convert lists a setup it does not need" || ok
+printf '# tool-in-flange: 0,0,100mm quat:1,0,0,0\nstation,robot_x,robot_y,robot_z,robot_qw,robot_qx,robot_qy,robot_qz\na,1,2,3,1,0,0,0\n' >"$h/toolmiss.csv"
+expect_error "missing unit and a tool without tool poses in one run" 2 "toolmiss\\.csv:2: error: no length unit: .*; also tool-in-flange is declared, but the robot poses are not declared as tool poses" convert --to quat "$h/toolmiss.csv"
+printf '# length-unit: mm\n# tool-in-flange: 0,0,100mm quat:1,0,0,0\nstation,robot_x,robot_y,robot_z,robot_qw,robot_qx,robot_qy,robot_qz\na,1,2,3,1,0,0,0\n' >"$h/toolonly.csv"
+expect_error "a tool without tool poses alone names its directive" 2 "toolonly\\.csv:2: error: tool-in-flange is declared" convert --to quat "$h/toolonly.csv"
