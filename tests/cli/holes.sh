@@ -151,3 +151,9 @@ printf '# tool-in-flange: 0,0,100mm quat:1,0,0,0\nstation,robot_x,robot_y,robot_
 expect_error "missing unit and a tool without tool poses in one run" 2 "toolmiss\\.csv:2: error: no length unit: .*; also tool-in-flange is declared, but the robot poses are not declared as tool poses" convert --to quat "$h/toolmiss.csv"
 printf '# length-unit: mm\n# tool-in-flange: 0,0,100mm quat:1,0,0,0\nstation,robot_x,robot_y,robot_z,robot_qw,robot_qx,robot_qy,robot_qz\na,1,2,3,1,0,0,0\n' >"$h/toolonly.csv"
 expect_error "a tool without tool poses alone names its directive" 2 "toolonly\\.csv:2: error: tool-in-flange is declared" convert --to quat "$h/toolonly.csv"
+
+# a NUL byte in a CSV file names its line (and column, in the table reader)
+printf '# length-unit: mm\nstation,ro\000bot_x\n' >"$h/nul.csv"
+expect_error "NUL byte in a record file" 2 'nul\.csv:2: error: NUL byte in line' convert --to quat "$h/nul.csv"
+printf '# length-unit: mm\nfrom_x,fr\000om_y\n' >"$h/nulp.csv"
+expect_error "NUL byte in a point-pair file" 2 'nulp\.csv:2:10: error: NUL byte in the file: expected text' register "$h/nulp.csv"
