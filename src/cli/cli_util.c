@@ -40,7 +40,8 @@ void cli_path_join(char *out, size_t cap, const char *dir, const char *name)
 {
     size_t n = strlen(dir);
     while (n > 1 && dir[n - 1] == '/') n--;
-    snprintf(out, cap, "%.*s/%s", (int)n, dir, name);
+    /* "/" stays "/name", not "//name" */
+    snprintf(out, cap, "%.*s%s%s", (int)n, dir, n && dir[n - 1] == '/' ? "" : "/", name);
 }
 
 void cli_records_warnings(const tram_records *r)

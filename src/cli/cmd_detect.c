@@ -249,14 +249,6 @@ static char *obs_text(const shot *shots, int n, size_t w, size_t h, const char *
     return st == TRAM_OK ? text : NULL;
 }
 
-/* DIR and NAME joined with one slash. */
-static void join(char *out, size_t size, const char *dir, const char *name)
-{
-    size_t dl = strlen(dir);
-    while (dl > 1 && dir[dl - 1] == '/') dl--;
-    snprintf(out, size, "%.*s%s%s", (int)dl, dir, dir[dl - 1] == '/' ? "" : "/", name);
-}
-
 /* Refuse existing outputs before any work is done. */
 static int refuse_existing(const char *o, const char *dir, const shot *shots, int n, int force)
 {
@@ -270,7 +262,7 @@ static int refuse_existing(const char *o, const char *dir, const shot *shots, in
     for (int i = 0; dir && i <= n; i++) {
         char name[200];
         snprintf(name, sizeof name, "%s-corners.png", i < n ? shots[i].station : "");
-        join(path, sizeof path, dir, i < n ? name : "coverage.png");
+        cli_path_join(path, sizeof path, dir, i < n ? name : "coverage.png");
         if (stat(path, &sb) == 0) {
             fprintf(stderr, "%s: error: already exists; not overwritten (pass --force to replace it)\n", path);
             return CLI_EXIT_USAGE;
@@ -298,7 +290,7 @@ static int write_pictures(const char *dir, const tram_board *b, const shot *shot
         tram_image *pic = NULL;
         char name[200];
         snprintf(name, sizeof name, "%s-corners.png", shots[i].station);
-        join(path, sizeof path, dir, name);
+        cli_path_join(path, sizeof path, dir, name);
         st = tram_grey_image_read_file(shots[i].path, &im, &err);
         if (st == TRAM_OK) st = tram_plot_detection(im, b, shots[i].det, shots[i].path, &pic, &err);
         if (st == TRAM_OK) st = tram_image_write_png(pic, path, force, &err);
@@ -309,7 +301,7 @@ static int write_pictures(const char *dir, const tram_board *b, const shot *shot
     if (st == TRAM_OK) {
         tram_plot_coverage_data cd = {w, h, (size_t)n, dets, b, "corners of every board found"};
         tram_image *pic = NULL;
-        join(path, sizeof path, dir, "coverage.png");
+        cli_path_join(path, sizeof path, dir, "coverage.png");
         st = tram_plot_coverage(&cd, &pic, &err);
         if (st == TRAM_OK) st = tram_image_write_png(pic, path, force, &err);
         if (st == TRAM_OK) fprintf(stderr, "picture: %s\n", path);

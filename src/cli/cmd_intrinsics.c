@@ -298,13 +298,6 @@ static int report_json(const tram_pixel_obs *obs, const target *g, const tram_in
     return CLI_EXIT_OK;
 }
 
-static void join(char *out, size_t size, const char *dir, const char *name)
-{
-    size_t dl = strlen(dir);
-    while (dl > 1 && dir[dl - 1] == '/') dl--;
-    snprintf(out, size, "%.*s/%s", (int)dl, dir, name);
-}
-
 /* One picture per view, one of every view, and the distortion field;
  * existing files are refused before anything is drawn. */
 static int write_pictures(const char *dir, const tram_pixel_obs *obs, const tram_intrinsics_result *r,
@@ -319,7 +312,7 @@ static int write_pictures(const char *dir, const tram_pixel_obs *obs, const tram
     for (size_t k = 0; k < np; k++) {
         char name[200];
         snprintf(name, sizeof name, "%s-residuals.png", k < nv ? r->views[k].id : "");
-        join(path, sizeof path, dir, k < nv ? name : k == nv ? "residuals.png" : "distortion.png");
+        cli_path_join(path, sizeof path, dir, k < nv ? name : k == nv ? "residuals.png" : "distortion.png");
         struct stat sb;
         if (!force && stat(path, &sb) == 0) {
             fprintf(stderr, "%s: error: already exists; not overwritten (pass --force to replace it)\n", path);
@@ -349,14 +342,14 @@ static int write_pictures(const char *dir, const tram_pixel_obs *obs, const tram
                                          k < nv ? r->views[k].rms_px : r->rms_px, title};
         tram_image *img = NULL;
         snprintf(name, sizeof name, "%s-residuals.png", k < nv ? r->views[k].id : "");
-        join(path, sizeof path, dir, k < nv ? name : "residuals.png");
+        cli_path_join(path, sizeof path, dir, k < nv ? name : "residuals.png");
         st = tram_plot_reprojection(&d, &img, &err);
         if (st == TRAM_OK) st = tram_image_write_png(img, path, force, &err);
         tram_image_destroy(img);
     }
     if (st == TRAM_OK) {
         tram_image *img = NULL;
-        join(path, sizeof path, dir, "distortion.png");
+        cli_path_join(path, sizeof path, dir, "distortion.png");
         st = tram_plot_distortion(&r->camera, "lens distortion of the calibrated camera", &img, &err);
         if (st == TRAM_OK) st = tram_image_write_png(img, path, force, &err);
         tram_image_destroy(img);
