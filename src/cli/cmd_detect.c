@@ -193,14 +193,6 @@ static void report_text(const shot *shots, int n, size_t w, size_t h, int found)
             found, n, w, h);
 }
 
-static cJSON *num(double v)
-{
-    char b[40];
-    if (!isfinite(v)) return cJSON_CreateNull();
-    snprintf(b, sizeof b, "%.17g", v == 0 ? 0.0 : v);
-    return cJSON_CreateRaw(b);
-}
-
 static int report_json(const shot *shots, int n, size_t w, size_t h, int found, const char *board_path,
                        const tram_board *b, const char *out_path)
 {
@@ -212,14 +204,14 @@ static int report_json(const shot *shots, int n, size_t w, size_t h, int found, 
     cJSON_AddStringToObject(bo, "file", board_path);
     cJSON_AddNumberToObject(bo, "cols", b->cols);
     cJSON_AddNumberToObject(bo, "rows", b->rows);
-    cJSON_AddItemToObject(bo, "square", num(b->square));
+    cJSON_AddItemToObject(bo, "square", cli_json_number(b->square));
     cJSON_AddStringToObject(bo, "length_unit", tram_unit_length_name(b->unit));
     cJSON_AddStringToObject(root, "pixel_origin", "top-left-pixel-centre");
     cJSON_AddStringToObject(root, "pixel_convention",
                             "(0, 0) is the centre of the top-left pixel; u to the right, v down");
     cJSON *sz = cJSON_AddArrayToObject(root, "image_size");
-    cJSON_AddItemToArray(sz, num((double)w));
-    cJSON_AddItemToArray(sz, num((double)h));
+    cJSON_AddItemToArray(sz, cli_json_number((double)w));
+    cJSON_AddItemToArray(sz, cli_json_number((double)h));
     cJSON_AddNumberToObject(root, "images_total", n);
     cJSON_AddNumberToObject(root, "boards_found", found);
     if (out_path) cJSON_AddStringToObject(root, "observations", out_path);
@@ -235,7 +227,7 @@ static int report_json(const shot *shots, int n, size_t w, size_t h, int found, 
         cJSON_AddNumberToObject(o, "corners", (double)d->ncorners);
         cJSON_AddNumberToObject(o, "corners_seen", (double)d->nseen);
         /* the detector's sharpness: edge blur in pixels, lower is sharper */
-        cJSON_AddItemToObject(o, "edge_blur_px", d->found ? num(d->sharpness) : cJSON_CreateNull());
+        cJSON_AddItemToObject(o, "edge_blur_px", d->found ? cli_json_number(d->sharpness) : cJSON_CreateNull());
         if (!d->found) cJSON_AddStringToObject(o, "reason", d->reason);
     }
     char *text = cJSON_Print(root);

@@ -51,18 +51,10 @@ static void progress(void *ctx, size_t done, size_t total)
     if (done >= total) fputc('\n', stderr);
 }
 
-static cJSON *num(double v)
-{
-    if (!isfinite(v)) return cJSON_CreateNull();
-    char b[40];
-    snprintf(b, sizeof b, "%.17g", v == 0 ? 0.0 : v);
-    return cJSON_CreateRaw(b);
-}
-
 static cJSON *arr(const double *v, int n)
 {
     cJSON *a = cJSON_CreateArray();
-    for (int i = 0; i < n; i++) cJSON_AddItemToArray(a, num(v[i]));
+    for (int i = 0; i < n; i++) cJSON_AddItemToArray(a, cli_json_number(v[i]));
     return a;
 }
 
@@ -122,9 +114,9 @@ static int print_json(const tram_point_pairs *p, const tram_register_result *res
                              {0, 0, 1}};
         for (int i = 0; i < 3; i++) cJSON_AddItemToArray(m, arr(rows[i], 3));
         cJSON_AddItemToObject(tr, "translation", arr(t, 2));
-        cJSON_AddItemToObject(tr, "angle_deg", num(atan2(T->m[1][0], T->m[0][0]) * 180.0 / M_PI_TRAM));
+        cJSON_AddItemToObject(tr, "angle_deg", cli_json_number(atan2(T->m[1][0], T->m[0][0]) * 180.0 / M_PI_TRAM));
     }
-    cJSON_AddItemToObject(root, "scale", num(res->scale));
+    cJSON_AddItemToObject(root, "scale", cli_json_number(res->scale));
     cJSON_AddBoolToObject(root, "scale_solved", scale);
     cJSON *rs = cJSON_AddObjectToObject(root, "residuals");
     double mx = 0, ss = 0;
@@ -135,35 +127,35 @@ static int print_json(const tram_point_pairs *p, const tram_register_result *res
             k++;
             if (resid[i] > mx) mx = resid[i];
         }
-    cJSON_AddItemToObject(rs, "rms", num(k ? sqrt(ss / (double)k) : 0.0));
-    cJSON_AddItemToObject(rs, "max", num(mx));
+    cJSON_AddItemToObject(rs, "rms", cli_json_number(k ? sqrt(ss / (double)k) : 0.0));
+    cJSON_AddItemToObject(rs, "max", cli_json_number(mx));
     cJSON *pts = cJSON_AddArrayToObject(rs, "points");
     for (size_t i = 0; i < p->n; i++) {
         cJSON *o = cJSON_CreateObject();
         cJSON_AddItemToArray(pts, o);
         cJSON_AddStringToObject(o, "point", p->id[i]);
-        cJSON_AddItemToObject(o, "residual", num(resid[i]));
+        cJSON_AddItemToObject(o, "residual", cli_json_number(resid[i]));
         cJSON_AddBoolToObject(o, "outlier", robust && !inlier[i]);
     }
     cJSON *u = cJSON_AddObjectToObject(root, "uncertainty");
     cJSON_AddItemToObject(u, "translation_sigma", arr(res->translation_sigma, d));
     if (d == 3) cJSON_AddItemToObject(u, "rotation_sigma_deg", arr(res->rotation_sigma_deg, 3));
-    else cJSON_AddItemToObject(u, "angle_sigma_deg", num(res->rotation_sigma_deg[2]));
-    if (scale) cJSON_AddItemToObject(u, "scale_sigma", num(res->scale_sigma));
+    else cJSON_AddItemToObject(u, "angle_sigma_deg", cli_json_number(res->rotation_sigma_deg[2]));
+    if (scale) cJSON_AddItemToObject(u, "scale_sigma", cli_json_number(res->scale_sigma));
     if (robust) {
         cJSON *r = cJSON_AddObjectToObject(root, "robust");
-        cJSON_AddItemToObject(r, "threshold", num(thr));
+        cJSON_AddItemToObject(r, "threshold", cli_json_number(thr));
         cJSON_AddNumberToObject(r, "inliers", (double)k);
     }
     cJSON *pl = cJSON_AddObjectToObject(root, "plausibility");
-    cJSON_AddItemToObject(pl, "working_distance", num(trust->working_distance));
-    cJSON_AddItemToObject(pl, "limit_rms", num(trust->limit));
+    cJSON_AddItemToObject(pl, "working_distance", cli_json_number(trust->working_distance));
+    cJSON_AddItemToObject(pl, "limit_rms", cli_json_number(trust->limit));
     cJSON_AddBoolToObject(pl, "gate_passed", !trust->gate_failed);
     if (trust->permutations) {
         cJSON *pt = cJSON_AddObjectToObject(pl, "pairing_test");
-        cJSON_AddItemToObject(pt, "permutations", num((double)trust->permutations));
-        cJSON_AddItemToObject(pt, "seed", num((double)to->seed));
-        cJSON_AddItemToObject(pt, "ratio", num(trust->pairing_ratio));
+        cJSON_AddItemToObject(pt, "permutations", cli_json_number((double)trust->permutations));
+        cJSON_AddItemToObject(pt, "seed", cli_json_number((double)to->seed));
+        cJSON_AddItemToObject(pt, "ratio", cli_json_number(trust->pairing_ratio));
         cJSON_AddBoolToObject(pt, "passed", !trust->pairing_failed);
     }
     cJSON *dg = cJSON_AddArrayToObject(root, "diagnostics");

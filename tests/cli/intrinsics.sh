@@ -70,6 +70,18 @@ assert c["image_size"] == {"width": 640, "height": 480}
 assert c["distortion"]["model"] == "radial2" and set(c["distortion"]) == {"model", "k1", "k2"}
 assert c["calibration"]["fixed"] == [] and set(c["calibration"]["sigma"]) == {"fx", "fy", "cx", "cy", "skew", "k1", "k2"}
 PY
+    # the --json report writes its numbers as every JSON output of tram
+    # (17 significant digits, %.17g: they read back to the same double)
+    /usr/bin/python3 - "$tmp/zhang/r.json" "$tmp/zhang/camera.json" <<'PY' && ok || bad "intrinsics --json number format"
+import json, re, sys
+text = open(sys.argv[1]).read()
+nums = re.findall(r'(?<=[:\[,\s])-?[0-9][0-9.eE+-]*(?=[,\s\]}])', text)
+assert len(nums) > 100, len(nums)
+bad = [s for s in nums if s != "%.17g" % float(s)]
+assert not bad, bad[:5]
+r, c = json.load(open(sys.argv[1])), json.load(open(sys.argv[2]))
+assert r["rms_px"] == c["calibration"]["rms_px"] and r["camera"]["intrinsics"] == c["intrinsics"]
+PY
     # text report, pictures, and no replacement without --force
     "$TRAM" intrinsics --model "$tmp/zhang/model.csv" --plot "$tmp/zhang/pics" "$tmp/zhang/obs.csv" >"$tmp/out" 2>"$tmp/err"
     [ $? -eq 0 ] && grep -q "pixel convention: top-left-pixel-centre" "$tmp/out" && grep -q "NOT verified on the cell" "$tmp/out" &&
