@@ -139,7 +139,9 @@ static void coverage(uint64_t seed0, int seeds, int calibrate, int with_cov, int
         assert_int_equal(a->pixels->camera_cov_used, calibrate && with_cov);
         double d[6], ang, len;
         x_error(&a->X, &s.X, d, &ang, &len);
-        for (int q = 0; q < 6; q++) inside[q] += fabs(d[q]) <= 1.96 * sqrt(a->unc.cov[13 * q]);
+        /* the reported 95% half-widths (rotations in degrees), as printed */
+        for (int q = 0; q < 6; q++)
+            inside[q] += fabs(d[q]) * (q >= 3 ? 180.0 / M_PI : 1.0) <= a->unc.half95[q];
         tram_solution_destroy(a);
         scene_free(&s);
     }
