@@ -272,17 +272,20 @@ static int robust_rounds(pctx *c, work *wk, int *iters)
 }
 
 /* The pixel side of the station test, for the stations the pose path
- * flagged: station i's k corners against the solution (sum of squared
- * distances S, at a solution without it: its leave-one-out prediction) and
- * against its own pose fit (tram pose, S0 with 2k - 6 degrees of freedom).
- * Its own 6 pose parameters buy F = ((S - S0) / 6) / (S0 / (2k - 6)),
- * tested against F(6, 2k - 6) at 1 - 0.01 / n (the nested-model F test;
- * each station in the units of its own corner noise, so a view whose
- * corners are merely noisier is not flagged).  A flagged station that
- * passes comes back (0 in st_excl); returns how many came back. */
+ * flagged: station i's k corners against the robust solution (sum of
+ * squared distances S) and against its own pose fit (tram pose, S0 with
+ * 2k - 6 degrees of freedom).  Its own 6 pose parameters buy F = ((S - S0)
+ * / 6) / (S0 / (2k - 6)), tested against F(6, 2k - 6) at 1 - 0.01 / n (the
+ * nested-model F test; each station in the units of its own corner noise,
+ * so a view whose corners are merely noisier is not flagged).  The robust
+ * solution includes the station: a clean one is then tested in sample (the
+ * conservative side), while Cauchy's loss gives the corners of a real
+ * outlier almost no weight, so its S is nearly its leave-one-out
+ * prediction.  A flagged station that passes gets 0 in st_excl, one that
+ * fails has its corners left out (3); returns how many fail. */
 static size_t pixel_station_test(const pctx *c, work *wk, size_t nst, const double *pose_rms)
 {
-    size_t n = c->obs->n, back = 0;
+    size_t n = c->obs->n, out = 0;
     distances(c, wk->res);
     for (size_t i = 0; i < nst; i++) {
         if (!wk->st_excl[i]) continue;
@@ -293,16 +296,15 @@ static size_t pixel_station_test(const pctx *c, work *wk, size_t nst, const doub
                 k += 1;
             }
         double S0 = k * tram__sq(pose_rms[i]), nu = 2.0 * k - 6.0;
-        if (!(nu > 0) || !(S0 > 0) || !isfinite(S)) continue; /* keep the pose path's flag */
-        double F = ((S - S0) / 6.0) / (S0 / nu);
-        if (F <= tram__f_quantile(1.0 - 0.01 / (double)nst, 6.0, nu)) {
-            wk->st_excl[i] = 0;
-            back++;
-            for (size_t o = 0; o < n; o++)
-                if (c->ost[o] == i && wk->excl[o] == 3) wk->excl[o] = 0;
-        }
+        int fails = 1; /* without a usable own fit, the pose path's flag stands */
+        if (nu > 0 && S0 > 0 && isfinite(S))
+            fails = ((S - S0) / 6.0) / (S0 / nu) > tram__f_quantile(1.0 - 0.01 / (double)nst, 6.0, nu);
+        wk->st_excl[i] = fails;
+        out += (size_t)fails;
+        for (size_t o = 0; fails && o < n; o++)
+            if (c->ost[o] == i) wk->excl[o] = 3;
     }
-    return back;
+    return out;
 }
 
 /* The robust rounds, the flags and the final plain least squares.  A
@@ -310,14 +312,13 @@ static size_t pixel_station_test(const pctx *c, work *wk, size_t nst, const doub
  * pose path's (wk->st_excl on entry; solve_refine.c: its leave-one-out
  * residual against the scatter of the other stations, F test at a 1%
  * family-wise rate) and the pixel side above (against its own corner
- * noise).  The first alone flags clean views whose pose errors are larger
+ * noise), tested after robust rounds over every station.  The first alone flags clean views whose pose errors are larger
  * than the others' (steeper or farther views), the second alone every view
  * when the robot's own errors exceed the pixel noise. */
 static int refine_pixels(pctx *c, work *wk, size_t nst, int robust, const double *pose_rms, int *iters)
 {
     size_t n = c->obs->n;
-    for (size_t o = 0; o < n; o++)
-        wk->excl[o] = c->ost[o] == (size_t)-1 ? 1 : wk->st_excl[c->ost[o]] ? 3 : 0;
+    for (size_t o = 0; o < n; o++) wk->excl[o] = c->ost[o] == (size_t)-1;
     if (robust) {
         int rc = robust_rounds(c, wk, iters);
         if (rc == 0 && pixel_station_test(c, wk, nst, pose_rms) > 0) rc = robust_rounds(c, wk, iters);
