@@ -31,6 +31,7 @@
  * widened sigmas); on request a station bootstrap (Efron 1979).
  */
 #include "solve/pixels_solve_internal.h"
+#include "solve/pixels_outliers_internal.h"
 #include "camera/camera_jac_internal.h"
 #include "camera/pose_internal.h"
 #include "math/linalg_internal.h"
@@ -45,7 +46,6 @@
 #include <string.h>
 
 #define CAUCHY_C 2.3849
-#define MEDIAN_2D 1.17741   /* sqrt(2 ln 2) */
 
 void tram_pixel_solve_options_init(tram_pixel_solve_options *opt)
 {
@@ -189,15 +189,6 @@ static void distances(const pctx *c, double *res)
     }
 }
 
-static double robust_sigma_px(const double *res, const int *excl, size_t n, double *scratch)
-{
-    size_t k = 0;
-    for (size_t i = 0; i < n; i++)
-        if (!excl[i] && isfinite(res[i])) scratch[k++] = res[i];
-    double s = tram__median(scratch, k) / MEDIAN_2D;
-    return s > 1e-9 ? s : 1e-9;
-}
-
 typedef struct work {
     double *w, *res, *scratch;
     int *excl;          /* per observation: flagged corner or station */
@@ -216,40 +207,6 @@ static int lm_on(pctx *c, int iters, int *it_out)
     return st == TRAM_OK ? 0 : st == TRAM_ENOMEM ? -2 : -1;
 }
 
-/* A corner is flagged when its distance exceeds sqrt(-2 ln(0.01 / n))
- * sigmas: the distance of a 2D normal with unit sigma per coordinate
- * exceeds k with probability exp(-k^2 / 2), so by Bonferroni's bound a
- * clean set of n corners has any flag in 1% of cases (the family-wise rate
- * of the pose path's station test). */
-static double corner_k(size_t n)
-{
-    return sqrt(-2.0 * log(0.01 / (double)(n ? n : 1)));
-}
-
-/* The corner flags after the robust rounds.  Each corner is measured in
- * the larger of its own station's robust sigma and the pooled one: a
- * detector does not find corners equally well in every view (blur, tilt,
- * distance: on the demo's clean renders the stations' corner noise ranges
- * from 0.009 to 0.02 px), and a pooled sigma alone would flag the good
- * corners of the noisier views; the pooled floor keeps a quiet station's
- * 54-corner median from flagging its ordinary corners. */
-static void flag_corners(const pctx *c, work *wk, size_t nst)
-{
-    size_t n = c->obs->n, tested = 0;
-    distances(c, wk->res);
-    double pooled = robust_sigma_px(wk->res, wk->excl, n, wk->scratch);
-    for (size_t o = 0; o < n; o++) tested += !wk->excl[o];
-    double k = corner_k(tested);
-    for (size_t i = 0; i < nst; i++) {
-        size_t m = 0;
-        for (size_t o = 0; o < n; o++)
-            if (!wk->excl[o] && c->ost[o] == i && isfinite(wk->res[o])) wk->scratch[m++] = wk->res[o];
-        double sig = m ? fmax(tram__median(wk->scratch, m) / MEDIAN_2D, pooled) : pooled;
-        for (size_t o = 0; o < n; o++)
-            if (!wk->excl[o] && c->ost[o] == i && !(wk->res[o] <= k * sig)) wk->excl[o] = 2;
-    }
-}
-
 /* Cauchy-weighted rounds (IRLS) over the corners not flagged. */
 static int robust_rounds(pctx *c, work *wk, int *iters)
 {
@@ -257,7 +214,7 @@ static int robust_rounds(pctx *c, work *wk, int *iters)
     int rc = 0;
     for (int outer = 0; outer < 6 && rc == 0; outer++) {
         distances(c, wk->res);
-        double sig = robust_sigma_px(wk->res, wk->excl, n, wk->scratch);
+        double sig = tram__pixel_robust_sigma(wk->res, wk->excl, n, wk->scratch);
         for (size_t o = 0; o < n; o++) {
             double u = wk->res[o] / sig;
             wk->w[o] = wk->excl[o] || !isfinite(u) ? 0.0 : 1.0 / (1.0 + u * u / (CAUCHY_C * CAUCHY_C));
@@ -271,47 +228,11 @@ static int robust_rounds(pctx *c, work *wk, int *iters)
     return rc;
 }
 
-/* The pixel side of the station test, for the stations the pose path
- * flagged: station i's k corners against the robust solution (sum of
- * squared distances S) and against its own pose fit (tram pose, S0 with
- * 2k - 6 degrees of freedom).  Its own 6 pose parameters buy F = ((S - S0)
- * / 6) / (S0 / (2k - 6)), tested against F(6, 2k - 6) at 1 - 0.01 / n (the
- * nested-model F test; each station in the units of its own corner noise,
- * so a view whose corners are merely noisier is not flagged).  The robust
- * solution includes the station: a clean one is then tested in sample (the
- * conservative side), while Cauchy's loss gives the corners of a real
- * outlier almost no weight, so its S is nearly its leave-one-out
- * prediction.  A flagged station that passes gets 0 in st_excl, one that
- * fails has its corners left out (3); returns how many fail. */
-static size_t pixel_station_test(const pctx *c, work *wk, size_t nst, const double *pose_rms)
-{
-    size_t n = c->obs->n, out = 0;
-    distances(c, wk->res);
-    for (size_t i = 0; i < nst; i++) {
-        if (!wk->st_excl[i]) continue;
-        double S = 0, k = 0;
-        for (size_t o = 0; o < n; o++)
-            if (c->ost[o] == i) {
-                S += tram__sq(wk->res[o]);
-                k += 1;
-            }
-        double S0 = k * tram__sq(pose_rms[i]), nu = 2.0 * k - 6.0;
-        int fails = 1; /* without a usable own fit, the pose path's flag stands */
-        if (nu > 0 && S0 > 0 && isfinite(S))
-            fails = ((S - S0) / 6.0) / (S0 / nu) > tram__f_quantile(1.0 - 0.01 / (double)nst, 6.0, nu);
-        wk->st_excl[i] = fails;
-        out += (size_t)fails;
-        for (size_t o = 0; fails && o < n; o++)
-            if (c->ost[o] == i) wk->excl[o] = 3;
-    }
-    return out;
-}
-
-/* The robust rounds, the flags and the final plain least squares.  A
- * station is left out when it fails both sides of the station test: the
- * pose path's (wk->st_excl on entry; solve_refine.c: its leave-one-out
- * residual against the scatter of the other stations, F test at a 1%
- * family-wise rate) and the pixel side above (against its own corner
+/* The robust rounds, the flags (pixels_outliers.c) and the final plain
+ * least squares.  A station is left out when it fails both sides of the
+ * station test: the pose path's (wk->st_excl on entry; solve_refine.c: its
+ * leave-one-out residual against the scatter of the other stations, F test
+ * at a 1% family-wise rate) and the pixel side (against its own corner
  * noise), tested after robust rounds over every station.  The first alone flags clean views whose pose errors are larger
  * than the others' (steeper or farther views), the second alone every view
  * when the robot's own errors exceed the pixel noise. */
@@ -321,9 +242,14 @@ static int refine_pixels(pctx *c, work *wk, size_t nst, int robust, const double
     for (size_t o = 0; o < n; o++) wk->excl[o] = c->ost[o] == (size_t)-1;
     if (robust) {
         int rc = robust_rounds(c, wk, iters);
-        if (rc == 0 && pixel_station_test(c, wk, nst, pose_rms) > 0) rc = robust_rounds(c, wk, iters);
+        if (rc == 0) {
+            distances(c, wk->res);
+            if (tram__pixel_station_test(wk->res, c->ost, n, nst, pose_rms, wk->st_excl, wk->excl) > 0)
+                rc = robust_rounds(c, wk, iters);
+        }
         if (rc) return rc;
-        flag_corners(c, wk, nst);
+        distances(c, wk->res);
+        tram__pixel_flag_corners(wk->res, c->ost, n, nst, wk->excl, wk->scratch);
     }
     for (size_t o = 0; o < n; o++) wk->w[o] = wk->excl[o] ? 0.0 : 1.0;
     return lm_on(c, 100, iters);
