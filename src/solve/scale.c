@@ -46,18 +46,12 @@ tram_status tram__scale_report(tram_solution *sol, double s, double var, int fit
     return TRAM_OK;
 }
 
-/* Public uncertainty index (translation, rotation per block) to the
- * refinement's parameter index (rotation, translation per block). */
-static int pub_param(int a)
-{
-    return (a / 6) * 6 + (a % 6 < 3 ? 3 + a % 6 : a % 6 - 3);
-}
-
 /* sol's uncertainty from the fit's covariance (parameter order). */
 static void store_cov(const double cov[144], double cond, tram_solution *sol)
 {
     for (int a = 0; a < 12; a++) {
-        for (int b = 0; b < 12; b++) sol->unc.cov[a * 12 + b] = cov[pub_param(a) * 12 + pub_param(b)];
+        int q = tram__pub_param(a);
+        for (int b = 0; b < 12; b++) sol->unc.cov[a * 12 + b] = cov[q * 12 + tram__pub_param(b)];
         double sd = sqrt(fmax(sol->unc.cov[a * 13], 0.0));
         sol->unc.sigma[a] = (a % 6) >= 3 ? sd * 180.0 / TRAM_PI : sd;
     }
@@ -73,18 +67,7 @@ static tram_status rebootstrap(const tram_refine_problem *pb, const double *w,
     size_t used = 0;
     tram_status st = tram__refine_bootstrap(pb, w, &sol->X, &sol->Z, opt->bootstrap, opt->seed,
                                             opt->progress, opt->progress_ctx, sg, lo, hi, &used);
-    sol->unc.bootstrap_valid = 0;
-    if (st == TRAM_OK && used > 1) {
-        sol->unc.bootstrap_valid = 1;
-        sol->unc.bootstrap_used = used;
-        for (int a = 0; a < 12; a++) {
-            int q = pub_param(a);
-            double f = (a % 6) >= 3 ? 180.0 / TRAM_PI : 1.0;
-            sol->unc.bootstrap_sigma[a] = sg[q] * f;
-            sol->unc.bootstrap_lo[a] = lo[q] * f;
-            sol->unc.bootstrap_hi[a] = hi[q] * f;
-        }
-    }
+    tram__unc_store_bootstrap(&sol->unc, sg, lo, hi, st == TRAM_OK ? used : 0);
     return st == TRAM_ENOMEM ? st : TRAM_OK;
 }
 
