@@ -26,7 +26,8 @@
  * Sensor scale (tram solve --fit-scale; docs/solve.md): with pb->scale set,
  * one more parameter s multiplies the sensor's lengths (the translation of
  * S_i, or the observed points through eval): the similarity form of the
- * problem, as in Umeyama's (1991) registration with scale.
+ * problem, as in Umeyama's (1991) registration with scale.  On station
+ * residuals its Jacobian column is analytic too: d r_t / ds = R_P R_X t_S.
  * Covariance: Cov(x) = s^2 (J^T J)^-1 at the solution (s^2 = chi^2 / dof).
  * Bootstrap: stations resampled with replacement (Efron, Ann. Statist. 7(1),
  * 1979), each resample refined from the solution.
@@ -147,18 +148,20 @@ static void whiten3(const double *W, double *v, size_t stride)
     for (int i = 0; i < 3; i++) v[(size_t)i * stride] = W[3 * i] * a + W[3 * i + 1] * b + W[3 * i + 2] * c;
 }
 
-/* Weight a station's raw residual (and Jacobian when J != NULL) in place:
- * by the per-station whitening of the noise model, or by the sigmas. */
-static void station_weigh(const tram_refine_problem *pb, size_t i, double r[6], double J[6][NP])
+/* Weight a station's raw residual (and its Jacobian J when J != NULL: 6
+ * rows of nc columns, row stride ld) in place: by the per-station
+ * whitening of the noise model, or by the sigmas. */
+static void station_weigh(const tram_refine_problem *pb, size_t i, double r[6], double *J,
+                          size_t ld, int nc)
 {
     if (pb->W) {
         const double *W = pb->W + 18 * i;
         whiten3(W, r, 1);
         whiten3(W + 9, r + 3, 1);
         if (J)
-            for (int p = 0; p < NP; p++) {
-                whiten3(W, &J[0][p], NP);
-                whiten3(W + 9, &J[3][p], NP);
+            for (int p = 0; p < nc; p++) {
+                whiten3(W, &J[p], ld);
+                whiten3(W + 9, &J[3 * ld + (size_t)p], ld);
             }
         return;
     }
@@ -166,7 +169,7 @@ static void station_weigh(const tram_refine_problem *pb, size_t i, double r[6], 
         double f = k < 3 ? 1.0 / pb->sigma_angle : 1.0 / pb->sigma_length;
         r[k] *= f;
         if (J)
-            for (int p = 0; p < NP; p++) J[k][p] *= f;
+            for (int p = 0; p < nc; p++) J[(size_t)k * ld + (size_t)p] *= f;
     }
 }
 
@@ -178,7 +181,7 @@ void tram__refine_weighted(const tram_refine_problem *pb, size_t i, const tram_s
         for (int k = 0; k < 3; k++) S.m[k][3] *= *pb->scale;
     if (J) tram__refine_station_raw(&pb->P[i], &S, X, Z, r, J);
     else tram__refine_residual(&pb->P[i], &S, X, Z, r);
-    station_weigh(pb, i, r, J);
+    station_weigh(pb, i, r, J ? &J[0][0] : NULL, NP, NP);
 }
 
 static size_t nblocks(const tram_refine_problem *pb) { return pb->eval ? pb->nblocks : pb->n; }
@@ -316,11 +319,49 @@ static tram_status normal_blocks(const tram_refine_problem *pb, const double *w,
     return TRAM_OK;
 }
 
-/* With the sensor scale free (pb->scale): central differences over the
- * nbase pose parameters and the scale, block by block. */
-static tram_status normal_scaled(const tram_refine_problem *pb, const double *w,
-                                 const tram_se3 *X, const tram_se3 *Z, int np,
-                                 double H[NPX * NPX], double g[NPX])
+/* With the sensor scale free (pb->scale) on station residuals: the
+ * analytic Jacobian over the nbase pose parameters, and the scale's
+ * column.  S's translation enters as s t_S, so the translation residual
+ * R_P (R_X s t_S + t_X) + t_P - t_Z moves by R_P R_X t_S per unit of s
+ * (t_S unscaled) and the rotation residual not at all. */
+static void normal_stations_scaled(const tram_refine_problem *pb, const double *w,
+                                   const tram_se3 *X, const tram_se3 *Z, int np,
+                                   double H[NPX * NPX], double g[NPX])
+{
+    int nb = nbase(pb);
+    tram_mat3 RX;
+    tram_se3_to_rt(X, &RX, NULL);
+    for (size_t i = 0; i < pb->n; i++) {
+        if (!(w[i] > 0)) continue;
+        tram_se3 S = pb->S[i];
+        double r[6], J[6][NP], Js[6][NPX], tS[3], RPX[3][3];
+        for (int k = 0; k < 3; k++) {
+            tS[k] = S.m[k][3];
+            S.m[k][3] *= *pb->scale;
+        }
+        tram__refine_station_raw(&pb->P[i], &S, X, Z, r, J);
+        for (int a = 0; a < 3; a++)
+            for (int b = 0; b < 3; b++) {
+                double v = 0;
+                for (int m = 0; m < 3; m++) v += pb->P[i].m[a][m] * RX.m[m][b];
+                RPX[a][b] = v;
+            }
+        for (int k = 0; k < 6; k++) {
+            for (int p = 0; p < nb; p++) Js[k][p] = J[k][p];
+            Js[k][nb] = k < 3 ? 0.0
+                              : RPX[k - 3][0] * tS[0] + RPX[k - 3][1] * tS[1] + RPX[k - 3][2] * tS[2];
+        }
+        station_weigh(pb, i, r, &Js[0][0], NPX, np);
+        accumulate(np, NPX, 6, w[i], &Js[0][0], r, H, g);
+    }
+}
+
+/* With the sensor scale free on generic blocks (pb->eval): central
+ * differences over the nbase pose parameters and the scale, block by
+ * block. */
+static tram_status normal_blocks_scaled(const tram_refine_problem *pb, const double *w,
+                                        const tram_se3 *X, const tram_se3 *Z, int np,
+                                        double H[NPX * NPX], double g[NPX])
 {
     scratch sc;
     if (scratch_alloc(pb, &sc)) return TRAM_ENOMEM;
@@ -351,7 +392,8 @@ static tram_status normal_equations(const tram_refine_problem *pb, const double 
     memset(H, 0, NPX * NPX * sizeof *H);
     memset(g, 0, NPX * sizeof *g);
     tram_status st = TRAM_OK;
-    if (pb->scale) st = normal_scaled(pb, w, X, Z, np, H, g);
+    if (pb->scale && !pb->eval) normal_stations_scaled(pb, w, X, Z, np, H, g);
+    else if (pb->scale) st = normal_blocks_scaled(pb, w, X, Z, np, H, g);
     else if (!pb->eval) normal_stations(pb, w, X, Z, np, H, g);
     else st = normal_blocks(pb, w, X, Z, np, H, g);
     if (st != TRAM_OK) return st;
