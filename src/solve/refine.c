@@ -30,7 +30,9 @@
  * residuals its Jacobian column is analytic too: d r_t / ds = R_P R_X t_S.
  * Covariance: Cov(x) = s^2 (J^T J)^-1 at the solution (s^2 = chi^2 / dof).
  * Bootstrap: stations resampled with replacement (Efron, Ann. Statist. 7(1),
- * 1979), each resample refined from the solution.
+ * 1979), each resample refined from the solution; every station's J^T J,
+ * J^T r and cost at the solution are computed once and weighted per
+ * resample for its first step.
  */
 #include "tram/se3.h"
 #include "solve/refine_internal.h"
@@ -275,9 +277,9 @@ static void eval_moved(const tram_refine_problem *pb, size_t i, const tram_se3 *
 
 /* Station residuals (eval == NULL): the analytic Jacobian. */
 static void normal_stations(const tram_refine_problem *pb, const double *w, const tram_se3 *X,
-                            const tram_se3 *Z, int np, double H[NPX * NPX], double g[NPX])
+                            const tram_se3 *Z, int np, size_t lo, size_t hi, double H[NPX * NPX], double g[NPX])
 {
-    for (size_t i = 0; i < pb->n; i++) {
+    for (size_t i = lo; i < hi; i++) {
         if (!(w[i] > 0)) continue;
         double r[6], J[6][NP];
         tram__refine_weighted(pb, i, X, Z, r, J);
@@ -289,7 +291,7 @@ static void normal_stations(const tram_refine_problem *pb, const double *w, cons
  * 2 np perturbed (X, Z) built once for all blocks (they do not depend on
  * the block). */
 static tram_status normal_blocks(const tram_refine_problem *pb, const double *w,
-                                 const tram_se3 *X, const tram_se3 *Z, int np,
+                                 const tram_se3 *X, const tram_se3 *Z, int np, size_t lo, size_t hi,
                                  double H[NPX * NPX], double g[NPX])
 {
     scratch sc;
@@ -304,7 +306,7 @@ static tram_status normal_blocks(const tram_refine_problem *pb, const double *w,
         x[p] = -hs[p];
         tram__refine_apply(X, Z, x, &Xp[2 * p + 1], &Zp[2 * p + 1]);
     }
-    for (size_t i = 0; i < nblocks(pb); i++) {
+    for (size_t i = lo; i < hi; i++) {
         if (!(w[i] > 0)) continue;
         size_t d = block_eval(pb, i, X, Z, sc.r);
         for (int p = 0; p < np; p++) {
@@ -325,13 +327,13 @@ static tram_status normal_blocks(const tram_refine_problem *pb, const double *w,
  * R_P (R_X s t_S + t_X) + t_P - t_Z moves by R_P R_X t_S per unit of s
  * (t_S unscaled) and the rotation residual not at all. */
 static void normal_stations_scaled(const tram_refine_problem *pb, const double *w,
-                                   const tram_se3 *X, const tram_se3 *Z, int np,
+                                   const tram_se3 *X, const tram_se3 *Z, int np, size_t lo, size_t hi,
                                    double H[NPX * NPX], double g[NPX])
 {
     int nb = nbase(pb);
     tram_mat3 RX;
     tram_se3_to_rt(X, &RX, NULL);
-    for (size_t i = 0; i < pb->n; i++) {
+    for (size_t i = lo; i < hi; i++) {
         if (!(w[i] > 0)) continue;
         tram_se3 S = pb->S[i];
         double r[6], J[6][NP], Js[6][NPX], tS[3], RPX[3][3];
@@ -360,13 +362,13 @@ static void normal_stations_scaled(const tram_refine_problem *pb, const double *
  * differences over the nbase pose parameters and the scale, block by
  * block. */
 static tram_status normal_blocks_scaled(const tram_refine_problem *pb, const double *w,
-                                        const tram_se3 *X, const tram_se3 *Z, int np,
+                                        const tram_se3 *X, const tram_se3 *Z, int np, size_t lo, size_t hi,
                                         double H[NPX * NPX], double g[NPX])
 {
     scratch sc;
     if (scratch_alloc(pb, &sc)) return TRAM_ENOMEM;
     double ht = 1e-4 * pb->length_scale;
-    for (size_t i = 0; i < nblocks(pb); i++) {
+    for (size_t i = lo; i < hi; i++) {
         if (!(w[i] > 0)) continue;
         size_t d = block_eval(pb, i, X, Z, sc.r);
         for (int p = 0; p < np; p++) {
@@ -384,37 +386,103 @@ static tram_status normal_blocks_scaled(const tram_refine_problem *pb, const dou
 
 /* Normal equations H = sum w J^T J, g = sum w J^T r at (X, Z) (np x np,
  * np = nparams). */
+/* Blocks lo..hi-1's sum of w J^T J (upper triangle) and w J^T r added to
+ * H and g (np = nparams). */
+static tram_status normal_range(const tram_refine_problem *pb, const double *w, const tram_se3 *X,
+                                const tram_se3 *Z, size_t lo, size_t hi, double H[NPX * NPX],
+                                double g[NPX])
+{
+    int np = nparams(pb);
+    if (pb->scale && !pb->eval) normal_stations_scaled(pb, w, X, Z, np, lo, hi, H, g);
+    else if (pb->scale) return normal_blocks_scaled(pb, w, X, Z, np, lo, hi, H, g);
+    else if (!pb->eval) normal_stations(pb, w, X, Z, np, lo, hi, H, g);
+    else return normal_blocks(pb, w, X, Z, np, lo, hi, H, g);
+    return TRAM_OK;
+}
+
+static void symmetrize(int np, double H[NPX * NPX])
+{
+    for (int a = 0; a < np; a++)
+        for (int b = 0; b < a; b++) H[a * np + b] = H[b * np + a];
+}
+
 static tram_status normal_equations(const tram_refine_problem *pb, const double *w,
                                     const tram_se3 *X, const tram_se3 *Z, double H[NPX * NPX],
                                     double g[NPX])
 {
-    int np = nparams(pb);
     memset(H, 0, NPX * NPX * sizeof *H);
     memset(g, 0, NPX * sizeof *g);
-    tram_status st = TRAM_OK;
-    if (pb->scale && !pb->eval) normal_stations_scaled(pb, w, X, Z, np, H, g);
-    else if (pb->scale) st = normal_blocks_scaled(pb, w, X, Z, np, H, g);
-    else if (!pb->eval) normal_stations(pb, w, X, Z, np, H, g);
-    else st = normal_blocks(pb, w, X, Z, np, H, g);
+    tram_status st = normal_range(pb, w, X, Z, 0, nblocks(pb), H, g);
     if (st != TRAM_OK) return st;
-    for (int a = 0; a < np; a++)
-        for (int b = 0; b < a; b++) H[a * np + b] = H[b * np + a];
+    symmetrize(nparams(pb), H);
     return TRAM_OK;
 }
 
-/* Levenberg-Marquardt with fixed block weights w. */
+/* What every block contributes at one point (X, Z) with unit weight: its
+ * cost, J^T J (upper triangle) and J^T r.  The bootstrap's resamples all
+ * start at the solution, where only the weights change: their first
+ * normal equations and cost are weighted sums of these, in block order,
+ * with the same rounding as a fresh evaluation. */
+typedef struct start_point {
+    double *cost, *H, *g; /* per block: 1, NPX * NPX, NPX values */
+} start_point;
+
+static void start_point_free(start_point *sp) { tram__free(sp->cost); }
+
+static tram_status start_point_build(const tram_refine_problem *pb, const tram_se3 *X,
+                                     const tram_se3 *Z, start_point *sp)
+{
+    size_t nb = nblocks(pb), m = nb ? nb : 1;
+    sp->cost = tram__calloc(m * (1 + NPX * NPX + NPX) + m + maxdim(pb), sizeof *sp->cost);
+    if (!sp->cost) return TRAM_ENOMEM;
+    sp->H = sp->cost + m;
+    sp->g = sp->H + m * NPX * NPX;
+    double *one = sp->g + m * NPX, *buf = one + m;
+    tram_status st = TRAM_OK;
+    for (size_t i = 0; i < nb && st == TRAM_OK; i++) {
+        one[i] = 1.0;
+        sp->cost[i] = block_cost(pb, i, X, Z, buf, NULL);
+        st = normal_range(pb, one, X, Z, i, i + 1, sp->H + i * NPX * NPX, sp->g + i * NPX);
+    }
+    if (st != TRAM_OK) start_point_free(sp);
+    return st;
+}
+
+/* The weighted cost, H and g at the start point from its blocks. */
+static double start_point_sum(const tram_refine_problem *pb, const start_point *sp,
+                              const double *w, double H[NPX * NPX], double g[NPX])
+{
+    int np = nparams(pb);
+    double c = 0;
+    memset(H, 0, NPX * NPX * sizeof *H);
+    memset(g, 0, NPX * sizeof *g);
+    for (size_t i = 0; i < nblocks(pb); i++) {
+        if (!(w[i] > 0)) continue;
+        const double *Hb = sp->H + i * NPX * NPX, *gb = sp->g + i * NPX;
+        c += w[i] * sp->cost[i];
+        for (int a = 0; a < np; a++) {
+            g[a] += w[i] * gb[a];
+            for (int b = a; b < np; b++) H[a * np + b] += w[i] * Hb[a * np + b];
+        }
+    }
+    symmetrize(np, H);
+    return c;
+}
+
+/* Levenberg-Marquardt with fixed block weights w; sp: NULL, or the
+ * blocks' contributions at the starting (X, Z). */
 static tram_status lm(const tram_refine_problem *pb, const double *w, int max_iter, tram_se3 *X,
-                      tram_se3 *Z, int *iters)
+                      tram_se3 *Z, int *iters, const start_point *sp)
 {
     int np = nparams(pb);
     double H[NPX * NPX], g[NPX], lambda = 1e-3;
     double *buf = tram__malloc(maxdim(pb) * sizeof *buf);
     if (!buf) return TRAM_ENOMEM;
-    double cost = total_cost(pb, w, X, Z, buf);
+    double cost = sp ? start_point_sum(pb, sp, w, H, g) : total_cost(pb, w, X, Z, buf);
     int it;
     tram_status st = TRAM_OK;
     for (it = 0; it < max_iter; it++) {
-        if ((st = normal_equations(pb, w, X, Z, H, g)) != TRAM_OK) break;
+        if (!(it == 0 && sp) && (st = normal_equations(pb, w, X, Z, H, g)) != TRAM_OK) break;
         int accepted = 0, done = 0;
         for (int tries = 0; tries < 12 && !accepted; tries++) {
             double A[NPX * NPX], mg[NPX], dx[NPX] = {0};
@@ -473,7 +541,7 @@ tram_status tram__refine_run(const tram_refine_problem *pb, const double *statio
     for (size_t i = 0; i < nb; i++) w[i] = station_w ? station_w[i] : 1.0;
     tram_status st = TRAM_OK;
     if (!robust) {
-        st = lm(pb, w, 100, X, Z, NULL);
+        st = lm(pb, w, 100, X, Z, NULL, NULL);
         /* settle station problems to rounding level (tram__refine_polish) */
         if (st == TRAM_OK && !pb->eval) st = tram__refine_polish(pb, w, 2, X, Z);
     } else {
@@ -491,7 +559,7 @@ tram_status tram__refine_run(const tram_refine_problem *pb, const double *statio
                 double u2 = c / (double)(d ? d : 1);
                 w[i] = base / (1.0 + u2 / (CAUCHY_C * CAUCHY_C));
             }
-            st = lm(pb, w, 50, X, Z, NULL);
+            st = lm(pb, w, 50, X, Z, NULL, NULL);
             double ang, len;
             tram_se3_distance(&X0, X, &ang, &len);
             if (ang < 1e-9 && len < 1e-9 * pb->length_scale) break;
@@ -614,6 +682,14 @@ tram_status tram__refine_bootstrap(const tram_refine_problem *pb, const double *
         tram__free(col);
         return TRAM_ENOMEM;
     }
+    start_point sp;
+    if (start_point_build(pb, X, Z, &sp) != TRAM_OK) {
+        tram__free(in);
+        tram__free(w);
+        tram__free(dev);
+        tram__free(col);
+        return TRAM_ENOMEM;
+    }
     size_t k = 0;
     for (size_t i = 0; i < nb; i++)
         if (!station_w || station_w[i] > 0) in[k++] = i;
@@ -635,9 +711,10 @@ tram_status tram__refine_bootstrap(const tram_refine_problem *pb, const double *
         if (distinct < 3) continue;
         tram_se3 Xb = *X, Zb = *Z;
         double s0 = pb->scale ? *pb->scale : 1.0;
-        tram_status bs = lm(pb, w, 30, &Xb, &Zb, NULL);
+        tram_status bs = lm(pb, w, 30, &Xb, &Zb, NULL, &sp);
         if (pb->scale) *pb->scale = s0; /* each resample starts from the solution */
         if (bs == TRAM_ENOMEM) { /* not a failed resample: stop, do not under-report */
+            start_point_free(&sp);
             tram__free(in);
             tram__free(w);
             tram__free(dev);
@@ -678,6 +755,7 @@ tram_status tram__refine_bootstrap(const tram_refine_problem *pb, const double *
         hi[a] = good ? col[(size_t)(0.975 * (double)(good - 1) + 0.5)] : 0.0;
     }
     *used = good;
+    start_point_free(&sp);
     tram__free(in);
     tram__free(w);
     tram__free(dev);
