@@ -63,29 +63,47 @@ void tram__refine_apply(const tram_se3 *X0, const tram_se3 *Z0, const double x[N
     tram_se3_from_rt(&R, t, Z);
 }
 
+/* T_a_c = T_a_b T_b_c, with tram_se3_compose's arithmetic (same rounding),
+ * inline for the per-station loops. */
+static inline void compose(const tram_se3 *A, const tram_se3 *B, tram_se3 *C)
+{
+    for (int i = 0; i < 3; i++) {
+        for (int j = 0; j < 4; j++)
+            C->m[i][j] = A->m[i][0] * B->m[0][j] + A->m[i][1] * B->m[1][j] + A->m[i][2] * B->m[2][j];
+        C->m[i][3] += A->m[i][3];
+    }
+}
+
+/* The residual of (P, S) at (X, Z), and P X (rotation and translation;
+ * rows 0-2 only) into *PX. */
+static inline void residual_px(const tram_se3 *P, const tram_se3 *S, const tram_se3 *X,
+                               const tram_se3 *Z, double r[6], tram_se3 *PX)
+{
+    tram_se3 Zh;
+    compose(P, X, PX);
+    compose(PX, S, &Zh);
+    tram_mat3 D; /* R_Z^T R_Zhat, as tram_so3_mul of the transpose */
+    for (int i = 0; i < 3; i++)
+        for (int j = 0; j < 3; j++)
+            D.m[i][j] = Z->m[0][i] * Zh.m[0][j] + Z->m[1][i] * Zh.m[1][j] + Z->m[2][i] * Zh.m[2][j];
+    tram_so3_log(&D, r);
+    for (int i = 0; i < 3; i++) r[3 + i] = Zh.m[i][3] - Z->m[i][3];
+}
+
 void tram__refine_residual(const tram_se3 *P, const tram_se3 *S, const tram_se3 *X,
                            const tram_se3 *Z, double r[6])
 {
-    tram_se3 PX, Zh;
-    tram_se3_compose(P, X, &PX);
-    tram_se3_compose(&PX, S, &Zh);
-    tram_mat3 RZ, RZt, Rh, D;
-    double tZ[3], th[3];
-    tram_se3_to_rt(Z, &RZ, tZ);
-    tram_se3_to_rt(&Zh, &Rh, th);
-    tram_so3_transpose(&RZ, &RZt);
-    tram_so3_mul(&RZt, &Rh, &D);
-    tram_so3_log(&D, r);
-    for (int i = 0; i < 3; i++) r[3 + i] = th[i] - tZ[i];
+    tram_se3 PX;
+    residual_px(P, S, X, Z, r, &PX);
 }
 
-/* Inverse right Jacobian of SO(3) at phi (Chirikjian, "Stochastic Models,
- * Information Theory, and Lie Groups", vol. 2, 2012):
+/* Inverse right and left Jacobians of SO(3) at phi (Chirikjian,
+ * "Stochastic Models, Information Theory, and Lie Groups", vol. 2, 2012):
  *   Jr^-1 = I + 1/2 [phi]x + (1/th^2 - (1 + cos th) / (2 th sin th)) [phi]x^2,
- * and Jl^-1(phi) = Jr^-1(-phi). */
-static void jr_inv(const double phi[3], double sign, double J[3][3])
+ * and Jl^-1(phi) = Jr^-1(-phi) = I - 1/2 [phi]x + (same) [phi]x^2. */
+static void jr_jl_inv(const double phi[3], double Jr[3][3], double Jl[3][3])
 {
-    double p[3] = {sign * phi[0], sign * phi[1], sign * phi[2]};
+    const double *p = phi;
     double th2 = p[0] * p[0] + p[1] * p[1] + p[2] * p[2], th = sqrt(th2);
     double c = th < 1e-6 ? 1.0 / 12.0 : 1.0 / th2 - (1.0 + cos(th)) / (2.0 * th * sin(th));
     if (th > 3.1) c = 1.0 / th2; /* near pi the series is ill-defined; a bounded step */
@@ -95,37 +113,38 @@ static void jr_inv(const double phi[3], double sign, double J[3][3])
         for (int j = 0; j < 3; j++) {
             double k2 = 0;
             for (int m = 0; m < 3; m++) k2 += K.m[i][m] * K.m[m][j];
-            J[i][j] = (i == j) + 0.5 * K.m[i][j] + c * k2;
+            double h = 0.5 * K.m[i][j], e = (i == j), q = c * k2;
+            Jr[i][j] = e + h + q;
+            Jl[i][j] = e - h + q;
         }
 }
 
 void tram__refine_station_raw(const tram_se3 *P, const tram_se3 *S, const tram_se3 *X,
                               const tram_se3 *Z, double r[6], double J[6][NP])
 {
-    tram__refine_residual(P, S, X, Z, r);
-    tram_mat3 RP, RX, RS, RPX, K;
-    double tS[3], Jr[3][3], Jl[3][3];
-    tram_se3_to_rt(P, &RP, NULL);
-    tram_se3_to_rt(X, &RX, NULL);
-    tram_se3_to_rt(S, &RS, tS);
-    tram_so3_mul(&RP, &RX, &RPX);
-    jr_inv(r, 1.0, Jr);
-    jr_inv(r, -1.0, Jl);
-    memset(J, 0, 6 * NP * sizeof(double));
+    tram_se3 PX;
+    residual_px(P, S, X, Z, r, &PX); /* PX's rotation is R_P R_X */
+    double Jr[3][3], Jl[3][3];
+    jr_jl_inv(r, Jr, Jl);
     for (int i = 0; i < 3; i++)
         for (int j = 0; j < 3; j++) {
             double a = 0; /* (Jr^-1 R_S^T)_ij */
-            for (int m = 0; m < 3; m++) a += Jr[i][m] * RS.m[j][m];
+            for (int m = 0; m < 3; m++) a += Jr[i][m] * S->m[j][m];
             J[i][j] = a;
+            J[i][3 + j] = 0.0;
             J[i][6 + j] = -Jl[i][j];
+            J[i][9 + j] = 0.0;
         }
-    tram_so3_hat(tS, &K);
+    /* -R_P R_X [t_S]x, with [t_S]x as tram_so3_hat builds it */
+    const double t0 = S->m[0][3], t1 = S->m[1][3], t2 = S->m[2][3];
+    const double K[3][3] = {{0.0, -t2, t1}, {t2, 0.0, -t0}, {-t1, t0, 0.0}};
     for (int i = 0; i < 3; i++)
         for (int j = 0; j < 3; j++) {
             double a = 0;
-            for (int m = 0; m < 3; m++) a += RPX.m[i][m] * K.m[m][j];
+            for (int m = 0; m < 3; m++) a += PX.m[i][m] * K[m][j];
             J[3 + i][j] = -a;
-            J[3 + i][3 + j] = RP.m[i][j];
+            J[3 + i][3 + j] = P->m[i][j];
+            J[3 + i][6 + j] = 0.0;
             J[3 + i][9 + j] = -(double)(i == j);
         }
 }
@@ -150,11 +169,24 @@ static void whiten3(const double *W, double *v, size_t stride)
     for (int i = 0; i < 3; i++) v[(size_t)i * stride] = W[3 * i] * a + W[3 * i + 1] * b + W[3 * i + 2] * c;
 }
 
+/* Which rows of a station's Jacobian column p can be nonzero: 1 the
+ * rotation rows, 2 the translation rows.  A translation parameter (dt_X,
+ * dt_Z, the scale) leaves the rotation residual alone and w_Z the
+ * translation residual, before and after the whitening (which mixes
+ * rotation rows and translation rows only among themselves). */
+static int column_rows(int p, int nb)
+{
+    if (p >= nb) return 2; /* the scale */
+    int k = p % 12;
+    return k < 3 ? 3 : k < 6 ? 2 : k < 9 ? 1 : 2;
+}
+
 /* Weight a station's raw residual (and its Jacobian J when J != NULL: 6
- * rows of nc columns, row stride ld) in place: by the per-station
- * whitening of the noise model, or by the sigmas. */
+ * rows of nc columns, row stride ld, the pose parameters before column
+ * nb) in place: by the per-station whitening of the noise model (the
+ * blocks known to be 0 stay 0), or by the sigmas. */
 static void station_weigh(const tram_refine_problem *pb, size_t i, double r[6], double *J,
-                          size_t ld, int nc)
+                          size_t ld, int nc, int nb)
 {
     if (pb->W) {
         const double *W = pb->W + 18 * i;
@@ -162,8 +194,9 @@ static void station_weigh(const tram_refine_problem *pb, size_t i, double r[6], 
         whiten3(W + 9, r + 3, 1);
         if (J)
             for (int p = 0; p < nc; p++) {
-                whiten3(W, &J[p], ld);
-                whiten3(W + 9, &J[3 * ld + (size_t)p], ld);
+                int rows = column_rows(p, nb);
+                if (rows & 1) whiten3(W, &J[p], ld);
+                if (rows & 2) whiten3(W + 9, &J[3 * ld + (size_t)p], ld);
             }
         return;
     }
@@ -183,7 +216,7 @@ void tram__refine_weighted(const tram_refine_problem *pb, size_t i, const tram_s
         for (int k = 0; k < 3; k++) S.m[k][3] *= *pb->scale;
     if (J) tram__refine_station_raw(&pb->P[i], &S, X, Z, r, J);
     else tram__refine_residual(&pb->P[i], &S, X, Z, r);
-    station_weigh(pb, i, r, J ? &J[0][0] : NULL, NP, NP);
+    station_weigh(pb, i, r, J ? &J[0][0] : NULL, NP, NP, NP);
 }
 
 static size_t nblocks(const tram_refine_problem *pb) { return pb->eval ? pb->nblocks : pb->n; }
@@ -251,6 +284,40 @@ static void accumulate(int np, size_t ld, size_t d, double w, const double *J, c
     }
 }
 
+/* accumulate for a 6-row block (a station), the products known to be 0
+ * skipped: the sums that remain are the same in the same order (a sum of
+ * exact zeros adds nothing), so H and g round as accumulate's. */
+static void accumulate6(int np, int nb, size_t ld, double w, const double *J, const double r[6],
+                        double H[NPX * NPX], double g[NPX])
+{
+    double Jt[NPX][6];
+    int rows[NPX];
+    for (int a = 0; a < np; a++) {
+        rows[a] = column_rows(a, nb);
+        for (int k = 0; k < 6; k++) Jt[a][k] = J[(size_t)k * ld + (size_t)a];
+    }
+    for (int a = 0; a < np; a++) {
+        const double *x = Jt[a];
+        double ga = x[0] * r[0];
+        for (int k = 1; k < 6; k++) ga += x[k] * r[k];
+        g[a] += w * ga;
+        double *Ha = H + a * np;
+        for (int b = a; b < np; b++) {
+            const double *y = Jt[b];
+            int both = rows[a] & rows[b];
+            if (!both) continue;
+            double hsum;
+            if (both & 1) {
+                hsum = x[0] * y[0] + x[1] * y[1] + x[2] * y[2];
+                if (both & 2) hsum = hsum + x[3] * y[3] + x[4] * y[4] + x[5] * y[5];
+            } else {
+                hsum = x[3] * y[3] + x[4] * y[4] + x[5] * y[5];
+            }
+            Ha[b] += w * hsum;
+        }
+    }
+}
+
 /* The step x (nparams values) from (X, Z) and the scale: the moved poses,
  * and the moved scale into *scale (unchanged without pb->scale). */
 static void step_apply(const tram_refine_problem *pb, const tram_se3 *X, const tram_se3 *Z,
@@ -283,7 +350,7 @@ static void normal_stations(const tram_refine_problem *pb, const double *w, cons
         if (!(w[i] > 0)) continue;
         double r[6], J[6][NP];
         tram__refine_weighted(pb, i, X, Z, r, J);
-        accumulate(np, NP, 6, w[i], &J[0][0], r, H, g);
+        accumulate6(np, nbase(pb), NP, w[i], &J[0][0], r, H, g);
     }
 }
 
@@ -353,8 +420,8 @@ static void normal_stations_scaled(const tram_refine_problem *pb, const double *
             Js[k][nb] = k < 3 ? 0.0
                               : RPX[k - 3][0] * tS[0] + RPX[k - 3][1] * tS[1] + RPX[k - 3][2] * tS[2];
         }
-        station_weigh(pb, i, r, &Js[0][0], NPX, np);
-        accumulate(np, NPX, 6, w[i], &Js[0][0], r, H, g);
+        station_weigh(pb, i, r, &Js[0][0], NPX, np, nb);
+        accumulate6(np, nb, NPX, w[i], &Js[0][0], r, H, g);
     }
 }
 
