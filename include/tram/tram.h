@@ -10,6 +10,7 @@
 #include "tram/common.h"
 #include "tram/fileio.h"
 #include "tram/handeye.h"
+#include "tram/linalg.h"
 #include "tram/plot.h"
 #include "tram/report.h"
 #include "tram/points.h"

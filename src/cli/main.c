@@ -120,6 +120,9 @@ static int cli_help(int argc, char **argv)
 
 int main(int argc, char **argv)
 {
+    /* small dense work: OpenBLAS on one thread unless the user set
+     * OPENBLAS_NUM_THREADS (docs/performance.md) */
+    tram_linalg_single_thread();
     if (argc < 2) {
         usage(stderr);
         return CLI_EXIT_USAGE;

@@ -7,12 +7,25 @@
  * return on such input (dbdsqr, behind dgesvd, loops on Inf), so
  * non-finite numbers are refused with TRAM_ENUMERIC before LAPACK sees
  * them.  LAPACKE's own workspace allocation failure maps to TRAM_ENOMEM.
+ * tram_linalg_single_thread runs OpenBLAS on one thread unless the user
+ * chose (OPENBLAS_NUM_THREADS): its workers only spin on small matrices.
  */
 #include "math/linalg_internal.h"
+#include "tram/linalg.h"
 
+#include <cblas.h>
 #include <lapacke.h>
 #include <math.h>
+#include <stdlib.h>
 #include <string.h>
+
+int tram_linalg_single_thread(void)
+{
+    const char *env = getenv("OPENBLAS_NUM_THREADS");
+    if (env && *env) return 0;
+    openblas_set_num_threads(1);
+    return 1;
+}
 
 /* Largest matrix (entries) handled in stack buffers. */
 #define SMALL 256

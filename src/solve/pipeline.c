@@ -4,7 +4,9 @@
  * diagnostics list and lifetime, the reduction of records to the generic
  * problem P_i X S_i = Z (tram/handeye.h), the problem's length scale, and
  * the quick robust fit (Park-Martin start, Cauchy refinement) that the
- * convention doctor scores readings with.
+ * convention doctor scores readings with; the mapping of the refinement's
+ * parameter order to the public uncertainty order, and the copy of a
+ * bootstrap's result into the solution.
  */
 #include "solve/pipeline_internal.h"
 #include "solve/refine_internal.h"
@@ -158,4 +160,26 @@ tram_status tram__quick_fit(const tram_se3 *P, const tram_se3 *S, size_t n, doub
     }
     tram__free(rot);
     return st;
+}
+
+int tram__pub_param(int a)
+{
+    int block = a / 6, k = a % 6;
+    return block * 6 + (k < 3 ? 3 + k : k - 3);
+}
+
+void tram__unc_store_bootstrap(tram_uncertainty *u, const double sigma[12], const double lo[12],
+                               const double hi[12], size_t used)
+{
+    u->bootstrap_valid = 0;
+    if (used < 2) return;
+    u->bootstrap_valid = 1;
+    u->bootstrap_used = used;
+    for (int a = 0; a < 12; a++) {
+        int q = tram__pub_param(a);
+        double f = (a % 6) >= 3 ? 180.0 / TRAM_PI : 1.0;
+        u->bootstrap_sigma[a] = sigma[q] * f;
+        u->bootstrap_lo[a] = lo[q] * f;
+        u->bootstrap_hi[a] = hi[q] * f;
+    }
 }

@@ -43,4 +43,15 @@ void tram__unc_intervals(tram_uncertainty *u, double dof);
 /* Floor the noise of noise-free data so that weights stay finite. */
 void tram__floor_noise(double *sa, double *sl, double lscale);
 
+/* The refinement's parameter index (rotation, translation per block:
+ * refine_internal.h) of public uncertainty index a (translation, rotation
+ * per block: tram/solve.h). */
+int tram__pub_param(int a);
+
+/* A station bootstrap's result (refinement order: lengths and rad) into
+ * sol->unc (public order: lengths and degrees): bootstrap_valid set when
+ * used > 1, cleared otherwise. */
+void tram__unc_store_bootstrap(tram_uncertainty *u, const double sigma[12], const double lo[12],
+                               const double hi[12], size_t used);
+
 #endif

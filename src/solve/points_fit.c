@@ -337,23 +337,17 @@ tram_status tram__pts_stats(const tram_records *r, const tram_point_obs *obs,
     return TRAM_OK;
 }
 
-/* Refinement parameter index (rotation, translation per block) of public
- * uncertainty index a (translation, rotation per block). */
-static int pub_param(int a)
-{
-    return (a / 6) * 6 + (a % 6 < 3 ? 3 + a % 6 : a % 6 - 3);
-}
-
 /* The first nblk*6 public sigmas and covariance of sol from the
  * refinement's covariance (parameter order, length and rad). */
 void tram__pts_store_uncertainty(const double cov[144], int nblk, double cond, double dof,
                                  tram_solution *sol)
 {
     for (int a = 0; a < 6 * nblk; a++) {
-        int q = pub_param(a);
+        int q = tram__pub_param(a);
         double sd = sqrt(fmax(cov[q * 12 + q], 0.0));
         sol->unc.sigma[a] = (a % 6) >= 3 ? sd * 180.0 / TRAM_PI : sd;
-        for (int b = 0; b < 6 * nblk; b++) sol->unc.cov[a * 12 + b] = cov[q * 12 + pub_param(b)];
+        for (int b = 0; b < 6 * nblk; b++)
+            sol->unc.cov[a * 12 + b] = cov[q * 12 + tram__pub_param(b)];
     }
     sol->unc.valid = 1;
     tram__unc_intervals(&sol->unc, dof); /* Student-t half-widths */

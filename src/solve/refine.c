@@ -26,10 +26,13 @@
  * Sensor scale (tram solve --fit-scale; docs/solve.md): with pb->scale set,
  * one more parameter s multiplies the sensor's lengths (the translation of
  * S_i, or the observed points through eval): the similarity form of the
- * problem, as in Umeyama's (1991) registration with scale.
+ * problem, as in Umeyama's (1991) registration with scale.  On station
+ * residuals its Jacobian column is analytic too: d r_t / ds = R_P R_X t_S.
  * Covariance: Cov(x) = s^2 (J^T J)^-1 at the solution (s^2 = chi^2 / dof).
  * Bootstrap: stations resampled with replacement (Efron, Ann. Statist. 7(1),
- * 1979), each resample refined from the solution.
+ * 1979), each resample refined from the solution; every station's J^T J,
+ * J^T r and cost at the solution are computed once and weighted per
+ * resample for its first step.
  */
 #include "tram/se3.h"
 #include "solve/refine_internal.h"
@@ -60,29 +63,47 @@ void tram__refine_apply(const tram_se3 *X0, const tram_se3 *Z0, const double x[N
     tram_se3_from_rt(&R, t, Z);
 }
 
+/* T_a_c = T_a_b T_b_c, with tram_se3_compose's arithmetic (same rounding),
+ * inline for the per-station loops. */
+static inline void compose(const tram_se3 *A, const tram_se3 *B, tram_se3 *C)
+{
+    for (int i = 0; i < 3; i++) {
+        for (int j = 0; j < 4; j++)
+            C->m[i][j] = A->m[i][0] * B->m[0][j] + A->m[i][1] * B->m[1][j] + A->m[i][2] * B->m[2][j];
+        C->m[i][3] += A->m[i][3];
+    }
+}
+
+/* The residual of (P, S) at (X, Z), and P X (rotation and translation;
+ * rows 0-2 only) into *PX. */
+static inline void residual_px(const tram_se3 *P, const tram_se3 *S, const tram_se3 *X,
+                               const tram_se3 *Z, double r[6], tram_se3 *PX)
+{
+    tram_se3 Zh;
+    compose(P, X, PX);
+    compose(PX, S, &Zh);
+    tram_mat3 D; /* R_Z^T R_Zhat, as tram_so3_mul of the transpose */
+    for (int i = 0; i < 3; i++)
+        for (int j = 0; j < 3; j++)
+            D.m[i][j] = Z->m[0][i] * Zh.m[0][j] + Z->m[1][i] * Zh.m[1][j] + Z->m[2][i] * Zh.m[2][j];
+    tram_so3_log(&D, r);
+    for (int i = 0; i < 3; i++) r[3 + i] = Zh.m[i][3] - Z->m[i][3];
+}
+
 void tram__refine_residual(const tram_se3 *P, const tram_se3 *S, const tram_se3 *X,
                            const tram_se3 *Z, double r[6])
 {
-    tram_se3 PX, Zh;
-    tram_se3_compose(P, X, &PX);
-    tram_se3_compose(&PX, S, &Zh);
-    tram_mat3 RZ, RZt, Rh, D;
-    double tZ[3], th[3];
-    tram_se3_to_rt(Z, &RZ, tZ);
-    tram_se3_to_rt(&Zh, &Rh, th);
-    tram_so3_transpose(&RZ, &RZt);
-    tram_so3_mul(&RZt, &Rh, &D);
-    tram_so3_log(&D, r);
-    for (int i = 0; i < 3; i++) r[3 + i] = th[i] - tZ[i];
+    tram_se3 PX;
+    residual_px(P, S, X, Z, r, &PX);
 }
 
-/* Inverse right Jacobian of SO(3) at phi (Chirikjian, "Stochastic Models,
- * Information Theory, and Lie Groups", vol. 2, 2012):
+/* Inverse right and left Jacobians of SO(3) at phi (Chirikjian,
+ * "Stochastic Models, Information Theory, and Lie Groups", vol. 2, 2012):
  *   Jr^-1 = I + 1/2 [phi]x + (1/th^2 - (1 + cos th) / (2 th sin th)) [phi]x^2,
- * and Jl^-1(phi) = Jr^-1(-phi). */
-static void jr_inv(const double phi[3], double sign, double J[3][3])
+ * and Jl^-1(phi) = Jr^-1(-phi) = I - 1/2 [phi]x + (same) [phi]x^2. */
+static void jr_jl_inv(const double phi[3], double Jr[3][3], double Jl[3][3])
 {
-    double p[3] = {sign * phi[0], sign * phi[1], sign * phi[2]};
+    const double *p = phi;
     double th2 = p[0] * p[0] + p[1] * p[1] + p[2] * p[2], th = sqrt(th2);
     double c = th < 1e-6 ? 1.0 / 12.0 : 1.0 / th2 - (1.0 + cos(th)) / (2.0 * th * sin(th));
     if (th > 3.1) c = 1.0 / th2; /* near pi the series is ill-defined; a bounded step */
@@ -92,37 +113,38 @@ static void jr_inv(const double phi[3], double sign, double J[3][3])
         for (int j = 0; j < 3; j++) {
             double k2 = 0;
             for (int m = 0; m < 3; m++) k2 += K.m[i][m] * K.m[m][j];
-            J[i][j] = (i == j) + 0.5 * K.m[i][j] + c * k2;
+            double h = 0.5 * K.m[i][j], e = (i == j), q = c * k2;
+            Jr[i][j] = e + h + q;
+            Jl[i][j] = e - h + q;
         }
 }
 
 void tram__refine_station_raw(const tram_se3 *P, const tram_se3 *S, const tram_se3 *X,
                               const tram_se3 *Z, double r[6], double J[6][NP])
 {
-    tram__refine_residual(P, S, X, Z, r);
-    tram_mat3 RP, RX, RS, RPX, K;
-    double tS[3], Jr[3][3], Jl[3][3];
-    tram_se3_to_rt(P, &RP, NULL);
-    tram_se3_to_rt(X, &RX, NULL);
-    tram_se3_to_rt(S, &RS, tS);
-    tram_so3_mul(&RP, &RX, &RPX);
-    jr_inv(r, 1.0, Jr);
-    jr_inv(r, -1.0, Jl);
-    memset(J, 0, 6 * NP * sizeof(double));
+    tram_se3 PX;
+    residual_px(P, S, X, Z, r, &PX); /* PX's rotation is R_P R_X */
+    double Jr[3][3], Jl[3][3];
+    jr_jl_inv(r, Jr, Jl);
     for (int i = 0; i < 3; i++)
         for (int j = 0; j < 3; j++) {
             double a = 0; /* (Jr^-1 R_S^T)_ij */
-            for (int m = 0; m < 3; m++) a += Jr[i][m] * RS.m[j][m];
+            for (int m = 0; m < 3; m++) a += Jr[i][m] * S->m[j][m];
             J[i][j] = a;
+            J[i][3 + j] = 0.0;
             J[i][6 + j] = -Jl[i][j];
+            J[i][9 + j] = 0.0;
         }
-    tram_so3_hat(tS, &K);
+    /* -R_P R_X [t_S]x, with [t_S]x as tram_so3_hat builds it */
+    const double t0 = S->m[0][3], t1 = S->m[1][3], t2 = S->m[2][3];
+    const double K[3][3] = {{0.0, -t2, t1}, {t2, 0.0, -t0}, {-t1, t0, 0.0}};
     for (int i = 0; i < 3; i++)
         for (int j = 0; j < 3; j++) {
             double a = 0;
-            for (int m = 0; m < 3; m++) a += RPX.m[i][m] * K.m[m][j];
+            for (int m = 0; m < 3; m++) a += PX.m[i][m] * K[m][j];
             J[3 + i][j] = -a;
-            J[3 + i][3 + j] = RP.m[i][j];
+            J[3 + i][3 + j] = P->m[i][j];
+            J[3 + i][6 + j] = 0.0;
             J[3 + i][9 + j] = -(double)(i == j);
         }
 }
@@ -147,18 +169,34 @@ static void whiten3(const double *W, double *v, size_t stride)
     for (int i = 0; i < 3; i++) v[(size_t)i * stride] = W[3 * i] * a + W[3 * i + 1] * b + W[3 * i + 2] * c;
 }
 
-/* Weight a station's raw residual (and Jacobian when J != NULL) in place:
- * by the per-station whitening of the noise model, or by the sigmas. */
-static void station_weigh(const tram_refine_problem *pb, size_t i, double r[6], double J[6][NP])
+/* Which rows of a station's Jacobian column p can be nonzero: 1 the
+ * rotation rows, 2 the translation rows.  A translation parameter (dt_X,
+ * dt_Z, the scale) leaves the rotation residual alone and w_Z the
+ * translation residual, before and after the whitening (which mixes
+ * rotation rows and translation rows only among themselves). */
+static int column_rows(int p, int nb)
+{
+    if (p >= nb) return 2; /* the scale */
+    int k = p % 12;
+    return k < 3 ? 3 : k < 6 ? 2 : k < 9 ? 1 : 2;
+}
+
+/* Weight a station's raw residual (and its Jacobian J when J != NULL: 6
+ * rows of nc columns, row stride ld, the pose parameters before column
+ * nb) in place: by the per-station whitening of the noise model (the
+ * blocks known to be 0 stay 0), or by the sigmas. */
+static void station_weigh(const tram_refine_problem *pb, size_t i, double r[6], double *J,
+                          size_t ld, int nc, int nb)
 {
     if (pb->W) {
         const double *W = pb->W + 18 * i;
         whiten3(W, r, 1);
         whiten3(W + 9, r + 3, 1);
         if (J)
-            for (int p = 0; p < NP; p++) {
-                whiten3(W, &J[0][p], NP);
-                whiten3(W + 9, &J[3][p], NP);
+            for (int p = 0; p < nc; p++) {
+                int rows = column_rows(p, nb);
+                if (rows & 1) whiten3(W, &J[p], ld);
+                if (rows & 2) whiten3(W + 9, &J[3 * ld + (size_t)p], ld);
             }
         return;
     }
@@ -166,7 +204,7 @@ static void station_weigh(const tram_refine_problem *pb, size_t i, double r[6], 
         double f = k < 3 ? 1.0 / pb->sigma_angle : 1.0 / pb->sigma_length;
         r[k] *= f;
         if (J)
-            for (int p = 0; p < NP; p++) J[k][p] *= f;
+            for (int p = 0; p < nc; p++) J[(size_t)k * ld + (size_t)p] *= f;
     }
 }
 
@@ -178,7 +216,7 @@ void tram__refine_weighted(const tram_refine_problem *pb, size_t i, const tram_s
         for (int k = 0; k < 3; k++) S.m[k][3] *= *pb->scale;
     if (J) tram__refine_station_raw(&pb->P[i], &S, X, Z, r, J);
     else tram__refine_residual(&pb->P[i], &S, X, Z, r);
-    station_weigh(pb, i, r, J);
+    station_weigh(pb, i, r, J ? &J[0][0] : NULL, NP, NP, NP);
 }
 
 static size_t nblocks(const tram_refine_problem *pb) { return pb->eval ? pb->nblocks : pb->n; }
@@ -246,6 +284,40 @@ static void accumulate(int np, size_t ld, size_t d, double w, const double *J, c
     }
 }
 
+/* accumulate for a 6-row block (a station), the products known to be 0
+ * skipped: the sums that remain are the same in the same order (a sum of
+ * exact zeros adds nothing), so H and g round as accumulate's. */
+static void accumulate6(int np, int nb, size_t ld, double w, const double *J, const double r[6],
+                        double H[NPX * NPX], double g[NPX])
+{
+    double Jt[NPX][6];
+    int rows[NPX];
+    for (int a = 0; a < np; a++) {
+        rows[a] = column_rows(a, nb);
+        for (int k = 0; k < 6; k++) Jt[a][k] = J[(size_t)k * ld + (size_t)a];
+    }
+    for (int a = 0; a < np; a++) {
+        const double *x = Jt[a];
+        double ga = x[0] * r[0];
+        for (int k = 1; k < 6; k++) ga += x[k] * r[k];
+        g[a] += w * ga;
+        double *Ha = H + a * np;
+        for (int b = a; b < np; b++) {
+            const double *y = Jt[b];
+            int both = rows[a] & rows[b];
+            if (!both) continue;
+            double hsum;
+            if (both & 1) {
+                hsum = x[0] * y[0] + x[1] * y[1] + x[2] * y[2];
+                if (both & 2) hsum = hsum + x[3] * y[3] + x[4] * y[4] + x[5] * y[5];
+            } else {
+                hsum = x[3] * y[3] + x[4] * y[4] + x[5] * y[5];
+            }
+            Ha[b] += w * hsum;
+        }
+    }
+}
+
 /* The step x (nparams values) from (X, Z) and the scale: the moved poses,
  * and the moved scale into *scale (unchanged without pb->scale). */
 static void step_apply(const tram_refine_problem *pb, const tram_se3 *X, const tram_se3 *Z,
@@ -272,13 +344,13 @@ static void eval_moved(const tram_refine_problem *pb, size_t i, const tram_se3 *
 
 /* Station residuals (eval == NULL): the analytic Jacobian. */
 static void normal_stations(const tram_refine_problem *pb, const double *w, const tram_se3 *X,
-                            const tram_se3 *Z, int np, double H[NPX * NPX], double g[NPX])
+                            const tram_se3 *Z, int np, size_t lo, size_t hi, double H[NPX * NPX], double g[NPX])
 {
-    for (size_t i = 0; i < pb->n; i++) {
+    for (size_t i = lo; i < hi; i++) {
         if (!(w[i] > 0)) continue;
         double r[6], J[6][NP];
         tram__refine_weighted(pb, i, X, Z, r, J);
-        accumulate(np, NP, 6, w[i], &J[0][0], r, H, g);
+        accumulate6(np, nbase(pb), NP, w[i], &J[0][0], r, H, g);
     }
 }
 
@@ -286,7 +358,7 @@ static void normal_stations(const tram_refine_problem *pb, const double *w, cons
  * 2 np perturbed (X, Z) built once for all blocks (they do not depend on
  * the block). */
 static tram_status normal_blocks(const tram_refine_problem *pb, const double *w,
-                                 const tram_se3 *X, const tram_se3 *Z, int np,
+                                 const tram_se3 *X, const tram_se3 *Z, int np, size_t lo, size_t hi,
                                  double H[NPX * NPX], double g[NPX])
 {
     scratch sc;
@@ -301,7 +373,7 @@ static tram_status normal_blocks(const tram_refine_problem *pb, const double *w,
         x[p] = -hs[p];
         tram__refine_apply(X, Z, x, &Xp[2 * p + 1], &Zp[2 * p + 1]);
     }
-    for (size_t i = 0; i < nblocks(pb); i++) {
+    for (size_t i = lo; i < hi; i++) {
         if (!(w[i] > 0)) continue;
         size_t d = block_eval(pb, i, X, Z, sc.r);
         for (int p = 0; p < np; p++) {
@@ -316,16 +388,54 @@ static tram_status normal_blocks(const tram_refine_problem *pb, const double *w,
     return TRAM_OK;
 }
 
-/* With the sensor scale free (pb->scale): central differences over the
- * nbase pose parameters and the scale, block by block. */
-static tram_status normal_scaled(const tram_refine_problem *pb, const double *w,
-                                 const tram_se3 *X, const tram_se3 *Z, int np,
-                                 double H[NPX * NPX], double g[NPX])
+/* With the sensor scale free (pb->scale) on station residuals: the
+ * analytic Jacobian over the nbase pose parameters, and the scale's
+ * column.  S's translation enters as s t_S, so the translation residual
+ * R_P (R_X s t_S + t_X) + t_P - t_Z moves by R_P R_X t_S per unit of s
+ * (t_S unscaled) and the rotation residual not at all. */
+static void normal_stations_scaled(const tram_refine_problem *pb, const double *w,
+                                   const tram_se3 *X, const tram_se3 *Z, int np, size_t lo, size_t hi,
+                                   double H[NPX * NPX], double g[NPX])
+{
+    int nb = nbase(pb);
+    tram_mat3 RX;
+    tram_se3_to_rt(X, &RX, NULL);
+    for (size_t i = lo; i < hi; i++) {
+        if (!(w[i] > 0)) continue;
+        tram_se3 S = pb->S[i];
+        double r[6], J[6][NP], Js[6][NPX], tS[3], RPX[3][3];
+        for (int k = 0; k < 3; k++) {
+            tS[k] = S.m[k][3];
+            S.m[k][3] *= *pb->scale;
+        }
+        tram__refine_station_raw(&pb->P[i], &S, X, Z, r, J);
+        for (int a = 0; a < 3; a++)
+            for (int b = 0; b < 3; b++) {
+                double v = 0;
+                for (int m = 0; m < 3; m++) v += pb->P[i].m[a][m] * RX.m[m][b];
+                RPX[a][b] = v;
+            }
+        for (int k = 0; k < 6; k++) {
+            for (int p = 0; p < nb; p++) Js[k][p] = J[k][p];
+            Js[k][nb] = k < 3 ? 0.0
+                              : RPX[k - 3][0] * tS[0] + RPX[k - 3][1] * tS[1] + RPX[k - 3][2] * tS[2];
+        }
+        station_weigh(pb, i, r, &Js[0][0], NPX, np, nb);
+        accumulate6(np, nb, NPX, w[i], &Js[0][0], r, H, g);
+    }
+}
+
+/* With the sensor scale free on generic blocks (pb->eval): central
+ * differences over the nbase pose parameters and the scale, block by
+ * block. */
+static tram_status normal_blocks_scaled(const tram_refine_problem *pb, const double *w,
+                                        const tram_se3 *X, const tram_se3 *Z, int np, size_t lo, size_t hi,
+                                        double H[NPX * NPX], double g[NPX])
 {
     scratch sc;
     if (scratch_alloc(pb, &sc)) return TRAM_ENOMEM;
     double ht = 1e-4 * pb->length_scale;
-    for (size_t i = 0; i < nblocks(pb); i++) {
+    for (size_t i = lo; i < hi; i++) {
         if (!(w[i] > 0)) continue;
         size_t d = block_eval(pb, i, X, Z, sc.r);
         for (int p = 0; p < np; p++) {
@@ -343,36 +453,103 @@ static tram_status normal_scaled(const tram_refine_problem *pb, const double *w,
 
 /* Normal equations H = sum w J^T J, g = sum w J^T r at (X, Z) (np x np,
  * np = nparams). */
+/* Blocks lo..hi-1's sum of w J^T J (upper triangle) and w J^T r added to
+ * H and g (np = nparams). */
+static tram_status normal_range(const tram_refine_problem *pb, const double *w, const tram_se3 *X,
+                                const tram_se3 *Z, size_t lo, size_t hi, double H[NPX * NPX],
+                                double g[NPX])
+{
+    int np = nparams(pb);
+    if (pb->scale && !pb->eval) normal_stations_scaled(pb, w, X, Z, np, lo, hi, H, g);
+    else if (pb->scale) return normal_blocks_scaled(pb, w, X, Z, np, lo, hi, H, g);
+    else if (!pb->eval) normal_stations(pb, w, X, Z, np, lo, hi, H, g);
+    else return normal_blocks(pb, w, X, Z, np, lo, hi, H, g);
+    return TRAM_OK;
+}
+
+static void symmetrize(int np, double H[NPX * NPX])
+{
+    for (int a = 0; a < np; a++)
+        for (int b = 0; b < a; b++) H[a * np + b] = H[b * np + a];
+}
+
 static tram_status normal_equations(const tram_refine_problem *pb, const double *w,
                                     const tram_se3 *X, const tram_se3 *Z, double H[NPX * NPX],
                                     double g[NPX])
 {
-    int np = nparams(pb);
     memset(H, 0, NPX * NPX * sizeof *H);
     memset(g, 0, NPX * sizeof *g);
-    tram_status st = TRAM_OK;
-    if (pb->scale) st = normal_scaled(pb, w, X, Z, np, H, g);
-    else if (!pb->eval) normal_stations(pb, w, X, Z, np, H, g);
-    else st = normal_blocks(pb, w, X, Z, np, H, g);
+    tram_status st = normal_range(pb, w, X, Z, 0, nblocks(pb), H, g);
     if (st != TRAM_OK) return st;
-    for (int a = 0; a < np; a++)
-        for (int b = 0; b < a; b++) H[a * np + b] = H[b * np + a];
+    symmetrize(nparams(pb), H);
     return TRAM_OK;
 }
 
-/* Levenberg-Marquardt with fixed block weights w. */
+/* What every block contributes at one point (X, Z) with unit weight: its
+ * cost, J^T J (upper triangle) and J^T r.  The bootstrap's resamples all
+ * start at the solution, where only the weights change: their first
+ * normal equations and cost are weighted sums of these, in block order,
+ * with the same rounding as a fresh evaluation. */
+typedef struct start_point {
+    double *cost, *H, *g; /* per block: 1, NPX * NPX, NPX values */
+} start_point;
+
+static void start_point_free(start_point *sp) { tram__free(sp->cost); }
+
+static tram_status start_point_build(const tram_refine_problem *pb, const tram_se3 *X,
+                                     const tram_se3 *Z, start_point *sp)
+{
+    size_t nb = nblocks(pb), m = nb ? nb : 1;
+    sp->cost = tram__calloc(m * (1 + NPX * NPX + NPX) + m + maxdim(pb), sizeof *sp->cost);
+    if (!sp->cost) return TRAM_ENOMEM;
+    sp->H = sp->cost + m;
+    sp->g = sp->H + m * NPX * NPX;
+    double *one = sp->g + m * NPX, *buf = one + m;
+    tram_status st = TRAM_OK;
+    for (size_t i = 0; i < nb && st == TRAM_OK; i++) {
+        one[i] = 1.0;
+        sp->cost[i] = block_cost(pb, i, X, Z, buf, NULL);
+        st = normal_range(pb, one, X, Z, i, i + 1, sp->H + i * NPX * NPX, sp->g + i * NPX);
+    }
+    if (st != TRAM_OK) start_point_free(sp);
+    return st;
+}
+
+/* The weighted cost, H and g at the start point from its blocks. */
+static double start_point_sum(const tram_refine_problem *pb, const start_point *sp,
+                              const double *w, double H[NPX * NPX], double g[NPX])
+{
+    int np = nparams(pb);
+    double c = 0;
+    memset(H, 0, NPX * NPX * sizeof *H);
+    memset(g, 0, NPX * sizeof *g);
+    for (size_t i = 0; i < nblocks(pb); i++) {
+        if (!(w[i] > 0)) continue;
+        const double *Hb = sp->H + i * NPX * NPX, *gb = sp->g + i * NPX;
+        c += w[i] * sp->cost[i];
+        for (int a = 0; a < np; a++) {
+            g[a] += w[i] * gb[a];
+            for (int b = a; b < np; b++) H[a * np + b] += w[i] * Hb[a * np + b];
+        }
+    }
+    symmetrize(np, H);
+    return c;
+}
+
+/* Levenberg-Marquardt with fixed block weights w; sp: NULL, or the
+ * blocks' contributions at the starting (X, Z). */
 static tram_status lm(const tram_refine_problem *pb, const double *w, int max_iter, tram_se3 *X,
-                      tram_se3 *Z, int *iters)
+                      tram_se3 *Z, int *iters, const start_point *sp)
 {
     int np = nparams(pb);
     double H[NPX * NPX], g[NPX], lambda = 1e-3;
     double *buf = tram__malloc(maxdim(pb) * sizeof *buf);
     if (!buf) return TRAM_ENOMEM;
-    double cost = total_cost(pb, w, X, Z, buf);
+    double cost = sp ? start_point_sum(pb, sp, w, H, g) : total_cost(pb, w, X, Z, buf);
     int it;
     tram_status st = TRAM_OK;
     for (it = 0; it < max_iter; it++) {
-        if ((st = normal_equations(pb, w, X, Z, H, g)) != TRAM_OK) break;
+        if (!(it == 0 && sp) && (st = normal_equations(pb, w, X, Z, H, g)) != TRAM_OK) break;
         int accepted = 0, done = 0;
         for (int tries = 0; tries < 12 && !accepted; tries++) {
             double A[NPX * NPX], mg[NPX], dx[NPX] = {0};
@@ -431,7 +608,7 @@ tram_status tram__refine_run(const tram_refine_problem *pb, const double *statio
     for (size_t i = 0; i < nb; i++) w[i] = station_w ? station_w[i] : 1.0;
     tram_status st = TRAM_OK;
     if (!robust) {
-        st = lm(pb, w, 100, X, Z, NULL);
+        st = lm(pb, w, 100, X, Z, NULL, NULL);
         /* settle station problems to rounding level (tram__refine_polish) */
         if (st == TRAM_OK && !pb->eval) st = tram__refine_polish(pb, w, 2, X, Z);
     } else {
@@ -449,7 +626,7 @@ tram_status tram__refine_run(const tram_refine_problem *pb, const double *statio
                 double u2 = c / (double)(d ? d : 1);
                 w[i] = base / (1.0 + u2 / (CAUCHY_C * CAUCHY_C));
             }
-            st = lm(pb, w, 50, X, Z, NULL);
+            st = lm(pb, w, 50, X, Z, NULL, NULL);
             double ang, len;
             tram_se3_distance(&X0, X, &ang, &len);
             if (ang < 1e-9 && len < 1e-9 * pb->length_scale) break;
@@ -572,6 +749,14 @@ tram_status tram__refine_bootstrap(const tram_refine_problem *pb, const double *
         tram__free(col);
         return TRAM_ENOMEM;
     }
+    start_point sp;
+    if (start_point_build(pb, X, Z, &sp) != TRAM_OK) {
+        tram__free(in);
+        tram__free(w);
+        tram__free(dev);
+        tram__free(col);
+        return TRAM_ENOMEM;
+    }
     size_t k = 0;
     for (size_t i = 0; i < nb; i++)
         if (!station_w || station_w[i] > 0) in[k++] = i;
@@ -593,9 +778,10 @@ tram_status tram__refine_bootstrap(const tram_refine_problem *pb, const double *
         if (distinct < 3) continue;
         tram_se3 Xb = *X, Zb = *Z;
         double s0 = pb->scale ? *pb->scale : 1.0;
-        tram_status bs = lm(pb, w, 30, &Xb, &Zb, NULL);
+        tram_status bs = lm(pb, w, 30, &Xb, &Zb, NULL, &sp);
         if (pb->scale) *pb->scale = s0; /* each resample starts from the solution */
         if (bs == TRAM_ENOMEM) { /* not a failed resample: stop, do not under-report */
+            start_point_free(&sp);
             tram__free(in);
             tram__free(w);
             tram__free(dev);
@@ -636,6 +822,7 @@ tram_status tram__refine_bootstrap(const tram_refine_problem *pb, const double *
         hi[a] = good ? col[(size_t)(0.975 * (double)(good - 1) + 0.5)] : 0.0;
     }
     *used = good;
+    start_point_free(&sp);
     tram__free(in);
     tram__free(w);
     tram__free(dev);

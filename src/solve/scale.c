@@ -6,7 +6,11 @@
  * and s times its translation, as in Umeyama's registration with scale
  * (IEEE Trans. PAMI 13(4), 1991).  The refinement (refine.c) carries s as
  * a 13th parameter; its variance comes from the same s^2 (J^T W J)^-1 as
- * X's and Z's.  The test of s = 1 is z = (s - 1) / sigma with the normal
+ * X's and Z's.  The stations are weighed as in the 12-parameter
+ * refinement (solve_refine.c): by the whitening of the per-axis noise
+ * model (noise.c) at the fit, the noise re-estimated with the scale free
+ * when it came from the data (the scale's one degree of freedom is not
+ * charged to the noise estimate).  The test of s = 1 is z = (s - 1) / sigma with the normal
  * approximation, two-sided.  Thresholds (docs/solve.md, common practice):
  * |z| > 3 is significant (a note suggests fitting it when it was not);
  * a significant s more than 2% from 1 is a warning.
@@ -14,6 +18,7 @@
 #include "solve/scale_internal.h"
 #include "solve/refine_internal.h"
 #include "solve/pipeline_internal.h"
+#include "solve/noise_internal.h"
 
 #include <math.h>
 #include <string.h>
@@ -46,18 +51,12 @@ tram_status tram__scale_report(tram_solution *sol, double s, double var, int fit
     return TRAM_OK;
 }
 
-/* Public uncertainty index (translation, rotation per block) to the
- * refinement's parameter index (rotation, translation per block). */
-static int pub_param(int a)
-{
-    return (a / 6) * 6 + (a % 6 < 3 ? 3 + a % 6 : a % 6 - 3);
-}
-
 /* sol's uncertainty from the fit's covariance (parameter order). */
 static void store_cov(const double cov[144], double cond, tram_solution *sol)
 {
     for (int a = 0; a < 12; a++) {
-        for (int b = 0; b < 12; b++) sol->unc.cov[a * 12 + b] = cov[pub_param(a) * 12 + pub_param(b)];
+        int q = tram__pub_param(a);
+        for (int b = 0; b < 12; b++) sol->unc.cov[a * 12 + b] = cov[q * 12 + tram__pub_param(b)];
         double sd = sqrt(fmax(sol->unc.cov[a * 13], 0.0));
         sol->unc.sigma[a] = (a % 6) >= 3 ? sd * 180.0 / TRAM_PI : sd;
     }
@@ -73,90 +72,133 @@ static tram_status rebootstrap(const tram_refine_problem *pb, const double *w,
     size_t used = 0;
     tram_status st = tram__refine_bootstrap(pb, w, &sol->X, &sol->Z, opt->bootstrap, opt->seed,
                                             opt->progress, opt->progress_ctx, sg, lo, hi, &used);
-    sol->unc.bootstrap_valid = 0;
-    if (st == TRAM_OK && used > 1) {
-        sol->unc.bootstrap_valid = 1;
-        sol->unc.bootstrap_used = used;
-        for (int a = 0; a < 12; a++) {
-            int q = pub_param(a);
-            double f = (a % 6) >= 3 ? 180.0 / TRAM_PI : 1.0;
-            sol->unc.bootstrap_sigma[a] = sg[q] * f;
-            sol->unc.bootstrap_lo[a] = lo[q] * f;
-            sol->unc.bootstrap_hi[a] = hi[q] * f;
-        }
-    }
+    tram__unc_store_bootstrap(&sol->unc, sg, lo, hi, st == TRAM_OK ? used : 0);
     return st == TRAM_ENOMEM ? st : TRAM_OK;
 }
 
-/* The per-axis noise of the scaled fit's inlier residuals into pb (as the
- * pipeline's last step does for s = 1, with the scale charged to the
- * translation); TRAM_ENOMEM only. */
-static tram_status renoise(tram_refine_problem *pb, const double *w, size_t nin,
-                           const tram_se3 *X, const tram_se3 *Z)
+/* The pipeline's noise model (solve_refine.c) back from the solution:
+ * per-axis sensor variances in the sensor's frame, the robot term. */
+static void solution_noise(const tram_solution *sol, tram__noise *nm)
 {
-    size_t n = pb->n;
-    tram_se3 *Ss = tram__malloc((n ? n : 1) * sizeof *Ss);
-    double *rot = tram__malloc((n ? n : 1) * 2 * sizeof *rot);
-    if (!Ss || !rot) {
-        tram__free(Ss);
-        tram__free(rot);
-        return TRAM_ENOMEM;
+    memset(nm, 0, sizeof *nm);
+    nm->eye_to_hand = sol->setup == TRAM_SETUP_EYE_TO_HAND;
+    nm->per_axis = sol->noise_per_axis;
+    nm->robot_rot_var = tram__sq(sol->robot_noise_angle_deg * TRAM_PI / 180.0);
+    nm->robot_len_var = tram__sq(sol->robot_noise_length);
+    for (int a = 0; a < 3; a++) {
+        nm->rot_var[a] = tram__sq(sol->noise_angle_axis_deg[a] * TRAM_PI / 180.0);
+        nm->len_var[a] = tram__sq(sol->noise_length_axis[a]);
     }
-    for (size_t i = 0; i < n; i++) {
+    for (int a = 0; a < 6; a++) nm->dof[a] = sol->noise_dof[a];
+}
+
+/* The scaled problem as a 12-parameter one at the current scale: Ss gets
+ * the sensor poses with their translations times *pb->scale. */
+static tram_refine_problem scaled_problem(const tram_refine_problem *pb, tram_se3 *Ss)
+{
+    for (size_t i = 0; i < pb->n; i++) {
         Ss[i] = pb->S[i];
         for (int k = 0; k < 3; k++) Ss[i].m[k][3] *= *pb->scale;
     }
-    tram_handeye_residuals(pb->P, Ss, n, X, Z, rot, rot + n);
-    double sr = 0, stt = 0;
-    for (size_t i = 0; i < n; i++)
-        if (w[i] > 0) {
-            sr += rot[i] * rot[i];
-            stt += rot[n + i] * rot[n + i];
-        }
-    pb->sigma_angle = sqrt(sr / (double)(3 * nin - 6));
-    pb->sigma_length = sqrt(stt / (double)(3 * nin - 7));
-    tram__floor_noise(&pb->sigma_angle, &pb->sigma_length, pb->length_scale);
-    tram__free(Ss);
-    tram__free(rot);
+    return (tram_refine_problem){.P = pb->P, .S = Ss, .n = pb->n, .sigma_angle = pb->sigma_angle,
+                                 .sigma_length = pb->sigma_length,
+                                 .length_scale = pb->length_scale, .W = pb->W};
+}
+
+/* The per-station whitening W of the noise model nm at (X, Z) and the
+ * current scale, as the 12-parameter refinement weighs its stations. */
+static void whiten(const tram__noise *nm, const tram_refine_problem *pb, tram_se3 *Ss,
+                   const tram_se3 *X, const tram_se3 *Z, double *W)
+{
+    tram_refine_problem q = scaled_problem(pb, Ss);
+    tram__noise_whitening(nm, &q, X, Z, W);
+}
+
+/* The per-axis noise re-estimated from the scaled fit's inlier residuals
+ * (noise.c's moment equation, with the covariance of the 12 pose
+ * parameters at the fitted scale), and the whitening at it; as the
+ * pipeline's FGLS does for s = 1.  TRAM_ENOMEM only. */
+static tram_status renoise(const tram_refine_problem *pb, const double *w, tram_se3 *Ss,
+                           const tram_se3 *X, const tram_se3 *Z, tram__noise *nm, double *W)
+{
+    tram_refine_problem q = scaled_problem(pb, Ss);
+    double C[144], cond;
+    tram_status st = tram__refine_covariance(&q, w, X, Z, 1.0, C, &cond);
+    if (st == TRAM_ENOMEM) return st;
+    if (st != TRAM_OK) return TRAM_OK; /* keep the pipeline's noise */
+    tram__noise_estimate(&q, w, X, Z, C, nm->per_axis, nm);
+    tram__noise_whitening(nm, &q, X, Z, W);
     return TRAM_OK;
+}
+
+/* The noise used by the fitted scale's solve, into the solution. */
+static void report_noise(const tram__noise *nm, tram_solution *sol)
+{
+    sol->noise_angle_deg = tram__noise_rms_rot(nm) * 180.0 / TRAM_PI;
+    sol->noise_length = tram__noise_rms_len(nm);
+    for (int a = 0; a < 3; a++) {
+        sol->noise_angle_axis_deg[a] = sqrt(nm->rot_var[a]) * 180.0 / TRAM_PI;
+        sol->noise_length_axis[a] = sqrt(nm->len_var[a]);
+    }
+    for (int a = 0; a < 6; a++) sol->noise_dof[a] = nm->dof[a];
+}
+
+/* The fit with the scale free: refined with the noise model's whitening,
+ * the noise re-estimated when it came from the data and refined again;
+ * its chi-square, covariance, scale variance and condition. */
+static tram_status fit_scaled(tram_refine_problem *pb, const double *w, double dof,
+                              tram__noise *nm, double *W, tram_se3 *Ss, int given, tram_se3 *X,
+                              tram_se3 *Z, double cov[144], double *var, double *cond)
+{
+    whiten(nm, pb, Ss, X, Z, W);
+    pb->W = W;
+    tram_status st = tram__refine_run(pb, w, 0, X, Z);
+    /* Noise estimated from the data: re-estimated with the scale, so that
+     * a large scale does not inflate the translation's weight. */
+    if (st == TRAM_OK && !given && (st = renoise(pb, w, Ss, X, Z, nm, W)) == TRAM_OK)
+        st = tram__refine_run(pb, w, 0, X, Z);
+    double chi2 = 0;
+    if (st == TRAM_OK) st = tram__refine_chi2(pb, w, X, Z, &chi2);
+    if (st == TRAM_OK) st = tram__refine_covariance_scale(pb, w, X, Z, chi2 / dof, cov, cond, var, NULL);
+    return st;
 }
 
 tram_status tram__scale_poses(const tram_se3 *P, tram_se3 *S, size_t n,
                               const tram_solve_options *opt, tram_solution *sol)
 {
-    double *w = tram__malloc((n ? n : 1) * sizeof *w);
-    if (!w) return TRAM_ENOMEM;
+    size_t m = n ? n : 1;
+    double *w = tram__malloc(m * 19 * sizeof *w);
+    tram_se3 *Ss = tram__malloc(m * sizeof *Ss);
+    if (!w || !Ss) {
+        tram__free(w);
+        tram__free(Ss);
+        return TRAM_ENOMEM;
+    }
+    double *W = w + m;
     size_t nin = 0;
     for (size_t i = 0; i < n; i++) {
         w[i] = sol->stations[i].outlier ? 0.0 : 1.0;
         nin += sol->stations[i].outlier ? 0 : 1;
     }
     double s = 1.0;
+    tram__noise nm;
+    solution_noise(sol, &nm);
     tram_refine_problem pb = {.P = P, .S = S, .n = n, .sigma_angle = sol->noise_angle_deg * TRAM_PI / 180.0,
                               .sigma_length = sol->noise_length,
                               .length_scale = tram__length_scale(P, S, n), .scale = &s};
     tram_se3 X = sol->X, Z = sol->Z;
-    double chi2 = 0, cov[144], var = NAN, cond = INFINITY;
+    double cov[144], var = NAN, cond = INFINITY;
     double dof = 6.0 * (double)nin - 13.0;
     tram_status st = TRAM_OK;
-    if (dof > 0 && pb.sigma_angle > 0 && pb.sigma_length > 0) {
-        st = tram__refine_run(&pb, w, 0, &X, &Z);
-        /* Noise estimated from the data: re-estimated with the scale, so
-         * that a large scale does not inflate the translation's weight. */
-        if (st == TRAM_OK && !sol->noise_given && (st = renoise(&pb, w, nin, &X, &Z)) == TRAM_OK)
-            st = tram__refine_run(&pb, w, 0, &X, &Z);
-        if (st == TRAM_OK) st = tram__refine_chi2(&pb, w, &X, &Z, &chi2);
-        if (st == TRAM_OK)
-            st = tram__refine_covariance_scale(&pb, w, &X, &Z, chi2 / dof, cov, &cond, &var, NULL);
-    }
+    if (dof > 0 && pb.sigma_angle > 0 && pb.sigma_length > 0)
+        st = fit_scaled(&pb, w, dof, &nm, W, Ss, sol->noise_given, &X, &Z, cov, &var, &cond);
     if (st == TRAM_ENOMEM) goto out;
     if (st != TRAM_OK) var = NAN; /* the data do not determine it: not estimated */
     int fitted = opt->fit_scale && var > 0;
     if (fitted) {
         sol->X = X;
         sol->Z = Z;
-        sol->noise_angle_deg = pb.sigma_angle * 180.0 / TRAM_PI;
-        sol->noise_length = pb.sigma_length;
+        report_noise(&nm, sol);
         store_cov(cov, cond, sol);
         for (size_t i = 0; i < n; i++)
             for (int k = 0; k < 3; k++) S[i].m[k][3] *= s;
@@ -170,5 +212,6 @@ tram_status tram__scale_poses(const tram_se3 *P, tram_se3 *S, size_t n,
     st = tram__scale_report(sol, s, var, fitted);
 out:
     tram__free(w);
+    tram__free(Ss);
     return st;
 }

@@ -52,14 +52,6 @@ typedef struct fit {
     double C[144];
 } fit;
 
-/* Public uncertainty index (translation, rotation per block) to the
- * refinement's parameter index (rotation, translation per block). */
-static int pub_to_param(int a)
-{
-    int block = a / 6, k = a % 6;
-    return block * 6 + (k < 3 ? 3 + k : k - 3);
-}
-
 /* The noise the caller gave (per axis, or one value for the three axes),
  * and the robot term; 1 when the sensor noise is given. */
 static int given_noise(const tram_solve_options *opt, tram_setup setup, tram__noise *nm)
@@ -261,13 +253,13 @@ static tram_status uncertainty(fit *f, const tram_se3 *X, const tram_se3 *Z, tra
     }
     sol->unc.valid = 1;
     for (int a = 0; a < 12; a++) {
-        int p = pub_to_param(a);
-        for (int b = 0; b < 12; b++) sol->unc.cov[a * 12 + b] = cov[p * 12 + pub_to_param(b)] * scale;
+        int p = tram__pub_param(a);
+        for (int b = 0; b < 12; b++) sol->unc.cov[a * 12 + b] = cov[p * 12 + tram__pub_param(b)] * scale;
     }
     for (int a = 0; a < 12; a++) {
         double sd = sqrt(fmax(sol->unc.cov[a * 12 + a], 0.0));
         sol->unc.sigma[a] = (a % 6) >= 3 ? sd * 180.0 / TRAM_PI : sd;
-        sol->unc.dof[a] = nu[pub_to_param(a)];
+        sol->unc.dof[a] = nu[tram__pub_param(a)];
         double t = isfinite(sol->unc.dof[a]) ? tram__t_quantile(0.975, sol->unc.dof[a]) : 1.959964;
         sol->unc.half95[a] = t * sol->unc.sigma[a];
     }
@@ -281,17 +273,7 @@ static tram_status bootstrap(fit *f, const tram_se3 *X, const tram_se3 *Z, tram_
     size_t used = 0;
     tram_status st = tram__refine_bootstrap(&f->pb, f->w, X, Z, opt->bootstrap, opt->seed,
                                             opt->progress, opt->progress_ctx, sg, lo, hi, &used);
-    if (st == TRAM_OK && used > 1) {
-        sol->unc.bootstrap_valid = 1;
-        sol->unc.bootstrap_used = used;
-        for (int a = 0; a < 12; a++) {
-            int q = pub_to_param(a);
-            double fct = (a % 6) >= 3 ? 180.0 / TRAM_PI : 1.0;
-            sol->unc.bootstrap_sigma[a] = sg[q] * fct;
-            sol->unc.bootstrap_lo[a] = lo[q] * fct;
-            sol->unc.bootstrap_hi[a] = hi[q] * fct;
-        }
-    }
+    if (st == TRAM_OK) tram__unc_store_bootstrap(&sol->unc, sg, lo, hi, used);
     return st;
 }
 
