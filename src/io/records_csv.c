@@ -17,8 +17,7 @@
  * A row is first read in one pass (fast_row: each number converted from
  * where it starts, then the comma looked for where the number ends, no
  * splitting beforehand); a row that pass does not take in full is split
- * into fields and read again by read_row, which names what is wrong.  The
- * text is searched once for a NUL byte rather than every line.
+ * into fields and read again by read_row, which names what is wrong.
  */
 #include "io/records_csv_internal.h"
 #include "io/number_shim_internal.h"
@@ -54,7 +53,6 @@ typedef struct csv_reader {
     long look_line;       /* first comment that looks like a directive  */
     char look_key[40];
     const char *look_near;
-    const char *first_nul; /* the text's first NUL byte (NULL: none)    */
 } csv_reader;
 
 static int is_blank(char c) { return c == ' ' || c == '\t'; }
@@ -386,8 +384,10 @@ static tram_status read_row(csv_reader *rd, const char *line, const char *e, lon
 static tram_status read_line(csv_reader *rd, const char *p, const char *e, const char *data_end,
                              long lineno)
 {
-    /* the lines before had none: a NUL in this line is the text's first */
-    if (rd->first_nul && rd->first_nul < e)
+    /* per line, while the line is in the cache (a pass of its own over a
+     * large file runs at the memory's speed) */
+    size_t n = e > p ? (size_t)(e - p) : 0;
+    if (n && memchr(p, '\0', n))
         return tram__fail(rd->err, TRAM_EINPUT, rd->name, lineno, 0,
                           "NUL byte in line: expected a text file");
     const char *q = p;
@@ -436,7 +436,6 @@ tram_status tram__records_read_csv(const char *name, const char *data, size_t le
     snprintf(r->source, sizeof r->source, "%s", name);
     tram__checksum_job sum;
     tram__checksum_start(&sum, data, len);
-    rd.first_nul = memchr(data, '\0', len);
 
     long lineno = 0;
     tram_status st = read_lines(&rd, data, len, &lineno);
