@@ -74,7 +74,7 @@ static void set_numbers(cJSON *item, const double *vals, size_t n, size_t *j)
 tram_status tram__json_parse_elem(const char *name, const char *data, const tram__json_spans *sp,
                                   size_t k, const char *what, cJSON **out, tram_error *err)
 {
-    const size_t *el = sp->elem + 4 * k;
+    const size_t *el = sp->elem + 5 * k;
     size_t b = el[0], len = el[1] - el[0], n = el[3];
     *out = NULL;
     if (n == (size_t)-1) {

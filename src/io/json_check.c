@@ -36,6 +36,7 @@ typedef struct check {
     int in_elem;          /* inside an element of the recorded array     */
     int elem_long;        /* that element is too long for 32-bit offsets */
     size_t elem_base;     /* where it starts                             */
+    long line;            /* the line at c->i (for the recorded elements)  */
 } check;
 
 static tram_status fail_at(check *c, size_t off, const char *why)
@@ -51,8 +52,10 @@ static void blanks(check *c)
     /* locals, which the compiler keeps in registers (c->i is stored once) */
     const char *s = c->s;
     size_t i = c->i, n = c->len;
-    while (i < n && (s[i] == ' ' || s[i] == '\t' || s[i] == '\n' || s[i] == '\r')) i++;
+    long nl = 0;
+    while (i < n && (s[i] == ' ' || s[i] == '\t' || s[i] == '\n' || s[i] == '\r')) nl += s[i++] == '\n';
     c->i = i;
+    c->line += nl; /* strings hold no raw line feed: every one is met here */
 }
 
 /* The end of the run of decimal digits of s[0, n) from i. */
@@ -271,21 +274,22 @@ static int is_key(const check *c, const key_span *k, const char *want)
 
 /* Element [b, e) of the array being recorded, whose numbers are those
  * recorded from first on. */
-static tram_status record_elem(check *c, size_t b, size_t e, size_t first)
+static tram_status record_elem(check *c, size_t b, size_t e, size_t first, long line)
 {
     tram__json_spans *sp = c->sp;
     if (sp->n == sp->cap) {
         size_t nc = sp->cap ? 2 * sp->cap : 256;
-        size_t *ne = tram__realloc(sp->elem, 4 * nc * sizeof *ne);
+        size_t *ne = tram__realloc(sp->elem, 5 * nc * sizeof *ne);
         if (!ne) return tram__fail(c->err, TRAM_ENOMEM, c->name, 0, 0, "out of memory");
         sp->elem = ne;
         sp->cap = nc;
     }
-    size_t *el = sp->elem + 4 * sp->n++;
+    size_t *el = sp->elem + 5 * sp->n++;
     el[0] = b;
     el[1] = e;
     el[2] = first;
     el[3] = c->elem_long ? (size_t)-1 : sp->nnum - first;
+    el[4] = (size_t)line;
     if (c->elem_long) sp->nnum = first;
     return TRAM_OK;
 }
@@ -353,6 +357,7 @@ static tram_status array(check *c, int depth, int record)
     for (;;) {
         blanks(c);
         size_t b = c->i, first = record ? c->sp->nnum : 0;
+        long line = c->line;
         if (record) {
             c->in_elem = 1;
             c->elem_long = 0;
@@ -360,7 +365,7 @@ static tram_status array(check *c, int depth, int record)
         }
         tram_status st = value(c, depth + 1);
         if (record) c->in_elem = 0;
-        if (st == TRAM_OK && record) st = record_elem(c, b, c->i, first);
+        if (st == TRAM_OK && record) st = record_elem(c, b, c->i, first, line);
         if (st != TRAM_OK) return st;
         blanks(c);
         if (c->i < c->len && c->s[c->i] == ',') {
@@ -420,7 +425,7 @@ tram_status tram__json_check(const char *name, const char *data, size_t len, con
 tram_status tram__json_check_spans(const char *name, const char *data, size_t len,
                                    const char *what, tram__json_spans *sp, tram_error *err)
 {
-    check c = {name, what, data, len, 0, NULL, 0, 0, {0, 0, 0}, err, sp, 0, 0, 0, 0, 0, 0};
+    check c = {name, what, data, len, 0, NULL, 0, 0, {0, 0, 0}, err, sp, 0, 0, 0, 0, 0, 0, 1};
     tram_status st = value(&c, 0);
     if (st == TRAM_OK) {
         blanks(&c);

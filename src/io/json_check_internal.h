@@ -25,10 +25,11 @@ typedef struct tram__json_spans {
                                 * key is an array                             */
     size_t array_off, array_end; /* out: the array's text [off, end)          */
     size_t n, cap;             /* out: its elements                           */
-    size_t *elem;              /* 4 per element: element k is the text
-                                * [elem[4k], elem[4k+1]), its numbers are
-                                * num[elem[4k+2]] and the elem[4k+3] after it
-                                * ((size_t)-1: not recorded, element too long) */
+    size_t *elem;              /* 5 per element: element k is the text
+                                * [elem[5k], elem[5k+1]), its numbers are
+                                * num[elem[5k+2]] and the elem[5k+3] after it
+                                * ((size_t)-1: not recorded, element too long),
+                                * and it starts on line elem[5k+4]            */
     uint32_t *num;             /* where each number of the elements starts,
                                 * from its element's start                    */
     size_t nnum, capnum;       /* both freed by the caller with tram__free    */

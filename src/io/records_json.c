@@ -330,22 +330,10 @@ static tram_status json_read_station(tram_records *r, const cJSON *so, size_t k,
     return st;
 }
 
-/* The lines where the n recorded elements of sp start (one pass over the
- * text up to the last, counting line feeds). */
-static void elem_lines(const char *data, const tram__json_spans *sp, long *lines)
+/* The lines where the n recorded elements of sp start (found by the check). */
+static void elem_lines(const tram__json_spans *sp, long *lines)
 {
-    long line = 1;
-    size_t at = 0;
-    for (size_t k = 0; k < sp->n; k++) {
-        size_t b = sp->elem[4 * k];
-        const char *p = data + at, *end = data + b;
-        while ((p = memchr(p, '\n', (size_t)(end - p))) != NULL) {
-            line++;
-            p++;
-        }
-        lines[k] = line;
-        at = b;
-    }
+    for (size_t k = 0; k < sp->n; k++) lines[k] = (long)sp->elem[5 * k + 4];
 }
 
 /* The stations array: its elements parsed one at a time from their spans
@@ -449,7 +437,7 @@ tram_status tram__records_read_json(const char *name, const char *data, size_t l
         goto done;
     }
     if (sp.found)
-        elem_lines(data, &sp, lines);
+        elem_lines(&sp, lines);
     else
         station_lines(data, len, lines, n);
     station_source src = {name, data, &sp, sts->child};
