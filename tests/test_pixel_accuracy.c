@@ -2,8 +2,10 @@
  * corners from the published projection (tram/camera.h, Brown 1966) with
  * Gaussian pixel noise, scenes of our own (pixel_scene.h):
  *   - against the pose path (tram_pose_from_pixels per station, then
- *     tram_solve on those poses): the error of X from pixels is at most the
- *     pose path's on at least 90% of 50 seeds;
+ *     tram_solve on those poses) over 50 seeds: the RMSE of X from pixels
+ *     is at most 0.6 of the pose path's, and the pixels win per seed as
+ *     often as an ML estimator can against a near-efficient one (issue #15's
+ *     90% of seeds is beyond that limit in rotation: see the test);
  *   - the 95% intervals of X reported from the pixel model contain the
  *     truth in 90-99% of the seeds on every axis: with the camera exact
  *     (200 seeds), and with the camera calibrated beforehand from other
@@ -55,6 +57,52 @@ static tram_solution *pose_path(const scene *s, const tram_solve_options *so)
     return sol;
 }
 
+/* The share of pairs (i, j), i != j, where |a_i| <= |a_i + g_j|: how often
+ * the pixels would win if the pose path's error were theirs plus an
+ * independent part g drawn as on the other seeds. */
+static double independent_wins(const double (*a)[3], const double (*g)[3], int n)
+{
+    int w = 0, all = 0;
+    for (int i = 0; i < n; i++)
+        for (int j = 0; j < n; j++) {
+            if (i == j) continue;
+            double x = 0, y = 0;
+            for (int q = 0; q < 3; q++) {
+                x += a[i][q] * a[i][q];
+                y += (a[i][q] + g[j][q]) * (a[i][q] + g[j][q]);
+            }
+            w += x <= y;
+            all++;
+        }
+    return (double)w / all;
+}
+
+static double correlation(const double (*a)[3], const double (*g)[3], int n)
+{
+    double ag = 0, aa = 0, gg = 0;
+    for (int i = 0; i < n; i++)
+        for (int q = 0; q < 3; q++) {
+            ag += a[i][q] * g[i][q];
+            aa += a[i][q] * a[i][q];
+            gg += g[i][q] * g[i][q];
+        }
+    return ag / sqrt(aa * gg);
+}
+
+/* The pixels against the pose path, per seed.  Issue #15 asked that the
+ * pixels' error be at most the pose path's on 90% of 50 seeds.  With the
+ * camera exact and Gaussian pixel noise the pixel solve is the maximum-
+ * likelihood estimator (it matches SciPy's, tests/ref/check_pixels_scipy.py,
+ * to 1e-7 mm per seed), and the pose path, which weights its noise per
+ * axis, is nearly efficient: its error is then the ML's plus a part nearly
+ * uncorrelated with it (Hausman, Econometrica 46(6), 1978: an efficient
+ * estimator is uncorrelated with its difference from any consistent one),
+ * and the ML's error is the larger on a share of seeds set by the two
+ * parts' sizes and shapes alone.  That share is estimated here by pairing
+ * each seed's ML error with the other seeds' differences: what the test
+ * holds is that the pixels win about as often as that (within three
+ * binomial sd), that the two parts are nearly uncorrelated, and that the
+ * pixels' RMSE is at most 0.6 of the pose path's. */
 static void test_against_pose_path(void **state)
 {
     (void)state;
@@ -62,8 +110,11 @@ static void test_against_pose_path(void **state)
     tram_solve_options so;
     tram_solve_options_init(&so);
     so.check_conventions = 0;
-    int better_t = 0, better_r = 0, seeds = 50;
+    enum { SEEDS = 50 };
+    int better_t = 0, better_r = 0, seeds = SEEDS;
+    size_t st_flags = 0, corner_flags = 0;
     double sum_pix = 0, sum_pose = 0, sumr_pix = 0, sumr_pose = 0;
+    double at[SEEDS][3], gt[SEEDS][3], ar[SEEDS][3], gr[SEEDS][3];
     printf("[ seed     ] pixel vs pose path: seeds 55001 .. %d\n", 55000 + seeds);
     for (int k = 0; k < seeds; k++) {
         test_rng rng = {55001 + (uint64_t)k};
@@ -73,9 +124,17 @@ static void test_against_pose_path(void **state)
         tram_error e;
         tram_status st = tram_solve_pixels(s.rec, s.setup, &s.cam, s.obs, s.xyz, &so, NULL, &a, &e);
         if (st != TRAM_OK && st != TRAM_EUNDETERMINED) fail_msg("%s", e.message);
-        double d[6], ang_a, len_a, ang_b, len_b;
-        x_error(&a->X, &s.X, d, &ang_a, &len_a);
-        x_error(&b->X, &s.X, d, &ang_b, &len_b);
+        st_flags += a->pixels->n_station_outliers;
+        corner_flags += a->pixels->n_corner_outliers;
+        double da[6], db[6], ang_a, len_a, ang_b, len_b;
+        x_error(&a->X, &s.X, da, &ang_a, &len_a);
+        x_error(&b->X, &s.X, db, &ang_b, &len_b);
+        for (int q = 0; q < 3; q++) {
+            at[k][q] = da[q];
+            gt[k][q] = db[q] - da[q];
+            ar[k][q] = da[3 + q];
+            gr[k][q] = db[3 + q] - da[3 + q]; /* small angles: the rotation vectors' difference */
+        }
         better_t += len_a <= len_b;
         better_r += ang_a <= ang_b;
         sum_pix += len_a * len_a;
@@ -86,20 +145,23 @@ static void test_against_pose_path(void **state)
         tram_solution_destroy(b);
         scene_free(&s);
     }
+    double pt = independent_wins((const double(*)[3])at, (const double(*)[3])gt, seeds);
+    double pr = independent_wins((const double(*)[3])ar, (const double(*)[3])gr, seeds);
+    double ct = correlation((const double(*)[3])at, (const double(*)[3])gt, seeds);
+    double cr = correlation((const double(*)[3])ar, (const double(*)[3])gr, seeds);
     printf("[ figures  ] X from pixels vs pose path over %d seeds (10 stations, 0.3 px): translation "
            "error smaller or equal on %d, rotation on %d; RMSE translation %.4f vs %.4f mm, rotation "
-           "%.5f vs %.5f deg\n",
+           "%.5f vs %.5f deg; pixel flags: %zu station(s), %zu corner(s)\n",
            seeds, better_t, better_r, sqrt(sum_pix / seeds), sqrt(sum_pose / seeds),
-           sqrt(sumr_pix / seeds), sqrt(sumr_pose / seeds));
-    /* Since the pose path weights the noise per axis (solve's noise model),
-     * it is within a factor of about 2.5 of the pixels, and the per-seed
-     * count that issue #15 asked for (90% of seeds) is no longer reached:
-     * 43 and 38 of 50 (docs/camera.md).  What holds: the pixels' RMSE is at
-     * most 0.6 of the pose path's, and they win on three seeds in four. */
+           sqrt(sumr_pix / seeds), sqrt(sumr_pose / seeds), st_flags, corner_flags);
+    printf("[ figures  ] the pixels' error against the pose path's excess: correlation %.3f (translation), "
+           "%.3f (rotation); with independent pairs the pixels would win on %.1f%% and %.1f%% of seeds "
+           "(issue #15 asked for 90%%)\n", ct, cr, 100 * pt, 100 * pr);
     assert_true(sqrt(sum_pix / seeds) <= 0.6 * sqrt(sum_pose / seeds));
     assert_true(sqrt(sumr_pix / seeds) <= 0.6 * sqrt(sumr_pose / seeds));
-    assert_true(better_t >= 0.75 * seeds);
-    assert_true(better_r >= 0.75 * seeds);
+    assert_true(fabs(ct) < 0.3 && fabs(cr) < 0.3);
+    assert_true(better_t >= seeds * pt - 3 * sqrt(seeds * pt * (1 - pt)));
+    assert_true(better_r >= seeds * pr - 3 * sqrt(seeds * pr * (1 - pr)));
 }
 
 /* Coverage of the 95% intervals of X per axis over `seeds` scenes.  With
@@ -139,7 +201,9 @@ static void coverage(uint64_t seed0, int seeds, int calibrate, int with_cov, int
         assert_int_equal(a->pixels->camera_cov_used, calibrate && with_cov);
         double d[6], ang, len;
         x_error(&a->X, &s.X, d, &ang, &len);
-        for (int q = 0; q < 6; q++) inside[q] += fabs(d[q]) <= 1.96 * sqrt(a->unc.cov[13 * q]);
+        /* the reported 95% half-widths (rotations in degrees), as printed */
+        for (int q = 0; q < 6; q++)
+            inside[q] += fabs(d[q]) * (q >= 3 ? 180.0 / M_PI : 1.0) <= a->unc.half95[q];
         tram_solution_destroy(a);
         scene_free(&s);
     }

@@ -202,12 +202,102 @@ static void test_refusals(void **state)
     scene_free(&s);
 }
 
+/* Solve s (robust, default options) and count the flags. */
+static tram_solution *solve_flags(const scene *s, size_t *st_flags, size_t *corner_flags)
+{
+    tram_solve_options so;
+    tram_solve_options_init(&so);
+    so.check_conventions = 0;
+    tram_solution *sol = NULL;
+    tram_error e;
+    tram_status st = tram_solve_pixels(s->rec, s->setup, &s->cam, s->obs, s->xyz, &so, NULL, &sol, &e);
+    if (st != TRAM_OK && st != TRAM_EUNDETERMINED) fail_msg("%s", e.message);
+    *st_flags = sol->pixels->n_station_outliers;
+    *corner_flags = sol->pixels->n_corner_outliers;
+    return sol;
+}
+
+/* Extra Gaussian noise of sigma extra_px on every corner of station sid. */
+static void noisier(scene *s, test_rng *r, const char *sid, double extra_px)
+{
+    for (size_t o = 0; o < s->obs->n; o++)
+        if (strcmp(s->obs->station_id[s->obs->station[o]], sid) == 0) {
+            s->obs->uv[2 * o] += extra_px * test_rng_normal(r);
+            s->obs->uv[2 * o + 1] += extra_px * test_rng_normal(r);
+        }
+}
+
+/* The outlier rules (pixels_solve.c): clean stations are not flagged, even
+ * when one view's corners are twice as noisy as the others' (as a detector
+ * finds corners less well in a blurred or steep view: the pooled chi-square
+ * rule used before flagged such stations); a station whose robot pose is
+ * off by 0.5 mm and 0.1 degrees is flagged (the pose path's station test),
+ * and so are corners moved by 3 px (10 sigmas), and nothing else. */
+static void test_outlier_rules(void **state)
+{
+    (void)state;
+    int seeds = 20;
+    size_t clean_st = 0, clean_c = 0, noisy_st = 0, noisy_c = 0;
+    printf("[ seed     ] pixel outlier rules: seeds 53101 .. %d\n", 53100 + seeds);
+    for (int k = 0; k < seeds; k++) {
+        test_rng rng = {53101 + (uint64_t)k};
+        scene s;
+        scene_make(&s, &rng, k % 2 ? TRAM_SETUP_EYE_TO_HAND : TRAM_SETUP_EYE_IN_HAND, 12, 0.3);
+        size_t a, b;
+        tram_solution_destroy(solve_flags(&s, &a, &b));
+        clean_st += a;
+        clean_c += b;
+        noisier(&s, &rng, "s05", 0.3 * sqrt(3.0)); /* 0.6 px in all */
+        tram_solution_destroy(solve_flags(&s, &a, &b));
+        noisy_st += a;
+        noisy_c += b;
+        scene_free(&s);
+    }
+    printf("[ figures  ] %d clean scenes of 12 stations (0.3 px): %zu station and %zu corner flags; with "
+           "one station at 0.6 px: %zu and %zu\n", seeds, clean_st, clean_c, noisy_st, noisy_c);
+    assert_int_equal(clean_st, 0);
+    assert_int_equal(noisy_st, 0);
+    assert_true(clean_c <= 2 && noisy_c <= 2); /* 1% family-wise per scene */
+
+    /* planted: station s04's robot pose moved, 5 corners of s07 moved */
+    test_rng rng = test_rng_seeded("pixels planted outliers", 53121);
+    scene s;
+    scene_make(&s, &rng, TRAM_SETUP_EYE_IN_HAND, 12, 0.3);
+    tram_station *st4 = &s.rec->stations[3];
+    assert_string_equal(st4->id, "s04");
+    tram_mat3 R, E, R2;
+    double t[3], w[3] = {0.1 * M_PI / 180, 0, 0};
+    tram_se3_to_rt(&st4->T_base_flange, &R, t);
+    tram_so3_exp(w, &E);
+    tram_so3_mul(&R, &E, &R2);
+    t[1] += 0.5;
+    tram_se3_from_rt(&R2, t, &st4->T_base_flange);
+    size_t moved = 0, planted[5];
+    for (size_t o = 0; o < s.obs->n && moved < 5; o++)
+        if (strcmp(s.obs->station_id[s.obs->station[o]], "s07") == 0 && o % 7 == 0) {
+            s.obs->uv[2 * o] += 3.0;
+            planted[moved++] = o;
+        }
+    size_t a, b;
+    tram_solution *sol = solve_flags(&s, &a, &b);
+    printf("[ figures  ] planted (s04's pose 0.5 mm and 0.1 deg off, 5 corners of s07 3 px off): %zu "
+           "station(s) flagged (s04: %d), %zu corner(s)\n", a, sol->pixels->station_excluded[3], b);
+    assert_int_equal(a, 1);
+    assert_true(sol->pixels->station_excluded[3]);
+    assert_true(sol->stations[3].outlier);
+    for (size_t q = 0; q < 5; q++) assert_true(sol->pixels->excluded[planted[q]]);
+    assert_true(b >= 5 && b <= 6); /* the five, and at most one corner of the noise's tail */
+    tram_solution_destroy(sol);
+    scene_free(&s);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {cmocka_unit_test(test_exact),
                                        cmocka_unit_test(test_refine_intrinsics),
                                        cmocka_unit_test(test_refine_skew),
                                        cmocka_unit_test(test_bootstrap),
-                                       cmocka_unit_test(test_refusals)};
+                                       cmocka_unit_test(test_refusals),
+                                       cmocka_unit_test(test_outlier_rules)};
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

@@ -338,11 +338,58 @@ static void test_fold(void **state)
     assert_non_null(strstr(e.message, "beyond the fold of the camera's lens model"));
 }
 
+/* The projection refuses rays beyond the fold (camera.c), so that a pixel
+ * on the model's folded branch never enters a fit.  k1 = -0.5: fold at
+ * r = sqrt(2/3) = 0.8165 (worked by hand, above).  k1 = -0.5, k2 = 0.1:
+ * 1 - 1.5 s + 0.5 s^2 has the roots s = 1 and 2 (by hand), so the model
+ * turns back at r = 1 and grows again beyond r = sqrt(2); a ray at r =
+ * sqrt(3), where the derivative is positive again (1 - 4.5 + 4.5 = 1), is
+ * still beyond the fold and refused. */
+static void test_project_fold(void **state)
+{
+    (void)state;
+    tram_camera c;
+    memset(&c, 0, sizeof c);
+    c.fx = c.fy = 1000;
+    c.cx = 640;
+    c.cy = 480;
+    c.k1 = -0.5;
+    c.distortion = TRAM_DISTORTION_RADIAL2;
+    double uv[2] = {-1, -1}, Jp[6], Ji[2 * TRAM__CAM_NPARAM];
+    double inside[3] = {0.48, 0.64, 1.0};   /* r = 0.8 < 0.8165 */
+    double beyond[3] = {0.5, 0.66, 1.0};    /* r = 0.828 */
+    assert_true(tram_camera_project(&c, inside, uv));
+    assert_close(uv[0], 640 + 1000 * 0.48 * (1 - 0.5 * 0.64), 1e-9);
+    assert_true(tram__camera_project_jac(&c, inside, uv, Jp, Ji));
+    uv[0] = uv[1] = -1;
+    assert_false(tram_camera_project(&c, beyond, uv));
+    assert_false(tram__camera_project_jac(&c, beyond, uv, Jp, Ji));
+    assert_true(uv[0] == -1 && uv[1] == -1); /* untouched */
+    /* two roots: refused beyond the first, also where the model grows again */
+    c.k2 = 0.1;
+    assert_close(tram_camera_fold_radius(&c), 1.0, 1e-12);
+    double r3[3] = {sqrt(3.0), 0.0, 1.0}, r09[3] = {0.9, 0.0, 1.0};
+    assert_false(tram_camera_project(&c, r3, uv));
+    assert_false(tram__camera_project_jac(&c, r3, uv, Jp, NULL));
+    assert_true(tram_camera_project(&c, r09, uv));
+    /* a usual lens (the tests' camera): rays far out are kept */
+    tram_camera u = test_camera(1);
+    double wide[3] = {0.9, 0.7, 1.0};
+    printf("[ figures  ] fold radius of the usual lens %.4f; k1 -0.5: %.4f; k1 -0.5 k2 0.1: %.4f\n",
+           tram_camera_fold_radius(&u), sqrt(2.0 / 3.0), tram_camera_fold_radius(&c));
+    assert_true(tram_camera_fold_radius(&u) > hypot(0.9, 0.7));
+    assert_true(tram_camera_project(&u, wide, uv));
+    /* Z <= 0 as before */
+    double behind[3] = {0.1, 0.1, -1.0};
+    assert_false(tram_camera_project(&u, behind, uv));
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_planar_exact), cmocka_unit_test(test_nonplanar_exact),
         cmocka_unit_test(test_degenerate), cmocka_unit_test(test_jacobian),
-        cmocka_unit_test(test_covariance_coverage), cmocka_unit_test(test_fold)};
+        cmocka_unit_test(test_covariance_coverage), cmocka_unit_test(test_fold),
+        cmocka_unit_test(test_project_fold)};
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

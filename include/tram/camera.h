@@ -51,7 +51,9 @@ TRAM_API int tram_distortion_parse(const char *name);
 /* Normalised image coordinates (x, y) = (X/Z, Y/Z) to distorted ones. */
 TRAM_API void tram_camera_distort(const tram_camera *c, const double xy[2], double xyd[2]);
 /* Pixel of a point p_sensor (sensor frame, Z > 0).  Returns 0, and
- * leaves uv untouched, when Z <= 0. */
+ * leaves uv untouched, when Z <= 0 or when the ray lies at or beyond the
+ * fold radius of the distortion (tram_camera_fold_radius): there the model
+ * turns back and its pixel is not where a lens would image the point. */
 TRAM_API int tram_camera_project(const tram_camera *c, const double p_sensor[3], double uv[2]);
 /* Inverse of the distortion and the intrinsic matrix: the normalised
  * undistorted (x, y) of pixel uv, by Gauss-Newton from the pixel itself,

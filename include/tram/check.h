@@ -146,7 +146,8 @@ typedef struct tram_check_result {
 
 /* Check new stations against a calibration.  The records' setup (if
  * declared) must match the calibration's; their lengths are converted to
- * the calibration's unit.  Caller frees *out with
+ * the calibration's unit.  A calibration without a covariance (has_cov 0)
+ * is refused with TRAM_EINPUT.  Caller frees *out with
  * tram_check_result_destroy. */
 TRAM_API tram_status tram_check(const tram_calibration *cal, const tram_records *r,
                                 const tram_check_options *opt, tram_check_result **out,

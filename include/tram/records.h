@@ -135,6 +135,10 @@ typedef struct tram_read_options {
                                      quaternions (they are normalised); a
                                      larger value is taken as that bound   */
     double matrix_tol;            /* 0: TRAM_RECORDS_MATRIX_TOL                 */
+    int need_setup;               /* 1: the caller needs the setup from the file
+                                     (no --setup): a file without '# setup:' is
+                                     refused, listed with every other missing
+                                     declaration in one message */
 } tram_read_options;
 
 /* Matrices whose defect (tram_so3_defect) exceeds this are rejected unless

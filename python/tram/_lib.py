@@ -65,7 +65,7 @@ class Mat3(ctypes.Structure):
 class ReadOptions(ctypes.Structure):
     _fields_ = [("length_unit", ctypes.c_int), ("angle_unit", ctypes.c_int),
                 ("reorthonormalize", ctypes.c_int), ("quat_norm_tol", ctypes.c_double),
-                ("matrix_tol", ctypes.c_double)]
+                ("matrix_tol", ctypes.c_double), ("need_setup", ctypes.c_int)]
 
 
 class RegisterOptions(ctypes.Structure):

@@ -10,6 +10,9 @@
  * + k2 r^4 + k3 r^6) stops growing: a strong barrel lens maps no ray inside
  * it to pixels beyond), so such pixels are refused in a few steps rather
  * than after 50, and a point on the far, folded branch is never returned.
+ * The projection refuses points beyond the same fold: there the model's
+ * pixel moves back toward the centre as the ray moves out, a pixel no real
+ * lens puts there, so it must not enter a fit as if it were measured.
  */
 #include <math.h>
 #include <string.h>
@@ -47,6 +50,7 @@ int tram_camera_project(const tram_camera *c, const double p[3], double uv[2])
 {
     if (!(p[2] > 0.0)) return 0;
     double xy[2] = {p[0] / p[2], p[1] / p[2]}, d[2];
+    if (!tram__camera_inside_fold(c, xy[0] * xy[0] + xy[1] * xy[1])) return 0;
     tram_camera_distort(c, xy, d);
     uv[0] = c->fx * d[0] + c->skew * d[1] + c->cx;
     uv[1] = c->fy * d[1] + c->cy;
@@ -90,6 +94,19 @@ double tram__camera_fold_r2(const tram_camera *c)
 }
 
 double tram_camera_fold_radius(const tram_camera *c) { return sqrt(tram__camera_fold_r2(c)); }
+
+/* Inside the fold: first a bound that needs no root, since the projection
+ * asks for every corner of every step.  On [0, r2] the derivative
+ * 1 + 3 k1 s + 5 k2 s^2 + 7 k3 s^3 is at least 1 + a r2 + b r2^2 + d r2^3
+ * with a, b, d the negative parts of 3 k1, 5 k2, 7 k3 (each term's least
+ * value is at s = r2); when that is positive there is no fold before r2,
+ * as for every ray of a usual lens.  Otherwise the fold itself decides. */
+int tram__camera_inside_fold(const tram_camera *c, double r2)
+{
+    double a = fmin(3.0 * c->k1, 0.0), b = fmin(5.0 * c->k2, 0.0), d = fmin(7.0 * c->k3, 0.0);
+    if (1.0 + r2 * (a + r2 * (b + r2 * d)) > 0.0) return 1;
+    return r2 < tram__camera_fold_r2(c);
+}
 
 int tram__camera_unproject_from(const tram_camera *c, double fold_r2, const double uv[2],
                                 const double start[2], double xy[2])

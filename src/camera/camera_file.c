@@ -71,35 +71,15 @@ typedef struct reader {
 #define fail_at(r, path, key, ...) \
     tram__json_pos_fail((r)->pos, (r)->name, (r)->err, path, key, __VA_ARGS__)
 
-static void join(char *out, size_t size, const char *path, const char *key)
-{
-    snprintf(out, size, "%s%s%s", path, *path ? "." : "", key);
-}
-
-/* Every member of obj must be one of known (NULL-terminated). */
-static tram_status known_keys(reader *r, const cJSON *obj, const char *path,
-                              const char *const *known, const char *hint)
-{
-    const cJSON *it;
-    cJSON_ArrayForEach(it, obj)
-    {
-        int ok = 0;
-        for (int k = 0; known[k]; k++) ok |= strcmp(it->string, known[k]) == 0;
-        if (!ok) {
-            char p[160];
-            join(p, sizeof p, path, it->string);
-            return fail_at(r, p, 1, "unknown key \"%.60s\"%s%s: expected %s", it->string,
-                           *path ? " in " : "", path, hint);
-        }
-    }
-    return TRAM_OK;
-}
+/* Every member of obj must be one of known (NULL-terminated): json_pos.c. */
+#define known_keys(r, obj, path, known, hint) \
+    tram__json_known_keys((r)->pos, (r)->name, (r)->err, obj, path, known, hint)
 
 static tram_status object(reader *r, const cJSON *parent, const char *path, const char *key,
                           const cJSON **out)
 {
     char p[160];
-    join(p, sizeof p, path, key);
+    tram__json_path_join(p, sizeof p, path, key);
     *out = cJSON_GetObjectItemCaseSensitive(parent, key);
     if (!*out) return fail_at(r, path, 0, "missing key \"%s\"%s%s: expected an object", key,
                               *path ? " in " : "", path);
@@ -112,7 +92,7 @@ static tram_status number(reader *r, const cJSON *parent, const char *path, cons
                           double *v)
 {
     char p[160];
-    join(p, sizeof p, path, key);
+    tram__json_path_join(p, sizeof p, path, key);
     const cJSON *it = cJSON_GetObjectItemCaseSensitive(parent, key);
     if (!it) return fail_at(r, path, 0, "missing key \"%s\"%s%s: expected a number", key,
                             *path ? " in " : "", path);
@@ -129,7 +109,7 @@ static tram_status count(reader *r, const cJSON *parent, const char *path, const
     tram_status st = number(r, parent, path, key, &x);
     if (st != TRAM_OK) return st;
     char p[160];
-    join(p, sizeof p, path, key);
+    tram__json_path_join(p, sizeof p, path, key);
     if (x != floor(x) || x < lo || x > 1e9)
         return fail_at(r, p, 0, "\"%s\" %.10g: expected a whole number >= %g", p, x, lo);
     *v = (size_t)x;
@@ -183,7 +163,7 @@ static tram_status read_distortion(reader *r, const cJSON *root, tram_camera *c)
         for (k = TRAM_CAM_K1; k < TRAM_CAM_NPARAM; k++)
             if (strcmp(it->string, param_names[k]) == 0) break;
         char p[160];
-        join(p, sizeof p, "distortion", it->string);
+        tram__json_path_join(p, sizeof p, "distortion", it->string);
         if (k == TRAM_CAM_NPARAM || !tram_distortion_has(c->distortion, k))
             return fail_at(r, p, 1, "\"%.40s\" is not a coefficient of the %s model (%s)", it->string,
                            tram_distortion_name(c->distortion),
@@ -222,7 +202,7 @@ static tram_status read_correlation(reader *r, const cJSON *o, tram_camera_calib
     cJSON_ArrayForEach(row, cr)
     {
         char p[160];
-        join(p, sizeof p, "calibration.correlation", row->string);
+        tram__json_path_join(p, sizeof p, "calibration.correlation", row->string);
         int k;
         for (k = 0; k < TRAM_CAM_NPARAM; k++)
             if (strcmp(row->string, param_names[k]) == 0) break;
@@ -234,7 +214,7 @@ static tram_status read_correlation(reader *r, const cJSON *o, tram_camera_calib
         if (!cal->free_param[k] || next_free(cal, k) == TRAM_CAM_NPARAM) continue;
         if ((st = object(r, cr, "calibration.correlation", param_names[k], &row)) != TRAM_OK) return st;
         char path[160];
-        join(path, sizeof path, "calibration.correlation", param_names[k]);
+        tram__json_path_join(path, sizeof path, "calibration.correlation", param_names[k]);
         cJSON_ArrayForEach(it, row)
         {
             int q;
@@ -242,7 +222,7 @@ static tram_status read_correlation(reader *r, const cJSON *o, tram_camera_calib
                 if (strcmp(it->string, param_names[q]) == 0) break;
             if (q == TRAM_CAM_NPARAM || !cal->free_param[q]) {
                 char p[200];
-                join(p, sizeof p, path, it->string);
+                tram__json_path_join(p, sizeof p, path, it->string);
                 return fail_at(r, p, 1, "%s: \"%.40s\" is not a later free parameter", path, it->string);
             }
         }
@@ -251,7 +231,7 @@ static tram_status read_correlation(reader *r, const cJSON *o, tram_camera_calib
             if ((st = number(r, row, path, param_names[q], &v)) != TRAM_OK) return st;
             if (v < -1 || v > 1) {
                 char p[200];
-                join(p, sizeof p, path, param_names[q]);
+                tram__json_path_join(p, sizeof p, path, param_names[q]);
                 return fail_at(r, p, 0, "correlation of %s and %s %.10g: expected a number in [-1, 1]",
                                param_names[k], param_names[q], v);
             }
@@ -332,7 +312,7 @@ static tram_status read_calibration(reader *r, const cJSON *root, tram_camera_ca
     cJSON_ArrayForEach(it, sg)
     {
         char p[160];
-        join(p, sizeof p, "calibration.sigma", it->string);
+        tram__json_path_join(p, sizeof p, "calibration.sigma", it->string);
         int k;
         for (k = 0; k < TRAM_CAM_NPARAM; k++)
             if (strcmp(it->string, param_names[k]) == 0) break;
@@ -344,7 +324,7 @@ static tram_status read_calibration(reader *r, const cJSON *root, tram_camera_ca
         if ((st = number(r, sg, "calibration.sigma", param_names[k], &cal->sigma[k])) != TRAM_OK) return st;
         if (cal->sigma[k] < 0) {
             char p[160];
-            join(p, sizeof p, "calibration.sigma", param_names[k]);
+            tram__json_path_join(p, sizeof p, "calibration.sigma", param_names[k]);
             return fail_at(r, p, 0, "sigma of %s: expected a number >= 0", param_names[k]);
         }
     }

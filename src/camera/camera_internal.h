@@ -14,6 +14,9 @@ void tram__camera_distort_jacobian(const tram_camera *c, double x, double y, dou
 /* r^2 (normalised, undistorted) at the fold of the radial distortion,
  * where d/dr [r (1 + k1 r^2 + k2 r^4 + k3 r^6)] = 0 (INFINITY: none). */
 double tram__camera_fold_r2(const tram_camera *c);
+/* 1 when the normalised, undistorted r^2 lies inside the fold (r2 below
+ * tram__camera_fold_r2), 0 beyond it; cheap for rays far inside. */
+int tram__camera_inside_fold(const tram_camera *c, double r2);
 /* tram_camera_unproject from the normalised start (inside the fold), the
  * fold's r^2 given: 1 solved (xy inside the fold), 0 no convergence in 50
  * steps, -1 the pixel lies beyond the fold (no ray inside maps to it). */

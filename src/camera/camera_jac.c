@@ -5,6 +5,7 @@
  * intrinsic parameters, for the Levenberg-Marquardt refinements on pixels.
  */
 #include "camera/camera_jac_internal.h"
+#include "camera/camera_internal.h"
 
 void tram__camera_params(const tram_camera *c, double v[TRAM__CAM_NPARAM])
 {
@@ -44,6 +45,7 @@ int tram__camera_project_jac(const tram_camera *c, const double p[3], double uv[
     if (!(p[2] > 0.0)) return 0;
     double iz = 1.0 / p[2], x = p[0] * iz, y = p[1] * iz;
     double r2 = x * x + y * y, r4 = r2 * r2, r6 = r4 * r2;
+    if (!tram__camera_inside_fold(c, r2)) return 0; /* as tram_camera_project */
     double radial = 1.0 + c->k1 * r2 + c->k2 * r4 + c->k3 * r6;
     double dradial = c->k1 + 2.0 * c->k2 * r2 + 3.0 * c->k3 * r4; /* d radial / d r2 */
     double xd = x * radial + 2.0 * c->p1 * x * y + c->p2 * (r2 + 2.0 * x * x);

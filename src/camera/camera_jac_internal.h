@@ -21,7 +21,8 @@ int tram__camera_free_params(const tram_camera *c, int idx[TRAM__CAM_NPARAM]);
 
 /* Pixel uv of p (sensor frame) as tram_camera_project, with Jp (2x3,
  * row-major) = d uv / d p and, when Ji is not NULL, Ji (2 x 10) = d uv / d
- * (intrinsics in the order above).  Returns 0, uv untouched, when Z <= 0. */
+ * (intrinsics in the order above).  Returns 0, uv untouched, when Z <= 0
+ * or the ray lies beyond the fold of the distortion (as the projection). */
 int tram__camera_project_jac(const tram_camera *c, const double p[3], double uv[2], double Jp[6],
                              double *Ji);
 

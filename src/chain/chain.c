@@ -22,6 +22,7 @@
 #include "tram/chain.h"
 #include "tram/rotation.h"
 #include "io/json_internal.h"
+#include "io/json_pos_internal.h"
 #include "io/text_internal.h"
 
 #include <cjson/cJSON.h>
@@ -45,11 +46,21 @@ typedef struct reader {
     const char *file;
     double ang;       /* radians per angle unit */
     tram_error *err;
+    const char *data; /* the text, for positions on the error path */
+    size_t len;
 } reader;
 
+/* A refusal at the JSON path (as named in the message: "joints[2]",
+ * "top level") of the chain file: file:line:column of its value. */
 static tram_status bad(const reader *rd, const char *path, const char *what)
 {
-    return tram__fail(rd->err, TRAM_EINPUT, rd->file, 0, 0, "%s: %s", path, what);
+    char at[160];
+    snprintf(at, sizeof at, "%s", path);
+    if (strcmp(at, "top level") == 0) at[0] = '\0';
+    char *slash = strchr(at, '/'); /* "length_unit/angle_unit": the first */
+    if (slash) *slash = '\0';
+    return tram__json_pos_fail_text(rd->file, rd->data, rd->len, rd->err, at, 0, "%s: %s", path,
+                                    what);
 }
 
 static int numbers(const cJSON *a, double *out, int n)
@@ -350,7 +361,7 @@ tram_status tram_chain_read_buffer(const char *name, const char *data, size_t le
     if (pst != TRAM_OK) return pst;
     tram_chain *c = tram__calloc(1, sizeof *c);
     builder b = {c, 0};
-    reader rd = {name, 1.0, err};
+    reader rd = {name, 1.0, err, data, len};
     tram_status st = TRAM_OK;
     if (!c) {
         st = tram__fail(err, TRAM_ENOMEM, name, 0, 0, "out of memory");
@@ -548,7 +559,7 @@ void tram_chain_jacobian(const tram_chain *c, const double *q, double *J)
 tram_status tram_records_apply_chain(tram_records *r, const tram_chain *c, tram_error *err)
 {
     if (r->n_joints == 0)
-        return tram__fail(err, TRAM_EINPUT, r->source, 0, 0,
+        return tram__fail(err, TRAM_EINPUT, r->source, r->count ? r->stations[0].line : 0, 0,
                           "--chain needs joint columns (joint_1 ... joint_%zu) in the record file",
                           c->n_joints);
     if (r->n_joints != c->n_joints)

@@ -11,6 +11,7 @@
 #include "io/json_internal.h"
 #include "io/json_pos_internal.h"
 #include "io/text_internal.h"
+#include "math/linalg_internal.h"
 
 #include <cjson/cJSON.h>
 #include <math.h>
@@ -97,6 +98,54 @@ static tram_status read_residuals(const char *name, const tram__json_pos *pos, c
     return TRAM_OK;
 }
 
+/* Relative tolerances of the covariance checks: the solve writes the
+ * matrix with 17 significant digits, so its asymmetry and its smallest
+ * eigenvalue after scaling to unit diagonal stay near 1e-15; a tampered or
+ * mis-edited matrix is far beyond these. */
+#define COV_SYM_TOL 1e-8
+#define COV_EIG_TOL 1e-9
+
+/* The stored covariance C (12x12, public order) must be a covariance:
+ * positive variances, symmetric within COV_SYM_TOL of sqrt(C_ii C_jj), and
+ * positive semi-definite: the eigenvalues (LAPACKE, linalg.c) of the
+ * correlation matrix D^-1/2 C D^-1/2 (unit-free, since C mixes lengths and
+ * radians) at least -COV_EIG_TOL times the largest. */
+static tram_status check_covariance(const char *name, const tram__json_pos *pos, const double C[144],
+                                    tram_error *err)
+{
+    char where[32];
+    double d[12];
+    for (int i = 0; i < 12; i++) {
+        if (!(C[i * 12 + i] > 0)) {
+            snprintf(where, sizeof where, "covariance[%d]", i * 13);
+            return BAD(where, "damaged calibration file: covariance[%d] (the variance of parameter "
+                              "%d) is %g: expected a variance > 0",
+                       i * 13, i + 1, C[i * 12 + i]);
+        }
+        d[i] = sqrt(C[i * 12 + i]);
+    }
+    double R[144], w[12], V[144];
+    for (int i = 0; i < 12; i++)
+        for (int j = 0; j < 12; j++) {
+            double a = C[i * 12 + j], b = C[j * 12 + i];
+            if (j > i && !(fabs(a - b) <= COV_SYM_TOL * d[i] * d[j])) {
+                snprintf(where, sizeof where, "covariance[%d]", j * 12 + i);
+                return BAD(where, "damaged calibration file: the covariance is not symmetric: "
+                                  "covariance[%d] is %.17g but covariance[%d] is %.17g",
+                           j * 12 + i, b, i * 12 + j, a);
+            }
+            R[i * 12 + j] = 0.5 * (a + b) / (d[i] * d[j]);
+        }
+    if (tram__symeig(12, R, w, V) != TRAM_OK)
+        return BAD("covariance", "damaged calibration file: the covariance's eigenvalues cannot be "
+                                 "computed");
+    if (!(w[0] >= -COV_EIG_TOL * w[11]))
+        return BAD("covariance", "damaged calibration file: the covariance is not positive "
+                                 "semi-definite (its correlation matrix has the eigenvalue %.3g)",
+                   w[0]);
+    return TRAM_OK;
+}
+
 /* format, version, setup, unit, the transforms, noise, covariance: what a
  * mount check needs. */
 static tram_status read_core(const char *name, const tram__json_pos *pos, const cJSON *root,
@@ -159,6 +208,8 @@ static tram_status read_core(const char *name, const tram__json_pos *pos, const 
             }
             c->cov[i] = v->valuedouble;
         }
+        tram_status cs = check_covariance(name, pos, c->cov, err);
+        if (cs != TRAM_OK) return cs;
         c->has_cov = 1;
     }
     const cJSON *in = cJSON_GetObjectItemCaseSensitive(root, "input");

@@ -449,16 +449,24 @@ static tram_status trust_checks(const tram_calibration *cal, const tram_records 
 /* Records a check can use against cal, or an input error. */
 static tram_status check_inputs(const tram_calibration *cal, const tram_records *r, tram_error *err)
 {
+    /* Without its covariance the calibration's own uncertainty would drop
+     * out of every test silently (docs/check.md): refused.  solve -o writes
+     * one whenever the refinement's normal matrix is invertible. */
+    if (!cal->has_cov)
+        return tram__fail(err, TRAM_EINPUT, cal->source, 1, 1,
+                          "the calibration holds no \"covariance\" (its 12x12 uncertainty), which "
+                          "a check needs to weigh the calibration's own uncertainty: solve again "
+                          "with stations that determine both transforms (tram solve -o)");
     if (r->setup != TRAM_SETUP_UNSET && r->setup != cal->setup)
-        return tram__fail(err, TRAM_EINPUT, r->source, 0, 0,
+        return tram__fail(err, TRAM_EINPUT, r->source, r->count ? r->stations[0].line : 0, 0,
                           "the records declare setup %s but the calibration %s is %s",
                           tram_setup_name(r->setup), cal->source, tram_setup_name(cal->setup));
     if (!r->has_block[TRAM_BLOCK_ROBOT] && r->n_joints)
-        return tram__fail(err, TRAM_EINPUT, r->source, 0, 0,
+        return tram__fail(err, TRAM_EINPUT, r->source, r->count ? r->stations[0].line : 0, 0,
                           "the record file gives joint readings (joint_1 ...): pass --chain FILE "
                           "to compute the flange poses");
     if (!r->has_block[TRAM_BLOCK_ROBOT] || !r->has_block[TRAM_BLOCK_SENSOR])
-        return tram__fail(err, TRAM_EINPUT, r->source, 0, 0,
+        return tram__fail(err, TRAM_EINPUT, r->source, r->count ? r->stations[0].line : 0, 0,
                           "a check needs both a robot_ and a sensor_ pose block");
     return TRAM_OK;
 }

@@ -40,8 +40,10 @@ const char cli_check_help[] =
     "  tram solve --force -o wrist.cal.json datasets/demo/wrist_camera.csv\n"
     "  tram check --calibration wrist.cal.json --history checks.jsonl datasets/demo/wrist_recheck.csv\n"
     "\n"
+    "The calibration must hold its noise and its covariance (a covariance that is\n"
+    "missing, asymmetric, not positive semi-definite or of the wrong size is refused).\n"
     "exit status: 0 ok; 1 sensor-moved, target-moved or inconsistent; 2 usage or input\n"
-    "error; 3 inconclusive.\n";
+    "error (the message names file:line:column); 3 inconclusive.\n";
 
 static int parse_tol(const char *v, double *len, tram_length_unit *lu, double *ang_rad)
 {

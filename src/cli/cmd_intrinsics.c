@@ -220,30 +220,51 @@ static void report_text(const tram_pixel_obs *obs, const target *g, const tram_i
     printf("\nresult: consistent with the data; NOT verified on the cell\n%s", cli_safety_text);
 }
 
+/* The numbers of a parsed document rewritten as cli_json_number writes
+ * them (cJSON would print its doubles with 15 digits): 1 on success. */
+static int exact_numbers(cJSON *node)
+{
+    for (cJSON *c = node ? node->child : NULL; c; c = c->next) {
+        if (cJSON_IsNumber(c)) {
+            cJSON *r = cli_json_number(c->valuedouble);
+            int done = r && (cJSON_IsObject(node) ? cJSON_ReplaceItemInObjectCaseSensitive(node, c->string, r)
+                                                  : cJSON_ReplaceItemViaPointer(node, c, r));
+            if (!done) {
+                cJSON_Delete(r);
+                return 0;
+            }
+            c = r;
+        } else if ((cJSON_IsObject(c) || cJSON_IsArray(c)) && !exact_numbers(c)) {
+            return 0;
+        }
+    }
+    return 1;
+}
+
 /* The JSON report; the camera file's document is embedded as "camera". */
 static int report_json(const tram_pixel_obs *obs, const target *g, const tram_intrinsics_result *r,
                        const char *camera_text, int robust)
 {
     cJSON *root = cJSON_CreateObject(), *cam = cJSON_Parse(camera_text), *a, *o;
-    int ok = root && cam;
+    int ok = root && cam && exact_numbers(cam);
     ok = ok && cJSON_AddStringToObject(root, "format", "tram-intrinsics-report");
-    ok = ok && cJSON_AddNumberToObject(root, "version", 1);
+    ok = ok && cli_json_add_number(root, "version", 1);
     ok = ok && cJSON_AddStringToObject(root, "observations", obs->source);
     ok = ok && cJSON_AddStringToObject(root, "target", g->desc);
     ok = ok && cJSON_AddStringToObject(root, "length_unit", g->unit);
     ok = ok && cJSON_AddStringToObject(root, "loss", robust ? "huber" : "squared");
     ok = ok && cJSON_AddItemToObject(root, "camera", cam);
     if (!ok && cam && !cJSON_GetObjectItem(root, "camera")) cJSON_Delete(cam);
-    ok = ok && cJSON_AddNumberToObject(root, "rms_px", r->rms_px);
-    ok = ok && cJSON_AddNumberToObject(root, "noise_px", r->noise_px);
-    ok = ok && cJSON_AddNumberToObject(root, "outlier_threshold_px", r->outlier_px);
-    ok = ok && cJSON_AddNumberToObject(root, "coverage", r->coverage);
-    ok = ok && cJSON_AddNumberToObject(root, "max_tilt_x_deg", r->max_tilt_x_deg);
-    ok = ok && cJSON_AddNumberToObject(root, "max_tilt_y_deg", r->max_tilt_y_deg);
+    ok = ok && cli_json_add_number(root, "rms_px", r->rms_px);
+    ok = ok && cli_json_add_number(root, "noise_px", r->noise_px);
+    ok = ok && cli_json_add_number(root, "outlier_threshold_px", r->outlier_px);
+    ok = ok && cli_json_add_number(root, "coverage", r->coverage);
+    ok = ok && cli_json_add_number(root, "max_tilt_x_deg", r->max_tilt_x_deg);
+    ok = ok && cli_json_add_number(root, "max_tilt_y_deg", r->max_tilt_y_deg);
     o = ok ? cJSON_AddObjectToObject(root, "initial") : NULL;
-    ok = o && cJSON_AddNumberToObject(o, "fx", r->initial.fx) && cJSON_AddNumberToObject(o, "fy", r->initial.fy) &&
-         cJSON_AddNumberToObject(o, "cx", r->initial.cx) && cJSON_AddNumberToObject(o, "cy", r->initial.cy) &&
-         cJSON_AddNumberToObject(o, "skew", r->initial.skew);
+    ok = o && cli_json_add_number(o, "fx", r->initial.fx) && cli_json_add_number(o, "fy", r->initial.fy) &&
+         cli_json_add_number(o, "cx", r->initial.cx) && cli_json_add_number(o, "cy", r->initial.cy) &&
+         cli_json_add_number(o, "skew", r->initial.skew);
     a = ok ? cJSON_AddArrayToObject(root, "views") : NULL;
     ok = a != NULL;
     for (size_t k = 0; ok && k < r->nviews; k++) {
@@ -256,15 +277,15 @@ static int report_json(const tram_pixel_obs *obs, const target *g, const tram_in
             break;
         }
         ok = cJSON_AddItemToObject(e, "T_sensor_target", T) && cJSON_AddStringToObject(e, "station", v->id) &&
-             cJSON_AddNumberToObject(e, "points", (double)v->nobs) &&
-             cJSON_AddNumberToObject(e, "outliers", (double)v->noutliers) &&
-             cJSON_AddNumberToObject(e, "rms_px", v->rms_px) &&
-             cJSON_AddNumberToObject(e, "tilt_x_deg", v->tilt_x_deg) &&
-             cJSON_AddNumberToObject(e, "tilt_y_deg", v->tilt_y_deg) &&
-             cJSON_AddItemToObject(e, "sigma_rotation_deg", cJSON_CreateDoubleArray(v->sigma_rot_deg, 3)) &&
-             cJSON_AddItemToObject(e, "sigma_translation", cJSON_CreateDoubleArray(v->sigma_t, 3));
+             cli_json_add_number(e, "points", (double)v->nobs) &&
+             cli_json_add_number(e, "outliers", (double)v->noutliers) &&
+             cli_json_add_number(e, "rms_px", v->rms_px) &&
+             cli_json_add_number(e, "tilt_x_deg", v->tilt_x_deg) &&
+             cli_json_add_number(e, "tilt_y_deg", v->tilt_y_deg) &&
+             cJSON_AddItemToObject(e, "sigma_rotation_deg", cli_json_numbers(v->sigma_rot_deg, 3)) &&
+             cJSON_AddItemToObject(e, "sigma_translation", cli_json_numbers(v->sigma_t, 3));
         for (int i = 0; ok && i < 4; i++)
-            ok = cJSON_AddItemToArray(T, cJSON_CreateDoubleArray(v->T_sensor_target.m[i], 4));
+            ok = cJSON_AddItemToArray(T, cli_json_numbers(v->T_sensor_target.m[i], 4));
     }
     a = ok ? cJSON_AddArrayToObject(root, "residuals") : NULL;
     ok = a != NULL;
@@ -277,8 +298,8 @@ static int report_json(const tram_pixel_obs *obs, const target *g, const tram_in
         }
         ok = cJSON_AddStringToObject(e, "station", obs->station_id[obs->station[i]]) &&
              cJSON_AddStringToObject(e, "point", obs->point_id[obs->point[i]]) &&
-             cJSON_AddNumberToObject(e, "du_px", r->residual_px[2 * i]) &&
-             cJSON_AddNumberToObject(e, "dv_px", r->residual_px[2 * i + 1]) &&
+             cli_json_add_number(e, "du_px", r->residual_px[2 * i]) &&
+             cli_json_add_number(e, "dv_px", r->residual_px[2 * i + 1]) &&
              cJSON_AddBoolToObject(e, "outlier", r->outlier[i]);
     }
     a = ok ? cJSON_AddArrayToObject(root, "warnings") : NULL;
@@ -298,13 +319,6 @@ static int report_json(const tram_pixel_obs *obs, const target *g, const tram_in
     return CLI_EXIT_OK;
 }
 
-static void join(char *out, size_t size, const char *dir, const char *name)
-{
-    size_t dl = strlen(dir);
-    while (dl > 1 && dir[dl - 1] == '/') dl--;
-    snprintf(out, size, "%.*s/%s", (int)dl, dir, name);
-}
-
 /* One picture per view, one of every view, and the distortion field;
  * existing files are refused before anything is drawn. */
 static int write_pictures(const char *dir, const tram_pixel_obs *obs, const tram_intrinsics_result *r,
@@ -319,7 +333,7 @@ static int write_pictures(const char *dir, const tram_pixel_obs *obs, const tram
     for (size_t k = 0; k < np; k++) {
         char name[200];
         snprintf(name, sizeof name, "%s-residuals.png", k < nv ? r->views[k].id : "");
-        join(path, sizeof path, dir, k < nv ? name : k == nv ? "residuals.png" : "distortion.png");
+        cli_path_join(path, sizeof path, dir, k < nv ? name : k == nv ? "residuals.png" : "distortion.png");
         struct stat sb;
         if (!force && stat(path, &sb) == 0) {
             fprintf(stderr, "%s: error: already exists; not overwritten (pass --force to replace it)\n", path);
@@ -349,14 +363,14 @@ static int write_pictures(const char *dir, const tram_pixel_obs *obs, const tram
                                          k < nv ? r->views[k].rms_px : r->rms_px, title};
         tram_image *img = NULL;
         snprintf(name, sizeof name, "%s-residuals.png", k < nv ? r->views[k].id : "");
-        join(path, sizeof path, dir, k < nv ? name : "residuals.png");
+        cli_path_join(path, sizeof path, dir, k < nv ? name : "residuals.png");
         st = tram_plot_reprojection(&d, &img, &err);
         if (st == TRAM_OK) st = tram_image_write_png(img, path, force, &err);
         tram_image_destroy(img);
     }
     if (st == TRAM_OK) {
         tram_image *img = NULL;
-        join(path, sizeof path, dir, "distortion.png");
+        cli_path_join(path, sizeof path, dir, "distortion.png");
         st = tram_plot_distortion(&r->camera, "lens distortion of the calibrated camera", &img, &err);
         if (st == TRAM_OK) st = tram_image_write_png(img, path, force, &err);
         tram_image_destroy(img);

@@ -59,7 +59,8 @@ const char cli_solve_help[] =
     "                    tool-in-base): the tool's pose in the flange, e.g.\n"
     "                    '0,0,150mm quat:1,0,0,0' (docs/records.md); gives T_tool_sensor too\n"
     "  --points FILE     the sensor's observed 3D points per station (station,point,x,y,z\n"
-    "                    in the sensor frame) instead of sensor_ pose columns\n"
+    "                    in the sensor frame) instead of sensor_ pose columns (those\n"
+    "                    of the record file are then ignored: sensor-columns-ignored)\n"
     "  --model FILE      the target's points in its own frame (point,x,y,z); without it\n"
     "                    the points' positions are solved too (docs/points.md)\n"
     "  --pixels FILE     the corners seen in each station's image (tram-pixels-1) instead\n"
@@ -654,9 +655,9 @@ static int resolve_setup(const tram_records *r, solve_args *a)
     if (a->setup == TRAM_SETUP_UNSET) a->setup = r->setup;
     if (a->setup == TRAM_SETUP_UNSET) {
         fprintf(stderr,
-                "%s: error: no setup: add '# setup: eye-in-hand' (or eye-to-hand) or pass "
+                "%s:%ld: error: no setup: add '# setup: eye-in-hand' (or eye-to-hand) or pass "
                 "--setup\n",
-                r->source);
+                r->source, r->count ? r->stations[0].line : 1L);
         return CLI_EXIT_USAGE;
     }
     return CLI_EXIT_OK;
@@ -770,6 +771,9 @@ int cli_solve(int argc, char **argv)
     tram_records *r = NULL;
     tram_error err;
     tram_error_clear(&err);
+    /* without --setup the file must declare it: listed by the reader with
+     * every other missing declaration, in one run */
+    a.ro.need_setup = a.setup == TRAM_SETUP_UNSET;
     tram_status st = tram_records_read_file(a.file, &a.ro, &r, &err);
     if (st != TRAM_OK) {
         cli_report(&err);

@@ -35,7 +35,9 @@ static const char records_help[] =
     "  setup: eye-in-hand|eye-to-hand\n\n"
     "An unknown directive is an error; a comment that looks like a misspelt one\n"
     "('# robot_euler:') is a warning.  A UTF-8 byte-order mark at the start is skipped.\n"
-    "Quaternions: norm 1 within 1e-6 (--rounded-quat: within 0.01, normalised).\n\n"
+    "Quaternions: norm 1 within 1e-6 (--rounded-quat: within 0.01, normalised).\n"
+    "Every missing declaration is listed in one message (solve without --setup: the\n"
+    "setup too); every error names file:line[:column] (JSON: of the value at fault).\n\n"
     "examples:\n"
     "  tram convert --to quat datasets/demo/wrist_camera.csv\n"
     "  tram convert --to rotvec --angle-unit rad --length-unit m datasets/demo/overhead_camera.csv\n";

@@ -8,6 +8,8 @@
  */
 #include "io/json_pos_internal.h"
 
+#include <cjson/cJSON.h>
+
 #include <stdarg.h>
 #include <stdio.h>
 #include <string.h>
@@ -201,4 +203,45 @@ tram_status tram__json_pos_fail(const tram__json_pos *p, const char *name, tram_
     long line, col;
     tram__json_pos_where(p, path, key, &line, &col);
     return tram__fail(err, TRAM_EINPUT, name, line, col, "%s", msg);
+}
+
+tram_status tram__json_pos_fail_text(const char *name, const char *data, size_t len,
+                                     tram_error *err, const char *path, int key,
+                                     const char *fmt, ...)
+{
+    char msg[700];
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(msg, sizeof msg, fmt, ap);
+    va_end(ap);
+    tram__json_pos *p = NULL;
+    tram_status st = tram__json_pos_scan(name, data, len, &p, err);
+    if (st != TRAM_OK) return st; /* out of memory: that is the error now */
+    st = tram__json_pos_fail(p, name, err, path, key, "%s", msg);
+    tram__json_pos_free(p);
+    return st;
+}
+
+void tram__json_path_join(char *out, size_t size, const char *path, const char *key)
+{
+    snprintf(out, size, "%s%s%s", path, *path ? "." : "", key);
+}
+
+tram_status tram__json_known_keys(const tram__json_pos *p, const char *name, tram_error *err,
+                                  const cJSON *obj, const char *path, const char *const *known,
+                                  const char *hint)
+{
+    const cJSON *it;
+    cJSON_ArrayForEach(it, obj)
+    {
+        int ok = 0;
+        for (int k = 0; known[k]; k++) ok |= strcmp(it->string, known[k]) == 0;
+        if (!ok) {
+            char at[160];
+            tram__json_path_join(at, sizeof at, path, it->string);
+            return tram__json_pos_fail(p, name, err, at, 1, "unknown key \"%.60s\"%s%s: expected %s",
+                                       it->string, *path ? " in " : "", path, hint);
+        }
+    }
+    return TRAM_OK;
 }

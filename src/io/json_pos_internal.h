@@ -43,4 +43,23 @@ tram_status tram__json_pos_fail(const tram__json_pos *p, const char *name, tram_
                                 const char *path, int key, const char *fmt, ...)
     TRAM_PRINTF(6, 7);
 
+/* out = path + "." + key ("" path: key alone), truncated to size. */
+void tram__json_path_join(char *out, size_t size, const char *path, const char *key);
+
+/* Every member of obj (the object at path, "" for the root) must be one
+ * of known (NULL-terminated): else TRAM_EINPUT at the first other key,
+ * 'unknown key "K" in PATH: expected HINT'. */
+struct cJSON;
+tram_status tram__json_known_keys(const tram__json_pos *p, const char *name, tram_error *err,
+                                  const struct cJSON *obj, const char *path,
+                                  const char *const *known, const char *hint);
+
+/* tram__json_pos_fail on a text scanned now, for readers that keep no
+ * positions (large documents) and look one up only on their error path.
+ * data must have been accepted by tram__json_parse.  TRAM_ENOMEM when the
+ * scan runs out of memory. */
+tram_status tram__json_pos_fail_text(const char *name, const char *data, size_t len,
+                                     tram_error *err, const char *path, int key,
+                                     const char *fmt, ...) TRAM_PRINTF(7, 8);
+
 #endif

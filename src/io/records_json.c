@@ -11,17 +11,17 @@
  *                  "sensor": {...}}, ...]}
  *
  * The keys mirror the CSV directives and column suffixes, and the same
- * schema and checks apply.  cJSON keeps no positions, so semantic errors
- * name the JSON path (stations[3].robot.qw) and the line where that
- * station's object starts.
+ * schema and checks apply.  cJSON keeps no positions: semantic errors
+ * name the JSON path (stations[3].robot.qw) and its file:line:column, found
+ * by scanning the text only on the error path (json_pos.c); each station
+ * keeps the line where its object starts, for the checks after reading.
  *
  * Speed (docs/performance.md): the strict check (json_check.c) also finds
- * where each element of "stations" starts and ends; cJSON then parses the
- * document with that array left empty, and each station on its own, read
- * and deleted before the next, so that the tree of the whole file (about
- * 17 nodes of 64 bytes per station, most of the reading time in
- * allocation and fresh pages) is never built.  The lines of the stations
- * come from the same offsets.
+ * where each element of "stations" starts and ends, and its line; cJSON
+ * then parses the document with that array left empty, and each station
+ * on its own, read and deleted before the next, so that the tree of the
+ * whole file (about 17 nodes of 64 bytes per station, most of the reading
+ * time in allocation and fresh pages) is never built.
  */
 #include "io/json_internal.h"
 #include "io/json_pos_internal.h"
@@ -74,6 +74,24 @@ static void station_lines(const char *data, size_t len, long *lines, size_t n)
     }
 }
 
+/* The document being read, for messages at a JSON path. */
+typedef struct jsrc {
+    const char *name, *data;
+    size_t len;
+    tram_error *err;
+} jsrc;
+
+/* Fail at the value of path (its key when key != 0): file:line:column. */
+#define JFAIL(j, path, key, ...) \
+    tram__json_pos_fail_text((j)->name, (j)->data, (j)->len, (j)->err, path, key, __VA_ARGS__)
+
+/* A JSON path below the station at `at` ("stations[3]"). */
+static const char *sub_path(char *buf, size_t cap, const char *at, const char *a, const char *b)
+{
+    snprintf(buf, cap, "%s.%s%s%s", at, a, b ? "." : "", b ? b : "");
+    return buf;
+}
+
 static const char *string_member(const cJSON *o, const char *key)
 {
     const cJSON *v = cJSON_GetObjectItemCaseSensitive(o, key);
@@ -81,36 +99,23 @@ static const char *string_member(const cJSON *o, const char *key)
 }
 
 /* The "format" and "version" members of the top level. */
-static tram_status json_check_header(const cJSON *root, const char *name, tram_error *err)
+static tram_status json_check_header(const cJSON *root, const jsrc *j)
 {
     const char *fmt = string_member(root, "format");
     if (!fmt || strcmp(fmt, "tram-records") != 0)
-        return tram__fail(err, TRAM_EINPUT, name, 1, 0, "\"format\": expected \"tram-records\"");
+        return JFAIL(j, "format", 0, "\"format\": expected \"tram-records\"");
     const cJSON *ver = cJSON_GetObjectItemCaseSensitive(root, "version");
     if (!cJSON_IsNumber(ver) || ver->valuedouble != (double)ver->valueint || ver->valueint < 1)
-        return tram__fail(err, TRAM_EINPUT, name, 1, 0, "\"version\": expected the integer 1");
+        return JFAIL(j, "version", 0, "\"version\": expected the integer 1");
     if (ver->valueint > 1)
-        return tram__fail(err, TRAM_EINPUT, name, 1, 0,
-                          "record format version %d is newer than this tram (%s) reads (1)",
-                          ver->valueint, TRAM_VERSION_STRING);
+        return JFAIL(j, "version", 0,
+                     "record format version %d is newer than this tram (%s) reads (1)",
+                     ver->valueint, TRAM_VERSION_STRING);
     return TRAM_OK;
 }
 
 /* Top-level keys: the directives, with '_' for '-'. */
-/* Where the top-level key k is in the text (scanned only on an error path). */
-static void json_key_where(const char *name, const char *data, size_t len, const char *k,
-                           long *line, long *col)
-{
-    tram__json_pos *pos = NULL;
-    tram_error pe;
-    *line = *col = 0;
-    if (tram__json_pos_scan(name, data, len, &pos, &pe) == TRAM_OK)
-        tram__json_pos_where(pos, k, 1, line, col);
-    tram__json_pos_free(pos);
-}
-
-static tram_status json_read_directives(const cJSON *root, const char *data, size_t len,
-                                        rec_directives *d, const char *name, tram_error *err)
+static tram_status json_read_directives(const cJSON *root, rec_directives *d, const jsrc *j)
 {
     static const char *const keys[][2] = {
         {"length_unit", "length-unit"}, {"angle_unit", "angle-unit"},
@@ -130,27 +135,26 @@ static tram_status json_read_directives(const cJSON *root, const char *data, siz
         for (size_t i = 0; i < sizeof keys / sizeof keys[0]; i++)
             if (strcmp(k, keys[i][0]) == 0) {
                 found = 1;
-                if (!cJSON_IsString(item))
-                    return tram__fail(err, TRAM_EINPUT, name, 0, 0, "\"%s\": expected a string", k);
+                if (!cJSON_IsString(item)) return JFAIL(j, k, 0, "\"%s\": expected a string", k);
                 tram_status st =
-                    tram__directive_apply(d, name, 0, 0, keys[i][1], item->valuestring, err);
+                    tram__directive_apply(d, j->name, 0, 0, keys[i][1], item->valuestring, j->err);
+                if (st == TRAM_EINPUT && j->err) /* the same message, at the value */
+                    return JFAIL(j, k, 0, "%s", j->err->message);
                 if (st != TRAM_OK) return st;
             }
         const char *near = found ? NULL : tram__directive_nearest(k);
         if (near) {
             char want[40];
-            size_t j = 0;
-            for (; near[j] && j < sizeof want - 1; j++) want[j] = near[j] == '-' ? '_' : near[j];
-            want[j] = '\0';
-            long kl, kc;
-            json_key_where(name, data, len, k, &kl, &kc);
-            return tram__fail(err, TRAM_EINPUT, name, kl, kc,
-                              "unknown key \"%s\": did you mean \"%s\"? (JSON keys are the "
-                              "directives with '_' for '-', docs/records.md)",
-                              k, want);
+            size_t q = 0;
+            for (; near[q] && q < sizeof want - 1; q++) want[q] = near[q] == '-' ? '_' : near[q];
+            want[q] = '\0';
+            return JFAIL(j, k, 1,
+                         "unknown key \"%s\": did you mean \"%s\"? (JSON keys are the "
+                         "directives with '_' for '-', docs/records.md)",
+                         k, want);
         }
         if (!found)
-            return tram__fail(err, TRAM_EINPUT, name, 0, 0,
+            return JFAIL(j, k, 1,
                               "unknown key \"%s\" (known: format, version, length_unit, angle_unit, "
                               "robot_euler, sensor_euler, robot_pose, sensor_pose, robot_length_unit, "
                               "sensor_length_unit, robot_angle_unit, sensor_angle_unit, tool_in_flange, setup, "
@@ -166,8 +170,7 @@ static const char *const blocks[2] = {"robot", "sensor"};
  * station must match it.  names has room for every column; *nj gets the
  * number of joint readings. */
 static tram_status json_schema_from_first(const cJSON *first, long line0, const char **names,
-                                          int *nj, rec_schema *schema, const char *name,
-                                          tram_error *err)
+                                          int *nj, rec_schema *schema, const jsrc *src)
 {
     char colnames[2 * TRAM_RAW_MAX + TRAM_JOINTS_MAX][24];
     int ncol = 0;
@@ -175,14 +178,14 @@ static tram_status json_schema_from_first(const cJSON *first, long line0, const 
         const cJSON *blk = cJSON_IsObject(first) ? cJSON_GetObjectItemCaseSensitive(first, blocks[b]) : NULL;
         if (!blk) continue;
         if (!cJSON_IsObject(blk))
-            return tram__fail(err, TRAM_EINPUT, name, line0, 0,
-                              "stations[0].%s: expected an object of pose numbers", blocks[b]);
+            return JFAIL(src, b ? "stations[0].sensor" : "stations[0].robot", 0,
+                         "stations[0].%s: expected an object of pose numbers", blocks[b]);
         const cJSON *v;
         cJSON_ArrayForEach(v, blk)
         {
             if (ncol >= 2 * TRAM_RAW_MAX)
-                return tram__fail(err, TRAM_EINPUT, name, line0, 0,
-                                  "stations[0].%s: too many keys", blocks[b]);
+                return JFAIL(src, b ? "stations[0].sensor" : "stations[0].robot", 0,
+                             "stations[0].%s: too many keys", blocks[b]);
             snprintf(colnames[ncol], sizeof colnames[ncol], "%s_%.8s", blocks[b], v->string);
             names[ncol] = colnames[ncol];
             ncol++;
@@ -193,9 +196,9 @@ static tram_status json_schema_from_first(const cJSON *first, long line0, const 
     if (j0) {
         *nj = cJSON_IsArray(j0) ? cJSON_GetArraySize(j0) : -1;
         if (*nj < 1 || *nj > TRAM_JOINTS_MAX)
-            return tram__fail(err, TRAM_EINPUT, name, line0, 0,
-                              "stations[0].joints: expected an array of 1 to %d joint readings",
-                              TRAM_JOINTS_MAX);
+            return JFAIL(src, "stations[0].joints", 0,
+                         "stations[0].joints: expected an array of 1 to %d joint readings",
+                         TRAM_JOINTS_MAX);
         for (int j = 0; j < *nj; j++) {
             snprintf(colnames[ncol], sizeof colnames[ncol], "joint_%d", j + 1);
             names[ncol] = colnames[ncol];
@@ -203,17 +206,17 @@ static tram_status json_schema_from_first(const cJSON *first, long line0, const 
         }
     }
     if (ncol == 0)
-        return tram__fail(err, TRAM_EINPUT, name, line0, 0,
-                          "stations[0]: expected \"robot\" (or \"joints\") and/or \"sensor\"");
+        return JFAIL(src, "stations[0]", 0,
+                     "stations[0]: expected \"robot\" (or \"joints\") and/or \"sensor\"");
     long hl[2 * TRAM_RAW_MAX + TRAM_JOINTS_MAX];
     for (int i = 0; i < ncol; i++) hl[i] = line0;
-    return tram__schema_build(name, names, hl, NULL, ncol, schema, err);
+    return tram__schema_build(src->name, names, hl, NULL, ncol, schema, src->err);
 }
 
 /* The id of station k ("station", a string or an integer, or its number),
  * stored in r; then the check that the station has only known keys. */
-static tram_status json_station_id(tram_records *r, const cJSON *so, size_t k, long line,
-                                   size_t *id_used, const char *name, tram_error *err)
+static tram_status json_station_id(tram_records *r, const cJSON *so, size_t k, const char *at,
+                                   size_t *id_used, const jsrc *src)
 {
     tram_station *s = &r->stations[k];
     const cJSON *idv = cJSON_GetObjectItemCaseSensitive(so, "station");
@@ -228,18 +231,20 @@ static tram_status json_station_id(tram_records *r, const cJSON *so, size_t k, l
     } else if (cJSON_IsNumber(idv) && idv->valuedouble == (double)idv->valueint) {
         idlen = (size_t)snprintf(num, sizeof num, "%d", idv->valueint);
     } else {
-        return tram__fail(err, TRAM_EINPUT, name, line, 0,
+        char p[48];
+        return JFAIL(src, sub_path(p, sizeof p, at, "station", NULL), 0,
                           "stations[%zu].station: expected a non-empty string (at most %d "
                           "characters) or an integer",
                           k, TRAM_STATION_ID_MAX - 1);
     }
     s->id = tram__records_put_id(r, id_used, id, idlen);
     const cJSON *m;
+    char p[160];
     cJSON_ArrayForEach(m, so)
     {
         if (strcmp(m->string, "station") && strcmp(m->string, "robot") &&
             strcmp(m->string, "sensor") && strcmp(m->string, "joints"))
-            return tram__fail(err, TRAM_EINPUT, name, line, 0,
+            return JFAIL(src, sub_path(p, sizeof p, at, m->string, NULL), 1,
                               "stations[%zu]: unknown key \"%s\" (expected station, robot, "
                               "joints, sensor)",
                               k, m->string);
@@ -248,21 +253,23 @@ static tram_status json_station_id(tram_records *r, const cJSON *so, size_t k, l
 }
 
 /* The nj joint readings of station k, as many as in stations[0]. */
-static tram_status json_station_joints(tram_records *r, const cJSON *so, size_t k, long line,
-                                       int nj, const char *name, tram_error *err)
+static tram_status json_station_joints(tram_records *r, const cJSON *so, size_t k, const char *at,
+                                       int nj, const jsrc *src)
 {
     const cJSON *jv = cJSON_GetObjectItemCaseSensitive(so, "joints");
+    char p[64];
     if (nj > 0 || jv) {
         if (!cJSON_IsArray(jv) || cJSON_GetArraySize(jv) != nj)
-            return tram__fail(err, TRAM_EINPUT, name, line, 0,
+            return JFAIL(src, sub_path(p, sizeof p, at, "joints", NULL), 0,
                               "stations[%zu].joints: expected %d joint readings as in "
                               "stations[0]",
                               k, nj);
         for (int j = 0; j < nj; j++) {
             const cJSON *x = cJSON_GetArrayItem(jv, j);
-            if (!cJSON_IsNumber(x))
-                return tram__fail(err, TRAM_EINPUT, name, line, 0,
-                                  "stations[%zu].joints[%d]: expected a finite number", k, j);
+            if (!cJSON_IsNumber(x)) {
+                snprintf(p, sizeof p, "%s.joints[%d]", at, j);
+                return JFAIL(src, p, 0, "stations[%zu].joints[%d]: expected a finite number", k, j);
+            }
             r->joints[k * r->n_joints + (size_t)j] = x->valuedouble;
         }
     }
@@ -270,41 +277,41 @@ static tram_status json_station_joints(tram_records *r, const cJSON *so, size_t 
 }
 
 /* The robot and sensor pose blocks of station k, with the keys of stations[0]. */
-static tram_status json_station_blocks(tram_records *r, const cJSON *so, size_t k, long line,
-                                       const rec_schema *schema, const char *name,
-                                       tram_error *err)
+static tram_status json_station_blocks(tram_records *r, const cJSON *so, size_t k, const char *at,
+                                       const rec_schema *schema, const jsrc *src)
 {
+    char p[160];
     for (int b = 0; b < 2; b++) {
         const cJSON *blk = cJSON_GetObjectItemCaseSensitive(so, blocks[b]);
         if (!schema->has_block[b]) {
             if (blk)
-                return tram__fail(err, TRAM_EINPUT, name, line, 0,
+                return JFAIL(src, sub_path(p, sizeof p, at, blocks[b], NULL), 1,
                                   "stations[%zu].%s: not in the first station; every station "
                                   "must have the same blocks",
                                   k, blocks[b]);
             continue;
         }
         if (!cJSON_IsObject(blk))
-            return tram__fail(err, TRAM_EINPUT, name, line, 0,
+            return JFAIL(src, sub_path(p, sizeof p, at, blocks[b], NULL), 0,
                               "stations[%zu].%s: missing; expected an object of pose numbers", k,
                               blocks[b]);
         int count = 0;
         const cJSON *v;
         cJSON_ArrayForEach(v, blk) count++;
         if (count != schema->nslots[b])
-            return tram__fail(err, TRAM_EINPUT, name, line, 0,
+            return JFAIL(src, sub_path(p, sizeof p, at, blocks[b], NULL), 0,
                               "stations[%zu].%s: %d keys, expected %d as in stations[0]", k,
                               blocks[b], count, schema->nslots[b]);
         for (int slot = 0; slot < schema->nslots[b]; slot++) {
             const char *key = tram__rep_slot_name(schema->rep[b], slot);
             v = cJSON_GetObjectItemCaseSensitive(blk, key);
             if (!v)
-                return tram__fail(err, TRAM_EINPUT, name, line, 0,
+                return JFAIL(src, sub_path(p, sizeof p, at, blocks[b], NULL), 0,
                                   "stations[%zu].%s.%s: missing (every station must use the "
                                   "rotation set of stations[0])",
                                   k, blocks[b], key);
             if (!cJSON_IsNumber(v))
-                return tram__fail(err, TRAM_EINPUT, name, line, 0,
+                return JFAIL(src, sub_path(p, sizeof p, at, blocks[b], key), 0,
                                   "stations[%zu].%s.%s: expected a finite number", k, blocks[b],
                                   key);
             tram__records_raw(r, k, b)[slot] = v->valuedouble;
@@ -316,17 +323,18 @@ static tram_status json_station_blocks(tram_records *r, const cJSON *so, size_t 
 /* One station object, the k-th of the array, starting on the given line. */
 static tram_status json_read_station(tram_records *r, const cJSON *so, size_t k, long line,
                                      int nj, const rec_schema *schema, size_t *id_used,
-                                     const char *name, tram_error *err)
+                                     const jsrc *src)
 {
     tram_station *s = &r->stations[k];
     s->line = line;
-    if (!cJSON_IsObject(so))
-        return tram__fail(err, TRAM_EINPUT, name, line, 0, "stations[%zu]: expected an object", k);
+    char at[32]; /* "stations[k]", for the messages */
+    snprintf(at, sizeof at, "stations[%zu]", k);
+    if (!cJSON_IsObject(so)) return JFAIL(src, at, 0, "stations[%zu]: expected an object", k);
     memset(&s->T_base_flange, 0, sizeof s->T_base_flange);
     memset(&s->T_sensor_target, 0, sizeof s->T_sensor_target);
-    tram_status st = json_station_id(r, so, k, line, id_used, name, err);
-    if (st == TRAM_OK) st = json_station_joints(r, so, k, line, nj, name, err);
-    if (st == TRAM_OK) st = json_station_blocks(r, so, k, line, schema, name, err);
+    tram_status st = json_station_id(r, so, k, at, id_used, src);
+    if (st == TRAM_OK) st = json_station_joints(r, so, k, at, nj, src);
+    if (st == TRAM_OK) st = json_station_blocks(r, so, k, at, schema, src);
     return st;
 }
 
@@ -360,25 +368,25 @@ static tram_status station_tree(station_source *src, size_t k, cJSON **so, int *
 
 /* The stations, read into r (reserved for n) one tree at a time; first is
  * station 0's tree (deleted here when owned). */
-static tram_status json_read_stations(tram_records *r, station_source *src, cJSON *first,
+static tram_status json_read_stations(tram_records *r, station_source *ss, cJSON *first,
                                       int first_owned, size_t n, const long *lines, int nj,
-                                      const rec_schema *schema, const char *name, tram_error *err)
+                                      const rec_schema *schema, const jsrc *src)
 {
     size_t id_used = 0;
     tram_status st = TRAM_OK;
     cJSON *so = first;
     int owned = first_owned;
     for (size_t k = 0; k < n; k++) {
-        if (k > 0) st = station_tree(src, k, &so, &owned, err);
+        if (k > 0) st = station_tree(ss, k, &so, &owned, src->err);
         if (st != TRAM_OK) break;
-        st = json_read_station(r, so, k, lines[k], nj, schema, &id_used, name, err);
+        st = json_read_station(r, so, k, lines[k], nj, schema, &id_used, src);
         if (owned) cJSON_Delete(so);
         owned = 0;
         if (st != TRAM_OK) break;
         r->count++;
     }
     if (owned) cJSON_Delete(so);
-    if (st == TRAM_OK) st = tram__records_fit_ids(r, id_used, name, err);
+    if (st == TRAM_OK) st = tram__records_fit_ids(r, id_used, src->name, src->err);
     return st;
 }
 
@@ -420,14 +428,16 @@ tram_status tram__records_read_json(const char *name, const char *data, size_t l
     }
     snprintf(r->source, sizeof r->source, "%s", name);
 
-    st = json_check_header(root, name, err);
-    if (st == TRAM_OK) st = json_read_directives(root, data, len, &d, name, err);
+    jsrc src = {name, data, len, err};
+    st = json_check_header(root, &src);
+    if (st == TRAM_OK) st = json_read_directives(root, &d, &src);
     if (st != TRAM_OK) goto done;
     const cJSON *sts = cJSON_GetObjectItemCaseSensitive(root, "stations");
     size_t n = !cJSON_IsArray(sts) ? 0 : sp.found ? sp.n : (size_t)cJSON_GetArraySize(sts);
     if (n == 0) {
-        st = tram__fail(err, TRAM_EINPUT, name, 0, 0,
-                        "\"stations\": expected a non-empty array of station objects");
+        /* at the value given, or at the top level when there is none */
+        st = JFAIL(&src, "stations", 0,
+                   "\"stations\": expected a non-empty array of station objects");
         goto done;
     }
     lines = tram__calloc(n, sizeof *lines);
@@ -440,11 +450,11 @@ tram_status tram__records_read_json(const char *name, const char *data, size_t l
         elem_lines(&sp, lines);
     else
         station_lines(data, len, lines, n);
-    station_source src = {name, data, &sp, sts->child};
-    st = station_tree(&src, 0, &first, &first_owned, err);
+    station_source ss = {name, data, &sp, sts->child};
+    st = station_tree(&ss, 0, &first, &first_owned, err);
     int nj;
     if (st == TRAM_OK)
-        st = json_schema_from_first(first, lines[0], names, &nj, &schema, name, err);
+        st = json_schema_from_first(first, lines[0], names, &nj, &schema, &src);
     if (st != TRAM_OK) goto done;
     {
         /* the ids are strings of the text or generated numbers */
@@ -454,7 +464,7 @@ tram_status tram__records_read_json(const char *name, const char *data, size_t l
         st = tram__records_reserve(r, n, &l, len + 21 * n, name, lines[0], err);
         if (st != TRAM_OK) goto done;
     }
-    st = json_read_stations(r, &src, first, first_owned, n, lines, nj, &schema, name, err);
+    st = json_read_stations(r, &ss, first, first_owned, n, lines, nj, &schema, &src);
     first = NULL;
     if (st == TRAM_OK) st = tram__check_unique_ids(r, err);
     if (st != TRAM_OK) goto done;

@@ -685,24 +685,34 @@ tram_status tram__records_finish(tram_records *r, const rec_schema *s, const rec
             missing_add(missing, &ml, &nmiss, one);
         }
     }
+    if (opt && opt->need_setup && d->setup == TRAM_SETUP_UNSET)
+        missing_add(missing, &ml, &nmiss,
+                    "no setup: add '# setup: eye-in-hand' (or eye-to-hand) or pass --setup");
+    /* A tool declaration that does not fit the robot poses: alone at its
+     * directive's line, else in the list with the missing ones. */
+    const char *tool_msg = NULL;
+    long tool_at = 0;
+    if (d->has_tool && !d->robot_tool) {
+        tool_msg = "tool-in-flange is declared, but the robot poses are not declared as "
+                   "tool poses: add '# robot-pose: tool-in-base' if the controller logged "
+                   "the TCP, or remove the tool";
+        tool_at = d->tool_line;
+    } else if (d->robot_tool && !s->has_block[TRAM_BLOCK_ROBOT]) {
+        tool_msg = "robot-pose: tool-in-base applies to robot_ pose columns; joint "
+                   "readings give flange poses through the chain";
+        tool_at = d->pose_line[0];
+    }
+    if (tool_msg && nmiss) missing_add(missing, &ml, &nmiss, tool_msg);
     if (nmiss)
         return tram__fail(err, TRAM_EINPUT, file, header_line, 0, "%s%s", missing,
                           nmiss > 1 ? " (every missing declaration is listed)" : "");
+    if (tool_msg) return tram__fail(err, TRAM_EINPUT, file, tool_at, 0, "%s", tool_msg);
     r->length_unit = lu;
     /* The record set's angle unit: the common one, else the first block's. */
     r->angle_unit = au != TRAM_ANGLE_UNSET ? au : (bau[0] != TRAM_ANGLE_UNSET ? bau[0] : bau[1]);
     r->setup = d->setup;
     r->n_joints = (size_t)s->n_joints;
     r->reorthonormalize = opt ? opt->reorthonormalize : 0;
-    if (d->has_tool && !d->robot_tool)
-        return tram__fail(err, TRAM_EINPUT, file, d->tool_line, 0,
-                          "tool-in-flange is declared, but the robot poses are not declared as "
-                          "tool poses: add '# robot-pose: tool-in-base' if the controller logged "
-                          "the TCP, or remove the tool");
-    if (d->robot_tool && !s->has_block[TRAM_BLOCK_ROBOT])
-        return tram__fail(err, TRAM_EINPUT, file, d->pose_line[0], 0,
-                          "robot-pose: tool-in-base applies to robot_ pose columns; joint "
-                          "readings give flange poses through the chain");
     r->robot_tool = d->robot_tool;
     r->robot_pose_line = d->pose_line[0];
     r->has_tool = d->has_tool;

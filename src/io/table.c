@@ -171,8 +171,12 @@ tram_status tram__table_parse(const char *name, const char *data, size_t len, tr
         data += 3;
         len -= 3;
     }
-    if (memchr(data, '\0', len))
-        return tram__fail(err, TRAM_EINPUT, name, 0, 0, "NUL byte in the file: expected text");
+    const char *nul = memchr(data, '\0', len);
+    if (nul) {
+        long line, col;
+        tram__offset_pos(data, (size_t)(nul - data), &line, &col);
+        return tram__fail(err, TRAM_EINPUT, name, line, col, "NUL byte in the file: expected text");
+    }
     tram__table *t = tram__calloc(1, sizeof *t);
     if (!t) return tram__fail(err, TRAM_ENOMEM, name, 0, 0, "out of memory");
     snprintf(t->source, sizeof t->source, "%s", name);

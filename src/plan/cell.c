@@ -32,34 +32,15 @@ typedef struct reader {
 #define fail_at(r, path, key, ...) \
     tram__json_pos_fail((r)->pos, (r)->name, (r)->err, path, key, __VA_ARGS__)
 
-static void join(char *out, size_t size, const char *path, const char *key)
-{
-    snprintf(out, size, "%s%s%s", path, *path ? "." : "", key);
-}
-
-static tram_status known_keys(reader *r, const cJSON *obj, const char *path,
-                              const char *const *known, const char *hint)
-{
-    const cJSON *it;
-    cJSON_ArrayForEach(it, obj)
-    {
-        int ok = 0;
-        for (int k = 0; known[k]; k++) ok |= strcmp(it->string, known[k]) == 0;
-        if (!ok) {
-            char p[160];
-            join(p, sizeof p, path, it->string);
-            return fail_at(r, p, 1, "unknown key \"%.60s\"%s%s: expected %s", it->string,
-                           *path ? " in " : "", path, hint);
-        }
-    }
-    return TRAM_OK;
-}
+/* Every member of obj must be one of known (NULL-terminated): json_pos.c. */
+#define known_keys(r, obj, path, known, hint) \
+    tram__json_known_keys((r)->pos, (r)->name, (r)->err, obj, path, known, hint)
 
 static tram_status object(reader *r, const cJSON *parent, const char *path, const char *key,
                           int required, const cJSON **out)
 {
     char p[160];
-    join(p, sizeof p, path, key);
+    tram__json_path_join(p, sizeof p, path, key);
     *out = cJSON_GetObjectItemCaseSensitive(parent, key);
     if (!*out) {
         if (!required) return TRAM_OK;
@@ -74,7 +55,7 @@ static tram_status number(reader *r, const cJSON *parent, const char *path, cons
                           double *v)
 {
     char p[160];
-    join(p, sizeof p, path, key);
+    tram__json_path_join(p, sizeof p, path, key);
     const cJSON *it = cJSON_GetObjectItemCaseSensitive(parent, key);
     if (!it) return fail_at(r, path, 0, "missing key \"%s\"%s%s: expected a number", key,
                             *path ? " in " : "", path);
@@ -92,7 +73,7 @@ static tram_status number_in(reader *r, const cJSON *parent, const char *path, c
     if (st != TRAM_OK) return st;
     if ((strict ? !(*v > lo) : !(*v >= lo)) || !(*v <= hi)) {
         char p[160];
-        join(p, sizeof p, path, key);
+        tram__json_path_join(p, sizeof p, path, key);
         return fail_at(r, p, 0, "\"%s\" %.10g: expected %s", p, *v, what);
     }
     return TRAM_OK;
@@ -103,7 +84,7 @@ static tram_status numbers(reader *r, const cJSON *parent, const char *path, con
                            int n, double *v)
 {
     char p[160];
-    join(p, sizeof p, path, key);
+    tram__json_path_join(p, sizeof p, path, key);
     const cJSON *a = cJSON_GetObjectItemCaseSensitive(parent, key);
     if (!a) return fail_at(r, path, 0, "missing key \"%s\"%s%s: expected an array of %d numbers",
                            key, *path ? " in " : "", path, n);
@@ -129,7 +110,7 @@ static tram_status range(reader *r, const cJSON *parent, const char *path, const
     if (st != TRAM_OK) return st;
     if (!(v[0] < v[1]) || (positive && !(v[0] > 0))) {
         char p[160];
-        join(p, sizeof p, path, key);
+        tram__json_path_join(p, sizeof p, path, key);
         return fail_at(r, p, 0, "\"%s\" [%g, %g]: expected [low, high] with low < high%s", p, v[0],
                        v[1], positive ? " and low > 0" : "");
     }
@@ -140,7 +121,7 @@ static tram_status text(reader *r, const cJSON *parent, const char *path, const 
                         const char **out)
 {
     char p[160];
-    join(p, sizeof p, path, key);
+    tram__json_path_join(p, sizeof p, path, key);
     const cJSON *it = cJSON_GetObjectItemCaseSensitive(parent, key);
     if (!it) return fail_at(r, path, 0, "missing key \"%s\"%s%s: expected text", key,
                             *path ? " in " : "", path);
@@ -160,7 +141,7 @@ static tram_status quaternion(reader *r, const cJSON *obj, const char *path, tra
     double n = sqrt(q[0] * q[0] + q[1] * q[1] + q[2] * q[2] + q[3] * q[3]);
     if (fabs(n - 1) > QUAT_TOL) {
         char p[160];
-        join(p, sizeof p, path, "qw");
+        tram__json_path_join(p, sizeof p, path, "qw");
         return fail_at(r, p, 0, "%s: quaternion norm %.6g: expected 1 within %g (qw, qx, qy, qz; "
                        "scalar first)", path, n, QUAT_TOL);
     }
@@ -174,7 +155,7 @@ static tram_status pose(reader *r, const cJSON *guess, const char *key, tram_se3
 {
     const cJSON *o;
     char p[160];
-    join(p, sizeof p, "guess", key);
+    tram__json_path_join(p, sizeof p, "guess", key);
     static const char *const known[] = {"x", "y", "z", "qw", "qx", "qy", "qz", NULL};
     tram_status st = object(r, guess, "guess", key, 1, &o);
     if (st == TRAM_OK) st = known_keys(r, o, p, known, "x, y, z, qw, qx, qy, qz");

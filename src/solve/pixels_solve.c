@@ -16,18 +16,22 @@
  *     dp/dd_Z = R_X^T R_P^T,   dp/dw_Z = -R_X^T R_P^T R_Z [m]x.
  * Robustness: Cauchy's loss on each corner's residual in robust sigmas
  * (c = 2.3849, Holland & Welsch, Commun. Statist. A6(9), 1977) by
- * iteratively reweighted least squares; then a corner is flagged when its
- * distance exceeds sqrt(chi2_2(0.9999)) = 4.292 robust sigmas, and a
- * station when its corners' sum of squares exceeds the 0.9999 quantile of
- * chi-square with 2k degrees of freedom (Wilson & Hilferty, PNAS 17(12),
- * 1931, for the quantile) - the per-residual rule of solve.c's stations
- * carried to pixels.  The robust sigma is the median distance over
- * sqrt(2 ln 2) = 1.1774, the median of a 2D normal's distance.  The final
- * plain least squares uses the corners not flagged; Cov = s^2 (J^T J)^-1
- * with s^2 = chi^2 / (2N - p), plus a fixed camera's own covariance carried
- * through to first order; on request a station bootstrap (Efron 1979).
+ * iteratively reweighted least squares; the robust sigma is the median
+ * distance over sqrt(2 ln 2) = 1.1774, the median of a 2D normal's
+ * distance.  A corner is flagged beyond sqrt(-2 ln(0.01 / n)) sigmas of
+ * its station (a 1% family-wise rate by Bonferroni's bound; the larger of
+ * the station's and the pooled robust sigma).  A station is left out when
+ * it fails both sides of the station test: the pose path's (its pose
+ * against the other stations' scatter, leave-one-out F test at 1%
+ * family-wise, solve_refine.c) and the nested-model F test of its pixels
+ * against its own pose fit (each station in its own corner noise).  The
+ * final plain least squares uses the corners not flagged; Cov = s^2
+ * (J^T J)^-1 with s^2 = chi^2 / (2N - p), plus a fixed camera's own
+ * covariance carried through to first order (the 95% half-widths from the
+ * widened sigmas); on request a station bootstrap (Efron 1979).
  */
 #include "solve/pixels_solve_internal.h"
+#include "solve/pixels_outliers_internal.h"
 #include "camera/camera_jac_internal.h"
 #include "camera/pose_internal.h"
 #include "math/linalg_internal.h"
@@ -42,9 +46,6 @@
 #include <string.h>
 
 #define CAUCHY_C 2.3849
-#define CORNER_K 4.2919     /* sqrt(chi2_2(0.9999)) = sqrt(-2 ln 1e-4) */
-#define MEDIAN_2D 1.17741   /* sqrt(2 ln 2) */
-#define Z_9999 3.7190       /* standard normal 0.9999 quantile */
 
 void tram_pixel_solve_options_init(tram_pixel_solve_options *opt)
 {
@@ -188,22 +189,6 @@ static void distances(const pctx *c, double *res)
     }
 }
 
-static double robust_sigma_px(const double *res, const int *excl, size_t n, double *scratch)
-{
-    size_t k = 0;
-    for (size_t i = 0; i < n; i++)
-        if (!excl[i] && isfinite(res[i])) scratch[k++] = res[i];
-    double s = tram__median(scratch, k) / MEDIAN_2D;
-    return s > 1e-9 ? s : 1e-9;
-}
-
-/* Chi-square quantile by Wilson & Hilferty (1931). */
-static double chi2_quantile(double nu, double z)
-{
-    double a = 2.0 / (9.0 * nu), b = 1.0 - a + z * sqrt(a);
-    return nu * b * b * b;
-}
-
 typedef struct work {
     double *w, *res, *scratch;
     int *excl;          /* per observation: flagged corner or station */
@@ -222,51 +207,49 @@ static int lm_on(pctx *c, int iters, int *it_out)
     return st == TRAM_OK ? 0 : st == TRAM_ENOMEM ? -2 : -1;
 }
 
-/* The robust rounds, the flags and the final plain least squares. */
-static int refine_pixels(pctx *c, work *wk, size_t nst, int robust, int *iters)
+/* Cauchy-weighted rounds (IRLS) over the corners not flagged. */
+static int robust_rounds(pctx *c, work *wk, int *iters)
+{
+    size_t n = c->obs->n;
+    int rc = 0;
+    for (int outer = 0; outer < 6 && rc == 0; outer++) {
+        distances(c, wk->res);
+        double sig = tram__pixel_robust_sigma(wk->res, wk->excl, n, wk->scratch);
+        for (size_t o = 0; o < n; o++) {
+            double u = wk->res[o] / sig;
+            wk->w[o] = wk->excl[o] || !isfinite(u) ? 0.0 : 1.0 / (1.0 + u * u / (CAUCHY_C * CAUCHY_C));
+        }
+        tram_se3 X0 = c->X;
+        rc = lm_on(c, 30, iters);
+        double ang, len;
+        tram_se3_distance(&X0, &c->X, &ang, &len);
+        if (ang < 1e-10 && len < 1e-10 * (1.0 + fabs(c->X.m[2][3]))) break;
+    }
+    return rc;
+}
+
+/* The robust rounds, the flags (pixels_outliers.c) and the final plain
+ * least squares.  A station is left out when it fails both sides of the
+ * station test: the pose path's (wk->st_excl on entry; solve_refine.c: its
+ * leave-one-out residual against the scatter of the other stations, F test
+ * at a 1% family-wise rate) and the pixel side (against its own corner
+ * noise), tested after robust rounds over every station.  The first alone flags clean views whose pose errors are larger
+ * than the others' (steeper or farther views), the second alone every view
+ * when the robot's own errors exceed the pixel noise. */
+static int refine_pixels(pctx *c, work *wk, size_t nst, int robust, const double *pose_rms, int *iters)
 {
     size_t n = c->obs->n;
     for (size_t o = 0; o < n; o++) wk->excl[o] = c->ost[o] == (size_t)-1;
-    memset(wk->st_excl, 0, nst * sizeof *wk->st_excl);
-    int rc = 0;
     if (robust) {
-        for (int outer = 0; outer < 6 && rc == 0; outer++) {
+        int rc = robust_rounds(c, wk, iters);
+        if (rc == 0) {
             distances(c, wk->res);
-            double sig = robust_sigma_px(wk->res, wk->excl, n, wk->scratch);
-            for (size_t o = 0; o < n; o++) {
-                double u = wk->res[o] / sig;
-                wk->w[o] = wk->excl[o] || !isfinite(u) ? 0.0 : 1.0 / (1.0 + u * u / (CAUCHY_C * CAUCHY_C));
-            }
-            tram_se3 X0 = c->X;
-            rc = lm_on(c, 30, iters);
-            double ang, len;
-            tram_se3_distance(&X0, &c->X, &ang, &len);
-            if (ang < 1e-10 && len < 1e-10 * (1.0 + fabs(c->X.m[2][3]))) break;
+            if (tram__pixel_station_test(wk->res, c->ost, n, nst, pose_rms, wk->st_excl, wk->excl) > 0)
+                rc = robust_rounds(c, wk, iters);
         }
         if (rc) return rc;
         distances(c, wk->res);
-        double sig = robust_sigma_px(wk->res, wk->excl, n, wk->scratch);
-        for (size_t o = 0; o < n; o++)
-            if (!wk->excl[o] && !(wk->res[o] <= CORNER_K * sig)) wk->excl[o] = 2;
-        /* stations: chi-square of their unflagged corners */
-        double *ss = wk->scratch; /* 2 per station */
-        memset(ss, 0, 2 * nst * sizeof *ss);
-        for (size_t o = 0; o < n; o++)
-            if (!wk->excl[o]) {
-                ss[2 * c->ost[o]] += tram__sq(wk->res[o] / sig);
-                ss[2 * c->ost[o] + 1] += 1;
-            }
-        size_t nflag = 0;
-        for (size_t i = 0; i < nst; i++) {
-            double nu = 2.0 * ss[2 * i + 1];
-            wk->st_excl[i] = nu > 0 && ss[2 * i] > chi2_quantile(nu, Z_9999);
-            nflag += (size_t)wk->st_excl[i];
-        }
-        if (nst - nflag < 3) {
-            memset(wk->st_excl, 0, nst * sizeof *wk->st_excl);
-        }
-        for (size_t o = 0; o < n; o++)
-            if (!wk->excl[o] && wk->st_excl[c->ost[o]]) wk->excl[o] = 3;
+        tram__pixel_flag_corners(wk->res, c->ost, n, nst, wk->excl, wk->scratch);
     }
     for (size_t o = 0; o < n; o++) wk->w[o] = wk->excl[o] ? 0.0 : 1.0;
     return lm_on(c, 100, iters);
@@ -378,6 +361,7 @@ static tram_status pixel_covariance(pctx *c, work *wk, tram_solution *sol, tram_
     if (c->ncam == 0 && cam_cov) {
         st = camera_share(c, cam_cov, Hi, sol, pr);
         if (st == TRAM_ENOMEM) return st;
+        tram__unc_intervals(&sol->unc, dof); /* the 95% half-widths of the widened sigmas */
     }
     return TRAM_OK;
 }
@@ -674,8 +658,9 @@ static tram_status refine_on_pixels(const tram_pixel_obs *obs, const double *xyz
         c.ncam = tram__camera_free_params(cam, c.cam_idx);
         if (popt->free_skew) c.cam_idx[c.ncam++] = TRAM_CAM_SKEW;
     }
+    for (size_t i = 0; i < nk; i++) wk->st_excl[i] = opt->robust && sol->stations[i].outlier;
     int rc = 0;
-    if (opt->refine) rc = refine_pixels(&c, wk, nk, opt->robust, &pr->iterations);
+    if (opt->refine) rc = refine_pixels(&c, wk, nk, opt->robust, pr->pose_rms_px, &pr->iterations);
     else
         for (size_t o = 0; o < n; o++) wk->excl[o] = 0;
     if (rc == -2) return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");

@@ -33,6 +33,7 @@
 #include "solve/plausibility_internal.h"
 #include "solve/pairing_internal.h"
 #include "solve/scale_internal.h"
+#include "io/records_schema_internal.h"
 
 #include <math.h>
 #include <stdio.h>
@@ -502,6 +503,26 @@ out:
     return st;
 }
 
+/* A record file with sensor pose columns beside the observed points: the
+ * solve uses the points only, and says so (diagnostic
+ * sensor-columns-ignored, naming the columns).  Nonzero when out of memory. */
+static int note_ignored_sensor(const tram_records *r, const tram_point_obs *obs,
+                               tram_solution *sol)
+{
+    if (!r->has_block[TRAM_BLOCK_SENSOR] || r->sensor_from_points) return 0;
+    char cols[200] = "";
+    size_t len = 0;
+    tram_rep_kind k = r->conv[TRAM_BLOCK_SENSOR].rep;
+    for (int i = 0; i < tram__rep_slots(k) && len < sizeof cols; i++)
+        len += (size_t)snprintf(cols + len, sizeof cols - len, "%ssensor_%s", i ? ", " : "",
+                                tram__rep_slot_name(k, i));
+    return tram__diag_add(sol, "sensor-columns-ignored", TRAM_SEVERITY_INFO,
+                          "the record file %s also has sensor pose columns (%s): they are "
+                          "ignored; this solve uses the observed points of %s only (solve "
+                          "without --points to use the sensor poses)",
+                          r->source, cols, obs->source) != TRAM_OK;
+}
+
 tram_status tram_solve_points(const tram_records *r, tram_setup setup, const tram_point_obs *obs,
                               const tram_point_model *model, const tram_solve_options *opt_in,
                               tram_solution **out, tram_error *err)
@@ -513,12 +534,15 @@ tram_status tram_solve_points(const tram_records *r, tram_setup setup, const tra
     tram_solve_options_init(&defaults);
     const tram_solve_options *opt = opt_in ? opt_in : &defaults;
     if (setup == TRAM_SETUP_UNSET)
-        return tram__fail(err, TRAM_EINPUT, r->source, 0, 0,
+        return tram__fail(err, TRAM_EINPUT, r->source, r->count ? r->stations[0].line : 0, 0,
                           "no setup: add '# setup: eye-in-hand' (or eye-to-hand) or pass --setup");
     if (!r->has_block[TRAM_BLOCK_ROBOT])
-        return tram__fail(err, TRAM_EINPUT, r->source, 0, 0,
+        return tram__fail(err, TRAM_EINPUT, r->source, r->count ? r->stations[0].line : 0, 0,
                           r->n_joints ? "the record file gives joint readings: pass --chain FILE"
                                       : "solving from points needs the robot poses (robot_ columns)");
-    if (model) return solve_with_model(r, setup, obs, model, opt, out, err);
-    return solve_free(r, setup, obs, opt, out, err);
+    tram_status st = model ? solve_with_model(r, setup, obs, model, opt, out, err)
+                           : solve_free(r, setup, obs, opt, out, err);
+    if ((st == TRAM_OK || st == TRAM_EUNDETERMINED) && *out && note_ignored_sensor(r, obs, *out))
+        return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
+    return st;
 }

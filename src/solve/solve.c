@@ -141,14 +141,14 @@ static tram_status pick_start(const tram_se3 *P, const tram_se3 *S, size_t n,
 static tram_status check_inputs(const tram_records *r, tram_setup setup, tram_error *err)
 {
     if (setup == TRAM_SETUP_UNSET)
-        return tram__fail(err, TRAM_EINPUT, r->source, 0, 0,
+        return tram__fail(err, TRAM_EINPUT, r->source, r->count ? r->stations[0].line : 0, 0,
                           "no setup: add '# setup: eye-in-hand' (or eye-to-hand) or pass --setup");
     if (!r->has_block[TRAM_BLOCK_ROBOT] && r->n_joints)
-        return tram__fail(err, TRAM_EINPUT, r->source, 0, 0,
+        return tram__fail(err, TRAM_EINPUT, r->source, r->count ? r->stations[0].line : 0, 0,
                           "the record file gives joint readings (joint_1 ...): pass --chain FILE "
                           "to compute the flange poses");
     if (!r->has_block[TRAM_BLOCK_ROBOT] || !r->has_block[TRAM_BLOCK_SENSOR])
-        return tram__fail(err, TRAM_EINPUT, r->source, 0, 0,
+        return tram__fail(err, TRAM_EINPUT, r->source, r->count ? r->stations[0].line : 0, 0,
                           "solving needs both a robot_ and a sensor_ pose block");
     return TRAM_OK;
 }

@@ -41,6 +41,12 @@ print("  demo.sh: camera fx %.3f fy %.3f cx %.3f cy %.3f k1 %.5f k2 %.5f (truth 
       "X from pixels off the truth by %.4f mm, %.5f deg" % (got["fx"], got["fy"], got["cx"], got["cy"], got["k1"],
       got["k2"], truth["fx"], truth["fy"], truth["cx"], truth["cy"], truth["k1"], truth["k2"], dt, ang))
 assert dt < 0.5 and ang < 0.05, (dt, ang)
+# the renders are clean: no station may be flagged (their corners' noise
+# differs from view to view, which the station test must not take for an
+# outlier); a few single corners may be (detections 4-7 sigmas off)
+so, co = find(cal, "station_outliers"), find(cal, "corner_outliers")
+print("  demo.sh: clean renders: %d station(s) and %d corner(s) flagged" % (so, co))
+assert so == 0 and co <= 10, (so, co)
 PY
         grep -q '^=== 6\. ' "$dm.log" && grep -q '^=== 7\. ' "$dm.log" && [ -s "$dm/img/intrinsics/distortion.png" ] \
             && [ -s "$dm/img/pixels/residuals.png" ] && ok || bad "demo: steps 6 and 7 or their pictures missing"

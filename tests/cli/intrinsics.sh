@@ -70,6 +70,19 @@ assert c["image_size"] == {"width": 640, "height": 480}
 assert c["distortion"]["model"] == "radial2" and set(c["distortion"]) == {"model", "k1", "k2"}
 assert c["calibration"]["fixed"] == [] and set(c["calibration"]["sigma"]) == {"fx", "fy", "cx", "cy", "skew", "k1", "k2"}
 PY
+    # the --json report writes its numbers as every JSON output of tram
+    # (17 significant digits, %.17g: they read back to the same double)
+    /usr/bin/python3 - "$tmp/zhang/r.json" "$tmp/zhang/camera.json" <<'PY' && ok || bad "intrinsics --json number format"
+import json, sys
+nums = []
+keep = lambda t: nums.append(t) or float(t)
+json.load(open(sys.argv[1]), parse_float=keep, parse_int=keep)  # the numbers as written
+assert len(nums) > 100, len(nums)
+bad = [t for t in nums if t != "%.17g" % float(t)]
+assert not bad, bad[:5]
+r, c = json.load(open(sys.argv[1])), json.load(open(sys.argv[2]))
+assert r["rms_px"] == c["calibration"]["rms_px"] and r["camera"]["intrinsics"] == c["intrinsics"]
+PY
     # text report, pictures, and no replacement without --force
     "$TRAM" intrinsics --model "$tmp/zhang/model.csv" --plot "$tmp/zhang/pics" "$tmp/zhang/obs.csv" >"$tmp/out" 2>"$tmp/err"
     [ $? -eq 0 ] && grep -q "pixel convention: top-left-pixel-centre" "$tmp/out" && grep -q "NOT verified on the cell" "$tmp/out" &&

@@ -23,7 +23,7 @@ import numpy as np
 from scipy.optimize import least_squares
 from scipy.spatial.transform import Rotation
 
-SEEDS = range(57001, 57021)
+SEEDS = range(57001, 57051)
 CAM = dict(fx=1210.5, fy=1204.25, cx=643.2, cy=478.9, skew=0.0,
            k1=-0.21, k2=0.08, k3=0.0, p1=8e-4, p2=-5e-4)
 COLS, ROWS, SQ = 9, 6, 25.0
@@ -111,6 +111,22 @@ def reference(P, uv):
     return unpack(sol.x)[0]
 
 
+def pose_path(tram, d):
+    """tram pose (each station's target pose from its pixels) then tram solve."""
+    poses = os.path.join(d, "poses.csv")
+    run = lambda args: subprocess.run([tram] + args, capture_output=True, text=True)
+    out = run(["pose", "--camera", os.path.join(d, "camera.json"), "--board", os.path.join(d, "board.json"),
+               "--robot", os.path.join(d, "robot.csv"), os.path.join(d, "pixels.csv"), "-o", poses])
+    if out.returncode != 0:
+        print(out.stderr)
+        sys.exit(1)
+    out = run(["solve", "--json", "--no-convention-check", poses])
+    if out.returncode not in (0, 3) or not out.stdout:
+        print(out.stderr)
+        sys.exit(1)
+    return np.array(json.loads(out.stdout)["transforms"]["T_flange_sensor"]["matrix"])
+
+
 def x_err(X):
     dt = np.linalg.norm(X[:3, 3] - X_TRUE[:3, 3])
     da = np.degrees(Rotation.from_matrix(X_TRUE[:3, :3].T @ X[:3, :3]).magnitude())
@@ -120,6 +136,7 @@ def x_err(X):
 def main():
     tram = sys.argv[1]
     et, er, rt, rr, agree_t, agree_r = [], [], [], [], 0.0, 0.0
+    pt, pr, dev_ml, dev_gap, rot_ml, rot_gap = [], [], [], [], [], []
     print("check_pixels_scipy: seeds %d .. %d" % (SEEDS[0], SEEDS[-1]))
     for seed in SEEDS:
         rng = np.random.default_rng(seed)
@@ -134,7 +151,14 @@ def main():
                 print(out.stderr)
                 sys.exit(1)
             X = np.array(json.loads(out.stdout)["transforms"]["T_flange_sensor"]["matrix"])
+            Xp = pose_path(tram, d)
         Xr = reference(P, uv)
+        c = x_err(Xp)
+        pt.append(c[0]); pr.append(c[1])
+        dev_ml.append(Xr[:3, 3] - X_TRUE[:3, 3])
+        dev_gap.append(Xp[:3, 3] - Xr[:3, 3])
+        rot_ml.append(Rotation.from_matrix(X_TRUE[:3, :3].T @ Xr[:3, :3]).as_rotvec())
+        rot_gap.append(Rotation.from_matrix(Xr[:3, :3].T @ Xp[:3, :3]).as_rotvec())
         a, b = x_err(X), x_err(Xr)
         et.append(a[0]); er.append(a[1]); rt.append(b[0]); rr.append(b[1])
         agree_t = max(agree_t, np.linalg.norm(X[:3, 3] - Xr[:3, 3]))
@@ -143,7 +167,36 @@ def main():
     print("check_pixels_scipy: X RMSE over %d seeds: tram %.5f mm / %.6f deg, SciPy ML reference "
           "%.5f mm / %.6f deg; largest difference %.2e mm / %.2e deg"
           % (len(SEEDS), rmse(et), rmse(er), rmse(rt), rmse(rr), agree_t, agree_r))
-    ok = rmse(et) <= 1.1 * rmse(rt) and rmse(er) <= 1.1 * rmse(rr) and agree_t < 1e-4 and agree_r < 1e-5
+    # The issue's per-seed figure: how often the pixels' error is at most the
+    # pose path's.  The ML reference bounds what the pixel solve can reach
+    # here (tram agrees with it per seed, to the tolerances above): when the
+    # pose path is near-efficient its error is the ML error plus a nearly
+    # independent part (Hausman 1978: an efficient estimator is uncorrelated
+    # with its difference from any consistent one), and the ML's error is
+    # then the larger on a share of seeds fixed by their sizes alone.  The
+    # same count with each ML error paired with the other seeds' differences
+    # shows what independence gives.
+    wins = lambda a, b: sum(x <= y for x, y in zip(a, b))
+    n = len(SEEDS)
+
+    def independent(dev, gp):
+        ml, gap = np.array(dev), np.array(gp)
+        corr = float(np.sum(ml * gap) / np.sqrt(np.sum(ml * ml) * np.sum(gap * gap)))
+        mixed = np.mean([np.linalg.norm(ml[i]) <= np.linalg.norm(ml[i] + gap[j])
+                         for i in range(n) for j in range(n) if i != j])
+        return corr, mixed
+    corr, mixed = independent(dev_ml, dev_gap)
+    corr_r, mixed_r = independent(rot_ml, rot_gap)
+    print("check_pixels_scipy: against the pose path (tram pose, then tram solve) over %d seeds: the "
+          "error of X is at most the pose path's on %d (tram) and %d (SciPy ML) seeds in translation, "
+          "%d and %d in rotation; pose path RMSE %.5f mm / %.6f deg (ratio ML / pose %.2f, %.2f)"
+          % (n, wins(et, pt), wins(rt, pt), wins(er, pr), wins(rr, pr), rmse(pt), rmse(pr),
+             rmse(rt) / rmse(pt), rmse(rr) / rmse(pr)))
+    print("check_pixels_scipy: error of the ML against (pose path - ML): correlation %.3f in translation, "
+          "%.3f in rotation; with independent pairs the ML would win on %.1f%% (translation) and %.1f%% "
+          "(rotation) of seeds" % (corr, corr_r, 100 * mixed, 100 * mixed_r))
+    ok = wins(et, pt) == wins(rt, pt) and wins(er, pr) == wins(rr, pr)
+    ok = ok and rmse(et) <= 1.1 * rmse(rt) and rmse(er) <= 1.1 * rmse(rr) and agree_t < 1e-4 and agree_r < 1e-5
     print("check_pixels_scipy: %s" % ("ok" if ok else "FAILED"))
     sys.exit(0 if ok else 1)
 
