@@ -84,6 +84,31 @@ TRAM_API tram_status tram_calibration_read_buffer(const char *name, const char *
 /* NULL is a no-op. */
 TRAM_API void tram_calibration_destroy(tram_calibration *c);
 
+/* The Euler angles of a calibration's rotation in a named convention, with
+ * their 1-sigma and 95% half-widths (tram_calibration_euler_intervals). */
+typedef struct tram_calibration_euler {
+    double angles_rad[3];      /* e1, e2, e3 of R                                   */
+    int defined;               /* 1: the intervals below hold; 0: not defined (NaN) */
+    double sigma_rad[3];       /* 1-sigma of e1, e2, e3                             */
+    double half95_rad[3];      /* 95% half-widths: factor95 * sigma                 */
+    double factor95;           /* the largest of the block's three rotation axes'
+                                  half95 / sigma (the solve's Student t), or 1.96
+                                  (normal approximation) when the file has none     */
+    double lock_distance_rad;  /* R's distance from the convention's gimbal lock    */
+} tram_calibration_euler;
+
+/* Euler angles of R in convention seq and their intervals: the rotation
+ * covariance of block 0 (X: T_flange_sensor or T_base_sensor) or 1 (Z:
+ * T_base_target or T_flange_target), about the transform's own axes,
+ * propagated by tram_euler_covariance.  R is that transform's rotation, or
+ * one that differs from it by a fixed rotation on the left (the tool-frame
+ * transform T_flange_tool^-1 X, whose own-axes covariance is the same).
+ * Returns out->defined: 0 when the calibration holds no covariance, seq is
+ * invalid, or R is too close to gimbal lock (TRAM_EULER_COV_LOCK_*). */
+TRAM_API int tram_calibration_euler_intervals(const tram_calibration *cal, int block,
+                                              const tram_mat3 *R, tram_euler_seq seq,
+                                              tram_calibration_euler *out);
+
 typedef enum tram_verdict {
     TRAM_VERDICT_OK = 0,
     TRAM_VERDICT_SENSOR_MOVED,

@@ -399,3 +399,33 @@ void tram_calibration_destroy(tram_calibration *c)
     tram__free(c->diag);
     tram__free(c);
 }
+
+int tram_calibration_euler_intervals(const tram_calibration *cal, int block, const tram_mat3 *R,
+                                     tram_euler_seq seq, tram_calibration_euler *out)
+{
+    memset(out, 0, sizeof *out);
+    tram_euler_from_mat3(seq, R, out->angles_rad);
+    for (int i = 0; i < 3; i++) out->sigma_rad[i] = out->half95_rad[i] = NAN;
+    out->factor95 = out->lock_distance_rad = NAN;
+    if (!cal->has_cov || block < 0 || block > 1) return 0;
+    int off = 6 * block + 3;
+    double S[9], C[9];
+    for (int i = 0; i < 3; i++)
+        for (int j = 0; j < 3; j++) S[3 * i + j] = cal->cov[(off + i) * 12 + off + j];
+    double k = 1.96;
+    if (cal->has_half95) { /* half95 of rotations is in degrees */
+        k = 0;
+        for (int i = 0; i < 3; i++) {
+            double s = sqrt(S[4 * i]) * 180.0 / TRAM_PI;
+            if (s > 0 && cal->half95[off + i] / s > k) k = cal->half95[off + i] / s;
+        }
+    }
+    out->factor95 = k;
+    out->defined = tram_euler_covariance(seq, R, S, C, &out->lock_distance_rad);
+    if (!out->defined) return 0;
+    for (int i = 0; i < 3; i++) {
+        out->sigma_rad[i] = sqrt(C[4 * i]);
+        out->half95_rad[i] = k * out->sigma_rad[i];
+    }
+    return 1;
+}

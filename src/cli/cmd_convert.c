@@ -241,6 +241,34 @@ static int is_calibration(const char *path)
     return strstr(head, "\"tram-calibration\"") != NULL;
 }
 
+/* The Euler angles' 1-sigma and 95% half-widths of a calibration's two
+ * transforms (tram_calibration_euler_intervals), as comment lines. */
+static void print_euler_intervals(const tram_calibration *cal, const tram_output_rep *o,
+                                  const char *const ids[2])
+{
+    int deg = o->angle_unit != TRAM_ANGLE_RAD;
+    double k = deg ? 180.0 / 3.14159265358979323846 : 1.0;
+    for (int b = 0; b < 2; b++) {
+        tram_mat3 R;
+        double t[3];
+        tram_se3_to_rt(b ? &cal->Z : &cal->X, &R, t);
+        tram_calibration_euler eu;
+        if (!tram_calibration_euler_intervals(cal, b, &R, o->euler, &eu)) {
+            if (cal->has_cov)
+                printf("# %s e1,e2,e3: intervals not defined, %.3f deg from the gimbal lock of "
+                       "%s\n",
+                       ids[b], eu.lock_distance_rad * 180.0 / 3.14159265358979323846,
+                       tram_euler_name(o->euler));
+            continue;
+        }
+        printf("# %s e1,e2,e3 1-sigma (%s): %.6g,%.6g,%.6g; 95%% half-width (%.3f sigma): "
+               "%.6g,%.6g,%.6g\n",
+               ids[b], deg ? "deg" : "rad", eu.sigma_rad[0] * k, eu.sigma_rad[1] * k,
+               eu.sigma_rad[2] * k, eu.factor95, eu.half95_rad[0] * k, eu.half95_rad[1] * k,
+               eu.half95_rad[2] * k);
+    }
+}
+
 /* A calibration file: its two transforms, one a line, in the chosen form. */
 static int convert_calibration(const convert_args *a)
 {
@@ -284,6 +312,7 @@ static int convert_calibration(const convert_args *a)
     print_units(&o, tram_unit_length_name(o.length_unit != TRAM_LENGTH_UNSET ? o.length_unit
                                                                             : cal->length_unit));
     print_rows(buf, "transform", ids);
+    if (o.kind == TRAM_REP_EULER) print_euler_intervals(cal, &o, ids);
     printf("# SAFETY: verify at reduced speed, keep clear of the working envelope, follow the\n"
            "# applicable robot-safety standards and local codes.\n");
     free(buf);

@@ -8,7 +8,8 @@
  * calibration file holds it, else value +- 1.96 sigma per axis
  * (normal approximation, for files without intervals).  Rotation
  * uncertainty is about the transform's own axes (small rotation vector),
- * not per Euler angle.  Nothing here says or implies that the result is
+ * and per Euler angle by first-order propagation (tram_euler_covariance),
+ * not defined near gimbal lock.  Nothing here says or implies that the result is
  * verified: tram cannot know.
  */
 #include "report/report_sections_internal.h"
@@ -164,6 +165,37 @@ static void tool_transform(const tram_calibration *cal, tram_se3 *out)
     tram_se3_compose(&T_tool_flange, cal->setup == TRAM_SETUP_EYE_IN_HAND ? &cal->X : &cal->Z, out);
 }
 
+/* The Euler angles' 1-sigma and 95% interval (tram_calibration_euler_intervals:
+ * the rotation covariance of block 0 (X) or 1 (Z) propagated to the named
+ * convention), or why they are not defined. */
+static void euler_intervals(tram__doc *d, const tram__report_ctx *c, const tram_mat3 *R, int block)
+{
+    tram_calibration_euler eu;
+    tram_calibration_euler_intervals(c->cal, block, R, c->opt->euler, &eu);
+    const char *name = tram_euler_name(c->opt->euler);
+    if (!eu.defined) {
+        para(d, "Euler angles %s: intervals not defined. The rotation is %.3f deg from this "
+                "convention's gimbal lock (at least %.0f deg and %.0f times the rotation's total "
+                "sigma are needed), where e1 and e3 are ill-determined and a linearised interval "
+                "would mislead; use the rotation's own-axes intervals above, or a convention "
+                "further from lock.",
+             name, eu.lock_distance_rad * RAD2DEG, TRAM_EULER_COV_LOCK_MIN_DEG,
+             TRAM_EULER_COV_LOCK_SIGMAS);
+        return;
+    }
+    for (int i = 0; i < 3; i++) {
+        double v = eu.angles_rad[i] * RAD2DEG, hw = eu.half95_rad[i] * RAD2DEG;
+        mono(d, "  Euler e%d (deg)    %12.6f  %10.6f    %.6f .. %.6f  (+-%.6f)", i + 1, v,
+             eu.sigma_rad[i] * RAD2DEG, v - hw, v + hw, hw);
+    }
+    char buf[400];
+    snprintf(buf, sizeof buf, "Euler angles %s: the rotation covariance propagated through the "
+                              "Jacobian of the Euler angles (first order; %.1f deg from gimbal "
+                              "lock); 95%% interval %.3f sigma (the largest of the rotation axes').",
+             name, eu.lock_distance_rad * RAD2DEG, eu.factor95);
+    tram__doc_para(d, 8, 12, 0, buf);
+}
+
 static void transform(tram__doc *d, const tram__report_ctx *c, int which)
 {
     const tram_calibration *cal = c->cal;
@@ -198,8 +230,11 @@ static void transform(tram__doc *d, const tram__report_ctx *c, int which)
     euler_words(c->opt->euler, buf, sizeof buf);
     tram__doc_para(d, 8, 12, 0, buf);
     if (which == 2) {
-        tram__doc_para(d, 8, 12, 0, "Uncertainty: as the transform's above, expressed in the tool "
-                                    "frame (not repeated here).");
+        tram__doc_para(d, 8, 12, 0, "Uncertainty: the translation's as the transform's above, "
+                                    "expressed in the tool frame (not repeated here); the rotation "
+                                    "about the transform's own axes is the same as above.");
+        if (cal->has_cov)
+            euler_intervals(d, c, &R, cal->setup == TRAM_SETUP_EYE_IN_HAND ? 0 : 1);
         return;
     }
     if (!cal->has_cov) {
@@ -221,14 +256,15 @@ static void transform(tram__doc *d, const tram__report_ctx *c, int which)
         double hw = t95 ? c->cal->half95[off + 3 + i] : 1.96 * s;
         mono(d, "  rotation about own %c (deg)      %10.6f    +-%.6f", ax[i], s, hw);
     }
+    euler_intervals(d, c, &R, which);
     tram__doc_para(d, 8, 12, 0,
                    t95 ? "Translation uncertainty along the parent frame's axes; rotation uncertainty "
-                         "as a small rotation about the transform's own axes (not per Euler angle). "
+                         "as a small rotation about the transform's own axes, then per Euler angle. "
                          "From the refinement's Jacobian and the noise model; the 95% interval is the "
                          "solve's, a Student-t quantile with the degrees of freedom of each sigma "
                          "(docs/solve.md)."
                        : "Translation uncertainty along the parent frame's axes; rotation uncertainty "
-                         "as a small rotation about the transform's own axes (not per Euler angle). "
+                         "as a small rotation about the transform's own axes, then per Euler angle. "
                          "From the refinement's Jacobian scaled by the residual variance; the 95% "
                          "interval is the normal approximation, 1.96 sigma per axis (the calibration "
                          "file holds no interval of its own).");
