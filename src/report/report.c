@@ -160,7 +160,7 @@ static tram_status draw_history(tram__report_ctx *c, tram_error *err)
     return st;
 }
 
-/* One layout pass; *doc holds the PDF bytes on success. */
+/* One layout pass; doc->pdf.buf holds the PDF bytes on success. */
 static tram_status lay_out(const tram__report_ctx *c, int total, tram__doc *doc, int *pages,
                            tram_error *err)
 {
@@ -230,12 +230,13 @@ tram_status tram_report_write_pdf(const char *calibration_path, const tram_repor
     int n = 0;
     if (st == TRAM_OK) st = lay_out(&c, 0, &doc, &n, err); /* count the pages */
     if (st == TRAM_OK) {
-        tram__free(doc.buf);
+        tram__membuf_free(&doc.pdf.buf);
         st = lay_out(&c, n, &doc, &n, err);
     }
     if (st == TRAM_OK) {
-        st = tram_file_write_atomic(pdf_path, (const char *)doc.buf, doc.n, overwrite, err);
-        tram__free(doc.buf);
+        st = tram_file_write_atomic(pdf_path, (const char *)doc.pdf.buf.p, doc.pdf.buf.n, overwrite,
+                                    err);
+        tram__membuf_free(&doc.pdf.buf);
     }
     if (st == TRAM_OK && pages) *pages = n;
     tram_image_destroy(c.frames);
