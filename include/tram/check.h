@@ -37,7 +37,8 @@ typedef struct tram_calibration {
     tram_se3 X, Z;            /* T_flange_sensor and T_base_target (eye-in-hand), or
                                  T_base_sensor and T_flange_target (eye-to-hand) */
     int has_cov;
-    double cov[144];          /* public order: X t, X w, Z t, Z w (length, rad)   */
+    double cov[144];          /* public order: X t, X w, Z t, Z w (length, rad);
+                                 NaN where the file holds null (not determined) */
     double noise_length;      /* per-axis station noise of the calibration        */
     double noise_angle_rad;
     size_t stations;
@@ -71,6 +72,11 @@ typedef struct tram_calibration {
      * has none (then 1.96 sigma is the normal approximation). */
     int has_half95;
     double half95[12];
+    /* A calibration solved from 3D points (solve --points) has a point noise
+     * (noise_length) but no pose noise: noise_angle_rad is NaN, which the
+     * report shows and tram_check refuses (it compares poses), naming the
+     * position of "noise" in the file (noise_line, noise_column). */
+    long noise_line, noise_column;
 } tram_calibration;
 
 /* Read a calibration file.  Wrong format, a newer version, missing or
@@ -94,7 +100,8 @@ typedef struct tram_calibration_euler {
     double factor95;           /* the largest of the block's three rotation axes'
                                   half95 / sigma (the solve's Student t), or 1.96
                                   (normal approximation) when the file has none     */
-    double lock_distance_rad;  /* R's distance from the convention's gimbal lock    */
+    double lock_distance_rad;  /* R's distance from the gimbal lock; NaN when the
+                                  block's covariance is not determined (null)      */
 } tram_calibration_euler;
 
 /* Euler angles of R in convention seq and their intervals: the rotation

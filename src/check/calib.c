@@ -19,6 +19,8 @@
 
 /* A refusal at the value of `path` (file:line:column of the document). */
 #define BAD(path, ...) tram__json_pos_fail(pos, name, err, path, 0, __VA_ARGS__)
+/* The position of `path` only, into the error e. */
+#define BAD_AT(path, e) tram__json_pos_fail(pos, name, e, path, 0, "%s", path)
 
 static int read_matrix(const cJSON *m, tram_se3 *T)
 {
@@ -136,13 +138,26 @@ static tram_status read_core(const char *name, const tram__json_pos *pos, const 
                    "must be rigid 4x4 transforms for a %s calibration",
                    xn, zn, tram_setup_name(c->setup));
     }
-    int ok = 1;
+    int okl = 1, oka = 1;
     const cJSON *noise = cJSON_GetObjectItemCaseSensitive(root, "noise");
-    c->noise_length = number(noise, "length", &ok);
-    c->noise_angle_rad = number(noise, "angle_deg", &ok) * TRAM_PI / 180.0;
-    if (!ok || !(c->noise_length > 0) || !(c->noise_angle_rad > 0))
+    c->noise_length = number(noise, "length", &okl);
+    c->noise_angle_rad = number(noise, "angle_deg", &oka) * TRAM_PI / 180.0;
+    {   /* where "noise" is, for tram_check's refusal of a points calibration */
+        tram_error at;
+        tram_error_clear(&at);
+        BAD_AT("noise", &at);
+        c->noise_line = at.line;
+        c->noise_column = at.column;
+    }
+    int points = okl && c->noise_length > 0 &&
+                 cJSON_IsNull(cJSON_GetObjectItemCaseSensitive(noise, "angle_deg")) &&
+                 cJSON_GetObjectItemCaseSensitive(root, "model");
+    if (points) /* solved from points: a point noise, no pose noise */
+        c->noise_angle_rad = NAN;
+    else if (!okl || !oka || !(c->noise_length > 0) || !(c->noise_angle_rad > 0))
         return BAD("noise", "the calibration has no noise estimate (\"noise\"): it was not "
                             "refined; solve again without --closed-form");
+    int ok = 1;
     const cJSON *ob = cJSON_GetObjectItemCaseSensitive(root, "observability");
     double ns = number(ob, "stations", &ok);
     c->stations = ok && ns > 0 && ns < 1e15 ? (size_t)ns : 0; /* no UB on absurd counts */
@@ -152,14 +167,19 @@ static tram_status read_core(const char *name, const tram__json_pos *pos, const 
             return BAD("covariance", "damaged calibration file: \"covariance\" must hold 144 numbers");
         for (int i = 0; i < 144; i++) {
             const cJSON *v = cJSON_GetArrayItem(cov, i);
+            if (cJSON_IsNull(v)) { /* not determined (e.g. Z of a points solve without a model) */
+                c->cov[i] = NAN;
+                continue;
+            }
             if (!cJSON_IsNumber(v) || !isfinite(v->valuedouble)) {
                 char where[32];
                 snprintf(where, sizeof where, "covariance[%d]", i);
-                return BAD(where, "damaged calibration file: covariance[%d] is not a number", i);
+                return BAD(where, "damaged calibration file: covariance[%d] is not a number or null",
+                           i);
             }
             c->cov[i] = v->valuedouble;
+            c->has_cov = 1;
         }
-        c->has_cov = 1;
     }
     const cJSON *in = cJSON_GetObjectItemCaseSensitive(root, "input");
     const cJSON *ck = cJSON_GetObjectItemCaseSensitive(in, "checksum_fnv1a64");
@@ -280,7 +300,8 @@ static tram_status read_input(const char *name, const tram__json_pos *pos, const
 }
 
 /* The solve's 95% half-widths of both transforms (optional: kept only
- * when all twelve are positive numbers). */
+ * when all twelve are positive numbers, or null - NaN - where the solve
+ * did not determine them). */
 static void read_half95(const cJSON *root, tram_calibration *c)
 {
     const char *xn = c->setup == TRAM_SETUP_EYE_IN_HAND ? "T_flange_sensor" : "T_base_sensor";
@@ -296,7 +317,7 @@ static void read_half95(const cJSON *root, tram_calibration *c)
             for (int i = 0; ok && i < 3; i++) {
                 const cJSON *x = cJSON_GetArrayItem(v, i);
                 double h = cJSON_IsNumber(x) ? x->valuedouble : NAN;
-                if (!(h > 0) || !isfinite(h)) ok = 0;
+                if (!cJSON_IsNull(x) && (!(h > 0) || !isfinite(h))) ok = 0;
                 c->half95[6 * t + 3 * k + i] = h;
             }
         }
@@ -421,6 +442,7 @@ int tram_calibration_euler_intervals(const tram_calibration *cal, int block, con
         }
     }
     out->factor95 = k;
+    if (!(S[0] + S[4] + S[8] >= 0)) return 0; /* not determined (null in the file) */
     out->defined = tram_euler_covariance(seq, R, S, C, &out->lock_distance_rad);
     if (!out->defined) return 0;
     for (int i = 0; i < 3; i++) {

@@ -5,6 +5,7 @@
  */
 #include "cli.h"
 
+#include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -254,7 +255,10 @@ static void print_euler_intervals(const tram_calibration *cal, const tram_output
         tram_se3_to_rt(b ? &cal->Z : &cal->X, &R, t);
         tram_calibration_euler eu;
         if (!tram_calibration_euler_intervals(cal, b, &R, o->euler, &eu)) {
-            if (cal->has_cov)
+            if (cal->has_cov && isnan(eu.lock_distance_rad))
+                printf("# %s e1,e2,e3: intervals not determined (no covariance in the file)\n",
+                       ids[b]);
+            else if (cal->has_cov)
                 printf("# %s e1,e2,e3: intervals not defined, %.3f deg from the gimbal lock of "
                        "%s\n",
                        ids[b], eu.lock_distance_rad * 180.0 / 3.14159265358979323846,

@@ -103,12 +103,18 @@ static void setup(tram__doc *d, const tram__report_ctx *c)
             "coordinates.");
     const char *how = cal->refined ? "then refined by robust least squares over both transforms"
                                    : "not refined";
-    para(d, "Method: %s; the refinement started from the %s closed form, %s. Station noise per "
-            "axis (%s): %.4g %s, %.4g deg.",
+    char noise[200];
+    if (isnan(cal->noise_angle_rad)) /* solved from 3D points: a point noise only */
+        snprintf(noise, sizeof noise, "Solved from 3D points: point noise per coordinate (%s) "
+                                      "%.4g %s.",
+                 cal->noise_source[0] ? cal->noise_source : "not recorded", cal->noise_length, unit(c));
+    else
+        snprintf(noise, sizeof noise, "Station noise per axis (%s): %.4g %s, %.4g deg.",
+                 cal->noise_source[0] ? cal->noise_source : "not recorded", cal->noise_length,
+                 unit(c), cal->noise_angle_rad * RAD2DEG);
+    para(d, "Method: %s; the refinement started from the %s closed form, %s. %s",
          cal->method[0] ? cal->method : "(not recorded)",
-         cal->start_method[0] ? cal->start_method : "(not recorded)", how,
-         cal->noise_source[0] ? cal->noise_source : "not recorded", cal->noise_length, unit(c),
-         cal->noise_angle_rad * RAD2DEG);
+         cal->start_method[0] ? cal->start_method : "(not recorded)", how, noise);
 }
 
 /* ---- transforms ------------------------------------------------------- */
@@ -185,7 +191,9 @@ static void euler_intervals(tram__doc *d, const tram__report_ctx *c, const tram_
     }
     for (int i = 0; i < 3; i++) {
         double v = eu.angles_rad[i] * RAD2DEG, hw = eu.half95_rad[i] * RAD2DEG;
-        mono(d, "  Euler e%d (deg)    %12.6f  %10.6f    %.6f .. %.6f  (+-%.6f)", i + 1, v,
+        char label[32];
+        snprintf(label, sizeof label, "Euler e%d (deg)", i + 1);
+        mono(d, "  %-27s %12.6f %11.6f    %.6f .. %.6f  (+-%.6f)", label, v,
              eu.sigma_rad[i] * RAD2DEG, v - hw, v + hw, hw);
     }
     char buf[400];
@@ -233,28 +241,40 @@ static void transform(tram__doc *d, const tram__report_ctx *c, int which)
         tram__doc_para(d, 8, 12, 0, "Uncertainty: the translation's as the transform's above, "
                                     "expressed in the tool frame (not repeated here); the rotation "
                                     "about the transform's own axes is the same as above.");
-        if (cal->has_cov)
-            euler_intervals(d, c, &R, cal->setup == TRAM_SETUP_EYE_IN_HAND ? 0 : 1);
+        int b = cal->setup == TRAM_SETUP_EYE_IN_HAND ? 0 : 1;
+        if (cal->has_cov && isfinite(cal->cov[(6 * b + 3) * 13]))
+            euler_intervals(d, c, &R, b);
         return;
     }
     if (!cal->has_cov) {
         para(d, "Uncertainty: not in the calibration file (no covariance was computed).");
         return;
     }
-    int off = which == 0 ? 0 : 6, t95 = c->cal->has_half95;
-    mono(d, t95 ? "uncertainty             value        1-sigma      95%% interval (Student t)"
-                : "uncertainty             value        1-sigma      95%% interval (value +- 1.96 sigma)");
+    int off = which == 0 ? 0 : 6, t95 = c->cal->has_half95, known = 1;
+    for (int i = 0; i < 6; i++) known &= isfinite(cal->cov[(off + i) * 12 + off + i]) != 0;
+    if (!known) {
+        para(d, "Uncertainty: not determined for %s (null in the calibration file: the solve did "
+                "not estimate it, e.g. the target of a solve from points without a model).",
+             name);
+        return;
+    }
+    mono(d, "%-29s %12s %11s    95%% interval (%s)", "uncertainty", "value", "1-sigma",
+         t95 ? "Student t" : "value +- 1.96 sigma");
     const char ax[3] = {'x', 'y', 'z'};
     for (int i = 0; i < 3; i++) {
         double s = sqrt(c->cal->cov[(off + i) * 12 + off + i]);
         double hw = t95 ? c->cal->half95[off + i] : 1.96 * s;
-        mono(d, "  translation %c (%s) %12.6f  %10.6f    %.6f .. %.6f  (+-%.6f)", ax[i], unit(c), t[i],
+        char label[32];
+        snprintf(label, sizeof label, "translation %c (%s)", ax[i], unit(c));
+        mono(d, "  %-27s %12.6f %11.6f    %.6f .. %.6f  (+-%.6f)", label, t[i],
              s, t[i] - hw, t[i] + hw, hw);
     }
     for (int i = 0; i < 3; i++) {
         double s = sqrt(c->cal->cov[(off + 3 + i) * 12 + off + 3 + i]) * RAD2DEG;
         double hw = t95 ? c->cal->half95[off + 3 + i] : 1.96 * s;
-        mono(d, "  rotation about own %c (deg)      %10.6f    +-%.6f", ax[i], s, hw);
+        char label[32];
+        snprintf(label, sizeof label, "rotation about own %c (deg)", ax[i]);
+        mono(d, "  %-27s %12s %11.6f    +-%.6f", label, "", s, hw);
     }
     euler_intervals(d, c, &R, which);
     tram__doc_para(d, 8, 12, 0,
@@ -272,28 +292,45 @@ static void transform(tram__doc *d, const tram__report_ctx *c, int which)
 
 /* ---- stations --------------------------------------------------------- */
 
+/* A residual with 5 decimals, or "-" when not defined (NaN: null in the file). */
+static const char *num5(double v, char buf[32])
+{
+    if (isnan(v)) snprintf(buf, 32, "-");
+    else snprintf(buf, 32, "%.5f", v);
+    return buf;
+}
+
 static void stations(tram__doc *d, const tram__report_ctx *c)
 {
     const tram_calibration *cal = c->cal;
     tram__doc_heading(d, 1, "3  Stations and residuals", 80);
-    para(d, "Per station: the rotation angle and the translation distance between that station's "
-            "own prediction of %s and the solution. The statistics leave out the stations flagged "
-            "as outliers, which were excluded from the final refinement.",
-         c->Z_name);
+    int points = isnan(cal->noise_angle_rad);
+    if (points)
+        para(d, "Solved from 3D points: per station, the RMS distance (%s) between the points the "
+                "sensor observed and the solution's prediction of them; a rotation residual does "
+                "not apply (shown as -). The statistics leave out the stations flagged as "
+                "outliers, which were excluded from the final refinement.",
+             unit(c));
+    else
+        para(d, "Per station: the rotation angle and the translation distance between that "
+                "station's own prediction of %s and the solution. The statistics leave out the "
+                "stations flagged as outliers, which were excluded from the final refinement.",
+             c->Z_name);
     if (cal->nresiduals == 0) {
         para(d, "The calibration file holds no per-station residuals.");
         return;
     }
     mono(d, "  station                  rotation (deg)   translation (%s)", unit(c));
+    char a[32], b[32];
     for (size_t i = 0; i < cal->nresiduals; i++) {
         const tram_calibration_residual *r = &cal->residuals[i];
-        mono(d, "  %-24.24s %14.5f   %17.5f   %s", r->station, r->rotation_deg, r->translation,
-             r->outlier ? "OUTLIER (excluded)" : "");
+        mono(d, "  %-24.24s %14s   %17s   %s", r->station, num5(r->rotation_deg, a),
+             num5(r->translation, b), r->outlier ? "OUTLIER (excluded)" : "");
     }
-    const tram_stats *a = &cal->rot_deg_stats, *b = &cal->trans_stats;
-    mono(d, "  %-24s %14.5f   %17.5f", "rms", a->rms, b->rms);
-    mono(d, "  %-24s %14.5f   %17.5f", "median", a->median, b->median);
-    mono(d, "  %-24s %14.5f   %17.5f", "max", a->max, b->max);
+    const tram_stats *sr = &cal->rot_deg_stats, *st = &cal->trans_stats;
+    mono(d, "  %-24s %14s   %17s", "rms", num5(sr->rms, a), num5(st->rms, b));
+    mono(d, "  %-24s %14s   %17s", "median", num5(sr->median, a), num5(st->median, b));
+    mono(d, "  %-24s %14s   %17s", "max", num5(sr->max, a), num5(st->max, b));
 }
 
 static void pictures(tram__doc *d, const tram__report_ctx *c)
