@@ -125,7 +125,7 @@ static void exhaust(const char *name, op_fn op)
     long total = calls, nomem = 0;
     /* Every allocation up to 3000; beyond that an even sample of 40 (the
      * convention checks make about a hundred solves).  TRAM_ALLOC_SAMPLES
-     * caps the runs per call (make valgrind, where each run is slow). */
+     * caps the runs per call (300 in make test, 25 in make valgrind). */
     long cap = total > 3000 ? 40 : 3000;
     const char *env = getenv("TRAM_ALLOC_SAMPLES");
     if (env && atol(env) > 0 && atol(env) < cap) cap = atol(env);

@@ -1,6 +1,8 @@
 /* test_register.c - unit tests of register.c and register_robust.c. */
 #include "test_util.h"
 
+#include <cjson/cJSON.h>
+
 static void test_umeyama_worked_example(void **state)
 {
     (void)state;
@@ -220,11 +222,61 @@ static void test_uncertainty(void **state)
     }
 }
 
+/* The JSON document of a registration: Umeyama's worked example (IEEE PAMI
+ * 13(4), 1991) with the scale, one warning planted in the trust result. */
+static void test_report_json(void **state)
+{
+    (void)state;
+    double x[6] = {0, 0, 1, 0, 0, 2}, y[6] = {0, 0, -1, 0, 0, 2}, res[3];
+    char ids[3][TRAM_POINT_ID_MAX] = {"a", "b", "c"};
+    tram_point_pairs p = {0};
+    p.n = 3;
+    p.dim = 2;
+    p.from = x;
+    p.to = y;
+    p.id = ids;
+    p.length_unit = TRAM_LENGTH_MM;
+    tram_register_options o = {TRAM_REGISTER_SVD, 1, 2, 1};
+    tram_register_result r;
+    tram_error e;
+    assert_int_equal(tram_register_points(x, y, NULL, 3, &o, &r, &e), TRAM_OK);
+    tram_register_residuals(x, y, 3, 2, &r, res);
+    tram_register_trust t = {0};
+    t.gate_failed = 1;
+    t.rms = 0.5;
+    t.limit = 0.1;
+    tram_register_trust_options to = {5, 0.01, 0, 1, 3};
+    tram_register_warning w[TRAM_REGISTER_WARNINGS_MAX];
+    assert_int_equal(tram_register_trust_warnings(&t, &to, TRAM_LENGTH_MM, w), 1);
+    assert_string_equal(w[0].code, "implausible-residuals");
+    assert_non_null(strstr(w[0].message, "RMS 0.5 mm"));
+    tram_register_report rep = {&p, &r, res, NULL, 0, "svd", 1, &t, &to};
+    char *text = NULL;
+    assert_int_equal(tram_register_to_json(&rep, &text, &e), TRAM_OK);
+    cJSON *root = cJSON_Parse(text);
+    assert_non_null(root);
+    assert_string_equal(cJSON_GetObjectItem(root, "format")->valuestring, "tram-registration");
+    assert_close(cJSON_GetObjectItem(root, "scale")->valuedouble, 0.721, 5e-4);
+    cJSON *T = cJSON_GetObjectItem(cJSON_GetObjectItem(root, "transforms"), "T_to_from");
+    assert_close(cJSON_GetArrayItem(cJSON_GetObjectItem(T, "translation"), 0)->valuedouble, -0.8, 5e-4);
+    assert_close(cJSON_GetObjectItem(T, "angle_deg")->valuedouble, -33.69, 5e-3);
+    assert_int_equal(cJSON_GetArraySize(cJSON_GetObjectItem(
+                         cJSON_GetObjectItem(root, "residuals"), "points")), 3);
+    assert_null(cJSON_GetObjectItem(root, "robust"));
+    cJSON *dg = cJSON_GetObjectItem(root, "diagnostics");
+    assert_int_equal(cJSON_GetArraySize(dg), 1);
+    assert_string_equal(cJSON_GetObjectItem(cJSON_GetArrayItem(dg, 0), "code")->valuestring,
+                        "implausible-residuals");
+    cJSON_Delete(root);
+    tram_free(text);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_umeyama_worked_example), cmocka_unit_test(test_random_rigid_and_similarity),
         cmocka_unit_test(test_threads_and_large_offsets), cmocka_unit_test(test_degenerate),
-        cmocka_unit_test(test_robust_outliers), cmocka_unit_test(test_uncertainty)};
+        cmocka_unit_test(test_robust_outliers), cmocka_unit_test(test_uncertainty),
+        cmocka_unit_test(test_report_json)};
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

@@ -18,7 +18,7 @@ cd "$root" || exit 2
 
 LAYERS="core math io image camera register chain solve check plan plot report"
 PUBLIC="common:core fileio:core so3:math se3:math rotation:math records:io points:io
-pixels:io image:image camera:camera register:register chain:chain handeye:solve
+pixels:io image:image camera:camera register:register register_json:register chain:chain handeye:solve
 solve:solve point_solve:solve pixel_solve:solve pose:camera check:check plan:plan plot:plot report:report"
 
 rank() { # rank LAYER -> position in LAYERS, or nothing

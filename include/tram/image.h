@@ -107,6 +107,24 @@ TRAM_API tram_status tram_detect_chessboard(const tram_grey_image *im, const tra
                                             tram_detection **out, tram_error *err);
 TRAM_API void tram_detection_destroy(tram_detection *d);
 
+/* A detection run over n images of one size, as tram detect reports it. */
+typedef struct tram_detect_report {
+    const tram_board *board;
+    const char *board_path;                  /* as given                     */
+    size_t width, height;                    /* pixels                       */
+    size_t n;
+    const char *const *image_paths;          /* n                            */
+    const char *const *stations;             /* n station ids                */
+    const tram_detection *const *detections; /* n                            */
+    const char *observations_path;           /* the observation file, or NULL */
+} tram_detect_report;
+
+/* Its JSON document (format "tram-detect-report", docs/images.md; indented,
+ * final newline) into *text, freed by the caller with tram_free.
+ * TRAM_ENOMEM, and *text NULL, if any allocation failed. */
+TRAM_API tram_status tram_detect_report_to_json(const tram_detect_report *r, char **text,
+                                                tram_error *err);
+
 #ifdef __cplusplus
 }
 #endif

@@ -58,7 +58,9 @@ TRAM_API void tram_plot_frames_project(const tram_plot_frames_data *d, int width
                                        int view, const double p_base[3], double *px, double *py);
 
 /* Per-station residual bars (rotation and translation) with the RMS line
- * and the outlier thresholds, and a scatter of the translation residual
+ * and, where a rule has them, per-component outlier thresholds (the solve's
+ * station test is joint over the six components and has none: its flags
+ * are the bars drawn as outliers), and a scatter of the translation residual
  * vectors (x against y, and x against z, in the frame of Z). */
 typedef struct tram_plot_residuals_data {
     size_t n;

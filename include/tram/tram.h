@@ -16,6 +16,7 @@
 #include "tram/point_solve.h"
 #include "tram/records.h"
 #include "tram/register.h"
+#include "tram/register_json.h"
 #include "tram/rotation.h"
 #include "tram/se3.h"
 #include "tram/so3.h"

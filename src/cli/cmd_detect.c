@@ -11,7 +11,6 @@
 #include "cli.h"
 #include "tram/pixels.h"
 
-#include <cjson/cJSON.h>
 #include <errno.h>
 #include <math.h>
 #include <stdlib.h>
@@ -193,59 +192,35 @@ static void report_text(const shot *shots, int n, size_t w, size_t h, int found)
             found, n, w, h);
 }
 
-static cJSON *num(double v)
-{
-    char b[40];
-    if (!isfinite(v)) return cJSON_CreateNull();
-    snprintf(b, sizeof b, "%.17g", v == 0 ? 0.0 : v);
-    return cJSON_CreateRaw(b);
-}
-
-static int report_json(const shot *shots, int n, size_t w, size_t h, int found, const char *board_path,
+/* The run's JSON report (tram/image.h) on stdout. */
+static int report_json(const shot *shots, int n, size_t w, size_t h, const char *board_path,
                        const tram_board *b, const char *out_path)
 {
-    cJSON *root = cJSON_CreateObject();
-    cJSON_AddStringToObject(root, "format", "tram-detect-report");
-    cJSON_AddNumberToObject(root, "version", 1);
-    cJSON_AddStringToObject(root, "tool", "tram " TRAM_VERSION_STRING);
-    cJSON *bo = cJSON_AddObjectToObject(root, "board");
-    cJSON_AddStringToObject(bo, "file", board_path);
-    cJSON_AddNumberToObject(bo, "cols", b->cols);
-    cJSON_AddNumberToObject(bo, "rows", b->rows);
-    cJSON_AddItemToObject(bo, "square", num(b->square));
-    cJSON_AddStringToObject(bo, "length_unit", tram_unit_length_name(b->unit));
-    cJSON_AddStringToObject(root, "pixel_origin", "top-left-pixel-centre");
-    cJSON_AddStringToObject(root, "pixel_convention",
-                            "(0, 0) is the centre of the top-left pixel; u to the right, v down");
-    cJSON *sz = cJSON_AddArrayToObject(root, "image_size");
-    cJSON_AddItemToArray(sz, num((double)w));
-    cJSON_AddItemToArray(sz, num((double)h));
-    cJSON_AddNumberToObject(root, "images_total", n);
-    cJSON_AddNumberToObject(root, "boards_found", found);
-    if (out_path) cJSON_AddStringToObject(root, "observations", out_path);
-    else cJSON_AddNullToObject(root, "observations");
-    cJSON *arr = cJSON_AddArrayToObject(root, "images");
-    for (int i = 0; i < n; i++) {
-        const tram_detection *d = shots[i].det;
-        cJSON *o = cJSON_CreateObject();
-        cJSON_AddItemToArray(arr, o);
-        cJSON_AddStringToObject(o, "image", shots[i].path);
-        cJSON_AddStringToObject(o, "station", shots[i].station);
-        cJSON_AddBoolToObject(o, "found", d->found);
-        cJSON_AddNumberToObject(o, "corners", (double)d->ncorners);
-        cJSON_AddNumberToObject(o, "corners_seen", (double)d->nseen);
-        /* the detector's sharpness: edge blur in pixels, lower is sharper */
-        cJSON_AddItemToObject(o, "edge_blur_px", d->found ? num(d->sharpness) : cJSON_CreateNull());
-        if (!d->found) cJSON_AddStringToObject(o, "reason", d->reason);
+    size_t m = n > 0 ? (size_t)n : 1;
+    const char **paths = malloc(m * sizeof *paths), **ids = malloc(m * sizeof *ids);
+    const tram_detection **dets = malloc(m * sizeof *dets);
+    char *text = NULL;
+    tram_error err;
+    tram_status st = TRAM_ENOMEM;
+    snprintf(err.message, sizeof err.message, "out of memory");
+    if (paths && ids && dets) {
+        for (int i = 0; i < n; i++) {
+            paths[i] = shots[i].path;
+            ids[i] = shots[i].station;
+            dets[i] = shots[i].det;
+        }
+        tram_detect_report r = {b, board_path, w, h, (size_t)n, paths, ids, dets, out_path};
+        st = tram_detect_report_to_json(&r, &text, &err);
     }
-    char *text = cJSON_Print(root);
-    cJSON_Delete(root);
-    if (!text) {
-        fprintf(stderr, "tram detect: error: out of memory\n");
+    free(paths);
+    free(ids);
+    free(dets);
+    if (st != TRAM_OK) {
+        fprintf(stderr, "tram detect: error: %s\n", err.message);
         return CLI_EXIT_USAGE;
     }
-    puts(text);
-    cJSON_free(text);
+    fputs(text, stdout);
+    tram_free(text);
     return CLI_EXIT_OK;
 }
 
@@ -414,7 +389,7 @@ static int run(const char *board_path, const char *o, const char *plot, int json
         fputs(text, stdout);
     }
     free(text);
-    if (json) return report_json(shots, n, w, h, found, board_path, &b, o);
+    if (json) return report_json(shots, n, w, h, board_path, &b, o);
     return CLI_EXIT_OK;
 }
 

@@ -92,10 +92,11 @@ int cli_plot_solution(const tram_records *r, const tram_solution *s, const char 
         rc = write_png(tram_plot_frames(&fd, 1600, 1000, &img, &err), &img, path, force, &err);
         if (rc == CLI_EXIT_OK) {
             fprintf(stderr, "picture: %s\n", path);
-            /* outlier thresholds of solve.c: 4.594 robust sigmas */
+            /* no threshold lines: the station test is joint over the six
+             * components (solve_refine.c), so a per-component line would
+             * not be the rule that flagged a bar */
             tram_plot_residuals_data rd = {r->count, ids, rot, tr, has_vec ? vec : NULL, out,
-                                           4.5943 * s->noise_angle_deg, 4.5943 * s->noise_length,
-                                           s->length_unit, NULL};
+                                           0, 0, s->length_unit, NULL};
             img = NULL;
             cli_path_join(path, sizeof path, dir, "residuals.png");
             rc = write_png(tram_plot_residuals(&rd, 1600, 1000, &img, &err), &img, path, force, &err);
@@ -182,9 +183,9 @@ static int plot_residuals(const tram_calibration *cal, const char *calib, const 
             rot[n + k] = cal->residuals[k].translation;
             out[k] = cal->residuals[k].outlier;
         }
-        tram_plot_residuals_data rd = {n, ids, rot, rot + n, NULL, out,
-                                       4.5943 * cal->noise_angle_rad * 180.0 / 3.14159265358979323846,
-                                       4.5943 * cal->noise_length, cal->length_unit, NULL};
+        /* no threshold lines: the solve's station test is joint (see above) */
+        tram_plot_residuals_data rd = {n, ids, rot, rot + n, NULL, out, 0, 0, cal->length_unit,
+                                       NULL};
         tram_image *img = NULL;
         rc = write_png(tram_plot_residuals(&rd, po->w, po->h, &img, &err), &img, po->path, po->force, &err);
     }

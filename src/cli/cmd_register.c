@@ -5,7 +5,6 @@
  */
 #include "cli.h"
 
-#include <cjson/cJSON.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -51,138 +50,20 @@ static void progress(void *ctx, size_t done, size_t total)
     if (done >= total) fputc('\n', stderr);
 }
 
-static cJSON *num(double v)
-{
-    if (!isfinite(v)) return cJSON_CreateNull();
-    char b[40];
-    snprintf(b, sizeof b, "%.17g", v == 0 ? 0.0 : v);
-    return cJSON_CreateRaw(b);
-}
-
-static cJSON *arr(const double *v, int n)
-{
-    cJSON *a = cJSON_CreateArray();
-    for (int i = 0; i < n; i++) cJSON_AddItemToArray(a, num(v[i]));
-    return a;
-}
-
-/* The plausibility warnings of a registration (register_trust.c) into
- * msg[0..1]; returns how many. */
-static int trust_warnings(const tram_register_trust *t, const tram_register_trust_options *o,
-                          const char *u, char msg[2][600])
-{
-    int k = 0;
-    if (t->gate_failed)
-        snprintf(msg[k++], sizeof msg[0],
-                 "implausible-residuals: the residual RMS %.4g %s is beyond what a working sensor "
-                 "and robot produce (at most %.4g %s: %.4g %s plus %.3g%% of the %.4g %s working "
-                 "distance; common practice, set with --max-residual). Likely mistakes: the "
-                 "point rows not paired (shifted or sorted differently), a unit, or the wrong "
-                 "file",
-                 t->rms, u, t->limit, u, o->max_rms, u, 100 * o->max_rms_fraction,
-                 t->working_distance, u);
-    if (t->pairing_failed)
-        snprintf(msg[k++], sizeof msg[0],
-                 "pairing-not-determined: with the 'to' points paired at random (%zu pairings, "
-                 "seed %llu) the best random pairing fits only %.3g times worse than the file's "
-                 "(at least %.3g times is needed): the points cannot tell the transform; check "
-                 "that each row pairs a point with its own partner",
-                 t->permutations, o->seed, t->pairing_ratio, o->factor);
-    return k;
-}
-
+/* The result as JSON (tram/register_json.h) on stdout. */
 static int print_json(const tram_point_pairs *p, const tram_register_result *res, const double *resid,
                       const int *inlier, int robust, double thr, const char *method, int scale,
                       const tram_register_trust *trust, const tram_register_trust_options *to)
 {
-    int d = p->dim;
-    const tram_se3 *T = &res->T_to_from;
-    cJSON *root = cJSON_CreateObject();
-    cJSON_AddStringToObject(root, "format", "tram-registration");
-    cJSON_AddNumberToObject(root, "version", 1);
-    cJSON_AddStringToObject(root, "tool", "tram " TRAM_VERSION_STRING);
-    cJSON_AddStringToObject(root, "method", method);
-    cJSON_AddNumberToObject(root, "dimension", d);
-    cJSON_AddStringToObject(root, "length_unit", tram_unit_length_name(p->length_unit));
-    cJSON *tr = cJSON_AddObjectToObject(cJSON_AddObjectToObject(root, "transforms"), "T_to_from");
-    cJSON *m = cJSON_AddArrayToObject(tr, "matrix");
-    double t[3] = {T->m[0][3], T->m[1][3], T->m[2][3]};
-    if (d == 3) {
-        for (int i = 0; i < 4; i++) cJSON_AddItemToArray(m, arr(T->m[i], 4));
-        tram_mat3 R;
-        tram_quat_wxyz q;
-        tram_se3_to_rt(T, &R, NULL);
-        tram_quat_wxyz_from_mat3(&R, &q);
-        double qv[4] = {q.w, q.x, q.y, q.z};
-        cJSON_AddItemToObject(tr, "translation", arr(t, 3));
-        cJSON_AddItemToObject(tr, "quaternion_wxyz", arr(qv, 4));
-    } else {
-        double rows[3][3] = {{T->m[0][0], T->m[0][1], T->m[0][3]},
-                             {T->m[1][0], T->m[1][1], T->m[1][3]},
-                             {0, 0, 1}};
-        for (int i = 0; i < 3; i++) cJSON_AddItemToArray(m, arr(rows[i], 3));
-        cJSON_AddItemToObject(tr, "translation", arr(t, 2));
-        cJSON_AddItemToObject(tr, "angle_deg", num(atan2(T->m[1][0], T->m[0][0]) * 180.0 / M_PI_TRAM));
+    tram_register_report r = {p, res, resid, robust ? inlier : NULL, thr, method, scale, trust, to};
+    tram_error err;
+    char *text = NULL;
+    if (tram_register_to_json(&r, &text, &err) != TRAM_OK) {
+        fprintf(stderr, "tram register: error: %s\n", err.message);
+        return CLI_EXIT_USAGE;
     }
-    cJSON_AddItemToObject(root, "scale", num(res->scale));
-    cJSON_AddBoolToObject(root, "scale_solved", scale);
-    cJSON *rs = cJSON_AddObjectToObject(root, "residuals");
-    double mx = 0, ss = 0;
-    size_t k = 0;
-    for (size_t i = 0; i < p->n; i++)
-        if (!robust || inlier[i]) {
-            ss += resid[i] * resid[i];
-            k++;
-            if (resid[i] > mx) mx = resid[i];
-        }
-    cJSON_AddItemToObject(rs, "rms", num(k ? sqrt(ss / (double)k) : 0.0));
-    cJSON_AddItemToObject(rs, "max", num(mx));
-    cJSON *pts = cJSON_AddArrayToObject(rs, "points");
-    for (size_t i = 0; i < p->n; i++) {
-        cJSON *o = cJSON_CreateObject();
-        cJSON_AddItemToArray(pts, o);
-        cJSON_AddStringToObject(o, "point", p->id[i]);
-        cJSON_AddItemToObject(o, "residual", num(resid[i]));
-        cJSON_AddBoolToObject(o, "outlier", robust && !inlier[i]);
-    }
-    cJSON *u = cJSON_AddObjectToObject(root, "uncertainty");
-    cJSON_AddItemToObject(u, "translation_sigma", arr(res->translation_sigma, d));
-    if (d == 3) cJSON_AddItemToObject(u, "rotation_sigma_deg", arr(res->rotation_sigma_deg, 3));
-    else cJSON_AddItemToObject(u, "angle_sigma_deg", num(res->rotation_sigma_deg[2]));
-    if (scale) cJSON_AddItemToObject(u, "scale_sigma", num(res->scale_sigma));
-    if (robust) {
-        cJSON *r = cJSON_AddObjectToObject(root, "robust");
-        cJSON_AddItemToObject(r, "threshold", num(thr));
-        cJSON_AddNumberToObject(r, "inliers", (double)k);
-    }
-    cJSON *pl = cJSON_AddObjectToObject(root, "plausibility");
-    cJSON_AddItemToObject(pl, "working_distance", num(trust->working_distance));
-    cJSON_AddItemToObject(pl, "limit_rms", num(trust->limit));
-    cJSON_AddBoolToObject(pl, "gate_passed", !trust->gate_failed);
-    if (trust->permutations) {
-        cJSON *pt = cJSON_AddObjectToObject(pl, "pairing_test");
-        cJSON_AddItemToObject(pt, "permutations", num((double)trust->permutations));
-        cJSON_AddItemToObject(pt, "seed", num((double)to->seed));
-        cJSON_AddItemToObject(pt, "ratio", num(trust->pairing_ratio));
-        cJSON_AddBoolToObject(pt, "passed", !trust->pairing_failed);
-    }
-    cJSON *dg = cJSON_AddArrayToObject(root, "diagnostics");
-    char msg[2][600];
-    int nw = trust_warnings(trust, to, tram_unit_length_name(p->length_unit), msg);
-    for (int j = 0; j < nw; j++) {
-        cJSON *o = cJSON_CreateObject();
-        char *colon = strchr(msg[j], ':');
-        *colon = '\0';
-        cJSON_AddStringToObject(o, "code", msg[j]);
-        cJSON_AddStringToObject(o, "severity", "warning");
-        cJSON_AddStringToObject(o, "message", colon + 2);
-        cJSON_AddItemToArray(dg, o);
-    }
-    char *text = cJSON_Print(root);
-    cJSON_Delete(root);
-    if (!text) return CLI_EXIT_USAGE;
-    puts(text);
-    cJSON_free(text);
+    fputs(text, stdout);
+    tram_free(text);
     return CLI_EXIT_OK;
 }
 
@@ -415,9 +296,10 @@ static int judge_and_print(const tram_point_pairs *p, reg_args *a, const tram_re
     else
         print_text(p, res, resid, inlier, used, mname, a, &trust);
     if (rc != CLI_EXIT_OK) return rc;
-    char msg[2][600];
-    int nw = trust_warnings(&trust, &a->to, tram_unit_length_name(p->length_unit), msg);
-    for (int k = 0; k < nw; k++) fprintf(stderr, "tram register: warning: %s\n", msg[k]);
+    tram_register_warning w[TRAM_REGISTER_WARNINGS_MAX];
+    size_t nw = tram_register_trust_warnings(&trust, &a->to, p->length_unit, w);
+    for (size_t k = 0; k < nw; k++)
+        fprintf(stderr, "tram register: warning: %s: %s\n", w[k].code, w[k].message);
     return nw ? CLI_EXIT_UNDETERMINED : CLI_EXIT_OK;
 }
 

@@ -73,6 +73,11 @@ void tram__jb_bool(tram__jb *b, cJSON *parent, const char *key, int v)
     attach(b, parent, key, cJSON_CreateBool(v != 0));
 }
 
+void tram__jb_null(tram__jb *b, cJSON *parent, const char *key)
+{
+    attach(b, parent, key, cJSON_CreateNull());
+}
+
 void tram__jb_vec(tram__jb *b, cJSON *parent, const char *key, const double *v, int n, double f)
 {
     cJSON *a = tram__jb_arr(b, parent, key);

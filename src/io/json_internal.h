@@ -29,6 +29,7 @@ cJSON *tram__jb_arr(tram__jb *b, cJSON *parent, const char *key);
 void tram__jb_str(tram__jb *b, cJSON *parent, const char *key, const char *v);
 void tram__jb_num(tram__jb *b, cJSON *parent, const char *key, double v);
 void tram__jb_bool(tram__jb *b, cJSON *parent, const char *key, int v);
+void tram__jb_null(tram__jb *b, cJSON *parent, const char *key);
 /* An array of the n numbers v[i] * f. */
 void tram__jb_vec(tram__jb *b, cJSON *parent, const char *key, const double *v, int n, double f);
 /* A 4x4 matrix as four rows. */

@@ -460,7 +460,7 @@ static double rms_of(const double *v, const int *flag, size_t n)
     return k ? sqrt(s / (double)k) : 0;
 }
 
-static void legend_bars(cairo_t *cr, double x, double y)
+static void legend_bars(cairo_t *cr, double x, double y, int thresholds)
 {
     cairo_set_source_rgb(cr, C_BLUE);
     cairo_rectangle(cr, x, y - 10, 14, 10);
@@ -472,7 +472,9 @@ static void legend_bars(cairo_t *cr, double x, double y)
     cairo_fill(cr);
     cairo_set_source_rgb(cr, 0, 0, 0);
     tram__canvas_text(cr, x + 110, y, 12, "outlier (excluded)", 0);
-    tram__canvas_text(cr, x + 250, y, 12, "dashed black: RMS   orange: outlier threshold", 0);
+    tram__canvas_text(cr, x + 250, y, 12,
+                      thresholds ? "dashed black: RMS   orange: outlier threshold"
+                                 : "dashed black: RMS", 0);
 }
 
 tram_status tram_plot_residuals(const tram_plot_residuals_data *d, int w, int h, tram_image **out,
@@ -484,7 +486,7 @@ tram_status tram_plot_residuals(const tram_plot_residuals_data *d, int w, int h,
     cairo_t *cr = c.cr;
     const char *u = tram_unit_length_name(d->length_unit);
     title(cr, w, d->title ? d->title : "Per-station residuals");
-    legend_bars(cr, 90, 58);
+    legend_bars(cr, 90, 58, d->rot_threshold_deg > 0 || d->trans_threshold > 0);
     double left = 90, right = d->trans_vec ? 0.30 * w : 30, top = 80, gap = 90;
     double pw = w - left - right - (d->trans_vec ? 60 : 0), ph = (h - top - 2 * gap) / 2;
     panel p1 = {left, top, pw, ph, vmax_of(d->rot_deg, d->n, d->rot_threshold_deg)};
@@ -541,7 +543,7 @@ tram_status tram_plot_points(size_t n, const char *const *ids, const double *res
     if (st != TRAM_OK) return st;
     cairo_t *cr = c.cr;
     title(cr, w, t ? t : "Per-point registration residuals");
-    legend_bars(cr, 90, 58);
+    legend_bars(cr, 90, 58, threshold > 0);
     panel p = {90, 80, w - 120.0, h - 170.0, vmax_of(residual, n, threshold)};
     char lab[64];
     snprintf(lab, sizeof lab, "residual (%s)", tram_unit_length_name(unit));

@@ -62,6 +62,12 @@ double tram__gate_length(const tram_trust_options *t, tram_length_unit unit, dou
     return t->max_rms_m / (m > 0 ? m : 1.0) + t->max_rms_fraction * wd;
 }
 
+/* Working distances outside this range (sensor to target) point to a length
+ * unit misread (common practice: close-range probes work from about 1 cm,
+ * cell cameras up to a few metres). */
+#define WD_PLAUSIBLE_MIN_M 0.01
+#define WD_PLAUSIBLE_MAX_M 20.0
+
 tram_status tram__gate(tram_solution *s, const tram_trust_options *t, double wd,
                        double rms_rot_deg, double rms_len, const char *what)
 {
@@ -75,17 +81,26 @@ tram_status tram__gate(tram_solution *s, const tram_trust_options *t, double wd,
     int bad_len = rms_len > lim;
     if (!bad_rot && !bad_len) return TRAM_OK;
     s->trust.gate_failed = 1;
-    char rot[80] = "";
-    if (!isnan(rms_rot_deg)) snprintf(rot, sizeof rot, "%.3g deg and ", rms_rot_deg);
+    char rot[80] = "", rot_lim[40] = "", hint[200] = "";
+    if (!isnan(rms_rot_deg)) {
+        snprintf(rot, sizeof rot, "%.3g deg and ", rms_rot_deg);
+        snprintf(rot_lim, sizeof rot_lim, "%.3g deg and ", t->max_rms_deg);
+    }
+    double wd_m = wd * tram_unit_length_in_m(s->length_unit);
+    if (wd_m > 0 && (wd_m < WD_PLAUSIBLE_MIN_M || wd_m > WD_PLAUSIBLE_MAX_M))
+        snprintf(hint, sizeof hint,
+                 ". A working distance of %.4g %s is itself implausible for a sensor looking at "
+                 "a target: the sensor's lengths are most likely in another unit than declared",
+                 wd, u);
     return tram__diag_add(
         s, "implausible-residuals", TRAM_SEVERITY_WARNING,
         "the %s residuals (RMS %s%.4g %s) are beyond what a working sensor and robot produce "
-        "(at most %.3g deg and %.4g %s: %.3g m plus %.3g%% of the %.4g %s working distance; "
+        "(at most %s%.4g %s: %.3g m plus %.3g%% of the %.4g %s working distance; "
         "common practice, set with --max-residual). Likely mistakes: robot and sensor rows not "
         "paired station by station (shifted, sorted differently, a row missing), the sensor's "
-        "length unit, a pose or angle convention, or the wrong file",
-        what, rot, rms_len, u, t->max_rms_deg, lim, u, t->max_rms_m, 100 * t->max_rms_fraction,
-        wd, u);
+        "length unit, a pose or angle convention, or the wrong file%s",
+        what, rot, rms_len, u, rot_lim, lim, u, t->max_rms_m, 100 * t->max_rms_fraction,
+        wd, u, hint);
 }
 
 tram_status tram__pairing_report(tram_solution *s, size_t perms, unsigned long long seed,

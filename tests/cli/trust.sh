@@ -66,6 +66,9 @@ shift_rows 3 7 "$demo/wrist_camera.csv" >"$tmp/shift3.csv"
 expect_rc "points honest" 0 "pairing test: .* passed" solve --points "$tmp/pts.csv" "$demo/wrist_camera.csv"
 expect_rc "points rows shifted" 3 "3D point residuals .* are beyond" solve --points "$tmp/pts.csv" "$tmp/shift3.csv"
 expect_rc "points in m declared mm" 3 "3D point residuals .* are beyond" solve --points "$tmp/pts_m.csv" "$demo/wrist_camera.csv"
+# the gate names the tiny working distance as a unit misread, and gives no
+# rotation limit where the residuals have no rotation
+expect_rc "points in m declared mm: unit hint" 3 "at most 5.0.* mm: .*working distance of 0.45.* mm is itself implausible.*another unit than declared" solve --points "$tmp/pts_m.csv" "$demo/wrist_camera.csv"
 
 # register: 12 tool-tip points and their camera coordinates (rotation 30 deg about z)
 awk 'BEGIN {srand(3); print "# length-unit: mm"; print "point,from_x,from_y,from_z,to_x,to_y,to_z";

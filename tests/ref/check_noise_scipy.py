@@ -38,22 +38,12 @@ import numpy as np
 from scipy.optimize import least_squares
 from scipy.spatial.transform import Rotation
 
+from refcommon import inv, pose, write_records
+
 SEED = 20261213
 SEN_DEG = np.array([0.05, 0.05, 0.05])
 SEN_MM = np.array([0.1, 0.1, 0.3])
 ROB_DEG, ROB_MM = 0.005, 0.02
-
-
-def pose(R, t):
-    T = np.eye(4)
-    T[:3, :3] = R
-    T[:3, 3] = t
-    return T
-
-
-def inv(T):
-    R, t = T[:3, :3], T[:3, 3]
-    return pose(R.T, -R.T @ t)
 
 
 def exp3(w):
@@ -141,19 +131,6 @@ def reference(setup, F, S, Ft, St, X, Z):
 
     sol = least_squares(fun, np.zeros(12), method="lm", xtol=1e-12, ftol=1e-12)
     return unpack(sol.x)
-
-
-def write_records(path, setup, F, S):
-    with open(path, "w") as f:
-        f.write(f"# setup: {setup}\n# length-unit: mm\n")
-        f.write("station,robot_x,robot_y,robot_z,robot_qw,robot_qx,robot_qy,robot_qz,"
-                "sensor_x,sensor_y,sensor_z,sensor_qw,sensor_qx,sensor_qy,sensor_qz\n")
-        for i, (a, b) in enumerate(zip(F, S)):
-            cols = []
-            for T in (a, b):
-                q = Rotation.from_matrix(T[:3, :3]).as_quat()  # x, y, z, w
-                cols += list(T[:3, 3]) + [q[3], q[0], q[1], q[2]]
-            f.write(f"s{i + 1:02d}," + ",".join(repr(float(c)) for c in cols) + "\n")
 
 
 def errors(A, B):

@@ -21,41 +21,10 @@ import numpy as np
 from scipy.optimize import least_squares
 from scipy.spatial.transform import Rotation
 
+from refcommon import inv, noisy, pose, write_records
+
 SEED = 424242
 SIG_DEG, SIG_MM = 0.05, 0.2
-
-
-def pose(rot, t):
-    T = np.eye(4)
-    T[:3, :3] = rot.as_matrix()
-    T[:3, 3] = t
-    return T
-
-
-def inv(T):
-    R, t = T[:3, :3], T[:3, 3]
-    out = np.eye(4)
-    out[:3, :3] = R.T
-    out[:3, 3] = -R.T @ t
-    return out
-
-
-def noisy(rng, T, sdeg, smm):
-    R = Rotation.from_matrix(T[:3, :3]) * Rotation.from_rotvec(np.radians(rng.normal(0, sdeg, 3)))
-    return pose(R, T[:3, 3] + rng.normal(0, smm, 3))
-
-
-def write_records(path, setup, F, S):
-    with open(path, "w") as f:
-        f.write(f"# setup: {setup}\n# length-unit: mm\n")
-        f.write("station,robot_x,robot_y,robot_z,robot_qw,robot_qx,robot_qy,robot_qz,"
-                "sensor_x,sensor_y,sensor_z,sensor_qw,sensor_qx,sensor_qy,sensor_qz\n")
-        for i, (a, b) in enumerate(zip(F, S)):
-            cols = []
-            for T in (a, b):
-                q = Rotation.from_matrix(T[:3, :3]).as_quat()  # x, y, z, w
-                cols += list(T[:3, 3]) + [q[3], q[0], q[1], q[2]]
-            f.write(f"s{i + 1}," + ",".join(repr(float(c)) for c in cols) + "\n")
 
 
 def reference(P, S, X0, Z0):

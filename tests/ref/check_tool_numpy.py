@@ -21,34 +21,9 @@ import tempfile
 import numpy as np
 from scipy.spatial.transform import Rotation
 
+from refcommon import pose as T, rot_deg, write_records
+
 SEED = 190190
-
-
-def T(R, t):
-    M = np.eye(4)
-    M[:3, :3] = R.as_matrix() if isinstance(R, Rotation) else R
-    M[:3, 3] = t
-    return M
-
-
-def rot_deg(A, B):
-    return np.degrees(Rotation.from_matrix(A[:3, :3] @ B[:3, :3].T).magnitude())
-
-
-def row(M):
-    q = Rotation.from_matrix(M[:3, :3]).as_quat()  # x, y, z, w
-    return [*M[:3, 3], q[3], q[0], q[1], q[2]]
-
-
-def write_records(path, setup, robot, sensor, directives):
-    with open(path, "w") as f:
-        f.write("# format: tram-records-1\n# setup: %s\n# length-unit: mm\n" % setup)
-        for d in directives:
-            f.write("# %s\n" % d)
-        f.write("station,robot_x,robot_y,robot_z,robot_qw,robot_qx,robot_qy,robot_qz,"
-                "sensor_x,sensor_y,sensor_z,sensor_qw,sensor_qx,sensor_qy,sensor_qz\n")
-        for i, (P, S) in enumerate(zip(robot, sensor)):
-            f.write("s%02d," % (i + 1) + ",".join("%.17g" % v for v in row(P) + row(S)) + "\n")
 
 
 def solve(tram, path, *extra):
@@ -120,7 +95,7 @@ def main():
 
             # the refusals: tool poses without a tool; a tool for flange poses
             rc, _, err = solve(tram, p_opt)
-            check(rc == 2 and f"{os.path.basename(p_opt)}:4: error: robot-pose: tool-in-base" in err
+            check(rc == 2 and f"{os.path.basename(p_opt)}:3: error: robot-pose: tool-in-base" in err
                   and "tool's pose in the flange frame is not given" in err,
                   f"{setup}: tool poses without a tool refused: {err.strip()[:160]}")
             p_fl = os.path.join(tmp, setup + "-flange.csv")
