@@ -274,6 +274,7 @@ ref-tests: $(B)/refhelper $(B)/tram $(B)/render_ref $(B)/libtram.so
 	$(TEST_ENV) $(PYTHON) tests/ref/check_intrinsics_scipy.py $(B)/tram
 	$(TEST_ENV) $(PYTHON) tests/ref/check_plan_numpy.py $(B)/tram
 	$(TEST_ENV) $(PYTHON) tests/ref/check_report_scipy.py $(B)/tram
+	$(TEST_ENV) $(PYTHON) tests/ref/check_euler_cov_scipy.py $(B)/tram
 	$(TEST_ENV) $(PYTHON) tests/ref/check_tool_numpy.py $(B)/tram
 	$(TEST_ENV) TRAM_LIBRARY=$(abspath $(B)/libtram.so) PYTHONPATH=$(abspath python) \
 	  $(PYTHON) tests/ref/check_noise_scipy.py
