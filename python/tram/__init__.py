@@ -253,6 +253,8 @@ class Solution:
         self.residual_rotation_deg = np.array([s.get("rotation_deg", np.nan) for s in st], dtype=float)
         self.residual_translation = np.array([s.get("translation", np.nan) for s in st], dtype=float)
         self.outliers = np.array([bool(s.get("outlier")) for s in st])
+        # stations with no sensor data in the solve (no pixels): left out, not outliers
+        self.no_data = np.array([bool(s.get("no_data")) for s in st])
         # 12 x 12, order: X translation (length, parent frame), X rotation
         # about its own axes (rad), then Z likewise; None when not valid
         self.covariance = covariance
