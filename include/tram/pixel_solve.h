@@ -56,10 +56,25 @@ typedef struct tram_pixel_solve_options {
                                 refine_intrinsics) */
     int free_skew;           /* with refine_intrinsics: free the skew too (for
                                 a camera calibrated with its skew free) */
+    /* The files the camera and the target were read from, recorded with
+     * their FNV-1a 64 checksums in the solution's pixel inputs (and so in
+     * a calibration file's "input".pixels); NULL: not from a file.  The
+     * observations' file is obs->source. */
+    const char *camera_path;
+    const char *target_path;
+    int target_is_model;     /* 1: target_path is a model file, 0: a board   */
 } tram_pixel_solve_options;
 
 /* Defaults: the camera held fixed and taken as exact. */
 TRAM_API void tram_pixel_solve_options_init(tram_pixel_solve_options *opt);
+
+/* One input file of a pixel solve: its path ("" when not from a file)
+ * and the FNV-1a 64 checksum of its bytes at solve time (16 hex digits;
+ * "" when it could not be read again). */
+typedef struct tram_pixel_input {
+    char path[256];
+    char checksum[24];
+} tram_pixel_input;
 
 /* Pixel results of a solve (owned by the solution). */
 typedef struct tram_pixel_result {
@@ -85,6 +100,10 @@ typedef struct tram_pixel_result {
     double camera_share[12];    /* of each variance of X, Z (translation,
                                    rotation; X then Z): the fraction that
                                    comes from the camera (0 when not used)    */
+    tram_pixel_input in_observations; /* the pixel observations (obs->source) */
+    tram_pixel_input in_camera;       /* popt->camera_path                    */
+    tram_pixel_input in_target;       /* popt->target_path (board or model)    */
+    int target_is_model;
 } tram_pixel_result;
 
 /* Solve from pixels.  r gives the robot poses of the stations (its sensor

@@ -33,6 +33,9 @@ tram_status cli_solve_pixels(const tram_records *r, tram_setup setup, const cli_
     tram_pixel_solve_options_init(&po);
     po.refine_intrinsics = a->refine_intrinsics;
     po.camera_cov = kind ? cov : NULL;
+    po.camera_path = a->camera;
+    po.target_path = a->board ? a->board : a->model;
+    po.target_is_model = !a->board;
     /* the skew is refined only for a camera calibrated with it free */
     po.free_skew = kind && cal.free_param[TRAM_CAM_SKEW];
     if (kind == 2 && !a->refine_intrinsics)

@@ -6,6 +6,9 @@
  */
 #include "solve/pixels_solve_internal.h"
 #include "solve/pipeline_internal.h"
+#include "io/text_internal.h"
+
+#include <stdio.h>
 
 #include <math.h>
 #include <string.h>
@@ -32,6 +35,29 @@ tram_status tram__pixel_result_alloc(size_t nst, size_t nobs, tram_pixel_result 
         return TRAM_ENOMEM;
     }
     return TRAM_OK;
+}
+
+static void record_input(tram_pixel_input *in, const char *path)
+{
+    if (!path || !path[0]) return;
+    snprintf(in->path, sizeof in->path, "%s", path);
+    char *data = NULL;
+    size_t len = 0;
+    tram_error e;
+    tram_error_clear(&e);
+    if (tram__read_all(path, &data, &len, &e) != TRAM_OK) return; /* no checksum */
+    snprintf(in->checksum, sizeof in->checksum, "%016llx", tram__fnv1a64(data, len));
+    tram__free(data);
+}
+
+void tram__pixel_result_inputs(tram_pixel_result *p, const tram_pixel_obs *obs,
+                               const tram_pixel_solve_options *popt)
+{
+    record_input(&p->in_observations, obs->source);
+    if (!popt) return;
+    record_input(&p->in_camera, popt->camera_path);
+    record_input(&p->in_target, popt->target_path);
+    p->target_is_model = popt->target_is_model;
 }
 
 /* From the observed stations back to all stations of r (those without

@@ -738,6 +738,7 @@ tram_status tram_solve_pixels(const tram_records *r, tram_setup setup, const tra
         goto out;
     }
     memcpy(pr->pose_rms_px, pose_rms, nk * sizeof *pose_rms);
+    tram__pixel_result_inputs(pr, obs, popt);
     for (size_t i = 0; i < nk; i++) {
         if (setup == TRAM_SETUP_EYE_TO_HAND) tram_se3_invert(&rr->stations[i].T_base_flange, &P[i]);
         else P[i] = rr->stations[i].T_base_flange;

@@ -15,6 +15,10 @@ void tram__pixel_result_json(tram__jb *b, cJSON *root, const tram_solution *s,
                              const tram_records *r);
 
 /* The pixel results for nst stations and nobs observations (zeroed). */
+/* The input files of the solve (observations, camera, target) with
+ * the FNV-1a 64 checksum of each, read again from disk. */
+void tram__pixel_result_inputs(tram_pixel_result *p, const tram_pixel_obs *obs,
+                               const tram_pixel_solve_options *popt);
 tram_status tram__pixel_result_alloc(size_t nst, size_t nobs, tram_pixel_result **out);
 /* From the observed stations of a solve back to every station of r
  * (keep_of_r: r's station -> observed station, SIZE_MAX for none). */

@@ -233,8 +233,17 @@ static void add_checks(tram__jb *b, cJSON *root, const tram_solution *s)
     }
 }
 
+/* One input file of a pixel solve: {"source", "checksum_fnv1a64"}. */
+static void add_pixel_input(tram__jb *b, cJSON *px, const char *key, const tram_pixel_input *f)
+{
+    if (!f->path[0]) return;
+    cJSON *o = tram__jb_obj(b, px, key);
+    tram__jb_str(b, o, "source", f->path);
+    if (f->checksum[0]) tram__jb_str(b, o, "checksum_fnv1a64", f->checksum);
+}
+
 /* What a later mount check needs: the input poses, the checksum, the
- * covariance. */
+ * covariance; and, from a pixel solve, its other input files. */
 static void add_calibration_input(tram__jb *b, cJSON *root, const tram_solution *s,
                                   const tram_records *r)
 {
@@ -243,6 +252,13 @@ static void add_calibration_input(tram__jb *b, cJSON *root, const tram_solution 
     snprintf(hex, sizeof hex, "%016llx", r->checksum);
     tram__jb_str(b, in, "source", r->source);
     tram__jb_str(b, in, "checksum_fnv1a64", hex);
+    const tram_pixel_result *p = s->pixels;
+    if (p && p->in_observations.path[0]) {
+        cJSON *px = tram__jb_obj(b, in, "pixels");
+        add_pixel_input(b, px, "observations", &p->in_observations);
+        add_pixel_input(b, px, "camera", &p->in_camera);
+        add_pixel_input(b, px, p->target_is_model ? "model" : "board", &p->in_target);
+    }
     cJSON *arr = tram__jb_arr(b, in, "stations");
     for (size_t i = 0; arr && i < r->count; i++) {
         cJSON *o = tram__jb_obj(b, arr, NULL);
