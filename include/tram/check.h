@@ -30,6 +30,14 @@ typedef struct tram_calibration_residual {
     int outlier;
 } tram_calibration_residual;
 
+/* An input file of a pixel solve stored with a calibration
+ * (input.pixels.<key>). */
+typedef struct tram_calibration_input {
+    char key[16];             /* "observations", "camera", "board" or "model"     */
+    char source[256];         /* the path solve read it from                      */
+    char checksum[24];        /* FNV-1a 64 of its bytes at solve time ("": none)  */
+} tram_calibration_input;
+
 /* A stored calibration. */
 typedef struct tram_calibration {
     tram_setup setup;
@@ -77,6 +85,11 @@ typedef struct tram_calibration {
      * report shows and tram_check refuses (it compares poses), naming the
      * position of "noise" in the file (noise_line, noise_column). */
     long noise_line, noise_column;
+    /* The other input files of a pixel solve (input.pixels), in the order
+     * observations, camera, board, model; 0 when the file has none (older
+     * files, pose solves). */
+    size_t npixel_inputs;
+    tram_calibration_input pixel_inputs[4];
 } tram_calibration;
 
 /* Read a calibration file.  Wrong format, a newer version, missing or

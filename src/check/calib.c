@@ -333,6 +333,42 @@ static tram_status read_diagnostics(const char *name, const tram__json_pos *pos,
     return TRAM_OK;
 }
 
+/* input.pixels: {"observations"|"camera"|"board"|"model": {"source",
+ * "checksum_fnv1a64"}}, each optional. */
+static tram_status read_pixel_inputs(const char *name, const tram__json_pos *pos,
+                                     const cJSON *in, tram_calibration *c, tram_error *err)
+{
+    const cJSON *px = cJSON_GetObjectItemCaseSensitive(in, "pixels");
+    if (!px) return TRAM_OK;
+    if (!cJSON_IsObject(px))
+        return BAD("input.pixels", "damaged calibration file: input.pixels must be an object");
+    static const char *const keys[4] = {"observations", "camera", "board", "model"};
+    for (size_t k = 0; k < 4; k++) {
+        const cJSON *o = cJSON_GetObjectItemCaseSensitive(px, keys[k]);
+        if (!o) continue;
+        char path[40];
+        snprintf(path, sizeof path, "input.pixels.%s", keys[k]);
+        if (!cJSON_IsObject(o))
+            return BAD(path, "damaged calibration file: %s must be an object with \"source\"", path);
+        tram_calibration_input *f = &c->pixel_inputs[c->npixel_inputs];
+        snprintf(f->key, sizeof f->key, "%s", keys[k]);
+        tram_status st = opt_text(name, pos, o, path, "source", f->source, sizeof f->source, err);
+        if (st == TRAM_OK)
+            st = opt_text(name, pos, o, path, "checksum_fnv1a64", f->checksum, sizeof f->checksum, err);
+        if (st != TRAM_OK) return st;
+        if (!f->source[0])
+            return BAD(path, "damaged calibration file: %s: expected a non-empty \"source\"", path);
+        if (f->checksum[0] && (strlen(f->checksum) != 16 ||
+                               strspn(f->checksum, "0123456789abcdef") != 16)) {
+            char at[64];
+            snprintf(at, sizeof at, "%s.checksum_fnv1a64", path);
+            return BAD(at, "damaged calibration file: %s: expected 16 lowercase hex digits", at);
+        }
+        c->npixel_inputs++;
+    }
+    return TRAM_OK;
+}
+
 /* input.source and input.stations (id and T_base_flange of each). */
 static tram_status read_input(const char *name, const tram__json_pos *pos, const cJSON *root,
                               tram_calibration *c, tram_error *err)
@@ -340,6 +376,7 @@ static tram_status read_input(const char *name, const tram__json_pos *pos, const
     const cJSON *in = cJSON_GetObjectItemCaseSensitive(root, "input");
     tram_status st = opt_text(name, pos, in, "input", "source", c->input_source,
                               sizeof c->input_source, err);
+    if (st == TRAM_OK) st = read_pixel_inputs(name, pos, in, c, err);
     const cJSON *arr = cJSON_GetObjectItemCaseSensitive(in, "stations");
     if (st != TRAM_OK || !arr) return st;
     if (!cJSON_IsArray(arr))

@@ -61,25 +61,40 @@ static void hash_file(tram__report_file *f, const char *role, const char *path, 
     }
 }
 
-/* The record file the calibration was solved from, checked against the
- * FNV-1a checksum stored with the calibration. */
-static void hash_records(tram__report_file *f, const tram_calibration *cal)
+/* An input file the calibration was solved from (the records, or a
+ * pixel solve's other files), checked against the FNV-1a checksum stored
+ * with the calibration ("" when it holds none). */
+static void hash_checked(tram__report_file *f, const char *role, const char *path,
+                         const char *checksum)
 {
     char *data = NULL;
     size_t len = 0;
-    hash_file(f, "records (solved)", cal->input_source, &data, &len);
+    hash_file(f, role, path, &data, &len);
     if (!f->found) return;
     char hex[24];
     snprintf(hex, sizeof hex, "%016llx", tram__fnv1a64(data, len));
     tram__free(data);
-    if (!cal->checksum[0])
+    if (!checksum[0])
         snprintf(f->note, sizeof f->note, "the calibration holds no checksum to compare with");
-    else if (strcmp(hex, cal->checksum) == 0)
+    else if (strcmp(hex, checksum) == 0)
         snprintf(f->note, sizeof f->note, "the same bytes as solved (FNV-1a %s)", hex);
     else
         snprintf(f->note, sizeof f->note,
                  "CHANGED since the calibration (FNV-1a %s, the calibration has %s)", hex,
-                 cal->checksum);
+                 checksum);
+}
+
+/* The record file, then a pixel solve's observations, camera and target. */
+static void hash_solve_inputs(tram__report_ctx *c, const tram_calibration *cal)
+{
+    if (cal->input_source[0])
+        hash_checked(&c->files[c->nfiles++], "records (solved)", cal->input_source,
+                     cal->checksum);
+    for (size_t i = 0; i < cal->npixel_inputs && i < 4; i++) {
+        const tram_calibration_input *in = &cal->pixel_inputs[i];
+        const char *role = strcmp(in->key, "observations") == 0 ? "pixel observations" : in->key;
+        hash_checked(&c->files[c->nfiles++], role, in->source, in->checksum);
+    }
 }
 
 /* Station flags of the input stations, matched by id to the residuals. */
@@ -198,7 +213,7 @@ static tram_status read_inputs(const char *calibration_path, tram__report_ctx *c
     tram__free(data);
     if (st != TRAM_OK) return st;
     c->cal = *cal;
-    if ((*cal)->input_source[0]) hash_records(&c->files[c->nfiles++], *cal);
+    hash_solve_inputs(c, *cal);
     if (c->opt->history_path) {
         st = tram_check_history_read_file(c->opt->history_path, hist, err);
         if (st != TRAM_OK) return st;

@@ -10,7 +10,7 @@
 
 /* One input file listed with its hash. */
 typedef struct tram__report_file {
-    char role[48];        /* "calibration", "records (solved)", "check history" */
+    char role[48];        /* "calibration", "records (solved)", "camera", ...  */
     char path[256];
     int found;            /* read at report time                             */
     size_t bytes;
@@ -23,7 +23,7 @@ typedef struct tram__report_ctx {
     const tram_report_options *opt;
     const char *X_name, *Z_name;   /* "T_flange_sensor", ...                  */
     size_t nfiles;
-    tram__report_file files[3];
+    tram__report_file files[8]; /* calibration, records, 4 pixel inputs, history */
     const tram_check_history *history; /* or NULL                              */
     tram_image *frames, *residuals, *history_img; /* pictures, or NULL        */
 } tram__report_ctx;
