@@ -37,6 +37,29 @@ sed 's/"source":\t"[^"]*\.csv"/"source":\t"'"$(printf '%s' "$tmp/changed.csv" | 
 sed 's/^p01,862.794/p01,862.795/' "$demo/wrist_camera.csv" >"$tmp/changed.csv"
 "$TRAM" report "$tmp/rep2.cal.json" -o "$tmp/rep2.pdf" --euler zyx-intrinsic >/dev/null 2>&1 &&
     pdftotext "$tmp/rep2.pdf" - | tr '\n' ' ' | grep -q "CHANGED since the calibration" && ok || bad "report marks a changed records file"
+# a pixel solve's observations, camera and board are listed with their SHA-256 (as sha256sum
+# computes it), and a camera file changed since the solve is marked
+mkdir -p "$tmp/rpx"; cp "$here/data/pixels/"* "$tmp/rpx/"
+"$TRAM" solve --pixels "$tmp/rpx/pixels.csv" --camera "$tmp/rpx/camera.json" --board "$tmp/rpx/board.json" \
+    "$tmp/rpx/robot.csv" -o "$tmp/rpx.cal.json" >/dev/null 2>&1 || bad "pixel solve for report"
+"$TRAM" report "$tmp/rpx.cal.json" -o "$tmp/rpx.pdf" --euler zyx-intrinsic >/dev/null 2>&1 || bad "report of a pixel solve"
+pdftotext "$tmp/rpx.pdf" - | tr '\n' ' ' | tr -s ' ' >"$tmp/rpx.txt"
+for f in "pixel observations:pixels.csv" "camera:camera.json" "board:board.json" "records (solved):robot.csv"; do
+    role=${f%%:*}; file="$tmp/rpx/${f#*:}"; sum=$(sha256sum "$file" | cut -d' ' -f1)
+    grep -qF -- "$role: $file (" "$tmp/rpx.txt" && grep -qF -- "SHA-256 $sum" "$tmp/rpx.txt" &&
+        [ "$(grep -oF -- "the same bytes as solved" "$tmp/rpx.txt" | wc -l)" -eq 4 ] && ok ||
+        bad "report of a pixel solve lacks $role $file with SHA-256 $sum"
+done
+printf ' \n' >>"$tmp/rpx/camera.json"
+"$TRAM" report "$tmp/rpx.cal.json" -o "$tmp/rpx2.pdf" --euler zyx-intrinsic >/dev/null 2>&1 &&
+    pdftotext "$tmp/rpx2.pdf" - | tr '\n' ' ' | tr -s ' ' >"$tmp/rpx2.txt" &&
+    grep -qF -- "camera: $tmp/rpx/camera.json ($(wc -c <"$tmp/rpx/camera.json") bytes); CHANGED since the calibration" "$tmp/rpx2.txt" &&
+    [ "$(grep -oF -- "CHANGED since the calibration" "$tmp/rpx2.txt" | wc -l)" -eq 1 ] && ok ||
+    bad "report marks a changed camera file (and only it)"
+# a damaged input.pixels entry is named at file:line:column
+sed '/"observations"/,/checksum/ s/"checksum_fnv1a64":\t"[0-9a-f]*"/"checksum_fnv1a64":\t"zz"/' "$tmp/rpx.cal.json" >"$tmp/rpx3.cal.json"
+expect_error "report: damaged input.pixels checksum" 2 'rpx3\.cal\.json:[0-9]+:[0-9]+.*input\.pixels\.observations\.checksum_fnv1a64: expected 16 lowercase hex' \
+    report "$tmp/rpx3.cal.json" -o "$tmp/rpx3.pdf" --euler zyx-intrinsic
 # refusals
 expect_error "report missing file" 2 "nothere.json: error: cannot open" report "$tmp/nothere.json" -o "$tmp/x.pdf" --euler zyx-intrinsic
 expect_error "report bad convention" 2 "--euler 'zyx': expected an axis sequence and a kind, e.g. zyx-intrinsic" report "$tmp/rep.cal.json" -o "$tmp/x.pdf" --euler zyx
