@@ -291,6 +291,71 @@ static void test_calibration_refused(void **state)
     tram_records_destroy(rec);
 }
 
+/* input.pixels: the other input files of a pixel solve, optional (a
+ * pose calibration has none), each entry named at file:line:column when
+ * damaged. */
+static void test_calibration_pixel_inputs(void **state)
+{
+    (void)state;
+    test_rng r = test_rng_seeded("check pixel inputs", 9011);
+    tram_se3 X, Z;
+    truth(&r, TRAM_SETUP_EYE_IN_HAND, &X, &Z);
+    tram_calibration *cal = calibrate(&r, TRAM_SETUP_EYE_IN_HAND, &X, &Z);
+    assert_int_equal(cal->npixel_inputs, 0);
+    tram_calibration_destroy(cal);
+    tram_records *rec = stations(&r, TRAM_SETUP_EYE_IN_HAND, 20, &X, &Z);
+    tram_solution *s;
+    tram_error e;
+    assert_int_equal(tram_solve(rec, TRAM_SETUP_EYE_IN_HAND, NULL, &s, &e), TRAM_OK);
+    char *text;
+    assert_int_equal(tram_solution_to_json(s, rec, "auto", 1, &text, &e), TRAM_OK);
+    cJSON *j = cJSON_Parse(text);
+    cJSON *px = cJSON_AddObjectToObject(cJSON_GetObjectItem(j, "input"), "pixels");
+    cJSON *o = cJSON_AddObjectToObject(px, "observations");
+    cJSON_AddStringToObject(o, "source", "obs.csv");
+    cJSON_AddStringToObject(o, "checksum_fnv1a64", "0123456789abcdef");
+    o = cJSON_AddObjectToObject(px, "model");
+    cJSON_AddStringToObject(o, "source", "model.csv");
+    char *t2 = cJSON_Print(j);
+    if (tram_calibration_read_buffer("c.json", t2, strlen(t2), &cal, &e) != TRAM_OK)
+        fail_msg("%s", e.message);
+    assert_int_equal(cal->npixel_inputs, 2);
+    assert_string_equal(cal->pixel_inputs[0].key, "observations");
+    assert_string_equal(cal->pixel_inputs[0].source, "obs.csv");
+    assert_string_equal(cal->pixel_inputs[0].checksum, "0123456789abcdef");
+    assert_string_equal(cal->pixel_inputs[1].key, "model");
+    assert_string_equal(cal->pixel_inputs[1].source, "model.csv");
+    assert_string_equal(cal->pixel_inputs[1].checksum, "");
+    tram_calibration_destroy(cal);
+    free(t2);
+    /* damaged: an entry that is not an object, one without a source, a bad checksum */
+    cJSON_AddStringToObject(px, "camera", "cam.json");
+    t2 = cJSON_Print(j);
+    assert_int_equal(tram_calibration_read_buffer("c.json", t2, strlen(t2), &cal, &e), TRAM_EINPUT);
+    assert_non_null(strstr(e.message, "input.pixels.camera must be an object"));
+    assert_true(e.line > 1 && e.column > 0);
+    free(t2);
+    cJSON_DeleteItemFromObject(px, "camera");
+    cJSON_DeleteItemFromObject(cJSON_GetObjectItem(px, "model"), "source");
+    t2 = cJSON_Print(j);
+    assert_int_equal(tram_calibration_read_buffer("c.json", t2, strlen(t2), &cal, &e), TRAM_EINPUT);
+    assert_non_null(strstr(e.message, "input.pixels.model: expected a non-empty \"source\""));
+    assert_true(e.line > 1 && e.column > 0);
+    free(t2);
+    cJSON_DeleteItemFromObject(px, "model");
+    cJSON_ReplaceItemInObject(cJSON_GetObjectItem(px, "observations"), "checksum_fnv1a64",
+                              cJSON_CreateString("0123"));
+    t2 = cJSON_Print(j);
+    assert_int_equal(tram_calibration_read_buffer("c.json", t2, strlen(t2), &cal, &e), TRAM_EINPUT);
+    assert_non_null(strstr(e.message, "input.pixels.observations.checksum_fnv1a64: expected 16"));
+    assert_true(e.line > 1 && e.column > 0);
+    free(t2);
+    cJSON_Delete(j);
+    free(text);
+    tram_solution_destroy(s);
+    tram_records_destroy(rec);
+}
+
 static void test_json_and_history(void **state)
 {
     (void)state;
@@ -414,6 +479,7 @@ int main(void)
         cmocka_unit_test(test_target_moved_eye_to_hand),
         cmocka_unit_test(test_single_station),
         cmocka_unit_test(test_calibration_refused),
+        cmocka_unit_test(test_calibration_pixel_inputs),
         cmocka_unit_test(test_json_and_history), cmocka_unit_test(test_history_refused)};
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
