@@ -669,20 +669,14 @@ tram_status tram__refine_covariance(const tram_refine_problem *pb, const double 
     return tram__refine_covariance_scale(pb, station_w, X, Z, scale2, cov, condition, NULL, NULL);
 }
 
-tram_status tram__refine_covariance_scale(const tram_refine_problem *pb, const double *station_w,
-                                          const tram_se3 *X, const tram_se3 *Z, double scale2,
-                                          double cov[NP * NP], double *condition, double *var_scale,
-                                          double cov_scale[NP])
+/* scale2 * H^-1 into the 12x12 layout (NaN where not free), the
+ * condition of H's correlation form, and the scale's variance and
+ * covariances (either may be NULL); H (np x np, symmetric) is kept. */
+static tram_status cov_from_normal(const tram_refine_problem *pb, const double *H, double scale2,
+                                   double cov[NP * NP], double *condition, double *var_scale,
+                                   double cov_scale[NP])
 {
     int np = nparams(pb);
-    size_t nb = nblocks(pb);
-    double *w = tram__malloc((nb ? nb : 1) * sizeof *w);
-    if (!w) return TRAM_ENOMEM;
-    for (size_t i = 0; i < nb; i++) w[i] = station_w ? station_w[i] : 1.0;
-    double H[NPX * NPX], g[NPX];
-    tram_status st = normal_equations(pb, w, X, Z, H, g);
-    tram__free(w);
-    if (st != TRAM_OK) return st;
     if (condition) {
         /* Condition of the correlation form of H: independent of units. */
         double C[NPX * NPX], ev[NPX], V[NPX * NPX];
@@ -695,7 +689,7 @@ tram_status tram__refine_covariance_scale(const tram_refine_problem *pb, const d
             *condition = INFINITY;
     }
     double Ci[NPX * NPX];
-    st = tram__spd_inverse(np, H, Ci);
+    tram_status st = tram__spd_inverse(np, H, Ci);
     if (st != TRAM_OK) return st;
     /* Into the 12x12 layout; parameters that were not free get NaN. */
     int nx = nbase(pb), ks = pb->scale ? nx : -1;
@@ -706,6 +700,53 @@ tram_status tram__refine_covariance_scale(const tram_refine_problem *pb, const d
     if (cov_scale)
         for (int a = 0; a < NP; a++) cov_scale[a] = ks >= 0 && a < nx ? Ci[a * np + ks] * scale2 : NAN;
     return TRAM_OK;
+}
+
+tram_status tram__refine_covariance_scale(const tram_refine_problem *pb, const double *station_w,
+                                          const tram_se3 *X, const tram_se3 *Z, double scale2,
+                                          double cov[NP * NP], double *condition, double *var_scale,
+                                          double cov_scale[NP])
+{
+    size_t nb = nblocks(pb);
+    double *w = tram__malloc((nb ? nb : 1) * sizeof *w);
+    if (!w) return TRAM_ENOMEM;
+    for (size_t i = 0; i < nb; i++) w[i] = station_w ? station_w[i] : 1.0;
+    double H[NPX * NPX], g[NPX];
+    tram_status st = normal_equations(pb, w, X, Z, H, g);
+    tram__free(w);
+    if (st != TRAM_OK) return st;
+    return cov_from_normal(pb, H, scale2, cov, condition, var_scale, cov_scale);
+}
+
+/* Largest step (in units of its standard deviation) that a warm start
+ * may take before Gauss-Newton is not trusted without a line search. */
+#define SETTLE_MAX_SIGMAS 100.0
+
+tram_status tram__refine_settle(const tram_refine_problem *pb, const double *station_w,
+                                int max_steps, double tol_sigma, tram_se3 *X, tram_se3 *Z,
+                                double cov[NP * NP], double *condition)
+{
+    if (pb->eval || pb->scale || !station_w) return TRAM_ENUMERIC; /* station problems only */
+    int np = nparams(pb);
+    for (int it = 0; it < max_steps; it++) {
+        double H[NPX * NPX], g[NPX], A[NPX * NPX], dx[NPX] = {0};
+        tram_status st = normal_equations(pb, station_w, X, Z, H, g);
+        if (st != TRAM_OK) return st;
+        memcpy(A, H, sizeof A);
+        for (int a = 0; a < np; a++) dx[a] = -g[a];
+        if (tram__spd_solve_overwrite(np, A, dx) != TRAM_OK) return TRAM_ENUMERIC;
+        /* H dx = -g: dx^T H dx is the step's squared length in sigmas
+         * (H^-1 is the covariance of the whitened problem) */
+        double q = 0;
+        for (int a = 0; a < np; a++) q -= dx[a] * g[a];
+        if (!(q <= SETTLE_MAX_SIGMAS * SETTLE_MAX_SIGMAS)) return TRAM_ENUMERIC;
+        tram_se3 Xn, Zn;
+        step_apply(pb, X, Z, dx, &Xn, &Zn, NULL);
+        *X = Xn;
+        *Z = Zn;
+        if (q < tol_sigma * tol_sigma) return cov_from_normal(pb, H, 1.0, cov, condition, NULL, NULL);
+    }
+    return TRAM_ENUMERIC;
 }
 
 tram_status tram__refine_chi2(const tram_refine_problem *pb, const double *station_w,
