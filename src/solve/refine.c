@@ -724,9 +724,9 @@ tram_status tram__refine_covariance_scale(const tram_refine_problem *pb, const d
 
 tram_status tram__refine_settle(const tram_refine_problem *pb, const double *station_w,
                                 int max_steps, double tol_sigma, tram_se3 *X, tram_se3 *Z,
-                                double cov[NP * NP], double *condition)
+                                double cov[NP * NP], double *condition, double *var_scale)
 {
-    if (pb->eval || pb->scale || !station_w) return TRAM_ENUMERIC; /* station problems only */
+    if (pb->eval || !station_w) return TRAM_ENUMERIC; /* station problems only */
     int np = nparams(pb);
     for (int it = 0; it < max_steps; it++) {
         double H[NPX * NPX], g[NPX], A[NPX * NPX], dx[NPX] = {0};
@@ -741,10 +741,13 @@ tram_status tram__refine_settle(const tram_refine_problem *pb, const double *sta
         for (int a = 0; a < np; a++) q -= dx[a] * g[a];
         if (!(q <= SETTLE_MAX_SIGMAS * SETTLE_MAX_SIGMAS)) return TRAM_ENUMERIC;
         tram_se3 Xn, Zn;
-        step_apply(pb, X, Z, dx, &Xn, &Zn, NULL);
+        double sn = pb->scale ? *pb->scale : 1.0;
+        step_apply(pb, X, Z, dx, &Xn, &Zn, &sn);
+        if (pb->scale) *pb->scale = sn;
         *X = Xn;
         *Z = Zn;
-        if (q < tol_sigma * tol_sigma) return cov_from_normal(pb, H, 1.0, cov, condition, NULL, NULL);
+        if (q < tol_sigma * tol_sigma)
+            return cov_from_normal(pb, H, 1.0, cov, condition, var_scale, NULL);
     }
     return TRAM_ENUMERIC;
 }

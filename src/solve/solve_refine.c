@@ -165,7 +165,8 @@ static tram_status refit(fit *f, tram_se3 *X, tram_se3 *Z)
 {
     tram_se3 X0 = *X, Z0 = *Z;
     f->have_C = 0;
-    tram_status st = tram__refine_settle(&f->pb, f->w, SETTLE_STEPS, SETTLE_TOL, X, Z, f->C, &f->cond);
+    tram_status st = tram__refine_settle(&f->pb, f->w, SETTLE_STEPS, SETTLE_TOL, X, Z, f->C, &f->cond,
+                                         NULL);
     if (st == TRAM_ENUMERIC) {
         *X = X0;
         *Z = Z0;
