@@ -318,6 +318,56 @@ static void accumulate6(int np, int nb, size_t ld, double w, const double *J, co
     }
 }
 
+/* accumulate6 for the 12 pose parameters of a station (np = nb = NP,
+ * row stride NP), with the zero pattern of column_rows written out: the
+ * rotation rows touch columns 0-2 and 6-8, the translation rows 0-5 and
+ * 9-11.  Every sum is accumulate6's, term for term in the same order, so
+ * H and g are bit-identical; only the transposition, the per-pair test
+ * and the loop over skipped pairs are gone. */
+static inline double dot_rot(const double J[6][NP], int a, int b)
+{
+    return J[0][a] * J[0][b] + J[1][a] * J[1][b] + J[2][a] * J[2][b];
+}
+
+static inline double dot_tr(const double J[6][NP], int a, int b)
+{
+    return J[3][a] * J[3][b] + J[4][a] * J[4][b] + J[5][a] * J[5][b];
+}
+
+static void accumulate_station(double w, const double J[6][NP], const double r[6],
+                               double H[NPX * NPX], double g[NPX])
+{
+    for (int a = 0; a < NP; a++) {
+        double ga = J[0][a] * r[0];
+        for (int k = 1; k < 6; k++) ga += J[k][a] * r[k];
+        g[a] += w * ga;
+    }
+    for (int a = 0; a < 3; a++) { /* w_X: both blocks */
+        double *Ha = H + a * NP;
+        for (int b = a; b < 3; b++) {
+            double hsum = dot_rot(J, a, b);
+            hsum = hsum + J[3][a] * J[3][b] + J[4][a] * J[4][b] + J[5][a] * J[5][b];
+            Ha[b] += w * hsum;
+        }
+        for (int b = 3; b < 6; b++) Ha[b] += w * dot_tr(J, a, b);
+        for (int b = 6; b < 9; b++) Ha[b] += w * dot_rot(J, a, b);
+        for (int b = 9; b < 12; b++) Ha[b] += w * dot_tr(J, a, b);
+    }
+    for (int a = 3; a < 6; a++) { /* dt_X: translation rows */
+        double *Ha = H + a * NP;
+        for (int b = a; b < 6; b++) Ha[b] += w * dot_tr(J, a, b);
+        for (int b = 9; b < 12; b++) Ha[b] += w * dot_tr(J, a, b);
+    }
+    for (int a = 6; a < 9; a++) { /* w_Z: rotation rows */
+        double *Ha = H + a * NP;
+        for (int b = a; b < 9; b++) Ha[b] += w * dot_rot(J, a, b);
+    }
+    for (int a = 9; a < 12; a++) { /* dt_Z: translation rows */
+        double *Ha = H + a * NP;
+        for (int b = a; b < 12; b++) Ha[b] += w * dot_tr(J, a, b);
+    }
+}
+
 /* The step x (nparams values) from (X, Z) and the scale: the moved poses,
  * and the moved scale into *scale (unchanged without pb->scale). */
 static void step_apply(const tram_refine_problem *pb, const tram_se3 *X, const tram_se3 *Z,
@@ -350,7 +400,8 @@ static void normal_stations(const tram_refine_problem *pb, const double *w, cons
         if (!(w[i] > 0)) continue;
         double r[6], J[6][NP];
         tram__refine_weighted(pb, i, X, Z, r, J);
-        accumulate6(np, nbase(pb), NP, w[i], &J[0][0], r, H, g);
+        if (np == NP) accumulate_station(w[i], J, r, H, g);
+        else accumulate6(np, nbase(pb), NP, w[i], &J[0][0], r, H, g);
     }
 }
 
