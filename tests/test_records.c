@@ -169,6 +169,48 @@ static void test_json_matches_csv(void **state)
     assert_non_null(strstr(e.message, "newer"));
 }
 
+/* Numbers of a JSON record file as glibc's strtod reads them (the outside
+ * reference), bit for bit: the check converts them once and cJSON sees 0
+ * in their place (docs/performance.md); forms: a negative zero, an
+ * exponent, a subnormal, 30 and 70 digits (longer than cJSON's own
+ * 63-character number buffer). */
+static void test_json_numbers(void **state)
+{
+    (void)state;
+    static const char *const nums[6] = {
+        "-0", "1E2", "4.9406564584124654e-324", "123456789012345678901234567890.5",
+        "0.1234567890123456789012345678901234567890123456789012345678901234567891",
+        "-612.84147098480787"};
+    char json[2048];
+    snprintf(json, sizeof json,
+             "{\"format\": \"tram-records\", \"version\": 1, \"length_unit\": \"mm\",\n"
+             " \"stations\": [\n"
+             "  {\"station\": 7, \"robot\": {\"x\": %s, \"y\": %s, \"z\": %s,\n"
+             "    \"qw\": 1, \"qx\": 0, \"qy\": 0, \"qz\": 0},\n"
+             "   \"sensor\": {\"x\": %s, \"y\": %s, \"z\": %s, \"qw\": 1, \"qx\": 0, \"qy\": 0,"
+             " \"qz\": 0}},\n"
+             "  {\"station\": \"b\", \"robot\": {\"x\": 0, \"y\": 0, \"z\": 0, \"qw\": 1, \"qx\": 0,"
+             " \"qy\": 0, \"qz\": 0}, \"sensor\": {\"x\": 0, \"y\": 0, \"z\": 0, \"qw\": 1, \"qx\": 0,"
+             " \"qy\": 0, \"qz\": 0}}]}\n",
+             nums[0], nums[1], nums[2], nums[3], nums[4], nums[5]);
+    tram_records *r = read_ok(json);
+    assert_int_equal(r->count, 2);
+    assert_string_equal(r->stations[0].id, "7");
+    for (int k = 0; k < 6; k++) {
+        const tram_se3 *T = k < 3 ? &r->stations[0].T_base_flange : &r->stations[0].T_sensor_target;
+        double want = strtod(nums[k], NULL), got = T->m[k % 3][3];
+        assert_memory_equal(&got, &want, sizeof got);
+    }
+    tram_records_destroy(r);
+    /* a station that is no object is named on its own line */
+    tram_error e = read_bad("{\"format\": \"tram-records\", \"version\": 1, \"length_unit\": \"mm\",\n"
+                            " \"stations\": [{\"robot\": {\"x\": 0, \"y\": 0, \"z\": 0, \"qw\": 1,"
+                            " \"qx\": 0, \"qy\": 0, \"qz\": 0}},\n 5,\n {\"robot\": {}}]}\n",
+                            NULL);
+    assert_int_equal(e.line, 3);
+    assert_non_null(strstr(e.message, "stations[1]: expected an object"));
+}
+
 /* JSON record files that must be refused, each with the station's line and
  * the JSON path named in the message (docs/records.md). */
 static void test_json_refused(void **state)
@@ -285,6 +327,7 @@ int main(void)
         cmocka_unit_test(test_csv_basic),        cmocka_unit_test(test_directions),
         cmocka_unit_test(test_bad_inputs),       cmocka_unit_test(test_matrix_reortho),
         cmocka_unit_test(test_json_matches_csv), cmocka_unit_test(test_json_refused),
+        cmocka_unit_test(test_json_numbers),
         cmocka_unit_test(test_write_round_trip),
         cmocka_unit_test(test_rebuild_quat_order)};
     return cmocka_run_group_tests(tests, NULL, NULL);

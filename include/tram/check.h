@@ -37,7 +37,8 @@ typedef struct tram_calibration {
     tram_se3 X, Z;            /* T_flange_sensor and T_base_target (eye-in-hand), or
                                  T_base_sensor and T_flange_target (eye-to-hand) */
     int has_cov;
-    double cov[144];          /* public order: X t, X w, Z t, Z w (length, rad)   */
+    double cov[144];          /* public order: X t, X w, Z t, Z w (length, rad);
+                                 NaN where the file holds null (not determined) */
     double noise_length;      /* per-axis station noise of the calibration        */
     double noise_angle_rad;
     size_t stations;
@@ -71,6 +72,11 @@ typedef struct tram_calibration {
      * has none (then 1.96 sigma is the normal approximation). */
     int has_half95;
     double half95[12];
+    /* A calibration solved from 3D points (solve --points) has a point noise
+     * (noise_length) but no pose noise: noise_angle_rad is NaN, which the
+     * report shows and tram_check refuses (it compares poses), naming the
+     * position of "noise" in the file (noise_line, noise_column). */
+    long noise_line, noise_column;
 } tram_calibration;
 
 /* Read a calibration file.  Wrong format, a newer version, missing or
@@ -83,6 +89,32 @@ TRAM_API tram_status tram_calibration_read_buffer(const char *name, const char *
                                                   tram_calibration **out, tram_error *err);
 /* NULL is a no-op. */
 TRAM_API void tram_calibration_destroy(tram_calibration *c);
+
+/* The Euler angles of a calibration's rotation in a named convention, with
+ * their 1-sigma and 95% half-widths (tram_calibration_euler_intervals). */
+typedef struct tram_calibration_euler {
+    double angles_rad[3];      /* e1, e2, e3 of R                                   */
+    int defined;               /* 1: the intervals below hold; 0: not defined (NaN) */
+    double sigma_rad[3];       /* 1-sigma of e1, e2, e3                             */
+    double half95_rad[3];      /* 95% half-widths: factor95 * sigma                 */
+    double factor95;           /* the largest of the block's three rotation axes'
+                                  half95 / sigma (the solve's Student t), or 1.96
+                                  (normal approximation) when the file has none     */
+    double lock_distance_rad;  /* R's distance from the gimbal lock; NaN when the
+                                  block's covariance is not determined (null)      */
+} tram_calibration_euler;
+
+/* Euler angles of R in convention seq and their intervals: the rotation
+ * covariance of block 0 (X: T_flange_sensor or T_base_sensor) or 1 (Z:
+ * T_base_target or T_flange_target), about the transform's own axes,
+ * propagated by tram_euler_covariance.  R is that transform's rotation, or
+ * one that differs from it by a fixed rotation on the left (the tool-frame
+ * transform T_flange_tool^-1 X, whose own-axes covariance is the same).
+ * Returns out->defined: 0 when the calibration holds no covariance, seq is
+ * invalid, or R is too close to gimbal lock (TRAM_EULER_COV_LOCK_*). */
+TRAM_API int tram_calibration_euler_intervals(const tram_calibration *cal, int block,
+                                              const tram_mat3 *R, tram_euler_seq seq,
+                                              tram_calibration_euler *out);
 
 typedef enum tram_verdict {
     TRAM_VERDICT_OK = 0,

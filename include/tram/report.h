@@ -50,6 +50,14 @@ TRAM_API tram_status tram_report_write_pdf(const char *calibration_path,
                                            const tram_report_options *opt, const char *pdf_path,
                                            int overwrite, int *pages, tram_error *err);
 
+/* The report's date: SOURCE_DATE_EPOCH (whole seconds since 1970, UTC; the
+ * reproducible-builds convention) when the environment sets it, else the
+ * clock, as "YYYY-MM-DDTHH:MM:SSZ" in out (at least 21 bytes; 32 is safe).
+ * The one place the library reads the clock and the environment, for the
+ * command and the Python package alike.  A SOURCE_DATE_EPOCH that is not
+ * whole seconds from 0 to 9999-12-31 is TRAM_EINPUT. */
+TRAM_API tram_status tram_report_date_now(char *out, size_t cap, tram_error *err);
+
 #ifdef __cplusplus
 }
 #endif

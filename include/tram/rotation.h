@@ -97,6 +97,31 @@ TRAM_API void tram_euler_to_mat3(tram_euler_seq seq, const double e[3], tram_mat
  * lock rule above).  An invalid seq gives zeros. */
 TRAM_API void tram_euler_from_mat3(tram_euler_seq seq, const tram_mat3 *R, double out_e[3]);
 
+/* How close to gimbal lock tram_euler_covariance still propagates: the
+ * rotation must be at least TRAM_EULER_COV_LOCK_MIN_DEG from the lock of
+ * the convention (middle angle +-90 deg for Tait-Bryan, 0 or 180 deg for
+ * proper Euler sequences), and at least TRAM_EULER_COV_LOCK_SIGMAS times
+ * the rotation's total 1-sigma (sqrt of the trace of its covariance).
+ * Closer, the first and third angles are ill-determined (the Jacobian
+ * grows as 1 / sin(distance)) and a linearised interval would mislead: a
+ * choice of this project, not a standard. */
+#define TRAM_EULER_COV_LOCK_MIN_DEG 1.0
+#define TRAM_EULER_COV_LOCK_SIGMAS 5.0
+
+/* The covariance (rad^2, row-major 3x3, order e1 e2 e3) of the Euler
+ * angles of R in the named convention, given cov_body (rad^2, row-major
+ * 3x3), the covariance of a small rotation w about R's own axes: the truth
+ * is R exp(w) (right perturbation, the frame of tram's calibration
+ * covariances, docs/solve.md).  First-order propagation through the
+ * analytic Jacobian de/dw = M^-1, M the matrix of omega = M de/dt with
+ * omega the body angular velocity (R^T dR/dt = [omega]x).  *out_lock_rad
+ * (may be NULL) receives the distance of R from the convention's gimbal
+ * lock, asin |det M| (rad).  Returns 1 when the covariance is defined, 0
+ * (out_cov all NaN) for an invalid seq, a covariance with a negative or
+ * NaN trace, or R too close to gimbal lock (the limits above). */
+TRAM_API int tram_euler_covariance(tram_euler_seq seq, const tram_mat3 *R, const double cov_body[9],
+                                   double out_cov[9], double *out_lock_rad);
+
 #ifdef __cplusplus
 }
 #endif

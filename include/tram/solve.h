@@ -122,6 +122,9 @@ typedef struct tram_station_result {
     double rot_deg;  /* angle between the station's prediction of Z and Z */
     double trans;    /* distance between them (length unit)                */
     int outlier;     /* flagged and excluded from the final refinement      */
+    int no_data;     /* the station has no sensor data in this solve (e.g. no
+                        pixels in --pixels): left out, not an outlier; its
+                        residuals are NaN                                   */
 } tram_station_result;
 
 typedef struct tram_stats {

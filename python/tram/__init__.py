@@ -31,7 +31,7 @@ __all__ = ["Error", "InputError", "UndeterminedError", "OutOfMemoryError", "File
            "register", "check", "fk", "euler_to_matrix", "matrix_to_euler",
            "quat_wxyz_to_matrix", "matrix_to_quat_wxyz", "rotvec_to_matrix", "matrix_to_rotvec",
            "version", "read_image", "read_board", "detect_chessboard", "Camera", "read_camera",
-           "intrinsics", "pose_from_pixels"]
+           "intrinsics", "pose_from_pixels", "report"]
 
 
 class Error(Exception):
@@ -253,6 +253,8 @@ class Solution:
         self.residual_rotation_deg = np.array([s.get("rotation_deg", np.nan) for s in st], dtype=float)
         self.residual_translation = np.array([s.get("translation", np.nan) for s in st], dtype=float)
         self.outliers = np.array([bool(s.get("outlier")) for s in st])
+        # stations with no sensor data in the solve (no pixels): left out, not outliers
+        self.no_data = np.array([bool(s.get("no_data")) for s in st])
         # 12 x 12, order: X translation (length, parent frame), X rotation
         # about its own axes (rad), then Z likewise; None when not valid
         self.covariance = covariance
@@ -478,3 +480,38 @@ def matrix_to_rotvec(R):
         _lib.rotvec_from_mat3(ctypes.byref(_m3(m)), v.ctypes.data_as(_lib.c_double_p))
         return v
     return _each(R, (3, 3), one, (3,))
+
+
+def report(calibration, output, *, euler, page="a4", history=None, computed_by=None, force=False,
+           date_utc=None):
+    """The calibration record as a PDF (tram report, docs/report.md): the
+    calibration file `calibration` (tram solve -o) laid out on A4 or US
+    Letter pages and written to `output` atomically.  Keyword arguments as
+    the command's options: euler (--euler, required: one of the 24
+    conventions, e.g. "zyx-intrinsic"), page (--page: "a4" or "letter"),
+    history (--history: a check history file), computed_by (--computed-by),
+    force (--force: replace an existing output).  date_utc
+    ("YYYY-MM-DDTHH:MM:SSZ") is the report's date; None takes it as the
+    command does (SOURCE_DATE_EPOCH, else now, UTC).  Returns the page
+    count.  The report never calls the result verified or safe."""
+    err = _lib.Error()
+    opt = _lib.ReportOptions()
+    st = _lib.plot_page_parse(_enc(page), ctypes.byref(opt.page), ctypes.byref(err))
+    if st != 0:
+        _raise(st, err)
+    opt.euler = _seq(euler) if euler is not None else -1
+    date = ctypes.create_string_buffer(32)
+    if date_utc is None:
+        st = _lib.report_date_now(date, 32, ctypes.byref(err))
+        if st != 0:
+            _raise(st, err)
+    else:
+        date.value = _enc(date_utc)
+    hist, by = _enc(None if history is None else str(history)), _enc(computed_by)
+    opt.history_path, opt.date_utc, opt.computed_by = hist, date.value, by
+    pages = ctypes.c_int()
+    st = _lib.report_write_pdf(_enc(str(calibration)), ctypes.byref(opt), _enc(str(output)),
+                               int(force), ctypes.byref(pages), ctypes.byref(err))
+    if st != 0:
+        _raise(st, err)
+    return pages.value

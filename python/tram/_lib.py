@@ -232,3 +232,20 @@ pose_from_pixels = _fn("tram_pose_from_pixels", I, ctypes.POINTER(Camera), c_dou
 
 tool_parse = _fn("tram_tool_parse", I, S, ctypes.POINTER(SE3), c_int_p, E)
 records_set_tool = _fn("tram_records_set_tool", I, P, ctypes.POINTER(SE3), I, E)
+
+
+# ---- the calibration report (tram/report.h, tram/plot.h) ----
+
+class PlotPage(ctypes.Structure):
+    _fields_ = [("width_mm", ctypes.c_double), ("height_mm", ctypes.c_double),
+                ("named", ctypes.c_int), ("name", ctypes.c_char * 24)]
+
+
+class ReportOptions(ctypes.Structure):
+    _fields_ = [("page", PlotPage), ("euler", ctypes.c_int), ("history_path", ctypes.c_char_p),
+                ("date_utc", ctypes.c_char_p), ("computed_by", ctypes.c_char_p)]
+
+
+plot_page_parse = _fn("tram_plot_page_parse", I, S, ctypes.POINTER(PlotPage), E)
+report_date_now = _fn("tram_report_date_now", I, ctypes.c_char_p, Z, E)
+report_write_pdf = _fn("tram_report_write_pdf", I, S, ctypes.POINTER(ReportOptions), S, I, c_int_p, E)

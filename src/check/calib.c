@@ -20,6 +20,8 @@
 
 /* A refusal at the value of `path` (file:line:column of the document). */
 #define BAD(path, ...) tram__json_pos_fail(pos, name, err, path, 0, __VA_ARGS__)
+/* The position of `path` only, into the error e. */
+#define BAD_AT(path, e) tram__json_pos_fail(pos, name, e, path, 0, "%s", path)
 
 static int read_matrix(const cJSON *m, tram_se3 *T)
 {
@@ -105,41 +107,56 @@ static tram_status read_residuals(const char *name, const tram__json_pos *pos, c
 #define COV_SYM_TOL 1e-8
 #define COV_EIG_TOL 1e-9
 
-/* The stored covariance C (12x12, public order) must be a covariance:
- * positive variances, symmetric within COV_SYM_TOL of sqrt(C_ii C_jj), and
- * positive semi-definite: the eigenvalues (LAPACKE, linalg.c) of the
- * correlation matrix D^-1/2 C D^-1/2 (unit-free, since C mixes lengths and
- * radians) at least -COV_EIG_TOL times the largest. */
+/* The stored covariance C (12x12, public order) must be a covariance over
+ * the parameters it determines (a points solve without a model leaves Z's
+ * rows null, NaN here): positive variances, symmetric within COV_SYM_TOL
+ * of sqrt(C_ii C_jj), and positive semi-definite: the eigenvalues
+ * (LAPACKE, linalg.c) of the correlation matrix D^-1/2 C D^-1/2 (unit-free,
+ * since C mixes lengths and radians) at least -COV_EIG_TOL times the
+ * largest.  An entry between two determined parameters must be a number. */
 static tram_status check_covariance(const char *name, const tram__json_pos *pos, const double C[144],
                                     tram_error *err)
 {
     char where[32];
     double d[12];
+    int k[12], n = 0;
     for (int i = 0; i < 12; i++) {
-        if (!(C[i * 12 + i] > 0)) {
+        double v = C[i * 12 + i];
+        if (isnan(v)) continue; /* not determined */
+        if (!(v > 0)) {
             snprintf(where, sizeof where, "covariance[%d]", i * 13);
             return BAD(where, "damaged calibration file: covariance[%d] (the variance of parameter "
                               "%d) is %g: expected a variance > 0",
-                       i * 13, i + 1, C[i * 12 + i]);
+                       i * 13, i + 1, v);
         }
-        d[i] = sqrt(C[i * 12 + i]);
+        d[n] = sqrt(v);
+        k[n++] = i;
     }
+    if (n == 0)
+        return BAD("covariance", "damaged calibration file: the covariance determines no parameter");
     double R[144], w[12], V[144];
-    for (int i = 0; i < 12; i++)
-        for (int j = 0; j < 12; j++) {
-            double a = C[i * 12 + j], b = C[j * 12 + i];
-            if (j > i && !(fabs(a - b) <= COV_SYM_TOL * d[i] * d[j])) {
+    for (int a = 0; a < n; a++)
+        for (int b = 0; b < n; b++) {
+            int i = k[a], j = k[b];
+            double x = C[i * 12 + j], y = C[j * 12 + i];
+            if (isnan(x)) {
+                snprintf(where, sizeof where, "covariance[%d]", i * 12 + j);
+                return BAD(where, "damaged calibration file: covariance[%d] is null, but both of "
+                                  "its parameters (%d and %d) have a variance",
+                           i * 12 + j, i + 1, j + 1);
+            }
+            if (b > a && !(fabs(x - y) <= COV_SYM_TOL * d[a] * d[b])) {
                 snprintf(where, sizeof where, "covariance[%d]", j * 12 + i);
                 return BAD(where, "damaged calibration file: the covariance is not symmetric: "
                                   "covariance[%d] is %.17g but covariance[%d] is %.17g",
-                           j * 12 + i, b, i * 12 + j, a);
+                           j * 12 + i, y, i * 12 + j, x);
             }
-            R[i * 12 + j] = 0.5 * (a + b) / (d[i] * d[j]);
+            R[a * n + b] = 0.5 * (x + y) / (d[a] * d[b]);
         }
-    if (tram__symeig(12, R, w, V) != TRAM_OK)
+    if (tram__symeig(n, R, w, V) != TRAM_OK)
         return BAD("covariance", "damaged calibration file: the covariance's eigenvalues cannot be "
                                  "computed");
-    if (!(w[0] >= -COV_EIG_TOL * w[11]))
+    if (!(w[0] >= -COV_EIG_TOL * w[n - 1]))
         return BAD("covariance", "damaged calibration file: the covariance is not positive "
                                  "semi-definite (its correlation matrix has the eigenvalue %.3g)",
                    w[0]);
@@ -185,13 +202,26 @@ static tram_status read_core(const char *name, const tram__json_pos *pos, const 
                    "must be rigid 4x4 transforms for a %s calibration",
                    xn, zn, tram_setup_name(c->setup));
     }
-    int ok = 1;
+    int okl = 1, oka = 1;
     const cJSON *noise = cJSON_GetObjectItemCaseSensitive(root, "noise");
-    c->noise_length = number(noise, "length", &ok);
-    c->noise_angle_rad = number(noise, "angle_deg", &ok) * TRAM_PI / 180.0;
-    if (!ok || !(c->noise_length > 0) || !(c->noise_angle_rad > 0))
+    c->noise_length = number(noise, "length", &okl);
+    c->noise_angle_rad = number(noise, "angle_deg", &oka) * TRAM_PI / 180.0;
+    {   /* where "noise" is, for tram_check's refusal of a points calibration */
+        tram_error at;
+        tram_error_clear(&at);
+        BAD_AT("noise", &at);
+        c->noise_line = at.line;
+        c->noise_column = at.column;
+    }
+    int points = okl && c->noise_length > 0 &&
+                 cJSON_IsNull(cJSON_GetObjectItemCaseSensitive(noise, "angle_deg")) &&
+                 cJSON_GetObjectItemCaseSensitive(root, "model");
+    if (points) /* solved from points: a point noise, no pose noise */
+        c->noise_angle_rad = NAN;
+    else if (!okl || !oka || !(c->noise_length > 0) || !(c->noise_angle_rad > 0))
         return BAD("noise", "the calibration has no noise estimate (\"noise\"): it was not "
                             "refined; solve again without --closed-form");
+    int ok = 1;
     const cJSON *ob = cJSON_GetObjectItemCaseSensitive(root, "observability");
     double ns = number(ob, "stations", &ok);
     c->stations = ok && ns > 0 && ns < 1e15 ? (size_t)ns : 0; /* no UB on absurd counts */
@@ -201,16 +231,23 @@ static tram_status read_core(const char *name, const tram__json_pos *pos, const 
             return BAD("covariance", "damaged calibration file: \"covariance\" must hold 144 numbers");
         for (int i = 0; i < 144; i++) {
             const cJSON *v = cJSON_GetArrayItem(cov, i);
+            if (cJSON_IsNull(v)) { /* not determined (e.g. Z of a points solve without a model) */
+                c->cov[i] = NAN;
+                continue;
+            }
             if (!cJSON_IsNumber(v) || !isfinite(v->valuedouble)) {
                 char where[32];
                 snprintf(where, sizeof where, "covariance[%d]", i);
-                return BAD(where, "damaged calibration file: covariance[%d] is not a number", i);
+                return BAD(where, "damaged calibration file: covariance[%d] is not a number or null",
+                           i);
             }
             c->cov[i] = v->valuedouble;
+            c->has_cov = 1;
         }
-        tram_status cs = check_covariance(name, pos, c->cov, err);
-        if (cs != TRAM_OK) return cs;
-        c->has_cov = 1;
+        if (c->has_cov) {
+            tram_status cs = check_covariance(name, pos, c->cov, err);
+            if (cs != TRAM_OK) return cs;
+        }
     }
     const cJSON *in = cJSON_GetObjectItemCaseSensitive(root, "input");
     const cJSON *ck = cJSON_GetObjectItemCaseSensitive(in, "checksum_fnv1a64");
@@ -331,7 +368,8 @@ static tram_status read_input(const char *name, const tram__json_pos *pos, const
 }
 
 /* The solve's 95% half-widths of both transforms (optional: kept only
- * when all twelve are positive numbers). */
+ * when all twelve are positive numbers, or null - NaN - where the solve
+ * did not determine them). */
 static void read_half95(const cJSON *root, tram_calibration *c)
 {
     const char *xn = c->setup == TRAM_SETUP_EYE_IN_HAND ? "T_flange_sensor" : "T_base_sensor";
@@ -347,7 +385,7 @@ static void read_half95(const cJSON *root, tram_calibration *c)
             for (int i = 0; ok && i < 3; i++) {
                 const cJSON *x = cJSON_GetArrayItem(v, i);
                 double h = cJSON_IsNumber(x) ? x->valuedouble : NAN;
-                if (!(h > 0) || !isfinite(h)) ok = 0;
+                if (!cJSON_IsNull(x) && (!(h > 0) || !isfinite(h))) ok = 0;
                 c->half95[6 * t + 3 * k + i] = h;
             }
         }
@@ -449,4 +487,35 @@ void tram_calibration_destroy(tram_calibration *c)
     tram__free(c->input_T_base_flange);
     tram__free(c->diag);
     tram__free(c);
+}
+
+int tram_calibration_euler_intervals(const tram_calibration *cal, int block, const tram_mat3 *R,
+                                     tram_euler_seq seq, tram_calibration_euler *out)
+{
+    memset(out, 0, sizeof *out);
+    tram_euler_from_mat3(seq, R, out->angles_rad);
+    for (int i = 0; i < 3; i++) out->sigma_rad[i] = out->half95_rad[i] = NAN;
+    out->factor95 = out->lock_distance_rad = NAN;
+    if (!cal->has_cov || block < 0 || block > 1) return 0;
+    int off = 6 * block + 3;
+    double S[9], C[9];
+    for (int i = 0; i < 3; i++)
+        for (int j = 0; j < 3; j++) S[3 * i + j] = cal->cov[(off + i) * 12 + off + j];
+    double k = 1.96;
+    if (cal->has_half95) { /* half95 of rotations is in degrees */
+        k = 0;
+        for (int i = 0; i < 3; i++) {
+            double s = sqrt(S[4 * i]) * 180.0 / TRAM_PI;
+            if (s > 0 && cal->half95[off + i] / s > k) k = cal->half95[off + i] / s;
+        }
+    }
+    out->factor95 = k;
+    if (!(S[0] + S[4] + S[8] >= 0)) return 0; /* not determined (null in the file) */
+    out->defined = tram_euler_covariance(seq, R, S, C, &out->lock_distance_rad);
+    if (!out->defined) return 0;
+    for (int i = 0; i < 3; i++) {
+        out->sigma_rad[i] = sqrt(C[4 * i]);
+        out->half95_rad[i] = k * out->sigma_rad[i];
+    }
+    return 1;
 }

@@ -449,6 +449,11 @@ static tram_status trust_checks(const tram_calibration *cal, const tram_records 
 /* Records a check can use against cal, or an input error. */
 static tram_status check_inputs(const tram_calibration *cal, const tram_records *r, tram_error *err)
 {
+    if (!(cal->noise_angle_rad > 0))
+        return tram__fail(err, TRAM_EINPUT, cal->source, cal->noise_line, cal->noise_column,
+                          "the calibration holds a point noise but no pose noise (noise.angle_deg "
+                          "is null): it was solved from 3D points (solve --points); a mount check "
+                          "compares poses, so it needs a calibration solved from poses");
     /* Without its covariance the calibration's own uncertainty would drop
      * out of every test silently (docs/check.md): refused.  solve -o writes
      * one whenever the refinement's normal matrix is invertible. */

@@ -5,6 +5,7 @@
  */
 #include "cli.h"
 
+#include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -18,7 +19,9 @@ const char cli_convert_help[] =
     "back bit for bit) unless --digits N is given.\n"
     "A calibration file (from 'tram solve -o') gives its two transforms instead, one\n"
     "a line (T_flange_sensor and T_base_target, or T_base_sensor and T_flange_target),\n"
-    "e.g. for a robot controller's tool-frame or user-frame entry (docs/convert.md).\n\n"
+    "e.g. for a robot controller's tool-frame or user-frame entry (docs/convert.md);\n"
+    "with --to euler:SEQ, comment lines give the Euler angles' 1-sigma and 95%\n"
+    "half-widths (not defined near gimbal lock; docs/report.md).\n\n"
     "REP: quat (qw,qx,qy,qz, scalar first) | quat-xyzw (qx,qy,qz,qw, scalar last)\n"
     "     | rotvec | matrix (row-major r11..r33)\n"
     "     | euler:SEQ with SEQ one of the 24 conventions, e.g. euler:zyx-intrinsic,\n"
@@ -241,6 +244,37 @@ static int is_calibration(const char *path)
     return strstr(head, "\"tram-calibration\"") != NULL;
 }
 
+/* The Euler angles' 1-sigma and 95% half-widths of a calibration's two
+ * transforms (tram_calibration_euler_intervals), as comment lines. */
+static void print_euler_intervals(const tram_calibration *cal, const tram_output_rep *o,
+                                  const char *const ids[2])
+{
+    int deg = o->angle_unit != TRAM_ANGLE_RAD;
+    double k = deg ? 180.0 / 3.14159265358979323846 : 1.0;
+    for (int b = 0; b < 2; b++) {
+        tram_mat3 R;
+        double t[3];
+        tram_se3_to_rt(b ? &cal->Z : &cal->X, &R, t);
+        tram_calibration_euler eu;
+        if (!tram_calibration_euler_intervals(cal, b, &R, o->euler, &eu)) {
+            if (cal->has_cov && isnan(eu.lock_distance_rad))
+                printf("# %s e1,e2,e3: intervals not determined (no covariance in the file)\n",
+                       ids[b]);
+            else if (cal->has_cov)
+                printf("# %s e1,e2,e3: intervals not defined, %.3f deg from the gimbal lock of "
+                       "%s\n",
+                       ids[b], eu.lock_distance_rad * 180.0 / 3.14159265358979323846,
+                       tram_euler_name(o->euler));
+            continue;
+        }
+        printf("# %s e1,e2,e3 1-sigma (%s): %.6g,%.6g,%.6g; 95%% half-width (%.3f sigma): "
+               "%.6g,%.6g,%.6g\n",
+               ids[b], deg ? "deg" : "rad", eu.sigma_rad[0] * k, eu.sigma_rad[1] * k,
+               eu.sigma_rad[2] * k, eu.factor95, eu.half95_rad[0] * k, eu.half95_rad[1] * k,
+               eu.half95_rad[2] * k);
+    }
+}
+
 /* A calibration file: its two transforms, one a line, in the chosen form. */
 static int convert_calibration(const convert_args *a)
 {
@@ -284,6 +318,7 @@ static int convert_calibration(const convert_args *a)
     print_units(&o, tram_unit_length_name(o.length_unit != TRAM_LENGTH_UNSET ? o.length_unit
                                                                             : cal->length_unit));
     print_rows(buf, "transform", ids);
+    if (o.kind == TRAM_REP_EULER) print_euler_intervals(cal, &o, ids);
     printf("# SAFETY: verify at reduced speed, keep clear of the working envelope, follow the\n"
            "# applicable robot-safety standards and local codes.\n");
     free(buf);

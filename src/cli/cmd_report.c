@@ -4,9 +4,7 @@
  */
 #include "cli.h"
 
-#include <stdlib.h>
 #include <string.h>
-#include <time.h>
 
 const char cli_report_help[] =
     "usage: tram report CALIB.json -o REPORT.pdf --euler SEQ [--page a4|letter]\n"
@@ -14,7 +12,8 @@ const char cli_report_help[] =
     "Lays out a calibration file (tram solve -o) as a PDF record to file or hand over:\n"
     "the setup and what each transform means; each transform as matrix, translation,\n"
     "unit quaternion, rotation vector and Euler angles in the convention SEQ, with\n"
-    "units; the 1-sigma and 95% intervals; the station residuals and outliers; the\n"
+    "units; the 1-sigma and 95% intervals (also per Euler angle, not defined within 1\n"
+    "degree of gimbal lock); the station residuals and outliers; the\n"
     "frames and residuals pictures (and the check history when given); observability\n"
     "and diagnostics; the input files with their SHA-256 hashes; tram's version and\n"
     "the date; the safety block; and lines for 'computed by' and 'verified on the cell\n"
@@ -33,23 +32,6 @@ const char cli_report_help[] =
     "  tram solve -o build/wrist.json datasets/demo/wrist_camera.csv\n"
     "  tram report build/wrist.json -o build/wrist.pdf --euler zyx-intrinsic\n"
     "  tram report build/wrist.json -o build/wrist-letter.pdf --euler xyz-extrinsic --page letter\n";
-
-/* The report's date: SOURCE_DATE_EPOCH (seconds since 1970, UTC) when set. */
-static int report_date(char *buf, size_t cap)
-{
-    time_t t = time(NULL);
-    const char *sde = getenv("SOURCE_DATE_EPOCH");
-    if (sde && *sde) {
-        char *end;
-        long long v = strtoll(sde, &end, 10);
-        if (*end || v < 0 || v > 253402300799LL) return -1; /* up to 9999-12-31 */
-        t = (time_t)v;
-    }
-    struct tm tmv;
-    gmtime_r(&t, &tmv);
-    strftime(buf, cap, "%Y-%m-%dT%H:%M:%SZ", &tmv);
-    return 0;
-}
 
 int cli_report_cmd(int argc, char **argv)
 {
@@ -90,10 +72,8 @@ int cli_report_cmd(int argc, char **argv)
     if (tram_plot_page_parse(page_s, &opt.page, &err) != TRAM_OK || !opt.page.named)
         return cli_usage_error("report", "--page '%s': expected a4 or letter", page_s);
     char date[32];
-    if (report_date(date, sizeof date) != 0)
-        return cli_usage_error("report", "SOURCE_DATE_EPOCH '%s': expected whole seconds since "
-                                         "1970-01-01T00:00:00Z",
-                               getenv("SOURCE_DATE_EPOCH"));
+    if (tram_report_date_now(date, sizeof date, &err) != TRAM_OK)
+        return cli_usage_error("report", "%s", err.message);
     opt.date_utc = date;
     opt.history_path = history;
     opt.computed_by = by;

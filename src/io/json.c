@@ -5,10 +5,18 @@
  */
 #include "io/json_internal.h"
 #include "io/json_check_internal.h"
+#include "io/number_shim_internal.h"
 
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
+
+/* cJSON returned NULL on a checked text: it ran out of memory. */
+static tram_status parse_nomem(const char *name, const char *what, tram_error *err)
+{
+    return tram__fail(err, TRAM_ENOMEM, name, 0, 0, "%s: out of memory while parsing the JSON",
+                      what);
+}
 
 tram_status tram__json_parse(const char *name, const char *data, size_t len, const char *what,
                              cJSON **out, tram_error *err)
@@ -20,10 +28,81 @@ tram_status tram__json_parse(const char *name, const char *data, size_t len, con
     *out = cJSON_ParseWithLength(data, len);
     /* the text is valid JSON within cJSON's nesting limit: a failure is
      * an allocation inside cJSON */
-    if (!*out)
-        return tram__fail(err, TRAM_ENOMEM, name, 0, 0, "%s: out of memory while parsing the JSON",
-                          what);
-    return TRAM_OK;
+    return *out ? TRAM_OK : parse_nomem(name, what, err);
+}
+
+tram_status tram__json_parse_outline(const char *name, const char *data, size_t len,
+                                     const char *what, tram__json_spans *sp, cJSON **out,
+                                     tram_error *err)
+{
+    *out = NULL;
+    tram_status st = tram__json_check_spans(name, data, len, what, sp, err);
+    if (st != TRAM_OK) return st;
+    if (!sp->found) {
+        *out = cJSON_ParseWithLength(data, len);
+        return *out ? TRAM_OK : parse_nomem(name, what, err);
+    }
+    /* the text around the array, with "[]" in its place */
+    size_t head = sp->array_off, tail = len - sp->array_end;
+    char *outline = tram__malloc(head + 2 + tail);
+    if (!outline) return tram__fail(err, TRAM_ENOMEM, name, 0, 0, "out of memory");
+    memcpy(outline, data, head);
+    memcpy(outline + head, "[]", 2);
+    memcpy(outline + head + 2, data + sp->array_end, tail);
+    *out = cJSON_ParseWithLength(outline, head + 2 + tail);
+    tram__free(outline);
+    return *out ? TRAM_OK : parse_nomem(name, what, err);
+}
+
+/* A character of a JSON number. */
+static int is_number_char(char ch)
+{
+    return (ch >= '0' && ch <= '9') || ch == '-' || ch == '+' || ch == '.' || ch == 'e' ||
+           ch == 'E';
+}
+
+/* The numbers of a tree in document order (cJSON keeps its children in
+ * that order) set to vals[*j...]. */
+static void set_numbers(cJSON *item, const double *vals, size_t n, size_t *j)
+{
+    for (; item; item = item->next) {
+        if (cJSON_IsNumber(item) && *j < n) cJSON_SetNumberHelper(item, vals[(*j)++]);
+        set_numbers(item->child, vals, n, j);
+    }
+}
+
+tram_status tram__json_parse_elem(const char *name, const char *data, const tram__json_spans *sp,
+                                  size_t k, const char *what, cJSON **out, tram_error *err)
+{
+    const size_t *el = sp->elem + 5 * k;
+    size_t b = el[0], len = el[1] - el[0], n = el[3];
+    *out = NULL;
+    if (n == (size_t)-1) {
+        *out = cJSON_ParseWithLength(data + b, len);
+        return *out ? TRAM_OK : parse_nomem(name, what, err);
+    }
+    /* The numbers, checked and found by the check, convert here (fast_float,
+     * correctly rounded as cJSON's strtod, without the locale); cJSON gets
+     * a copy of the text with each number written as 0 and blanks, and
+     * the values are set into its tree after. */
+    double *vals = tram__malloc(n * sizeof *vals + len + 1);
+    if (!vals) return tram__fail(err, TRAM_ENOMEM, name, 0, 0, "out of memory");
+    char *text = (char *)(vals + n);
+    memcpy(text, data + b, len);
+    for (size_t j = 0; j < n; j++) {
+        size_t o = sp->num[el[2] + j], q = o;
+        while (q < len && is_number_char(text[q])) q++;
+        if (tram__number_convert(text + o, text + q, &vals[j]) != 0) vals[j] = 0; /* checked */
+        text[o] = '0';
+        memset(text + o + 1, ' ', q - o - 1);
+    }
+    *out = cJSON_ParseWithLength(text, len);
+    if (*out) {
+        size_t j = 0;
+        set_numbers(*out, vals, n, &j);
+    }
+    tram__free(vals);
+    return *out ? TRAM_OK : parse_nomem(name, what, err);
 }
 
 /* Add item to parent (under key, or appended when key is NULL); on any
@@ -76,6 +155,24 @@ void tram__jb_bool(tram__jb *b, cJSON *parent, const char *key, int v)
 void tram__jb_null(tram__jb *b, cJSON *parent, const char *key)
 {
     attach(b, parent, key, cJSON_CreateNull());
+}
+
+void tram__jb_copy(tram__jb *b, cJSON *parent, const char *key, const cJSON *src)
+{
+    if (cJSON_IsObject(src) || cJSON_IsArray(src)) {
+        cJSON *c = attach(b, parent, key, cJSON_IsObject(src) ? cJSON_CreateObject()
+                                                              : cJSON_CreateArray());
+        for (const cJSON *e = src->child; c && e; e = e->next)
+            tram__jb_copy(b, c, cJSON_IsObject(src) ? e->string : NULL, e);
+    } else if (cJSON_IsNumber(src)) {
+        tram__jb_num(b, parent, key, src->valuedouble);
+    } else if (cJSON_IsString(src)) {
+        tram__jb_str(b, parent, key, src->valuestring);
+    } else if (cJSON_IsBool(src)) {
+        tram__jb_bool(b, parent, key, cJSON_IsTrue(src));
+    } else {
+        tram__jb_null(b, parent, key);
+    }
 }
 
 void tram__jb_vec(tram__jb *b, cJSON *parent, const char *key, const double *v, int n, double f)

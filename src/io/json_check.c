@@ -19,6 +19,7 @@
 /* A key of an object being read: its raw text [off, off + len). */
 typedef struct key_span {
     size_t off, len;
+    int esc; /* it has a backslash escape */
 } key_span;
 
 typedef struct check {
@@ -28,6 +29,14 @@ typedef struct check {
     size_t nkeys, capkeys;
     key_span key;   /* the key of the value being read (len 0: none) */
     tram_error *err;
+    tram__json_spans *sp; /* the elements to record (NULL: none)         */
+    int record;           /* the next value is the array to record       */
+    int seen;             /* the key of sp was met (only its first counts) */
+    int esc;              /* the last string read had an escape          */
+    int in_elem;          /* inside an element of the recorded array     */
+    int elem_long;        /* that element is too long for 32-bit offsets */
+    size_t elem_base;     /* where it starts                             */
+    long line;            /* the line at c->i (for the recorded elements)  */
 } check;
 
 static tram_status fail_at(check *c, size_t off, const char *why)
@@ -40,9 +49,20 @@ static tram_status fail_at(check *c, size_t off, const char *why)
 
 static void blanks(check *c)
 {
-    while (c->i < c->len && (c->s[c->i] == ' ' || c->s[c->i] == '\t' || c->s[c->i] == '\n' ||
-                             c->s[c->i] == '\r'))
-        c->i++;
+    /* locals, which the compiler keeps in registers (c->i is stored once) */
+    const char *s = c->s;
+    size_t i = c->i, n = c->len;
+    long nl = 0;
+    while (i < n && (s[i] == ' ' || s[i] == '\t' || s[i] == '\n' || s[i] == '\r')) nl += s[i++] == '\n';
+    c->i = i;
+    c->line += nl; /* strings hold no raw line feed: every one is met here */
+}
+
+/* The end of the run of decimal digits of s[0, n) from i. */
+static size_t digits(const char *s, size_t i, size_t n)
+{
+    while (i < n && s[i] >= '0' && s[i] <= '9') i++;
+    return i;
 }
 
 static int hex(char ch)
@@ -56,10 +76,18 @@ static tram_status string(check *c, size_t *b, size_t *n)
 {
     size_t start = c->i++;
     *b = c->i;
-    while (c->i < c->len && c->s[c->i] != '"') {
+    c->esc = 0;
+    for (;;) {
+        /* the run of plain characters, then whatever ends it */
+        size_t i = c->i;
+        while (i < c->len && c->s[i] != '"' && c->s[i] != '\\' && (unsigned char)c->s[i] >= 0x20)
+            i++;
+        c->i = i;
+        if (c->i >= c->len || c->s[c->i] == '"') break;
         unsigned char ch = (unsigned char)c->s[c->i];
         if (ch < 0x20) return fail_at(c, c->i, "malformed JSON: control character in a string");
         if (ch == '\\') {
+            c->esc = 1;
             char e = c->i + 1 < c->len ? c->s[c->i + 1] : '\0';
             if (e == 'u') {
                 for (size_t k = 2; k < 6; k++)
@@ -71,9 +99,7 @@ static tram_status string(check *c, size_t *b, size_t *n)
             if (!e || !strchr("\"\\/bfnrt", e))
                 return fail_at(c, c->i, "malformed JSON: unknown escape in a string");
             c->i += 2;
-            continue;
         }
-        c->i++;
     }
     if (c->i >= c->len) return fail_at(c, start, "malformed JSON: string not closed");
     *n = c->i - *b;
@@ -81,23 +107,47 @@ static tram_status string(check *c, size_t *b, size_t *n)
     return TRAM_OK;
 }
 
+/* A number of an element of the recorded array starts at b. */
+static tram_status record_number(check *c, size_t b)
+{
+    tram__json_spans *sp = c->sp;
+    if (b - c->elem_base > UINT32_MAX) {
+        c->elem_long = 1;
+        return TRAM_OK;
+    }
+    if (sp->nnum == sp->capnum) {
+        size_t nc = sp->capnum ? 2 * sp->capnum : 4096;
+        uint32_t *nn = tram__realloc(sp->num, nc * sizeof *nn);
+        if (!nn) return tram__fail(c->err, TRAM_ENOMEM, c->name, 0, 0, "out of memory");
+        tram__hint_fill(nn, nc * sizeof *nn);
+        sp->num = nn;
+        sp->capnum = nc;
+    }
+    sp->num[sp->nnum++] = (uint32_t)(b - c->elem_base);
+    return TRAM_OK;
+}
+
 /* A number: -?(0|[1-9][0-9]*)(.[0-9]+)?([eE][+-]?[0-9]+)?, finite. */
 static tram_status number(check *c)
 {
     size_t b = c->i;
+    if (c->in_elem && !c->elem_long) {
+        tram_status rs = record_number(c, b);
+        if (rs != TRAM_OK) return rs;
+    }
     const char *s = c->s;
     if (c->i < c->len && s[c->i] == '-') c->i++;
     size_t ib = c->i;
     if (c->i < c->len && s[c->i] == '0') {
         c->i++;
     } else {
-        while (c->i < c->len && s[c->i] >= '0' && s[c->i] <= '9') c->i++;
+        c->i = digits(s, c->i, c->len);
         if (c->i == ib) return fail_at(c, b, "malformed JSON: expected a value");
     }
     size_t int_digits = c->i - ib;
     if (c->i < c->len && s[c->i] == '.') {
         size_t fb = ++c->i;
-        while (c->i < c->len && s[c->i] >= '0' && s[c->i] <= '9') c->i++;
+        c->i = digits(s, c->i, c->len);
         if (c->i == fb) return fail_at(c, b, "malformed JSON: expected digits after '.'");
     }
     int has_exp = 0;
@@ -106,7 +156,7 @@ static tram_status number(check *c)
         c->i++;
         if (c->i < c->len && (s[c->i] == '+' || s[c->i] == '-')) c->i++;
         size_t eb = c->i;
-        while (c->i < c->len && s[c->i] >= '0' && s[c->i] <= '9') c->i++;
+        c->i = digits(s, c->i, c->len);
         if (c->i == eb) return fail_at(c, b, "malformed JSON: expected digits in the exponent");
     }
     /* only an exponent or more than 308 digits can leave double range */
@@ -176,7 +226,7 @@ static size_t decode_key(const char *s, size_t n, char *buf, size_t cap)
 static int same_key(const check *c, const key_span *a, const key_span *b)
 {
     const char *sa = c->s + a->off, *sb = c->s + b->off;
-    if (!memchr(sa, '\\', a->len) && !memchr(sb, '\\', b->len))
+    if (!a->esc && !b->esc)
         return a->len == b->len && memcmp(sa, sb, a->len) == 0;
     char da[256], db[256];
     size_t na = decode_key(sa, a->len, da, sizeof da), nb = decode_key(sb, b->len, db, sizeof db);
@@ -210,6 +260,40 @@ static tram_status new_key(check *c, size_t first, key_span k)
     return TRAM_OK;
 }
 
+/* Key k is the text want as cJSON compares it: escapes resolved, and as a
+ * C string (up to a NUL from \u0000). */
+static int is_key(const check *c, const key_span *k, const char *want)
+{
+    size_t wl = strlen(want);
+    const char *s = c->s + k->off;
+    if (!k->esc) return k->len == wl && memcmp(s, want, wl) == 0;
+    char d[256];
+    size_t n = decode_key(s, k->len, d, sizeof d);
+    return n != (size_t)-1 && strnlen(d, n) == wl && memcmp(d, want, wl) == 0;
+}
+
+/* Element [b, e) of the array being recorded, whose numbers are those
+ * recorded from first on. */
+static tram_status record_elem(check *c, size_t b, size_t e, size_t first, long line)
+{
+    tram__json_spans *sp = c->sp;
+    if (sp->n == sp->cap) {
+        size_t nc = sp->cap ? 2 * sp->cap : 256;
+        size_t *ne = tram__realloc(sp->elem, 5 * nc * sizeof *ne);
+        if (!ne) return tram__fail(c->err, TRAM_ENOMEM, c->name, 0, 0, "out of memory");
+        sp->elem = ne;
+        sp->cap = nc;
+    }
+    size_t *el = sp->elem + 5 * sp->n++;
+    el[0] = b;
+    el[1] = e;
+    el[2] = first;
+    el[3] = c->elem_long ? (size_t)-1 : sp->nnum - first;
+    el[4] = (size_t)line;
+    if (c->elem_long) sp->nnum = first;
+    return TRAM_OK;
+}
+
 static tram_status value(check *c, int depth);
 
 static tram_status object(check *c, int depth)
@@ -226,6 +310,7 @@ static tram_status object(check *c, int depth)
             return fail_at(c, c->i, "malformed JSON: expected a key in double quotes");
         key_span k;
         tram_status st = string(c, &k.off, &k.len);
+        k.esc = c->esc;
         if (st == TRAM_OK) st = new_key(c, first, k);
         if (st != TRAM_OK) return st;
         blanks(c);
@@ -234,6 +319,9 @@ static tram_status object(check *c, int depth)
         c->i++;
         key_span outer = c->key;
         c->key = k;
+        /* the first member of that key, as cJSON finds it */
+        c->record = depth == 0 && c->sp && !c->seen && is_key(c, &k, c->sp->key);
+        c->seen |= c->record;
         st = value(c, depth + 1);
         c->key = outer;
         if (st != TRAM_OK) return st;
@@ -251,16 +339,33 @@ static tram_status object(check *c, int depth)
     return TRAM_OK;
 }
 
-static tram_status array(check *c, int depth)
+/* An array; with record set, the array member of c->sp (its elements
+ * recorded). */
+static tram_status array(check *c, int depth, int record)
 {
+    if (record) {
+        c->sp->found = 1;
+        c->sp->array_off = c->i;
+    }
     c->i++;
     blanks(c);
     if (c->i < c->len && c->s[c->i] == ']') {
         c->i++;
+        if (record) c->sp->array_end = c->i;
         return TRAM_OK;
     }
     for (;;) {
+        blanks(c);
+        size_t b = c->i, first = record ? c->sp->nnum : 0;
+        long line = c->line;
+        if (record) {
+            c->in_elem = 1;
+            c->elem_long = 0;
+            c->elem_base = b;
+        }
         tram_status st = value(c, depth + 1);
+        if (record) c->in_elem = 0;
+        if (st == TRAM_OK && record) st = record_elem(c, b, c->i, first, line);
         if (st != TRAM_OK) return st;
         blanks(c);
         if (c->i < c->len && c->s[c->i] == ',') {
@@ -271,6 +376,7 @@ static tram_status array(check *c, int depth)
         return fail_at(c, c->i, "malformed JSON: expected ',' or ']'");
     }
     c->i++;
+    if (record) c->sp->array_end = c->i;
     return TRAM_OK;
 }
 
@@ -285,6 +391,8 @@ static tram_status literal(check *c, const char *word)
 
 static tram_status value(check *c, int depth)
 {
+    int record = c->record;
+    c->record = 0;
     blanks(c);
     /* cJSON's own limit: deeper documents it refuses */
     if (depth >= CJSON_NESTING_LIMIT) {
@@ -296,7 +404,7 @@ static tram_status value(check *c, int depth)
     if (c->i >= c->len) return fail_at(c, c->i, "malformed JSON: expected a value, found the end");
     switch (c->s[c->i]) {
     case '{': return object(c, depth);
-    case '[': return array(c, depth);
+    case '[': return array(c, depth, record);
     case '"': {
         size_t b, n;
         return string(c, &b, &n);
@@ -311,7 +419,13 @@ static tram_status value(check *c, int depth)
 tram_status tram__json_check(const char *name, const char *data, size_t len, const char *what,
                              tram_error *err)
 {
-    check c = {name, what, data, len, 0, NULL, 0, 0, {0, 0}, err};
+    return tram__json_check_spans(name, data, len, what, NULL, err);
+}
+
+tram_status tram__json_check_spans(const char *name, const char *data, size_t len,
+                                   const char *what, tram__json_spans *sp, tram_error *err)
+{
+    check c = {name, what, data, len, 0, NULL, 0, 0, {0, 0, 0}, err, sp, 0, 0, 0, 0, 0, 0, 1};
     tram_status st = value(&c, 0);
     if (st == TRAM_OK) {
         blanks(&c);

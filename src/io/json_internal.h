@@ -15,6 +15,7 @@
 
 #include "tram/se3.h"
 #include "core/tram_internal.h"
+#include "io/json_check_internal.h"
 
 typedef struct tram__jb {
     int failed; /* an allocation failed: the document is not whole */
@@ -30,6 +31,9 @@ void tram__jb_str(tram__jb *b, cJSON *parent, const char *key, const char *v);
 void tram__jb_num(tram__jb *b, cJSON *parent, const char *key, double v);
 void tram__jb_bool(tram__jb *b, cJSON *parent, const char *key, int v);
 void tram__jb_null(tram__jb *b, cJSON *parent, const char *key);
+/* A deep copy of src (a parsed document or part of one), its numbers
+ * written as tram__jb_num writes them. */
+void tram__jb_copy(tram__jb *b, cJSON *parent, const char *key, const cJSON *src);
 /* An array of the n numbers v[i] * f. */
 void tram__jb_vec(tram__jb *b, cJSON *parent, const char *key, const double *v, int n, double f);
 /* A 4x4 matrix as four rows. */
@@ -51,5 +55,21 @@ tram_status tram__jb_finish(tram__jb *b, cJSON *root, int formatted, int newline
  * *out. */
 tram_status tram__json_parse(const char *name, const char *data, size_t len, const char *what,
                              cJSON **out, tram_error *err);
+
+/* tram__json_parse for a document with one large top-level array member
+ * (sp->key, the rest of sp zero): the same check, which also finds the
+ * array's elements (sp, freed by the caller with tram__free(sp->elem)
+ * whatever the result); *out is the document with that array left empty
+ * ("[]"), so that the caller can parse the elements one at a time with
+ * tram__json_parse_elem and cJSON never holds the whole tree.  When the
+ * member is not an array (sp->found 0), *out is the whole document. */
+tram_status tram__json_parse_outline(const char *name, const char *data, size_t len,
+                                     const char *what, tram__json_spans *sp, cJSON **out,
+                                     tram_error *err);
+
+/* Element k of sp (a document checked by tram__json_parse_outline) with
+ * cJSON; TRAM_ENOMEM as tram__json_parse.  The caller deletes *out. */
+tram_status tram__json_parse_elem(const char *name, const char *data, const tram__json_spans *sp,
+                                  size_t k, const char *what, cJSON **out, tram_error *err);
 
 #endif

@@ -20,3 +20,12 @@ extern "C" int tram__number_convert(const char *first, const char *last, double 
     *out = v;
     return 0;
 }
+
+extern "C" const char *tram__number_convert_prefix(const char *first, const char *last, double *out)
+{
+    double v = 0.0;
+    fast_float::from_chars_result r = fast_float::from_chars(first, last, v);
+    if (r.ptr == first) return nullptr; /* nothing read (invalid_argument) */
+    *out = v;
+    return r.ptr;
+}

@@ -15,6 +15,11 @@ extern "C" {
  * read, -1 else. */
 int tram__number_convert(const char *first, const char *last, double *out);
 
+/* The longest decimal number at the start of [first, last) (the grammar
+ * of tram__number_convert; the caller checks what follows it), converted
+ * the same way; where it ends, or NULL when there is none. */
+const char *tram__number_convert_prefix(const char *first, const char *last, double *out);
+
 #ifdef __cplusplus
 }
 #endif

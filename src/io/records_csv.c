@@ -12,16 +12,21 @@
  * (text.c: strtod's rounding, no hexadecimal, no inf or nan).
  *
  * Speed (docs/performance.md): the rows are read in place from the file
- * buffer as spans (no copy of each line), numbers convert straight from
- * the spans, the stations are allocated once from the number of lines,
- * and any message text is built only when a field fails.
+ * buffer (no copy of each line), the stations are allocated once from the
+ * number of lines, and any message text is built only when a field fails.
+ * A row is first read in one pass (fast_row: each number converted from
+ * where it starts, then the comma looked for where the number ends, no
+ * splitting beforehand); a row that pass does not take in full is split
+ * into fields and read again by read_row, which names what is wrong.
  */
 #include "io/records_csv_internal.h"
+#include "io/number_shim_internal.h"
 #include "io/records_schema_internal.h"
 #include "io/records_store_internal.h"
 #include "io/text_internal.h"
 
 #include <ctype.h>
+#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -259,6 +264,82 @@ static tram_status read_id(csv_reader *rd, const csv_span *f, long lineno, tram_
     return TRAM_OK;
 }
 
+/* The station number i + 1 as the id of a file without a station column. */
+static void number_id(csv_reader *rd, size_t i, tram_station *s)
+{
+    char num[24], *p = num + sizeof num;
+    size_t v = i + 1;
+    do *--p = (char)('0' + v % 10);
+    while ((v /= 10) != 0);
+    s->id = tram__records_put_id(rd->r, &rd->id_used, p, (size_t)(num + sizeof num - p));
+}
+
+/* One data row [line, e) read in a single pass, the common case: each
+ * number converted from where it starts to where the number ends, then
+ * blanks and the comma (or the line's end after the last field).  0 when
+ * the row is read into station r->count; -1, with nothing kept, when
+ * anything is out of the ordinary (a field that is no plain number, an
+ * empty or long id, a field too many or too few): read_row then splits
+ * the row and names the fault exactly as always.  The numbers are those
+ * of tram__parse_number: the same conversion of the same characters. */
+static int fast_row(csv_reader *rd, const char *line, const char *e, long lineno)
+{
+    tram_records *r = rd->r;
+    size_t i = r->count, used = rd->id_used;
+    tram_station *s = &r->stations[i];
+    double *raw = r->raw + i * r->raw_stride;
+    int *rot_col = r->rot_col ? r->rot_col + i * TRAM_BLOCK_COUNT : NULL;
+    const char *p = line;
+    const int last = rd->nfields - 1;
+    for (int k = 0; k <= last; k++) {
+        const rec_column *c = &rd->schema.cols[k];
+        while (p < e && is_blank(*p)) p++;
+        const char *f = p, *q;
+        if (c->kind == REC_COL_STATION) {
+            q = p < e ? memchr(p, ',', (size_t)(e - p)) : NULL;
+            if (!q) q = e;
+            const char *t = q;
+            while (t > f && is_blank(t[-1])) t--;
+            if (t == f || t - f >= TRAM_STATION_ID_MAX) return -1;
+            s->id = tram__records_put_id(r, &used, f, (size_t)(t - f));
+        } else {
+            if (p < e && *p == '+') {
+                p++;
+                if (p < e && (*p == '+' || *p == '-')) return -1;
+            }
+            if (p == e || !((*p >= '0' && *p <= '9') || *p == '-' || *p == '.')) return -1;
+            double v;
+            q = tram__number_convert_prefix(p, e, &v);
+            if (!q || !isfinite(v)) return -1;
+            while (q < e && is_blank(*q)) q++;
+            if (c->kind == REC_COL_JOINT) {
+                r->joints[i * r->n_joints + (size_t)c->slot] = v;
+                r->joint_col[i * r->n_joints + (size_t)c->slot] = (int)(f - line) + 1;
+            } else {
+                raw[r->raw_off[c->block] + (size_t)c->slot] = v;
+                if (c->slot == 3 && rot_col) rot_col[c->block] = (int)(f - line) + 1;
+            }
+        }
+        if (k == last) {
+            if (q != e) return -1;
+        } else {
+            if (q == e || *q != ',') return -1;
+            p = q + 1;
+        }
+    }
+    /* the poses of the blocks present are computed for every station
+     * (tram__records_finish); the others stay zero as in read_row */
+    if (!rd->schema.has_block[TRAM_BLOCK_ROBOT]) memset(&s->T_base_flange, 0, sizeof s->T_base_flange);
+    if (!rd->schema.has_block[TRAM_BLOCK_SENSOR])
+        memset(&s->T_sensor_target, 0, sizeof s->T_sensor_target);
+    rd->id_used = used;
+    if (rd->schema.station_col < 0) number_id(rd, i, s);
+    s->line = lineno;
+    r->count++;
+    rd->last_row_line = lineno;
+    return 0;
+}
+
 /* One data row [p, e): a new station. */
 static tram_status read_row(csv_reader *rd, const char *line, const char *e, long lineno)
 {
@@ -272,11 +353,7 @@ static tram_status read_row(csv_reader *rd, const char *line, const char *e, lon
     tram_station *s = &r->stations[i];
     memset(s, 0, sizeof *s);
     s->line = lineno;
-    if (rd->schema.station_col < 0) {
-        char num[24];
-        int len = snprintf(num, sizeof num, "%zu", i + 1);
-        s->id = tram__records_put_id(r, &rd->id_used, num, (size_t)len);
-    }
+    if (rd->schema.station_col < 0) number_id(rd, i, s);
     double *raw = r->raw + i * r->raw_stride;
     int *rot_col = r->rot_col ? r->rot_col + i * TRAM_BLOCK_COUNT : NULL;
     for (int k = 0; k < n; k++) {
@@ -307,6 +384,8 @@ static tram_status read_row(csv_reader *rd, const char *line, const char *e, lon
 static tram_status read_line(csv_reader *rd, const char *p, const char *e, const char *data_end,
                              long lineno)
 {
+    /* per line, while the line is in the cache (a pass of its own over a
+     * large file runs at the memory's speed) */
     size_t n = e > p ? (size_t)(e - p) : 0;
     if (n && memchr(p, '\0', n))
         return tram__fail(rd->err, TRAM_EINPUT, rd->name, lineno, 0,
@@ -320,6 +399,7 @@ static tram_status read_line(csv_reader *rd, const char *p, const char *e, const
         if (st == TRAM_OK) st = reserve_stations(rd, e, data_end, lineno);
         return st;
     }
+    if (fast_row(rd, p, e, lineno) == 0) return TRAM_OK;
     return read_row(rd, p, e, lineno);
 }
 

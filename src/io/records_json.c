@@ -15,6 +15,13 @@
  * name the JSON path (stations[3].robot.qw) and its file:line:column, found
  * by scanning the text only on the error path (json_pos.c); each station
  * keeps the line where its object starts, for the checks after reading.
+ *
+ * Speed (docs/performance.md): the strict check (json_check.c) also finds
+ * where each element of "stations" starts and ends, and its line; cJSON
+ * then parses the document with that array left empty, and each station
+ * on its own, read and deleted before the next, so that the tree of the
+ * whole file (about 17 nodes of 64 bytes per station, most of the reading
+ * time in allocation and fresh pages) is never built.
  */
 #include "io/json_internal.h"
 #include "io/json_pos_internal.h"
@@ -28,7 +35,8 @@
 #include <string.h>
 
 /* Line of the start of the k-th element of the "stations" array: a scan of
- * the text that tracks nesting depth and strings. */
+ * the text that tracks nesting depth and strings (only for a document
+ * whose stations the check did not find, see station_source). */
 static void station_lines(const char *data, size_t len, long *lines, size_t n)
 {
     /* bounded search: data need not be NUL-terminated (found by
@@ -330,22 +338,84 @@ static tram_status json_read_station(tram_records *r, const cJSON *so, size_t k,
     return st;
 }
 
+/* The lines where the n recorded elements of sp start (found by the check). */
+static void elem_lines(const tram__json_spans *sp, long *lines)
+{
+    for (size_t k = 0; k < sp->n; k++) lines[k] = (long)sp->elem[5 * k + 4];
+}
+
+/* The stations array: its elements parsed one at a time from their spans
+ * (sp found), else the children of the tree's array. */
+typedef struct station_source {
+    const char *name, *data;
+    const tram__json_spans *sp;
+    const cJSON *walk; /* next child of the tree's array (sp not found) */
+} station_source;
+
+/* Station k's tree in *so; *owned set when the caller must delete it. */
+static tram_status station_tree(station_source *src, size_t k, cJSON **so, int *owned,
+                                tram_error *err)
+{
+    *owned = 0;
+    if (!src->sp->found) {
+        *so = (cJSON *)src->walk;
+        src->walk = src->walk->next;
+        return TRAM_OK;
+    }
+    *owned = 1;
+    return tram__json_parse_elem(src->name, src->data, src->sp, k, "record file", so, err);
+}
+
+/* The stations, read into r (reserved for n) one tree at a time; first is
+ * station 0's tree (deleted here when owned). */
+static tram_status json_read_stations(tram_records *r, station_source *ss, cJSON *first,
+                                      int first_owned, size_t n, const long *lines, int nj,
+                                      const rec_schema *schema, const jsrc *src)
+{
+    size_t id_used = 0;
+    tram_status st = TRAM_OK;
+    cJSON *so = first;
+    int owned = first_owned;
+    for (size_t k = 0; k < n; k++) {
+        if (k > 0) st = station_tree(ss, k, &so, &owned, src->err);
+        if (st != TRAM_OK) break;
+        st = json_read_station(r, so, k, lines[k], nj, schema, &id_used, src);
+        if (owned) cJSON_Delete(so);
+        owned = 0;
+        if (st != TRAM_OK) break;
+        r->count++;
+    }
+    if (owned) cJSON_Delete(so);
+    if (st == TRAM_OK) st = tram__records_fit_ids(r, id_used, src->name, src->err);
+    return st;
+}
 
 tram_status tram__records_read_json(const char *name, const char *data, size_t len,
                                     const tram_read_options *opt, tram_records **out,
                                     tram_error *err)
 {
+    /* The check finds each station's text, and cJSON parses one station
+     * at a time: the tree of a whole large file (17 nodes per station)
+     * cost most of the reading in allocations and fresh pages
+     * (docs/performance.md). */
+    tram__json_spans sp;
+    memset(&sp, 0, sizeof sp);
+    sp.key = "stations";
+    tram__checksum_job sum;
+    tram__checksum_start(&sum, data, len);
     cJSON *root;
-    tram_status st = tram__json_parse(name, data, len, "record file", &root, err);
-    if (st != TRAM_OK) return st;
+    tram_status st = tram__json_parse_outline(name, data, len, "record file", &sp, &root, err);
     tram_records *r = NULL;
     const char **names = NULL;
     long *lines = NULL;
+    cJSON *first = NULL;
+    int first_owned = 0;
     rec_schema schema;
     memset(&schema, 0, sizeof schema);
     rec_directives d;
     memset(&d, 0, sizeof d);
     d.euler[0] = d.euler[1] = TRAM_EULER_UNSET;
+    if (st != TRAM_OK) goto done;
 
     if (!cJSON_IsObject(root)) {
         st = tram__fail(err, TRAM_EINPUT, name, 1, 1, "expected a JSON object at the top level");
@@ -357,29 +427,34 @@ tram_status tram__records_read_json(const char *name, const char *data, size_t l
         goto done;
     }
     snprintf(r->source, sizeof r->source, "%s", name);
-    r->checksum = tram__fnv1a64(data, len);
 
     jsrc src = {name, data, len, err};
     st = json_check_header(root, &src);
     if (st == TRAM_OK) st = json_read_directives(root, &d, &src);
     if (st != TRAM_OK) goto done;
     const cJSON *sts = cJSON_GetObjectItemCaseSensitive(root, "stations");
-    if (!cJSON_IsArray(sts) || cJSON_GetArraySize(sts) == 0) {
+    size_t n = !cJSON_IsArray(sts) ? 0 : sp.found ? sp.n : (size_t)cJSON_GetArraySize(sts);
+    if (n == 0) {
         /* at the value given, or at the top level when there is none */
         st = JFAIL(&src, "stations", 0,
                    "\"stations\": expected a non-empty array of station objects");
         goto done;
     }
-    size_t n = (size_t)cJSON_GetArraySize(sts);
     lines = tram__calloc(n, sizeof *lines);
     names = tram__calloc(2 * TRAM_RAW_MAX + TRAM_JOINTS_MAX + 1, sizeof *names);
     if (!lines || !names) {
         st = tram__fail(err, TRAM_ENOMEM, name, 0, 0, "out of memory");
         goto done;
     }
-    station_lines(data, len, lines, n);
+    if (sp.found)
+        elem_lines(&sp, lines);
+    else
+        station_lines(data, len, lines, n);
+    station_source ss = {name, data, &sp, sts->child};
+    st = station_tree(&ss, 0, &first, &first_owned, err);
     int nj;
-    st = json_schema_from_first(cJSON_GetArrayItem(sts, 0), lines[0], names, &nj, &schema, &src);
+    if (st == TRAM_OK)
+        st = json_schema_from_first(first, lines[0], names, &nj, &schema, &src);
     if (st != TRAM_OK) goto done;
     {
         /* the ids are strings of the text or generated numbers */
@@ -389,24 +464,24 @@ tram_status tram__records_read_json(const char *name, const char *data, size_t l
         st = tram__records_reserve(r, n, &l, len + 21 * n, name, lines[0], err);
         if (st != TRAM_OK) goto done;
     }
-    size_t id_used = 0;
-    /* walk the list (cJSON_GetArrayItem would make the loop quadratic) */
-    const cJSON *so = sts->child;
-    for (size_t k = 0; k < n; k++, so = so->next) {
-        st = json_read_station(r, so, k, lines[k], nj, &schema, &id_used, &src);
-        if (st != TRAM_OK) goto done;
-        r->count++;
-    }
-    st = tram__records_fit_ids(r, id_used, name, err);
+    st = json_read_stations(r, &ss, first, first_owned, n, lines, nj, &schema, &src);
+    first = NULL;
     if (st == TRAM_OK) st = tram__check_unique_ids(r, err);
     if (st != TRAM_OK) goto done;
     st = tram__records_finish(r, &schema, &d, opt, lines[0], err);
 
 done:
+    if (first_owned) cJSON_Delete(first);
     cJSON_Delete(root);
+    tram__free(sp.elem);
+    tram__free(sp.num);
     tram__free(names);
     tram__free(lines);
     tram__schema_free(&schema);
+    {
+        unsigned long long sum_value = tram__checksum_finish(&sum);
+        if (r) r->checksum = sum_value;
+    }
     if (st != TRAM_OK) {
         tram_records_destroy(r);
         return st;

@@ -17,6 +17,14 @@
  * (|cos b| resp. |sin b| below 1e-12) the third angle of the named
  * convention is set to 0 (c for intrinsic, a of the reversed sequence for
  * extrinsic) and the first carries the rotation about the locked axis.
+ *
+ * Covariance of the angles (tram_euler_covariance): first-order
+ * propagation of a small rotation w about R's own axes (R exp(w)) through
+ * de/dw = M^-1, where omega = M de/dt is the body angular velocity of the
+ * Euler parametrisation (the Euler kinematic equations; e.g. Diebel,
+ * "Representing attitude: Euler angles, unit quaternions, and rotation
+ * vectors", Stanford, 2006, from memory).  det M is +-cos e2 (Tait-Bryan)
+ * or +-sin e2 (proper), which vanishes at gimbal lock.
  */
 #include "tram/rotation.h"
 #include "core/tram_internal.h"
@@ -145,4 +153,83 @@ void tram_euler_from_mat3(tram_euler_seq seq, const tram_mat3 *R, double out_e[3
         out_e[1] = f[1];
         out_e[2] = f[0];
     }
+}
+
+/* The matrix M of omega = M de/dt, omega the body angular velocity
+ * (R^T dR/dt = [omega]x) of R(e) in the named convention:
+ *   intrinsic R = R_i(e1) R_j(e2) R_k(e3):
+ *     omega = e1' R_k(e3)^T R_j(e2)^T u_i + e2' R_k(e3)^T u_j + e3' u_k;
+ *   extrinsic R = R_k(e3) R_j(e2) R_i(e1):
+ *     omega = e3' R_i(e1)^T R_j(e2)^T u_k + e2' R_i(e1)^T u_j + e1' u_i.
+ * Returns det M: +-cos e2 (Tait-Bryan) or +-sin e2 (proper Euler). */
+static double euler_rate_matrix(tram_euler_seq seq, const double e[3], double M[3][3])
+{
+    int ax[3];
+    tram_euler_axes(seq, ax);
+    int intr = (int)seq < 12;
+    /* the rotations about the first and last axes, in the order applied */
+    tram_mat3 Rf, Rm, P;
+    if (intr) {
+        tram_so3_axis_rotation(ax[2], e[2], &Rf);
+    } else {
+        tram_so3_axis_rotation(ax[0], e[0], &Rf);
+    }
+    tram_so3_axis_rotation(ax[1], e[1], &Rm);
+    tram_so3_mul(&Rm, &Rf, &P); /* (Rf^T Rm^T)^T */
+    int first = intr ? ax[0] : ax[2], last = intr ? ax[2] : ax[0];
+    /* columns of M for (outer, middle, inner) angle: P^T u_first, Rf^T u_j, u_last */
+    double col[3][3];
+    for (int r = 0; r < 3; r++) {
+        col[0][r] = P.m[first][r];
+        col[1][r] = Rf.m[ax[1]][r];
+        col[2][r] = r == last ? 1.0 : 0.0;
+    }
+    /* outer is e1 for intrinsic, e3 for extrinsic */
+    int outer = intr ? 0 : 2, inner = intr ? 2 : 0;
+    for (int r = 0; r < 3; r++) {
+        M[r][outer] = col[0][r];
+        M[r][1] = col[1][r];
+        M[r][inner] = col[2][r];
+    }
+    return M[0][0] * (M[1][1] * M[2][2] - M[1][2] * M[2][1]) -
+           M[0][1] * (M[1][0] * M[2][2] - M[1][2] * M[2][0]) +
+           M[0][2] * (M[1][0] * M[2][1] - M[1][1] * M[2][0]);
+}
+
+int tram_euler_covariance(tram_euler_seq seq, const tram_mat3 *R, const double cov_body[9],
+                          double out_cov[9], double *out_lock_rad)
+{
+    for (int i = 0; i < 9; i++) out_cov[i] = NAN;
+    if (out_lock_rad) *out_lock_rad = NAN;
+    if ((int)seq < 0 || (int)seq >= TRAM_EULER_COUNT) return 0;
+    double e[3], M[3][3];
+    tram_euler_from_mat3(seq, R, e);
+    double det = euler_rate_matrix(seq, e, M);
+    double lock = asin(fmin(1.0, fabs(det)));
+    if (out_lock_rad) *out_lock_rad = lock;
+    double tr = cov_body[0] + cov_body[4] + cov_body[8];
+    if (!(tr >= 0.0) || !(lock >= TRAM_EULER_COV_LOCK_MIN_DEG * TRAM_PI / 180.0) ||
+        !(lock >= TRAM_EULER_COV_LOCK_SIGMAS * sqrt(tr)))
+        return 0;
+    /* J = M^-1 by the adjugate; the covariance J Sigma J^T */
+    double J[3][3];
+    for (int r = 0; r < 3; r++)
+        for (int c = 0; c < 3; c++) {
+            int r1 = (c + 1) % 3, r2 = (c + 2) % 3, c1 = (r + 1) % 3, c2 = (r + 2) % 3;
+            J[r][c] = (M[r1][c1] * M[r2][c2] - M[r1][c2] * M[r2][c1]) / det;
+        }
+    double JS[3][3];
+    for (int r = 0; r < 3; r++)
+        for (int c = 0; c < 3; c++) {
+            double s = 0.0;
+            for (int k = 0; k < 3; k++) s += J[r][k] * cov_body[3 * k + c];
+            JS[r][c] = s;
+        }
+    for (int r = 0; r < 3; r++)
+        for (int c = 0; c < 3; c++) {
+            double s = 0.0;
+            for (int k = 0; k < 3; k++) s += JS[r][k] * J[c][k];
+            out_cov[3 * r + c] = s;
+        }
+    return 1;
 }

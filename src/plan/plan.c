@@ -110,7 +110,9 @@ static tram_status setup_problem(const tram_cell *c, const tram_records *ex, con
         return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "out of memory");
     double ls = tram__length_scale(P, S, ex->count);
     for (size_t i = 0; i < ex->count; i++) {
-        if (sol && sol->solved && sol->stations && i < sol->n && sol->stations[i].outlier) continue;
+        const tram_station_result *sr = sol && sol->solved && sol->stations && i < sol->n
+                                            ? &sol->stations[i] : NULL;
+        if (sr && (sr->outlier || sr->no_data)) continue; /* adds no information */
         double J[72];
         tram__plan_jacobian(&P[i], &S[i], &p->X, &p->Z, p->noise_length, p->noise_angle_rad, ls, J);
         tram__plan_add_info(H0, J);

@@ -20,8 +20,8 @@
 #include "tram/plot.h"
 #include "tram/fileio.h"
 #include "core/tram_internal.h"
+#include "plot/pdf_stream_internal.h"
 
-#include <cairo-pdf.h>
 #include <cairo.h>
 #include <math.h>
 #include <png.h>
@@ -193,35 +193,6 @@ static void draw_page(cairo_t *cr, const tram_board *b, const layout *L)
     scale_bar(cr, x, y + 8 * mm);
 }
 
-typedef struct sink {
-    unsigned char *p;
-    size_t n, cap;
-    int failed;
-} sink;
-
-static int sink_put(sink *s, const unsigned char *data, size_t len)
-{
-    if (s->failed) return -1;
-    if (s->n + len > s->cap) {
-        size_t nc = 2 * (s->n + len) + 65536;
-        unsigned char *q = tram__realloc(s->p, nc);
-        if (!q) {
-            s->failed = 1;
-            return -1;
-        }
-        s->p = q;
-        s->cap = nc;
-    }
-    memcpy(s->p + s->n, data, len);
-    s->n += len;
-    return 0;
-}
-
-static cairo_status_t pdf_write(void *closure, const unsigned char *data, unsigned int len)
-{
-    return sink_put(closure, data, len) == 0 ? CAIRO_STATUS_SUCCESS : CAIRO_STATUS_WRITE_ERROR;
-}
-
 tram_status tram_plot_board_write_pdf(const tram_board *b, const tram_plot_page *page,
                                       const char *path, int overwrite, tram_error *err)
 {
@@ -230,41 +201,31 @@ tram_status tram_plot_board_write_pdf(const tram_board *b, const tram_plot_page 
     layout L;
     tram_status st = make_layout(b, page, &L, err);
     if (st != TRAM_OK) return st;
-    sink s = {NULL, 0, 0, 0};
-    cairo_surface_t *surf = cairo_pdf_surface_create_for_stream(pdf_write, &s, L.pw, L.ph);
     char title[128];
     snprintf(title, sizeof title, "tram chessboard %dx%d, %g %s squares", b->cols, b->rows,
              b->square, tram_unit_length_name(b->unit));
-    cairo_pdf_surface_set_metadata(surf, CAIRO_PDF_METADATA_TITLE, title);
-    cairo_pdf_surface_set_metadata(surf, CAIRO_PDF_METADATA_CREATOR, "tram " TRAM_VERSION_STRING);
-    cairo_t *cr = cairo_create(surf);
-    draw_page(cr, b, &L);
-    cairo_show_page(cr);
-    cairo_status_t cs = cairo_status(cr);
-    cairo_destroy(cr);
-    cairo_surface_finish(surf);
-    if (cs == CAIRO_STATUS_SUCCESS) cs = cairo_surface_status(surf);
-    cairo_surface_destroy(surf);
-    if (cs != CAIRO_STATUS_SUCCESS || s.failed)
-        st = tram__fail(err, s.failed ? TRAM_ENOMEM : TRAM_EIO, path, 0, 0, "PDF drawing failed: %s",
-                        s.failed ? "out of memory" : cairo_status_to_string(cs));
-    else
-        st = tram_file_write_atomic(path, (const char *)s.p, s.n, overwrite, err);
-    tram__free(s.p);
+    tram__pdf_stream pdf;
+    st = tram__pdf_stream_open(&pdf, L.pw, L.ph, title, NULL, err);
+    if (st != TRAM_OK) return st;
+    draw_page(pdf.cr, b, &L);
+    st = tram__pdf_stream_close(&pdf, path, err);
+    if (st == TRAM_OK)
+        st = tram_file_write_atomic(path, (const char *)pdf.buf.p, pdf.buf.n, overwrite, err);
+    tram__membuf_free(&pdf.buf);
     return st;
 }
 
 /* ---- PNG -------------------------------------------------------------- */
 
 typedef struct png_out {
-    sink s;
+    tram__membuf s;
     char msg[160];
 } png_out;
 
 static void png_w(png_structp png, png_bytep data, size_t n)
 {
     png_out *o = png_get_io_ptr(png);
-    if (sink_put(&o->s, data, n) != 0) png_error(png, "out of memory");
+    if (tram__membuf_put(&o->s, data, n) != 0) png_error(png, "out of memory");
 }
 static void png_fl(png_structp png) { (void)png; }
 static void png_err(png_structp png, png_const_charp msg)
@@ -354,6 +315,6 @@ tram_status tram_plot_board_write_png(const tram_board *b, const tram_plot_page 
     else
         st = tram_file_write_atomic(path, (const char *)o.s.p, o.s.n, overwrite, err);
     cairo_surface_destroy(surf);
-    tram__free(o.s.p);
+    tram__membuf_free(&o.s);
     return st;
 }

@@ -12,7 +12,9 @@
 
 #include <math.h>
 #include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
+#include <time.h>
 
 #define PT_PER_MM (72.0 / 25.4)
 
@@ -160,16 +162,15 @@ static tram_status draw_history(tram__report_ctx *c, tram_error *err)
     return st;
 }
 
-/* One layout pass; *doc holds the PDF bytes on success. */
+/* One layout pass; doc->pdf.buf holds the PDF bytes on success. */
 static tram_status lay_out(const tram__report_ctx *c, int total, tram__doc *doc, int *pages,
                            tram_error *err)
 {
     const tram_plot_page *pg = &c->opt->page;
     memset(doc, 0, sizeof *doc);
     doc->total = total;
-    snprintf(doc->footer, sizeof doc->footer, "tram calibration record - %.120s - %s %s",
-             c->cal->source, c->cal->trustworthy ? "" : "NOT trustworthy,",
-             "NOT verified on the cell");
+    snprintf(doc->footer, sizeof doc->footer, "tram calibration record - %.120s - %sNOT verified on the cell",
+             c->cal->source, c->cal->trustworthy ? "" : "NOT trustworthy, ");
     char title[320];
     snprintf(title, sizeof title, "Hand-eye calibration record: %.200s", c->cal->source);
     tram_status st = tram__doc_open(doc, pg->width_mm * PT_PER_MM, pg->height_mm * PT_PER_MM,
@@ -230,12 +231,13 @@ tram_status tram_report_write_pdf(const char *calibration_path, const tram_repor
     int n = 0;
     if (st == TRAM_OK) st = lay_out(&c, 0, &doc, &n, err); /* count the pages */
     if (st == TRAM_OK) {
-        tram__free(doc.buf);
+        tram__membuf_free(&doc.pdf.buf);
         st = lay_out(&c, n, &doc, &n, err);
     }
     if (st == TRAM_OK) {
-        st = tram_file_write_atomic(pdf_path, (const char *)doc.buf, doc.n, overwrite, err);
-        tram__free(doc.buf);
+        st = tram_file_write_atomic(pdf_path, (const char *)doc.pdf.buf.p, doc.pdf.buf.n, overwrite,
+                                    err);
+        tram__membuf_free(&doc.pdf.buf);
     }
     if (st == TRAM_OK && pages) *pages = n;
     tram_image_destroy(c.frames);
@@ -244,4 +246,25 @@ tram_status tram_report_write_pdf(const char *calibration_path, const tram_repor
     tram_check_history_destroy(hist);
     tram_calibration_destroy(cal);
     return st;
+}
+
+tram_status tram_report_date_now(char *out, size_t cap, tram_error *err)
+{
+    if (cap) out[0] = '\0';
+    time_t t = time(NULL);
+    const char *sde = getenv("SOURCE_DATE_EPOCH");
+    if (sde && *sde) {
+        char *end;
+        long long v = strtoll(sde, &end, 10);
+        if (*end || v < 0 || v > 253402300799LL) /* up to 9999-12-31 */
+            return tram__fail(err, TRAM_EINPUT, NULL, 0, 0,
+                              "SOURCE_DATE_EPOCH '%.100s': expected whole seconds since "
+                              "1970-01-01T00:00:00Z",
+                              sde);
+        t = (time_t)v;
+    }
+    struct tm tmv;
+    if (cap < 21 || !gmtime_r(&t, &tmv) || strftime(out, cap, "%Y-%m-%dT%H:%M:%SZ", &tmv) == 0)
+        return tram__fail(err, TRAM_EINPUT, NULL, 0, 0, "report date: no room for the date");
+    return TRAM_OK;
 }

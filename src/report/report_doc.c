@@ -1,6 +1,6 @@
 /*
  * report_doc.c - the page layout of the calibration report: a cairo PDF
- * surface written to memory, with a cursor that moves down the page.
+ * surface written to memory (plot/pdf_stream.c), with a cursor that moves down the page.
  * Text is drawn with cairo's toy font interface (the sans-serif and
  * monospace faces fontconfig gives); paragraphs are wrapped greedily at
  * spaces by the measured advance of each word.  Every page carries a
@@ -10,28 +10,8 @@
 #include "report/report_doc_internal.h"
 #include "plot/canvas_internal.h"
 
-#include <cairo-pdf.h>
 #include <stdio.h>
 #include <string.h>
-
-static cairo_status_t sink(void *closure, const unsigned char *data, unsigned int len)
-{
-    tram__doc *d = closure;
-    if (d->failed) return CAIRO_STATUS_WRITE_ERROR;
-    if (d->n + len > d->cap) {
-        size_t nc = 2 * (d->n + len) + 65536;
-        unsigned char *q = tram__realloc(d->buf, nc);
-        if (!q) {
-            d->failed = 1;
-            return CAIRO_STATUS_WRITE_ERROR;
-        }
-        d->buf = q;
-        d->cap = nc;
-    }
-    memcpy(d->buf + d->n, data, len);
-    d->n += len;
-    return CAIRO_STATUS_SUCCESS;
-}
 
 static void footer(tram__doc *d)
 {
@@ -69,18 +49,9 @@ tram_status tram__doc_open(tram__doc *d, double pw, double ph, const char *title
     d->right = pw - 56.7;
     d->top = 56.7;
     d->bottom = ph - 62;
-    d->surf = cairo_pdf_surface_create_for_stream(sink, d, pw, ph);
-    d->cr = cairo_create(d->surf);
-    if (cairo_status(d->cr) != CAIRO_STATUS_SUCCESS) {
-        cairo_destroy(d->cr);
-        cairo_surface_destroy(d->surf);
-        tram__free(d->buf);
-        d->buf = NULL;
-        return tram__fail(err, TRAM_ENOMEM, NULL, 0, 0, "cannot start the PDF report");
-    }
-    cairo_pdf_surface_set_metadata(d->surf, CAIRO_PDF_METADATA_TITLE, title);
-    cairo_pdf_surface_set_metadata(d->surf, CAIRO_PDF_METADATA_CREATOR, "tram " TRAM_VERSION_STRING);
-    if (date_utc) cairo_pdf_surface_set_metadata(d->surf, CAIRO_PDF_METADATA_CREATE_DATE, date_utc);
+    tram_status st = tram__pdf_stream_open(&d->pdf, pw, ph, title, date_utc, err);
+    if (st != TRAM_OK) return st;
+    d->cr = d->pdf.cr;
     d->page = 1;
     d->y = d->top;
     footer(d);
@@ -89,17 +60,8 @@ tram_status tram__doc_open(tram__doc *d, double pw, double ph, const char *title
 
 tram_status tram__doc_close(tram__doc *d, tram_error *err)
 {
-    cairo_show_page(d->cr);
-    cairo_status_t cs = cairo_status(d->cr);
-    cairo_destroy(d->cr);
-    cairo_surface_finish(d->surf);
-    if (cs == CAIRO_STATUS_SUCCESS) cs = cairo_surface_status(d->surf);
-    cairo_surface_destroy(d->surf);
-    if (cs == CAIRO_STATUS_SUCCESS && !d->failed) return TRAM_OK;
-    tram__free(d->buf);
-    d->buf = NULL;
-    return tram__fail(err, d->failed ? TRAM_ENOMEM : TRAM_EIO, NULL, 0, 0, "PDF drawing failed: %s",
-                      d->failed ? "out of memory" : cairo_status_to_string(cs));
+    d->cr = NULL;
+    return tram__pdf_stream_close(&d->pdf, NULL, err);
 }
 
 void tram__doc_new_page(tram__doc *d)

@@ -10,11 +10,12 @@
 #include <cairo.h>
 
 #include "tram/plot.h"
+#include "plot/pdf_stream_internal.h"
 #include "core/tram_internal.h"
 
 typedef struct tram__doc {
-    cairo_surface_t *surf;
-    cairo_t *cr;
+    tram__pdf_stream pdf;  /* the surface and the PDF bytes (pdf.buf)      */
+    cairo_t *cr;           /* pdf.cr                                       */
     double pw, ph;         /* page size (pt)                               */
     double left, right;    /* text column (pt from the left edge)          */
     double top, bottom;    /* text area (pt from the top edge)             */
@@ -22,9 +23,6 @@ typedef struct tram__doc {
     int page;              /* current page, 1-based                        */
     int total;             /* pages in all (0 while counting)              */
     char footer[300];      /* left part of every page's footer             */
-    unsigned char *buf;    /* the PDF bytes                                */
-    size_t n, cap;
-    int failed;            /* out of memory while writing                  */
 } tram__doc;
 
 /* A document of pages pw x ph points; the PDF goes to memory.  title is
@@ -32,8 +30,8 @@ typedef struct tram__doc {
  * TRAM_ENOMEM when cairo cannot start. */
 tram_status tram__doc_open(tram__doc *d, double pw, double ph, const char *title,
                            const char *date_utc, tram_error *err);
-/* Finish the last page and the PDF; the bytes stay in d->buf (d->n),
- * which the caller frees with tram__free.  TRAM_ENOMEM / TRAM_EIO. */
+/* Finish the last page and the PDF; the bytes stay in d->pdf.buf, which
+ * the caller frees with tram__membuf_free.  TRAM_ENOMEM / TRAM_EIO. */
 tram_status tram__doc_close(tram__doc *d, tram_error *err);
 
 /* Start a new page when less than h points are left on this one. */

@@ -8,7 +8,8 @@
  * calibration file holds it, else value +- 1.96 sigma per axis
  * (normal approximation, for files without intervals).  Rotation
  * uncertainty is about the transform's own axes (small rotation vector),
- * not per Euler angle.  Nothing here says or implies that the result is
+ * and per Euler angle by first-order propagation (tram_euler_covariance),
+ * not defined near gimbal lock.  Nothing here says or implies that the result is
  * verified: tram cannot know.
  */
 #include "report/report_sections_internal.h"
@@ -102,12 +103,18 @@ static void setup(tram__doc *d, const tram__report_ctx *c)
             "coordinates.");
     const char *how = cal->refined ? "then refined by robust least squares over both transforms"
                                    : "not refined";
-    para(d, "Method: %s; the refinement started from the %s closed form, %s. Station noise per "
-            "axis (%s): %.4g %s, %.4g deg.",
+    char noise[200];
+    if (isnan(cal->noise_angle_rad)) /* solved from 3D points: a point noise only */
+        snprintf(noise, sizeof noise, "Solved from 3D points: point noise per coordinate (%s) "
+                                      "%.4g %s.",
+                 cal->noise_source[0] ? cal->noise_source : "not recorded", cal->noise_length, unit(c));
+    else
+        snprintf(noise, sizeof noise, "Station noise per axis (%s): %.4g %s, %.4g deg.",
+                 cal->noise_source[0] ? cal->noise_source : "not recorded", cal->noise_length,
+                 unit(c), cal->noise_angle_rad * RAD2DEG);
+    para(d, "Method: %s; the refinement started from the %s closed form, %s. %s",
          cal->method[0] ? cal->method : "(not recorded)",
-         cal->start_method[0] ? cal->start_method : "(not recorded)", how,
-         cal->noise_source[0] ? cal->noise_source : "not recorded", cal->noise_length, unit(c),
-         cal->noise_angle_rad * RAD2DEG);
+         cal->start_method[0] ? cal->start_method : "(not recorded)", how, noise);
 }
 
 /* ---- transforms ------------------------------------------------------- */
@@ -164,6 +171,39 @@ static void tool_transform(const tram_calibration *cal, tram_se3 *out)
     tram_se3_compose(&T_tool_flange, cal->setup == TRAM_SETUP_EYE_IN_HAND ? &cal->X : &cal->Z, out);
 }
 
+/* The Euler angles' 1-sigma and 95% interval (tram_calibration_euler_intervals:
+ * the rotation covariance of block 0 (X) or 1 (Z) propagated to the named
+ * convention), or why they are not defined. */
+static void euler_intervals(tram__doc *d, const tram__report_ctx *c, const tram_mat3 *R, int block)
+{
+    tram_calibration_euler eu;
+    tram_calibration_euler_intervals(c->cal, block, R, c->opt->euler, &eu);
+    const char *name = tram_euler_name(c->opt->euler);
+    if (!eu.defined) {
+        para(d, "Euler angles %s: intervals not defined. The rotation is %.3f deg from this "
+                "convention's gimbal lock (at least %.0f deg and %.0f times the rotation's total "
+                "sigma are needed), where e1 and e3 are ill-determined and a linearised interval "
+                "would mislead; use the rotation's own-axes intervals above, or a convention "
+                "further from lock.",
+             name, eu.lock_distance_rad * RAD2DEG, TRAM_EULER_COV_LOCK_MIN_DEG,
+             TRAM_EULER_COV_LOCK_SIGMAS);
+        return;
+    }
+    for (int i = 0; i < 3; i++) {
+        double v = eu.angles_rad[i] * RAD2DEG, hw = eu.half95_rad[i] * RAD2DEG;
+        char label[32];
+        snprintf(label, sizeof label, "Euler e%d (deg)", i + 1);
+        mono(d, "  %-27s %12.6f %11.6f    %.6f .. %.6f  (+-%.6f)", label, v,
+             eu.sigma_rad[i] * RAD2DEG, v - hw, v + hw, hw);
+    }
+    char buf[400];
+    snprintf(buf, sizeof buf, "Euler angles %s: the rotation covariance propagated through the "
+                              "Jacobian of the Euler angles (first order; %.1f deg from gimbal "
+                              "lock); 95%% interval %.3f sigma (the largest of the rotation axes').",
+             name, eu.lock_distance_rad * RAD2DEG, eu.factor95);
+    tram__doc_para(d, 8, 12, 0, buf);
+}
+
 static void transform(tram__doc *d, const tram__report_ctx *c, int which)
 {
     const tram_calibration *cal = c->cal;
@@ -198,37 +238,53 @@ static void transform(tram__doc *d, const tram__report_ctx *c, int which)
     euler_words(c->opt->euler, buf, sizeof buf);
     tram__doc_para(d, 8, 12, 0, buf);
     if (which == 2) {
-        tram__doc_para(d, 8, 12, 0, "Uncertainty: as the transform's above, expressed in the tool "
-                                    "frame (not repeated here).");
+        tram__doc_para(d, 8, 12, 0, "Uncertainty: the translation's as the transform's above, "
+                                    "expressed in the tool frame (not repeated here); the rotation "
+                                    "about the transform's own axes is the same as above.");
+        int b = cal->setup == TRAM_SETUP_EYE_IN_HAND ? 0 : 1;
+        if (cal->has_cov && isfinite(cal->cov[(6 * b + 3) * 13]))
+            euler_intervals(d, c, &R, b);
         return;
     }
     if (!cal->has_cov) {
         para(d, "Uncertainty: not in the calibration file (no covariance was computed).");
         return;
     }
-    int off = which == 0 ? 0 : 6, t95 = c->cal->has_half95;
-    mono(d, t95 ? "uncertainty             value        1-sigma      95%% interval (Student t)"
-                : "uncertainty             value        1-sigma      95%% interval (value +- 1.96 sigma)");
+    int off = which == 0 ? 0 : 6, t95 = c->cal->has_half95, known = 1;
+    for (int i = 0; i < 6; i++) known &= isfinite(cal->cov[(off + i) * 12 + off + i]) != 0;
+    if (!known) {
+        para(d, "Uncertainty: not determined for %s (null in the calibration file: the solve did "
+                "not estimate it, e.g. the target of a solve from points without a model).",
+             name);
+        return;
+    }
+    mono(d, "%-29s %12s %11s    95%% interval (%s)", "uncertainty", "value", "1-sigma",
+         t95 ? "Student t" : "value +- 1.96 sigma");
     const char ax[3] = {'x', 'y', 'z'};
     for (int i = 0; i < 3; i++) {
         double s = sqrt(c->cal->cov[(off + i) * 12 + off + i]);
         double hw = t95 ? c->cal->half95[off + i] : 1.96 * s;
-        mono(d, "  translation %c (%s) %12.6f  %10.6f    %.6f .. %.6f  (+-%.6f)", ax[i], unit(c), t[i],
+        char label[32];
+        snprintf(label, sizeof label, "translation %c (%s)", ax[i], unit(c));
+        mono(d, "  %-27s %12.6f %11.6f    %.6f .. %.6f  (+-%.6f)", label, t[i],
              s, t[i] - hw, t[i] + hw, hw);
     }
     for (int i = 0; i < 3; i++) {
         double s = sqrt(c->cal->cov[(off + 3 + i) * 12 + off + 3 + i]) * RAD2DEG;
         double hw = t95 ? c->cal->half95[off + 3 + i] : 1.96 * s;
-        mono(d, "  rotation about own %c (deg)      %10.6f    +-%.6f", ax[i], s, hw);
+        char label[32];
+        snprintf(label, sizeof label, "rotation about own %c (deg)", ax[i]);
+        mono(d, "  %-27s %12s %11.6f    +-%.6f", label, "", s, hw);
     }
+    euler_intervals(d, c, &R, which);
     tram__doc_para(d, 8, 12, 0,
                    t95 ? "Translation uncertainty along the parent frame's axes; rotation uncertainty "
-                         "as a small rotation about the transform's own axes (not per Euler angle). "
+                         "as a small rotation about the transform's own axes, then per Euler angle. "
                          "From the refinement's Jacobian and the noise model; the 95% interval is the "
                          "solve's, a Student-t quantile with the degrees of freedom of each sigma "
                          "(docs/solve.md)."
                        : "Translation uncertainty along the parent frame's axes; rotation uncertainty "
-                         "as a small rotation about the transform's own axes (not per Euler angle). "
+                         "as a small rotation about the transform's own axes, then per Euler angle. "
                          "From the refinement's Jacobian scaled by the residual variance; the 95% "
                          "interval is the normal approximation, 1.96 sigma per axis (the calibration "
                          "file holds no interval of its own).");
@@ -236,28 +292,45 @@ static void transform(tram__doc *d, const tram__report_ctx *c, int which)
 
 /* ---- stations --------------------------------------------------------- */
 
+/* A residual with 5 decimals, or "-" when not defined (NaN: null in the file). */
+static const char *num5(double v, char buf[32])
+{
+    if (isnan(v)) snprintf(buf, 32, "-");
+    else snprintf(buf, 32, "%.5f", v);
+    return buf;
+}
+
 static void stations(tram__doc *d, const tram__report_ctx *c)
 {
     const tram_calibration *cal = c->cal;
     tram__doc_heading(d, 1, "3  Stations and residuals", 80);
-    para(d, "Per station: the rotation angle and the translation distance between that station's "
-            "own prediction of %s and the solution. The statistics leave out the stations flagged "
-            "as outliers, which were excluded from the final refinement.",
-         c->Z_name);
+    int points = isnan(cal->noise_angle_rad);
+    if (points)
+        para(d, "Solved from 3D points: per station, the RMS distance (%s) between the points the "
+                "sensor observed and the solution's prediction of them; a rotation residual does "
+                "not apply (shown as -). The statistics leave out the stations flagged as "
+                "outliers, which were excluded from the final refinement.",
+             unit(c));
+    else
+        para(d, "Per station: the rotation angle and the translation distance between that "
+                "station's own prediction of %s and the solution. The statistics leave out the "
+                "stations flagged as outliers, which were excluded from the final refinement.",
+             c->Z_name);
     if (cal->nresiduals == 0) {
         para(d, "The calibration file holds no per-station residuals.");
         return;
     }
     mono(d, "  station                  rotation (deg)   translation (%s)", unit(c));
+    char a[32], b[32];
     for (size_t i = 0; i < cal->nresiduals; i++) {
         const tram_calibration_residual *r = &cal->residuals[i];
-        mono(d, "  %-24.24s %14.5f   %17.5f   %s", r->station, r->rotation_deg, r->translation,
-             r->outlier ? "OUTLIER (excluded)" : "");
+        mono(d, "  %-24.24s %14s   %17s   %s", r->station, num5(r->rotation_deg, a),
+             num5(r->translation, b), r->outlier ? "OUTLIER (excluded)" : "");
     }
-    const tram_stats *a = &cal->rot_deg_stats, *b = &cal->trans_stats;
-    mono(d, "  %-24s %14.5f   %17.5f", "rms", a->rms, b->rms);
-    mono(d, "  %-24s %14.5f   %17.5f", "median", a->median, b->median);
-    mono(d, "  %-24s %14.5f   %17.5f", "max", a->max, b->max);
+    const tram_stats *sr = &cal->rot_deg_stats, *st = &cal->trans_stats;
+    mono(d, "  %-24s %14s   %17s", "rms", num5(sr->rms, a), num5(st->rms, b));
+    mono(d, "  %-24s %14s   %17s", "median", num5(sr->median, a), num5(st->median, b));
+    mono(d, "  %-24s %14s   %17s", "max", num5(sr->max, a), num5(st->max, b));
 }
 
 static void pictures(tram__doc *d, const tram__report_ctx *c)

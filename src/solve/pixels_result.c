@@ -35,7 +35,7 @@ tram_status tram__pixel_result_alloc(size_t nst, size_t nobs, tram_pixel_result 
 }
 
 /* From the observed stations back to all stations of r (those without
- * pixels: NaN residuals, flagged as left out). */
+ * pixels: NaN residuals, marked no_data; they are not outliers). */
 tram_status tram__pixel_result_expand(tram_solution *sol, const tram_records *r, const size_t *keep_of_r)
 {
     size_t n = r->count;
@@ -49,8 +49,7 @@ tram_status tram__pixel_result_expand(tram_solution *sol, const tram_records *r,
         size_t j = keep_of_r[i];
         if (j == (size_t)-1) {
             st[i].rot_deg = st[i].trans = NAN;
-            st[i].outlier = 1;
-            sol->n_outliers++;
+            st[i].no_data = 1; /* left out, but not flagged: nothing was seen */
             if (np) {
                 np->station_rms_px[i] = np->pose_rms_px[i] = NAN;
                 np->station_excluded[i] = 1;

@@ -116,6 +116,7 @@ static void add_results(tram__jb *b, cJSON *root, const tram_solution *s, const 
         tram__jb_num(b, o, "rotation_deg", s->stations[i].rot_deg);
         tram__jb_num(b, o, "translation", s->stations[i].trans);
         tram__jb_bool(b, o, "outlier", s->stations[i].outlier);
+        if (s->stations[i].no_data) tram__jb_bool(b, o, "no_data", 1);
         if (s->points) tram__jb_num(b, o, "point_rms", s->points->station_rms[i]);
     }
     if (s->points) add_points(b, root, res, s->points);

@@ -87,7 +87,7 @@ cov_put cov_notpsd.json notpsd
 expect_error "covariance not PSD" 2 'cov_notpsd\.json:[0-9]+:[0-9]+: error: .*not positive semi-definite' check --calibration "$h/cov_notpsd.json" "$demo/wrist_recheck.csv"
 expect_error "covariance not PSD in plot" 2 'cov_notpsd\.json:[0-9]+:[0-9]+: error: .*not positive semi-definite' plot residuals --calibration "$h/cov_notpsd.json" -o "$h/res.png"
 cov_put cov_nan.json nan
-expect_error "covariance with a null" 2 'cov_nan\.json:[0-9]+:[0-9]+: error: damaged calibration file: covariance\[5\] is not a number' check --calibration "$h/cov_nan.json" "$demo/wrist_recheck.csv"
+expect_error "covariance with a null" 2 'cov_nan\.json:[0-9]+:[0-9]+: error: damaged calibration file: covariance\[5\] is null, but both of its parameters' check --calibration "$h/cov_nan.json" "$demo/wrist_recheck.csv"
 cov_put cov_short.json short
 expect_error "covariance of the wrong size" 2 'cov_short\.json:[0-9]+:[0-9]+: error: .*"covariance" must hold 144 numbers' check --calibration "$h/cov_short.json" "$demo/wrist_recheck.csv"
 awk '/^\t"covariance":/ { sub(/,$/, "", prev); skip = 1 } NR > 1 && !held { print prev } { held = skip; skip = 0; if (!held) prev = $0 } END { print prev }' "$h/cal.json" >"$h/cov_none.json"

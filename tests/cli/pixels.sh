@@ -28,6 +28,17 @@ assert err(a) <= err(b)
 PY
 "$TRAM" solve --pixels "$px/pixels.csv" --camera "$px/camera.json" --board "$px/board.json" --refine-intrinsics "$px/robot.csv" \
     >"$tmp/out" 2>"$tmp/err" && grep -q "camera refined with the mount" "$tmp/out" && ok || { bad "refine-intrinsics"; cat "$tmp/err"; }
+# A robot station without pixels is left out as "no data", never as an outlier.
+{ cat "$px/robot.csv"; echo "s11,900,200,650,1,0,0,0"; } >"$tmp/robot_extra.csv"
+"$TRAM" solve --json --pixels "$px/pixels.csv" --camera "$px/camera.json" --board "$px/board.json" "$tmp/robot_extra.csv" \
+    >"$tmp/nodata.json" 2>"$tmp/err" && /usr/bin/python3 - "$tmp/nodata.json" <<'PY' && ok || { bad "station without pixels"; cat "$tmp/err"; }
+import json, sys
+d = json.load(open(sys.argv[1]))
+s = {x["station"]: x for x in d["residuals"]["stations"]}["s11"]
+assert s.get("no_data") is True and s["outlier"] is False and s["rotation_deg"] is None, s
+assert d["observability"]["outliers"] == 0, d["observability"]
+assert any(g["code"] == "stations-without-pixels" for g in d["diagnostics"]), d["diagnostics"]
+PY
 # Bad input: a station with pixels but no robot pose; a point id not on the board.
 { cat "$px/pixels.csv"; echo "s77,3,100.5,100.5"; } >"$tmp/extra.csv"
 n=$(wc -l <"$tmp/extra.csv" | tr -d ' ')

@@ -53,4 +53,67 @@ SOURCE_DATE_EPOCH=soon "$TRAM" report "$tmp/rep.cal.json" -o "$tmp/x.pdf" --eule
 [ $? -eq 2 ] && [ ! -s "$tmp/out" ] && grep -q "SOURCE_DATE_EPOCH 'soon': expected whole seconds" "$tmp/err" && ok || bad "report bad SOURCE_DATE_EPOCH"
 [ ! -e "$tmp/x.pdf" ] && ok || bad "report wrote a file on error"
 "$TRAM" help report | grep -q 'usage: tram report CALIB.json' && ok || bad "help report"
+
+# report_checks NAME CAL PDF [ARGS...]: the report of calibration CAL (made to PDF) holds
+# the file's key numbers (translation, 1-sigma, 95% half-width, residual rms, as
+# the report formats them; the Euler angles and their intervals are checked
+# against SciPy in tests/ref/check_euler_cov_scipy.py), the safety text, and
+# every page renders (pdftoppm) in the count the command reported (pdfinfo).
+report_checks() {
+    name=$1 cal=$2 pdf=$3
+    shift 3
+    SOURCE_DATE_EPOCH=1796212800 "$TRAM" report "$cal" -o "$pdf" --euler zyx-intrinsic --force "$@" >"$tmp/out" 2>"$tmp/err" ||
+        { bad "report $name: $(cat "$tmp/err")"; return; }
+    n=$(sed -n 's/^report: \([0-9]*\) pages.*/\1/p' "$tmp/out")
+    pdfinfo "$pdf" | grep -q "^Pages: *$n\$" && ok || bad "report $name: pdfinfo pages (reported $n)"
+    rm -rf "$tmp/pg" && mkdir -p "$tmp/pg"
+    pdftoppm -r 30 -png "$pdf" "$tmp/pg/p" && [ "$(ls "$tmp/pg" | wc -l)" -eq "$n" ] && ok || bad "report $name: pdftoppm renders $n pages"
+    pdftotext -layout "$pdf" - >"$tmp/$name.txt"
+    tr '\n' ' ' <"$tmp/$name.txt" | tr -s ' ' >"$tmp/$name.flat"
+    for want in "NOT verified on the cell" "verify it on the cell at reduced speed" \
+        "keep clear of the working envelope" "applicable robot-safety standards and local codes" \
+        "Verified on the cell by (name, date):" "Euler e1 (deg)"; do
+        grep -qF -- "$want" "$tmp/$name.flat" && ok || bad "report $name lacks '$want'"
+    done
+    /usr/bin/python3 - "$cal" >"$tmp/$name.want" <<'PY'
+import json, sys
+d = json.load(open(sys.argv[1]))
+for name, tr in d["transforms"].items():
+    for v in tr["translation"]:
+        print(f"{v:.6f}")
+    u = d["uncertainty"][name]
+    for s, h in zip(u["translation_sigma"], u["translation_95"]):
+        if s is not None:
+            print(f"{s:.6f}")
+            print(f"+-{h:.6f}")
+print(f"{d['residuals']['translation']['rms']:.5f}")
+PY
+    miss=0
+    while read -r w; do grep -qF -- "$w" "$tmp/$name.txt" || { miss=$((miss + 1)); echo "  report $name lacks $w"; }; done <"$tmp/$name.want"
+    [ "$miss" -eq 0 ] && [ -s "$tmp/$name.want" ] && ok || bad "report $name: $miss key numbers missing"
+}
+# From pixels: the synthetic scene of tests/cli/data/pixels (see pixels.sh).
+px="$here/data/pixels"
+"$TRAM" solve --force -o "$tmp/pix.cal.json" --pixels "$px/pixels.csv" --camera "$px/camera.json" \
+    --board "$px/board.json" "$px/robot.csv" >/dev/null 2>&1 || bad "solve --pixels for report"
+report_checks pixels "$tmp/pix.cal.json" "$tmp/pix.pdf"
+grep -q "pixel-refinement: refined on the reprojection error of 540 corner" "$tmp/pixels.flat" && ok || bad "report pixels: the pixel refinement note"
+# From 3D points: the open dataset of Jin et al. (2023), read from ../shared.
+jin="$here/../../../shared/datasets/jin2023/eyeinhand_pattern"
+if have_dataset "$jin"; then
+    sh "$here/../../tools/jin2023_to_tram.sh" "$jin" "$tmp/jinrep" xyz-extrinsic >/dev/null 2>&1
+    "$TRAM" solve --force -o "$tmp/pts.cal.json" --points "$tmp/jinrep/points.csv" "$tmp/jinrep/records.csv" >/dev/null 2>&1 ||
+        bad "solve --points for report"
+    report_checks points "$tmp/pts.cal.json" "$tmp/pts.pdf"
+    for want in "Solved from 3D points: point noise per coordinate" "Uncertainty: not determined for T_base_target"; do
+        grep -qF -- "$want" "$tmp/points.flat" && ok || bad "report points lacks '$want'"
+    done
+    # a mount check refuses a points calibration, naming where its noise is
+    expect_error "check a points calibration" 2 "pts.cal.json:[0-9]+:[0-9]+: error: the calibration holds a point noise but no pose noise" \
+        check --calibration "$tmp/pts.cal.json" "$demo/wrist_recheck.csv"
+fi
+# With a check history (of the demo's recheck and bump): 5 pages, its picture and count.
+report_checks history "$tmp/rep.cal.json" "$tmp/hist.pdf" --history "$tmp/rep.hist.jsonl"
+grep -q '^report: 5 pages' "$tmp/out" && grep -qF "Mount-check history From $tmp/rep.hist.jsonl: 2 checks" "$tmp/history.flat" && ok ||
+    bad "report history: 5 pages and the history's section"
 # The examples of docs/report.md and docs/records.md run in tests/cli/docs.sh.

@@ -64,6 +64,11 @@ mkpts "$demo/wrist_camera.csv" 1 >"$tmp/pts.csv"
 mkpts "$demo/wrist_camera.csv" 0.001 >"$tmp/pts_m.csv"
 shift_rows 3 7 "$demo/wrist_camera.csv" >"$tmp/shift3.csv"
 expect_rc "points honest" 0 "pairing test: .* passed" solve --points "$tmp/pts.csv" "$demo/wrist_camera.csv"
+# a points calibration (Z's covariance rows null) reads back: check refuses it
+# by name (it compares poses), the report takes it
+expect_rc "points calibration written" 0 "" solve --points "$tmp/pts.csv" -o "$tmp/pts_cal.json" "$demo/wrist_camera.csv"
+expect_error "check refuses a points calibration" 2 'pts_cal\.json:[0-9]+:[0-9]+: error: the calibration holds a point noise but no pose noise' check --calibration "$tmp/pts_cal.json" "$demo/wrist_recheck.csv"
+expect_rc "report of a points calibration" 0 "" report --euler zyx-intrinsic -o "$tmp/pts_cal.pdf" "$tmp/pts_cal.json"
 expect_rc "points rows shifted" 3 "3D point residuals .* are beyond" solve --points "$tmp/pts.csv" "$tmp/shift3.csv"
 expect_rc "points in m declared mm" 3 "3D point residuals .* are beyond" solve --points "$tmp/pts_m.csv" "$demo/wrist_camera.csv"
 # the gate names the tiny working distance as a unit misread, and gives no
