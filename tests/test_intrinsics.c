@@ -7,6 +7,8 @@
  * collinear points, unknown point ids).  Seeds are fixed and printed. */
 #include "test_util.h"
 
+#include <cjson/cJSON.h>
+
 #include "camera/homography_internal.h"
 #include "camera/intrinsics_internal.h"
 #include "render/render.h"
@@ -314,6 +316,23 @@ static void test_outliers(void **state)
     assert_int_equal(r->calib.noutliers, 3);
     for (int k = 0; k < 3; k++) assert_true(r->outlier[bad[k]]);
     check_recovery("with outliers", r, &c);
+    /* the JSON report carries the flags and the camera with exact numbers */
+    const char *warn[1] = {"a warning"};
+    tram_intrinsics_report rep = {o, "board 13x10", "mm", 1, r, 1, warn, "caution"};
+    char *text = NULL;
+    assert_int_equal(tram_intrinsics_report_to_json(&rep, &text, &err), TRAM_OK);
+    cJSON *doc = cJSON_Parse(text);
+    assert_non_null(doc);
+    cJSON *res = cJSON_GetObjectItem(doc, "residuals");
+    assert_int_equal((size_t)cJSON_GetArraySize(res), o->n);
+    assert_true(cJSON_IsTrue(cJSON_GetObjectItem(cJSON_GetArrayItem(res, (int)bad[0]), "outlier")));
+    assert_int_equal((size_t)cJSON_GetArraySize(cJSON_GetObjectItem(doc, "views")), r->nviews);
+    cJSON *cam = cJSON_GetObjectItem(doc, "camera");
+    assert_non_null(cam);
+    assert_true(strstr(text, "\"rms_px\"") != NULL);
+    assert_close(cJSON_GetObjectItem(doc, "rms_px")->valuedouble, r->rms_px, 0);
+    cJSON_Delete(doc);
+    tram_free(text);
     tram_intrinsics_result_destroy(r);
     tram_pixel_obs_destroy(o);
 }

@@ -359,7 +359,8 @@ static int cmp_dbl(const void *a, const void *b)
 
 static double get_dbl(const void *ctx, size_t i) { return ((const double *)ctx)[i]; }
 
-/* The allocation-free median (radix selection) against sorting: random
+/* The allocation-free median (radix selection) against sorting, and the
+ * in-place selection against it bit for bit: random
  * values of both signs over many magnitudes, ties, zeros of both signs. */
 static void test_median_selection(void **state)
 {
@@ -380,7 +381,13 @@ static void test_median_selection(void **state)
         size_t k = (size_t)(test_rng_uniform(&r) * (double)n);
         assert_true(tram__median(v, n) == want); /* input not reordered */
         assert_true(tram__kth(n, get_dbl, v, k) == c[k]);
+        double w[257], m = tram__median(v, n);
+        memcpy(w, v, n * sizeof *v);
+        double mi = tram__median_inplace(w, n); /* Hoare's selection: the same bits */
+        if (memcmp(&mi, &m, sizeof m)) fail_msg("trial %d (n %zu): in place %.17g, radix %.17g", trial, n, mi, m);
     }
+    double one = 2.5;
+    assert_true(tram__median_inplace(&one, 1) == 2.5 && tram__median_inplace(&one, 0) == 0.0);
     assert_true(tram__median(v, 0) == 0.0);
 }
 

@@ -252,6 +252,25 @@ TRAM_API const char *tram_intrinsics_view_id(const tram_intrinsics_result *r, si
 TRAM_API int tram_intrinsics_view_pose(const tram_intrinsics_result *r, size_t i, double T[16],
                                        double *rms_px);
 
+/* A camera calibration as tram intrinsics reports it. */
+typedef struct tram_intrinsics_report {
+    const tram_pixel_obs *obs;           /* the observations calibrated from      */
+    const char *target;                  /* the target, in words (board or model) */
+    const char *length_unit;             /* the target's length unit              */
+    int robust;                          /* Huber loss (else squared)             */
+    const tram_intrinsics_result *result;
+    size_t nwarnings;
+    const char *const *warnings;         /* the diagnostics, in words              */
+    const char *caution;                 /* the safety text                        */
+} tram_intrinsics_report;
+
+/* Its JSON document (format "tram-intrinsics-report", docs/camera.md;
+ * indented, final newline), the camera file's document embedded as
+ * "camera", into *text (free it with tram_free).  TRAM_ENOMEM, and *text
+ * NULL, if any allocation failed. */
+TRAM_API tram_status tram_intrinsics_report_to_json(const tram_intrinsics_report *r, char **text,
+                                                    tram_error *err);
+
 /* The pixel of the target point xyz_target (target frame) when the
  * target is at T_sensor_target.  Returns 0, uv untouched, when the point
  * is behind the camera. */

@@ -102,17 +102,6 @@ tram_status cli_solve_pixels(const tram_records *r, tram_setup setup, const cli_
                              const tram_solve_options *so, tram_solution **s, tram_error *err);
 void cli_print_pixels(const tram_solution *s, const tram_records *r);
 
-/* JSON numbers of the command's own reports (tram intrinsics), written as the library writes
- * its JSON (src/io/json.c): 17 significant digits (%.17g, which reads back
- * to the same double), -0 as 0, null when not finite.  NULL when out of
- * memory (cJSON then drops the item; the callers check their document). */
-struct cJSON;
-struct cJSON *cli_json_number(double v);
-/* An array of n such numbers. */
-struct cJSON *cli_json_numbers(const double *v, int n);
-/* cli_json_number(v) added to object o under key: 1 on success. */
-int cli_json_add_number(struct cJSON *o, const char *key, double v);
-
 /* The safety caution printed with every solved or checked result. */
 extern const char cli_safety_text[];
 

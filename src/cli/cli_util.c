@@ -3,7 +3,6 @@
  * subcommands.
  */
 #include "cli.h"
-#include <cjson/cJSON.h>
 #include <math.h>
 #include <sys/stat.h>
 #include <unistd.h>
@@ -151,31 +150,4 @@ int cli_apply_tool(const char *tool, tram_records *r)
         return CLI_EXIT_USAGE;
     }
     return CLI_EXIT_OK;
-}
-
-cJSON *cli_json_number(double v)
-{
-    if (!isfinite(v)) return cJSON_CreateNull();
-    char b[40];
-    snprintf(b, sizeof b, "%.17g", v == 0 ? 0.0 : v);
-    return cJSON_CreateRaw(b);
-}
-
-cJSON *cli_json_numbers(const double *v, int n)
-{
-    cJSON *a = cJSON_CreateArray();
-    for (int i = 0; a && i < n; i++)
-        if (!cJSON_AddItemToArray(a, cli_json_number(v[i]))) {
-            cJSON_Delete(a);
-            return NULL;
-        }
-    return a;
-}
-
-int cli_json_add_number(cJSON *o, const char *key, double v)
-{
-    cJSON *item = cli_json_number(v);
-    if (item && cJSON_AddItemToObject(o, key, item)) return 1;
-    cJSON_Delete(item);
-    return 0;
 }

@@ -8,7 +8,6 @@
  */
 #include "cli.h"
 
-#include <cjson/cJSON.h>
 #include <errno.h>
 #include <math.h>
 #include <stdlib.h>
@@ -220,102 +219,23 @@ static void report_text(const tram_pixel_obs *obs, const target *g, const tram_i
     printf("\nresult: consistent with the data; NOT verified on the cell\n%s", cli_safety_text);
 }
 
-/* The numbers of a parsed document rewritten as cli_json_number writes
- * them (cJSON would print its doubles with 15 digits): 1 on success. */
-static int exact_numbers(cJSON *node)
-{
-    for (cJSON *c = node ? node->child : NULL; c; c = c->next) {
-        if (cJSON_IsNumber(c)) {
-            cJSON *r = cli_json_number(c->valuedouble);
-            int done = r && (cJSON_IsObject(node) ? cJSON_ReplaceItemInObjectCaseSensitive(node, c->string, r)
-                                                  : cJSON_ReplaceItemViaPointer(node, c, r));
-            if (!done) {
-                cJSON_Delete(r);
-                return 0;
-            }
-            c = r;
-        } else if ((cJSON_IsObject(c) || cJSON_IsArray(c)) && !exact_numbers(c)) {
-            return 0;
-        }
-    }
-    return 1;
-}
-
-/* The JSON report; the camera file's document is embedded as "camera". */
+/* The JSON report (tram/camera.h) on stdout. */
 static int report_json(const tram_pixel_obs *obs, const target *g, const tram_intrinsics_result *r,
-                       const char *camera_text, int robust)
+                       int robust)
 {
-    cJSON *root = cJSON_CreateObject(), *cam = cJSON_Parse(camera_text), *a, *o;
-    int ok = root && cam && exact_numbers(cam);
-    ok = ok && cJSON_AddStringToObject(root, "format", "tram-intrinsics-report");
-    ok = ok && cli_json_add_number(root, "version", 1);
-    ok = ok && cJSON_AddStringToObject(root, "observations", obs->source);
-    ok = ok && cJSON_AddStringToObject(root, "target", g->desc);
-    ok = ok && cJSON_AddStringToObject(root, "length_unit", g->unit);
-    ok = ok && cJSON_AddStringToObject(root, "loss", robust ? "huber" : "squared");
-    ok = ok && cJSON_AddItemToObject(root, "camera", cam);
-    if (!ok && cam && !cJSON_GetObjectItem(root, "camera")) cJSON_Delete(cam);
-    ok = ok && cli_json_add_number(root, "rms_px", r->rms_px);
-    ok = ok && cli_json_add_number(root, "noise_px", r->noise_px);
-    ok = ok && cli_json_add_number(root, "outlier_threshold_px", r->outlier_px);
-    ok = ok && cli_json_add_number(root, "coverage", r->coverage);
-    ok = ok && cli_json_add_number(root, "max_tilt_x_deg", r->max_tilt_x_deg);
-    ok = ok && cli_json_add_number(root, "max_tilt_y_deg", r->max_tilt_y_deg);
-    o = ok ? cJSON_AddObjectToObject(root, "initial") : NULL;
-    ok = o && cli_json_add_number(o, "fx", r->initial.fx) && cli_json_add_number(o, "fy", r->initial.fy) &&
-         cli_json_add_number(o, "cx", r->initial.cx) && cli_json_add_number(o, "cy", r->initial.cy) &&
-         cli_json_add_number(o, "skew", r->initial.skew);
-    a = ok ? cJSON_AddArrayToObject(root, "views") : NULL;
-    ok = a != NULL;
-    for (size_t k = 0; ok && k < r->nviews; k++) {
-        const tram_intrinsics_view *v = &r->views[k];
-        cJSON *e = cJSON_CreateObject(), *T = cJSON_CreateArray();
-        ok = e && T && cJSON_AddItemToArray(a, e);
-        if (!ok) {
-            cJSON_Delete(e);
-            cJSON_Delete(T);
-            break;
-        }
-        ok = cJSON_AddItemToObject(e, "T_sensor_target", T) && cJSON_AddStringToObject(e, "station", v->id) &&
-             cli_json_add_number(e, "points", (double)v->nobs) &&
-             cli_json_add_number(e, "outliers", (double)v->noutliers) &&
-             cli_json_add_number(e, "rms_px", v->rms_px) &&
-             cli_json_add_number(e, "tilt_x_deg", v->tilt_x_deg) &&
-             cli_json_add_number(e, "tilt_y_deg", v->tilt_y_deg) &&
-             cJSON_AddItemToObject(e, "sigma_rotation_deg", cli_json_numbers(v->sigma_rot_deg, 3)) &&
-             cJSON_AddItemToObject(e, "sigma_translation", cli_json_numbers(v->sigma_t, 3));
-        for (int i = 0; ok && i < 4; i++)
-            ok = cJSON_AddItemToArray(T, cli_json_numbers(v->T_sensor_target.m[i], 4));
-    }
-    a = ok ? cJSON_AddArrayToObject(root, "residuals") : NULL;
-    ok = a != NULL;
-    for (size_t i = 0; ok && i < r->nobs; i++) {
-        cJSON *e = cJSON_CreateObject();
-        ok = e && cJSON_AddItemToArray(a, e);
-        if (!ok) {
-            cJSON_Delete(e);
-            break;
-        }
-        ok = cJSON_AddStringToObject(e, "station", obs->station_id[obs->station[i]]) &&
-             cJSON_AddStringToObject(e, "point", obs->point_id[obs->point[i]]) &&
-             cli_json_add_number(e, "du_px", r->residual_px[2 * i]) &&
-             cli_json_add_number(e, "dv_px", r->residual_px[2 * i + 1]) &&
-             cJSON_AddBoolToObject(e, "outlier", r->outlier[i]);
-    }
-    a = ok ? cJSON_AddArrayToObject(root, "warnings") : NULL;
-    ok = a != NULL;
-    for (unsigned bit = 1; ok && bit <= TRAM_INTRINSICS_WARN_OUTLIERS; bit <<= 1)
-        if (r->warnings & bit) ok = cJSON_AddItemToArray(a, cJSON_CreateString(warning_text(bit)));
-    ok = ok && cJSON_AddStringToObject(root, "result", "consistent with the data; NOT verified on the cell");
-    ok = ok && cJSON_AddStringToObject(root, "caution", cli_safety_text);
-    char *text = ok ? cJSON_Print(root) : NULL;
-    cJSON_Delete(root);
-    if (!text) {
-        fprintf(stderr, "tram intrinsics: error: out of memory building the JSON report\n");
+    const char *warn[16];
+    size_t nw = 0;
+    for (unsigned bit = 1; bit <= TRAM_INTRINSICS_WARN_OUTLIERS && nw < 16; bit <<= 1)
+        if (r->warnings & bit) warn[nw++] = warning_text(bit);
+    tram_intrinsics_report rep = {obs, g->desc, g->unit, robust, r, nw, warn, cli_safety_text};
+    char *text = NULL;
+    tram_error err;
+    if (tram_intrinsics_report_to_json(&rep, &text, &err) != TRAM_OK) {
+        fprintf(stderr, "tram intrinsics: error: %s\n", err.message);
         return CLI_EXIT_USAGE;
     }
-    printf("%s\n", text);
-    free(text);
+    fputs(text, stdout);
+    tram_free(text);
     return CLI_EXIT_OK;
 }
 
@@ -471,7 +391,7 @@ int cli_intrinsics(int argc, char **argv)
     }
     if (rc == CLI_EXIT_OK) {
         if (a.json)
-            rc = report_json(obs, &g, r, camera_text, a.opt.robust);
+            rc = report_json(obs, &g, r, a.opt.robust);
         else
             report_text(obs, &g, r, a.opt.robust, a.out);
     }

@@ -6,7 +6,6 @@
 #include "cli.h"
 #include "tram/plot.h"
 
-#include <cjson/cJSON.h>
 #include <stdlib.h>
 #include <string.h>
 #include <sys/stat.h>

@@ -79,6 +79,49 @@ double tram__median_of(size_t n, double (*get)(const void *ctx, size_t i), const
     return 0.5 * (lo + (at_most > n / 2 ? lo : hi));
 }
 
+/* The k-th smallest of v[0..n-1] in order_key's order (so the same value
+ * as tram__kth), by Hoare's selection (Comm. ACM 4(7), 1961, "FIND") with
+ * a median-of-three pivot: v is reordered so that v[k] is it, v[0..k-1]
+ * no larger and v[k+1..n-1] no smaller. */
+static void select_inplace(double *v, size_t n, size_t k)
+{
+    size_t lo = 0, hi = n - 1;
+    while (hi > lo) {
+        size_t mid = lo + (hi - lo) / 2;
+        unsigned long long a = order_key(v[lo]), b = order_key(v[mid]), c = order_key(v[hi]);
+        unsigned long long piv = a < b ? (b < c ? b : a < c ? c : a) : (a < c ? a : b < c ? c : b);
+        size_t i = lo, j = hi;
+        while (i <= j) {
+            while (order_key(v[i]) < piv) i++;
+            while (order_key(v[j]) > piv) j--;
+            if (i <= j) {
+                double t = v[i];
+                v[i] = v[j];
+                v[j] = t;
+                i++;
+                if (j == 0) break;
+                j--;
+            }
+        }
+        if (k <= j) hi = j;
+        else if (k >= i) lo = i;
+        else return; /* between j and i: equal to the pivot */
+    }
+}
+
+double tram__median_inplace(double *v, size_t n)
+{
+    if (n == 0) return 0.0;
+    select_inplace(v, n, n / 2);
+    double hi = v[n / 2];
+    if (n % 2) return hi;
+    /* the lower middle: the largest of v[0 .. n/2-1] */
+    double lo = v[0];
+    for (size_t i = 1; i < n / 2; i++)
+        if (order_key(v[i]) > order_key(lo)) lo = v[i];
+    return 0.5 * (lo + hi);
+}
+
 static double array_get(const void *ctx, size_t i) { return ((const double *)ctx)[i]; }
 
 double tram__median(const double *v, size_t n) { return tram__median_of(n, array_get, v); }

@@ -10,6 +10,9 @@
 /* Median of n values (the input is not reordered, and nothing is
  * allocated: a radix selection, tram__kth).  0 for n = 0. */
 double tram__median(const double *v, size_t n);
+/* The same median (bit for bit) in O(n) by selection, reordering v (the
+ * caller's scratch copy). */
+double tram__median_inplace(double *v, size_t n);
 
 /* The k-th smallest (0-based, k < n) of the n values get(ctx, 0 .. n-1),
  * by a bitwise radix selection over the values' order-preserving 64-bit

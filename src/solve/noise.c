@@ -384,15 +384,17 @@ tram_status tram__noise_station_stat(const tram_refine_problem *pb, const double
         double r[6], J[6][12], Sr[9], St[9], V[36], x[6];
         tram__refine_station_raw(&pb->P[i], &pb->S[i], X, Z, r, J);
         tram__noise_station_cov(nm, &pb->P[i], &pb->S[i], X, Z, Sr, St);
-        double sign = (!w || w[i] > 0) ? -1.0 : 1.0;
+        double sign = (!w || w[i] > 0) ? -1.0 : 1.0, JC[6][12];
+        for (int b = 0; b < 6; b++) /* C J^T once (C symmetric), then J (C J^T) */
+            for (int p = 0; p < 12; p++) {
+                double cp = 0;
+                for (int q = 0; q < 12; q++) cp += C[p * 12 + q] * J[b][q];
+                JC[b][p] = cp;
+            }
         for (int a = 0; a < 6; a++)
             for (int b = 0; b < 6; b++) {
                 double jcj = 0;
-                for (int p = 0; p < 12; p++) {
-                    double cp = 0;
-                    for (int q = 0; q < 12; q++) cp += C[p * 12 + q] * J[b][q];
-                    jcj += J[a][p] * cp;
-                }
+                for (int p = 0; p < 12; p++) jcj += J[a][p] * JC[b][p];
                 double s = 0;
                 if (a < 3 && b < 3) s = Sr[3 * a + b];
                 else if (a >= 3 && b >= 3) s = St[3 * (a - 3) + b - 3];

@@ -318,6 +318,56 @@ static void accumulate6(int np, int nb, size_t ld, double w, const double *J, co
     }
 }
 
+/* accumulate6 for the 12 pose parameters of a station (np = nb = NP,
+ * row stride NP), with the zero pattern of column_rows written out: the
+ * rotation rows touch columns 0-2 and 6-8, the translation rows 0-5 and
+ * 9-11.  Every sum is accumulate6's, term for term in the same order, so
+ * H and g are bit-identical; only the transposition, the per-pair test
+ * and the loop over skipped pairs are gone. */
+static inline double dot_rot(const double J[6][NP], int a, int b)
+{
+    return J[0][a] * J[0][b] + J[1][a] * J[1][b] + J[2][a] * J[2][b];
+}
+
+static inline double dot_tr(const double J[6][NP], int a, int b)
+{
+    return J[3][a] * J[3][b] + J[4][a] * J[4][b] + J[5][a] * J[5][b];
+}
+
+static void accumulate_station(double w, const double J[6][NP], const double r[6],
+                               double H[NPX * NPX], double g[NPX])
+{
+    for (int a = 0; a < NP; a++) {
+        double ga = J[0][a] * r[0];
+        for (int k = 1; k < 6; k++) ga += J[k][a] * r[k];
+        g[a] += w * ga;
+    }
+    for (int a = 0; a < 3; a++) { /* w_X: both blocks */
+        double *Ha = H + a * NP;
+        for (int b = a; b < 3; b++) {
+            double hsum = dot_rot(J, a, b);
+            hsum = hsum + J[3][a] * J[3][b] + J[4][a] * J[4][b] + J[5][a] * J[5][b];
+            Ha[b] += w * hsum;
+        }
+        for (int b = 3; b < 6; b++) Ha[b] += w * dot_tr(J, a, b);
+        for (int b = 6; b < 9; b++) Ha[b] += w * dot_rot(J, a, b);
+        for (int b = 9; b < 12; b++) Ha[b] += w * dot_tr(J, a, b);
+    }
+    for (int a = 3; a < 6; a++) { /* dt_X: translation rows */
+        double *Ha = H + a * NP;
+        for (int b = a; b < 6; b++) Ha[b] += w * dot_tr(J, a, b);
+        for (int b = 9; b < 12; b++) Ha[b] += w * dot_tr(J, a, b);
+    }
+    for (int a = 6; a < 9; a++) { /* w_Z: rotation rows */
+        double *Ha = H + a * NP;
+        for (int b = a; b < 9; b++) Ha[b] += w * dot_rot(J, a, b);
+    }
+    for (int a = 9; a < 12; a++) { /* dt_Z: translation rows */
+        double *Ha = H + a * NP;
+        for (int b = a; b < 12; b++) Ha[b] += w * dot_tr(J, a, b);
+    }
+}
+
 /* The step x (nparams values) from (X, Z) and the scale: the moved poses,
  * and the moved scale into *scale (unchanged without pb->scale). */
 static void step_apply(const tram_refine_problem *pb, const tram_se3 *X, const tram_se3 *Z,
@@ -350,7 +400,8 @@ static void normal_stations(const tram_refine_problem *pb, const double *w, cons
         if (!(w[i] > 0)) continue;
         double r[6], J[6][NP];
         tram__refine_weighted(pb, i, X, Z, r, J);
-        accumulate6(np, nbase(pb), NP, w[i], &J[0][0], r, H, g);
+        if (np == NP) accumulate_station(w[i], J, r, H, g);
+        else accumulate6(np, nbase(pb), NP, w[i], &J[0][0], r, H, g);
     }
 }
 
@@ -669,20 +720,14 @@ tram_status tram__refine_covariance(const tram_refine_problem *pb, const double 
     return tram__refine_covariance_scale(pb, station_w, X, Z, scale2, cov, condition, NULL, NULL);
 }
 
-tram_status tram__refine_covariance_scale(const tram_refine_problem *pb, const double *station_w,
-                                          const tram_se3 *X, const tram_se3 *Z, double scale2,
-                                          double cov[NP * NP], double *condition, double *var_scale,
-                                          double cov_scale[NP])
+/* scale2 * H^-1 into the 12x12 layout (NaN where not free), the
+ * condition of H's correlation form, and the scale's variance and
+ * covariances (either may be NULL); H (np x np, symmetric) is kept. */
+static tram_status cov_from_normal(const tram_refine_problem *pb, const double *H, double scale2,
+                                   double cov[NP * NP], double *condition, double *var_scale,
+                                   double cov_scale[NP])
 {
     int np = nparams(pb);
-    size_t nb = nblocks(pb);
-    double *w = tram__malloc((nb ? nb : 1) * sizeof *w);
-    if (!w) return TRAM_ENOMEM;
-    for (size_t i = 0; i < nb; i++) w[i] = station_w ? station_w[i] : 1.0;
-    double H[NPX * NPX], g[NPX];
-    tram_status st = normal_equations(pb, w, X, Z, H, g);
-    tram__free(w);
-    if (st != TRAM_OK) return st;
     if (condition) {
         /* Condition of the correlation form of H: independent of units. */
         double C[NPX * NPX], ev[NPX], V[NPX * NPX];
@@ -695,7 +740,7 @@ tram_status tram__refine_covariance_scale(const tram_refine_problem *pb, const d
             *condition = INFINITY;
     }
     double Ci[NPX * NPX];
-    st = tram__spd_inverse(np, H, Ci);
+    tram_status st = tram__spd_inverse(np, H, Ci);
     if (st != TRAM_OK) return st;
     /* Into the 12x12 layout; parameters that were not free get NaN. */
     int nx = nbase(pb), ks = pb->scale ? nx : -1;
@@ -706,6 +751,56 @@ tram_status tram__refine_covariance_scale(const tram_refine_problem *pb, const d
     if (cov_scale)
         for (int a = 0; a < NP; a++) cov_scale[a] = ks >= 0 && a < nx ? Ci[a * np + ks] * scale2 : NAN;
     return TRAM_OK;
+}
+
+tram_status tram__refine_covariance_scale(const tram_refine_problem *pb, const double *station_w,
+                                          const tram_se3 *X, const tram_se3 *Z, double scale2,
+                                          double cov[NP * NP], double *condition, double *var_scale,
+                                          double cov_scale[NP])
+{
+    size_t nb = nblocks(pb);
+    double *w = tram__malloc((nb ? nb : 1) * sizeof *w);
+    if (!w) return TRAM_ENOMEM;
+    for (size_t i = 0; i < nb; i++) w[i] = station_w ? station_w[i] : 1.0;
+    double H[NPX * NPX], g[NPX];
+    tram_status st = normal_equations(pb, w, X, Z, H, g);
+    tram__free(w);
+    if (st != TRAM_OK) return st;
+    return cov_from_normal(pb, H, scale2, cov, condition, var_scale, cov_scale);
+}
+
+/* Largest step (in units of its standard deviation) that a warm start
+ * may take before Gauss-Newton is not trusted without a line search. */
+#define SETTLE_MAX_SIGMAS 100.0
+
+tram_status tram__refine_settle(const tram_refine_problem *pb, const double *station_w,
+                                int max_steps, double tol_sigma, tram_se3 *X, tram_se3 *Z,
+                                double cov[NP * NP], double *condition, double *var_scale)
+{
+    if (pb->eval || !station_w) return TRAM_ENUMERIC; /* station problems only */
+    int np = nparams(pb);
+    for (int it = 0; it < max_steps; it++) {
+        double H[NPX * NPX], g[NPX], A[NPX * NPX], dx[NPX] = {0};
+        tram_status st = normal_equations(pb, station_w, X, Z, H, g);
+        if (st != TRAM_OK) return st;
+        memcpy(A, H, sizeof A);
+        for (int a = 0; a < np; a++) dx[a] = -g[a];
+        if (tram__spd_solve_overwrite(np, A, dx) != TRAM_OK) return TRAM_ENUMERIC;
+        /* H dx = -g: dx^T H dx is the step's squared length in sigmas
+         * (H^-1 is the covariance of the whitened problem) */
+        double q = 0;
+        for (int a = 0; a < np; a++) q -= dx[a] * g[a];
+        if (!(q <= SETTLE_MAX_SIGMAS * SETTLE_MAX_SIGMAS)) return TRAM_ENUMERIC;
+        tram_se3 Xn, Zn;
+        double sn = pb->scale ? *pb->scale : 1.0;
+        step_apply(pb, X, Z, dx, &Xn, &Zn, &sn);
+        if (pb->scale) *pb->scale = sn;
+        *X = Xn;
+        *Z = Zn;
+        if (q < tol_sigma * tol_sigma)
+            return cov_from_normal(pb, H, 1.0, cov, condition, var_scale, NULL);
+    }
+    return TRAM_ENUMERIC;
 }
 
 tram_status tram__refine_chi2(const tram_refine_problem *pb, const double *station_w,

@@ -77,6 +77,19 @@ tram_status tram__refine_covariance_scale(const tram_refine_problem *pb, const d
                                           const tram_se3 *X, const tram_se3 *Z, double scale2,
                                           double cov[144], double *condition, double *var_scale,
                                           double cov_scale[12]);
+/* Station problems with the weights of a converged fit changed a little
+ * (feasible GLS rounds; station_w required): Gauss-Newton steps from (X, Z) until a step is
+ * under tol_sigma standard deviations of every direction (dx^T H dx <
+ * tol_sigma^2), at most max_steps; then the unscaled covariance H^-1
+ * of the last step's J^T W J (taken one step before the end, which
+ * moved the parameters by under tol_sigma sigma) and its condition, as
+ * tram__refine_covariance gives them (with pb->scale: the scale moves too,
+ * and *var_scale, when not NULL, is its variance).  TRAM_ENUMERIC when it does not
+ * settle (a singular H, a step over 100 sigma, max_steps reached): the
+ * caller then refines with tram__refine_run.  (X, Z) moved either way. */
+tram_status tram__refine_settle(const tram_refine_problem *pb, const double *station_w,
+                                int max_steps, double tol_sigma, tram_se3 *X, tram_se3 *Z,
+                                double cov[144], double *condition, double *var_scale);
 /* Weighted chi-square of the residuals into *chi2; TRAM_ENOMEM when the
  * work buffer cannot be had. */
 tram_status tram__refine_chi2(const tram_refine_problem *pb, const double *station_w,

@@ -143,6 +143,24 @@ static void report_noise(const tram__noise *nm, tram_solution *sol)
     for (int a = 0; a < 6; a++) sol->noise_dof[a] = nm->dof[a];
 }
 
+/* Refine with the scale free from (X, Z, scale): Gauss-Newton from the
+ * 12-parameter solution, which leaves the covariance (unscaled), the
+ * scale's variance and the condition with *have = 1; when it does not
+ * settle, LM and a polish from the same start (*have = 0). */
+static tram_status refine_scaled(tram_refine_problem *pb, const double *w, tram_se3 *X,
+                                 tram_se3 *Z, double cov[144], double *var, double *cond, int *have)
+{
+    tram_se3 X0 = *X, Z0 = *Z;
+    double s0 = *pb->scale;
+    tram_status st = tram__refine_settle(pb, w, 8, 1e-5, X, Z, cov, cond, var);
+    *have = st == TRAM_OK;
+    if (st != TRAM_ENUMERIC) return st;
+    *X = X0;
+    *Z = Z0;
+    *pb->scale = s0;
+    return tram__refine_run(pb, w, 0, X, Z);
+}
+
 /* The fit with the scale free: refined with the noise model's whitening,
  * the noise re-estimated when it came from the data and refined again;
  * its chi-square, covariance, scale variance and condition. */
@@ -152,14 +170,20 @@ static tram_status fit_scaled(tram_refine_problem *pb, const double *w, double d
 {
     whiten(nm, pb, Ss, X, Z, W);
     pb->W = W;
-    tram_status st = tram__refine_run(pb, w, 0, X, Z);
+    int have = 0;
+    tram_status st = refine_scaled(pb, w, X, Z, cov, var, cond, &have);
     /* Noise estimated from the data: re-estimated with the scale, so that
      * a large scale does not inflate the translation's weight. */
     if (st == TRAM_OK && !given && (st = renoise(pb, w, Ss, X, Z, nm, W)) == TRAM_OK)
-        st = tram__refine_run(pb, w, 0, X, Z);
+        st = refine_scaled(pb, w, X, Z, cov, var, cond, &have);
     double chi2 = 0;
     if (st == TRAM_OK) st = tram__refine_chi2(pb, w, X, Z, &chi2);
-    if (st == TRAM_OK) st = tram__refine_covariance_scale(pb, w, X, Z, chi2 / dof, cov, cond, var, NULL);
+    if (st == TRAM_OK && !have)
+        st = tram__refine_covariance_scale(pb, w, X, Z, chi2 / dof, cov, cond, var, NULL);
+    else if (st == TRAM_OK) { /* the last pass's covariance, scaled by chi^2 / dof */
+        for (int k = 0; k < 144; k++) cov[k] *= chi2 / dof;
+        *var *= chi2 / dof;
+    }
     return st;
 }
 

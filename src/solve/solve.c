@@ -59,7 +59,7 @@ static tram_status stats_of(const double *v, const int *skip, size_t n, double f
         if (v[i] * f > mx) mx = v[i] * f;
     }
     out->rms = k ? sqrt(ss / (double)k) : 0.0;
-    out->median = tram__median(c, k);
+    out->median = tram__median_inplace(c, k); /* c is our copy */
     out->max = mx;
     tram__free(c);
     return TRAM_OK;

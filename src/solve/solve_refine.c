@@ -38,7 +38,10 @@
 #define OUTLIER_K 4.5943     /* sqrt(21.1075), the 0.9999 quantile of chi-square(3) */
 #define FAMILY_ALPHA 0.01    /* rate of honest files with any station flagged */
 #define FGLS_MAX_ROUNDS 60
-#define FGLS_TOL 1e-11       /* relative change of every variance */
+#define FGLS_VAR_TOL 1e-6    /* relative change of every variance (sigmas: 5e-7) */
+#define FGLS_PARAM_TOL 1e-3  /* change of every parameter, in its sigmas */
+#define SETTLE_TOL 1e-5      /* a refit's last Gauss-Newton step, in sigmas */
+#define SETTLE_STEPS 8
 #define FLAG_MAX_ROUNDS 6
 
 typedef struct fit {
@@ -48,8 +51,8 @@ typedef struct fit {
     double *W, *w, *T, *rot, *tr;
     int *flag, *cand;
     size_t n, nin;
-    int given;
-    double C[144];
+    int given, have_C;
+    double C[144], cond; /* (J^T W J)^-1 at the last refit, its condition */
 } fit;
 
 /* The noise the caller gave (per axis, or one value for the three axes),
@@ -154,12 +157,48 @@ static double rel_change(const tram__noise *a, const tram__noise *b)
 }
 
 /* Least squares with the current whitening, settled to rounding level,
- * and its covariance. */
+ * and its covariance into f->C.  From the previous fit (weights changed
+ * a little) Gauss-Newton settles in 2-3 normal-equation passes, the last
+ * one's J^T W J giving the covariance; when it does not settle, LM from
+ * the same start, a polish and a separate covariance. */
 static tram_status refit(fit *f, tram_se3 *X, tram_se3 *Z)
 {
-    tram_status st = tram__refine_run(&f->pb, f->w, 0, X, Z); /* ends with a polish */
-    if (st == TRAM_OK) st = fit_cov(f, X, Z, NULL);
+    tram_se3 X0 = *X, Z0 = *Z;
+    f->have_C = 0;
+    tram_status st = tram__refine_settle(&f->pb, f->w, SETTLE_STEPS, SETTLE_TOL, X, Z, f->C, &f->cond,
+                                         NULL);
+    if (st == TRAM_ENUMERIC) {
+        *X = X0;
+        *Z = Z0;
+        st = tram__refine_run(&f->pb, f->w, 0, X, Z); /* ends with a polish */
+        if (st == TRAM_OK) st = fit_cov(f, X, Z, &f->cond);
+    }
+    f->have_C = st == TRAM_OK;
     return st;
+}
+
+/* The largest change of a parameter from (X0, Z0) to (X, Z), in its
+ * standard deviations (f->C; the parameterisation of refine.c). */
+static double param_change(const fit *f, const tram_se3 *X0, const tram_se3 *Z0,
+                           const tram_se3 *X, const tram_se3 *Z)
+{
+    double d[12], m = 0;
+    const tram_se3 *a[2] = {X0, Z0}, *b[2] = {X, Z};
+    for (int k = 0; k < 2; k++) {
+        tram_mat3 Ra, Rb, Rt, D;
+        double ta[3], tb[3];
+        tram_se3_to_rt(a[k], &Ra, ta);
+        tram_se3_to_rt(b[k], &Rb, tb);
+        tram_so3_transpose(&Ra, &Rt);
+        tram_so3_mul(&Rt, &Rb, &D);
+        tram_so3_log(&D, d + 6 * k);
+        for (int i = 0; i < 3; i++) d[6 * k + 3 + i] = tb[i] - ta[i];
+    }
+    for (int p = 0; p < 12; p++) {
+        double sd = sqrt(f->C[p * 12 + p]);
+        m = fmax(m, sd > 0 ? fabs(d[p]) / sd : INFINITY);
+    }
+    return m;
 }
 
 /* Step 2: feasible GLS on the stations with w > 0. */
@@ -172,12 +211,16 @@ static tram_status fgls(fit *f, tram_se3 *X, tram_se3 *Z)
     tram_status st = TRAM_OK;
     tram__noise_whitening(&f->nm, &f->pb, X, Z, f->W);
     if ((st = refit(f, X, Z)) != TRAM_OK) return st;
+    /* until the variances and the parameters settle: a further round
+     * would move them by under FGLS_VAR_TOL and FGLS_PARAM_TOL sigma */
     for (int round = 0; !f->given && round < FGLS_MAX_ROUNDS; round++) {
         tram__noise prev = f->nm;
+        tram_se3 X0 = *X, Z0 = *Z;
         tram__noise_estimate(&f->pb, f->w, X, Z, f->C, per_axis, &f->nm);
         tram__noise_whitening(&f->nm, &f->pb, X, Z, f->W);
         if ((st = refit(f, X, Z)) != TRAM_OK) return st;
-        if (rel_change(&f->nm, &prev) < FGLS_TOL) break;
+        if (rel_change(&f->nm, &prev) < FGLS_VAR_TOL && param_change(f, &X0, &Z0, X, Z) < FGLS_PARAM_TOL)
+            break;
     }
     return TRAM_OK;
 }
@@ -233,7 +276,13 @@ static tram_status fit_and_flag(fit *f, tram_se3 *X, tram_se3 *Z)
 static tram_status uncertainty(fit *f, const tram_se3 *X, const tram_se3 *Z, tram_solution *sol)
 {
     double cov[144], nu[12], scale = 1.0;
-    tram_status cs = tram__refine_covariance(&f->pb, f->w, X, Z, 1.0, cov, &sol->condition);
+    tram_status cs = TRAM_OK; /* the last refit's covariance is at (X, Z) */
+    if (f->have_C) {
+        memcpy(cov, f->C, sizeof cov);
+        sol->condition = f->cond;
+    } else {
+        cs = tram__refine_covariance(&f->pb, f->w, X, Z, 1.0, cov, &sol->condition);
+    }
     if (cs == TRAM_ENOMEM) return cs; /* an uncertainty lost to memory is a failure */
     if (cs != TRAM_OK) {
         sol->condition = INFINITY;
