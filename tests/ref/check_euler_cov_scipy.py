@@ -21,7 +21,6 @@ file) against SciPy Rotation:
 The calibration comes from the demo scenario (datasets/demo, invented).
 Usage: check_euler_cov_scipy.py path/to/tram
 """
-import json
 import os
 import re
 import subprocess
@@ -30,6 +29,8 @@ import tempfile
 
 import numpy as np
 from scipy.spatial.transform import Rotation
+
+from refcommon import solve_calibration
 
 HERE = os.path.dirname(os.path.abspath(__file__))
 DEMO = os.path.join(HERE, "..", "..", "datasets", "demo")
@@ -75,11 +76,9 @@ def convert_lines(tram, calp, conv):
 def check_setup(tram, tmp, setup, rec, rng, pooled):
     fails = 0
     calp = os.path.join(tmp, setup + ".json")
-    r = run(tram, "solve", "-o", calp, os.path.join(DEMO, rec))
-    if r.returncode != 0:
-        print(f"FAIL: solve {rec}: {r.stderr}")
+    cal = solve_calibration(tram, calp, os.path.join(DEMO, rec))
+    if cal is None:
         return 1
-    cal = json.load(open(calp))
     C = np.array(cal["covariance"]).reshape(12, 12)
     names = list(cal["transforms"])
     for conv in CONVENTIONS + ["zyz-intrinsic", "zxz-extrinsic"]:

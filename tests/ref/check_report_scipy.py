@@ -18,7 +18,6 @@ The calibration comes from the demo scenario (datasets/demo, invented).
 Usage: check_report_scipy.py path/to/tram
 """
 import hashlib
-import json
 import os
 import re
 import subprocess
@@ -27,6 +26,8 @@ import tempfile
 
 import numpy as np
 from scipy.spatial.transform import Rotation
+
+from refcommon import solve_calibration
 
 HERE = os.path.dirname(os.path.abspath(__file__))
 DEMO = os.path.join(HERE, "..", "..", "datasets", "demo")
@@ -107,11 +108,9 @@ def main():
     with tempfile.TemporaryDirectory() as tmp:
         for setup, rec in (("eye-in-hand", "wrist_camera.csv"), ("eye-to-hand", "overhead_camera.csv")):
             calp = os.path.join(tmp, setup + ".json")
-            r = run(tram, "solve", "-o", calp, os.path.join(DEMO, rec))
-            if r.returncode != 0:
-                print(f"FAIL: solve {rec}: {r.stderr}")
+            cal = solve_calibration(tram, calp, os.path.join(DEMO, rec))
+            if cal is None:
                 return 1
-            cal = json.load(open(calp))
             names = list(cal["transforms"])
             for conv in CONVENTIONS:
                 pdf = os.path.join(tmp, f"{setup}-{conv}.pdf")

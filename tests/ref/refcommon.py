@@ -61,3 +61,14 @@ def tram_json(tram, *args):
     """Run tram with --json; return (exit code, parsed stdout or None, stderr)."""
     r = subprocess.run([tram, *args], capture_output=True, text=True)
     return r.returncode, (json.loads(r.stdout) if r.stdout.strip() else None), r.stderr
+
+
+def solve_calibration(tram, out_path, records):
+    """tram solve -o out_path records; the calibration file as a dict, or
+    None (with the failure printed as FAIL)."""
+    r = subprocess.run([tram, "solve", "-o", out_path, records], capture_output=True, text=True)
+    if r.returncode != 0:
+        print(f"FAIL: solve {records}: {r.stderr}")
+        return None
+    with open(out_path) as f:
+        return json.load(f)
