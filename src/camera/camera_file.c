@@ -6,7 +6,7 @@
  * the pixel convention is stated in the file so that it is never guessed.
  * Every refusal names file:line:column, located by json_pos.c.
  */
-#include "tram/camera.h"
+#include "camera/camera_file_internal.h"
 #include "io/json_internal.h"
 #include "io/json_pos_internal.h"
 #include "io/text_internal.h"
@@ -437,10 +437,11 @@ static void write_calibration(tram__jb *b, cJSON *root, const tram_camera *c,
     }
 }
 
-tram_status tram_camera_to_json(const tram_camera *c, const tram_camera_calib *cal, char **text,
-                                tram_error *err)
+/* The camera file's fields and values (a camera a file may hold, a
+ * calibration block with finite sigmas and correlations in [-1, 1]). */
+static tram_status check_camera_doc(const tram_camera *c, const tram_camera_calib *cal,
+                                    tram_error *err)
 {
-    *text = NULL;
     tram_status st = check_camera(c, err);
     if (st != TRAM_OK) return st;
     if (cal && cal->present) {
@@ -454,21 +455,47 @@ tram_status tram_camera_to_json(const tram_camera *c, const tram_camera_calib *c
             return tram__fail(err, TRAM_EINPUT, "", 0, 0,
                               "camera calibration: RMS and sigmas must be finite and >= 0, correlations in [-1, 1]");
     }
+    return TRAM_OK;
+}
+
+/* The camera document's members added to root (an object). */
+static void add_camera_members(tram__jb *b, cJSON *root, const tram_camera *c,
+                               const tram_camera_calib *cal)
+{
+    tram__jb_str(b, root, "format", CAMERA_FORMAT);
+    tram__jb_num(b, root, "version", CAMERA_VERSION);
+    tram__jb_str(b, root, "pixel_origin", PIXEL_ORIGIN);
+    cJSON *sz = tram__jb_obj(b, root, "image_size");
+    tram__jb_num(b, sz, "width", (double)c->width);
+    tram__jb_num(b, sz, "height", (double)c->height);
+    cJSON *in = tram__jb_obj(b, root, "intrinsics");
+    for (int k = 0; k <= TRAM_CAM_SKEW; k++) tram__jb_num(b, in, param_names[k], tram_camera_param(c, k));
+    cJSON *d = tram__jb_obj(b, root, "distortion");
+    tram__jb_str(b, d, "model", tram_distortion_name(c->distortion));
+    for (int k = TRAM_CAM_K1; k < TRAM_CAM_NPARAM; k++)
+        if (tram_distortion_has(c->distortion, k)) tram__jb_num(b, d, param_names[k], tram_camera_param(c, k));
+    if (cal && cal->present) write_calibration(b, root, c, cal);
+}
+
+tram_status tram__camera_add_json(tram__jb *b, cJSON *parent, const char *key, const tram_camera *c,
+                                  const tram_camera_calib *cal, tram_error *err)
+{
+    tram_status st = check_camera_doc(c, cal, err);
+    if (st != TRAM_OK) return st;
+    cJSON *o = tram__jb_obj(b, parent, key);
+    if (o) add_camera_members(b, o, c, cal);
+    return TRAM_OK;
+}
+
+tram_status tram_camera_to_json(const tram_camera *c, const tram_camera_calib *cal, char **text,
+                                tram_error *err)
+{
+    *text = NULL;
+    tram_status st = check_camera_doc(c, cal, err);
+    if (st != TRAM_OK) return st;
     tram__jb b = {0};
     cJSON *root = cJSON_CreateObject();
     if (!root) return tram__fail(err, TRAM_ENOMEM, "", 0, 0, "out of memory");
-    tram__jb_str(&b, root, "format", CAMERA_FORMAT);
-    tram__jb_num(&b, root, "version", CAMERA_VERSION);
-    tram__jb_str(&b, root, "pixel_origin", PIXEL_ORIGIN);
-    cJSON *sz = tram__jb_obj(&b, root, "image_size");
-    tram__jb_num(&b, sz, "width", (double)c->width);
-    tram__jb_num(&b, sz, "height", (double)c->height);
-    cJSON *in = tram__jb_obj(&b, root, "intrinsics");
-    for (int k = 0; k <= TRAM_CAM_SKEW; k++) tram__jb_num(&b, in, param_names[k], tram_camera_param(c, k));
-    cJSON *d = tram__jb_obj(&b, root, "distortion");
-    tram__jb_str(&b, d, "model", tram_distortion_name(c->distortion));
-    for (int k = TRAM_CAM_K1; k < TRAM_CAM_NPARAM; k++)
-        if (tram_distortion_has(c->distortion, k)) tram__jb_num(&b, d, param_names[k], tram_camera_param(c, k));
-    if (cal && cal->present) write_calibration(&b, root, c, cal);
+    add_camera_members(&b, root, c, cal);
     return tram__jb_finish(&b, root, 1, 1, text, err);
 }

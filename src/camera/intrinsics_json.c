@@ -5,10 +5,7 @@
  * Built through json_internal.h, so a failed allocation never yields a
  * partial document; numbers print with %.17g.
  */
-#include "tram/camera.h"
-#include "io/json_internal.h"
-
-#include <string.h>
+#include "camera/camera_file_internal.h"
 
 static void add_views(tram__jb *b, cJSON *root, const tram_intrinsics_result *r)
 {
@@ -48,13 +45,6 @@ tram_status tram_intrinsics_report_to_json(const tram_intrinsics_report *rep, ch
 {
     *text = NULL;
     const tram_intrinsics_result *r = rep->result;
-    char *cam_text = NULL;
-    tram_status st = tram_intrinsics_camera_json(r, &cam_text, err);
-    if (st != TRAM_OK) return st;
-    cJSON *cam = NULL;
-    st = tram__json_parse("camera", cam_text, strlen(cam_text), "camera file", &cam, err);
-    tram__free(cam_text);
-    if (st != TRAM_OK) return st;
     tram__jb b = {0};
     cJSON *root = cJSON_CreateObject();
     if (!root) b.failed = 1;
@@ -64,8 +54,11 @@ tram_status tram_intrinsics_report_to_json(const tram_intrinsics_report *rep, ch
     tram__jb_str(&b, root, "target", rep->target);
     tram__jb_str(&b, root, "length_unit", rep->length_unit);
     tram__jb_str(&b, root, "loss", rep->robust ? "huber" : "squared");
-    tram__jb_copy(&b, root, "camera", cam);
-    cJSON_Delete(cam);
+    tram_status st = tram__camera_add_json(&b, root, "camera", &r->camera, &r->calib, err);
+    if (st != TRAM_OK) {
+        cJSON_Delete(root);
+        return st;
+    }
     tram__jb_num(&b, root, "rms_px", r->rms_px);
     tram__jb_num(&b, root, "noise_px", r->noise_px);
     tram__jb_num(&b, root, "outlier_threshold_px", r->outlier_px);

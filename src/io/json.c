@@ -157,24 +157,6 @@ void tram__jb_null(tram__jb *b, cJSON *parent, const char *key)
     attach(b, parent, key, cJSON_CreateNull());
 }
 
-void tram__jb_copy(tram__jb *b, cJSON *parent, const char *key, const cJSON *src)
-{
-    if (cJSON_IsObject(src) || cJSON_IsArray(src)) {
-        cJSON *c = attach(b, parent, key, cJSON_IsObject(src) ? cJSON_CreateObject()
-                                                              : cJSON_CreateArray());
-        for (const cJSON *e = src->child; c && e; e = e->next)
-            tram__jb_copy(b, c, cJSON_IsObject(src) ? e->string : NULL, e);
-    } else if (cJSON_IsNumber(src)) {
-        tram__jb_num(b, parent, key, src->valuedouble);
-    } else if (cJSON_IsString(src)) {
-        tram__jb_str(b, parent, key, src->valuestring);
-    } else if (cJSON_IsBool(src)) {
-        tram__jb_bool(b, parent, key, cJSON_IsTrue(src));
-    } else {
-        tram__jb_null(b, parent, key);
-    }
-}
-
 void tram__jb_vec(tram__jb *b, cJSON *parent, const char *key, const double *v, int n, double f)
 {
     cJSON *a = tram__jb_arr(b, parent, key);

@@ -31,9 +31,6 @@ void tram__jb_str(tram__jb *b, cJSON *parent, const char *key, const char *v);
 void tram__jb_num(tram__jb *b, cJSON *parent, const char *key, double v);
 void tram__jb_bool(tram__jb *b, cJSON *parent, const char *key, int v);
 void tram__jb_null(tram__jb *b, cJSON *parent, const char *key);
-/* A deep copy of src (a parsed document or part of one), its numbers
- * written as tram__jb_num writes them. */
-void tram__jb_copy(tram__jb *b, cJSON *parent, const char *key, const cJSON *src);
 /* An array of the n numbers v[i] * f. */
 void tram__jb_vec(tram__jb *b, cJSON *parent, const char *key, const double *v, int n, double f);
 /* A 4x4 matrix as four rows. */

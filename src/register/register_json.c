@@ -69,7 +69,9 @@ static void add_transform(tram__jb *b, cJSON *root, const tram_register_report *
     }
 }
 
-static void add_residuals(tram__jb *b, cJSON *root, const tram_register_report *r)
+/* The residuals' statistics over the pairs used, and each pair's; returns
+ * how many pairs were used. */
+static size_t add_residuals(tram__jb *b, cJSON *root, const tram_register_report *r)
 {
     const tram_point_pairs *p = r->pairs;
     cJSON *rs = tram__jb_obj(b, root, "residuals");
@@ -90,6 +92,7 @@ static void add_residuals(tram__jb *b, cJSON *root, const tram_register_report *
         tram__jb_num(b, o, "residual", r->residuals[i]);
         tram__jb_bool(b, o, "outlier", r->inlier && !r->inlier[i]);
     }
+    return k;
 }
 
 static void add_trust(tram__jb *b, cJSON *root, const tram_register_report *r)
@@ -133,18 +136,16 @@ tram_status tram_register_to_json(const tram_register_report *r, char **text, tr
     add_transform(&b, root, r);
     tram__jb_num(&b, root, "scale", res->scale);
     tram__jb_bool(&b, root, "scale_solved", r->scale_solved);
-    add_residuals(&b, root, r);
+    size_t used = add_residuals(&b, root, r);
     cJSON *u = tram__jb_obj(&b, root, "uncertainty");
     tram__jb_vec(&b, u, "translation_sigma", res->translation_sigma, d, 1);
     if (d == 3) tram__jb_vec(&b, u, "rotation_sigma_deg", res->rotation_sigma_deg, 3, 1);
     else tram__jb_num(&b, u, "angle_sigma_deg", res->rotation_sigma_deg[2]);
     if (r->scale_solved) tram__jb_num(&b, u, "scale_sigma", res->scale_sigma);
     if (r->inlier) {
-        size_t k = 0;
-        for (size_t i = 0; i < r->pairs->n; i++) k += r->inlier[i] != 0;
         cJSON *ro = tram__jb_obj(&b, root, "robust");
         tram__jb_num(&b, ro, "threshold", r->threshold);
-        tram__jb_num(&b, ro, "inliers", (double)k);
+        tram__jb_num(&b, ro, "inliers", (double)used);
     }
     add_trust(&b, root, r);
     return tram__jb_finish(&b, root, 1, 1, text, err);
