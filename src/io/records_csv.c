@@ -287,7 +287,7 @@ static int fast_row(csv_reader *rd, const char *line, const char *e, long lineno
     tram_records *r = rd->r;
     size_t i = r->count, used = rd->id_used;
     tram_station *s = &r->stations[i];
-    double *raw = r->raw + i * r->raw_stride;
+    double *raw = r->raw ? r->raw + i * r->raw_stride : NULL; /* none for joint-only rows */
     int *rot_col = r->rot_col ? r->rot_col + i * TRAM_BLOCK_COUNT : NULL;
     const char *p = line;
     const int last = rd->nfields - 1;
@@ -354,7 +354,7 @@ static tram_status read_row(csv_reader *rd, const char *line, const char *e, lon
     memset(s, 0, sizeof *s);
     s->line = lineno;
     if (rd->schema.station_col < 0) number_id(rd, i, s);
-    double *raw = r->raw + i * r->raw_stride;
+    double *raw = r->raw ? r->raw + i * r->raw_stride : NULL; /* none for joint-only rows */
     int *rot_col = r->rot_col ? r->rot_col + i * TRAM_BLOCK_COUNT : NULL;
     for (int k = 0; k < n; k++) {
         const rec_column *c = &rd->schema.cols[k];
