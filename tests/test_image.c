@@ -290,6 +290,15 @@ static void test_refusals(void **state)
     expect_refused(h, png_header(h, 20000, 10000), "big.png", "more than the 100000000 pixels");
     expect_refused(h, png_header(h, 0, 10), "zero.png", "the image is empty");
     expect_refused(h, png_header(h, 10, 10), "noimage.png", "truncated");
+    /* 100 MP declared in 33 bytes: refused before the 400 MB are allocated
+     * (deflate's ceiling of 1032:1, RFC 1951; found by libFuzzer) */
+    {
+        size_t n = png_header(h, 10000, 10000);
+        put32(h + n, 0); /* an empty IDAT chunk: libpng reads the header up to it */
+        memcpy(h + n + 4, "IDAT", 4);
+        put32(h + n + 8, crc32_of(h + n + 4, 4));
+        expect_refused(h, n + 12, "huge.png", "the header declares 10000x10000 pixels");
+    }
     expect_refused((const unsigned char *)"hello, world", 12, "text.png", "not a PNG or JPEG");
     expect_refused((const unsigned char *)"", 0, "empty.png", "empty file");
     expect_refused(h, 5, "short.png", "truncated PNG");
@@ -332,6 +341,17 @@ static void test_refusals(void **state)
             break;
         }
     expect_refused(b.p, b.n, "big.jpg", "more than the 100000000 pixels");
+    free(b.p);
+    /* 64 MP declared in a few hundred bytes: under one bit per 8x8 block
+     * of Huffman data (ISO/IEC 10918-1), refused before allocating */
+    write_jpeg(&b, 16, 16, 1, px, 90);
+    for (size_t i = 2; i + 9 < b.n; i++)
+        if (b.p[i] == 0xff && (b.p[i + 1] == 0xc0 || b.p[i + 1] == 0xc1)) {
+            b.p[i + 5] = 8000 >> 8; b.p[i + 6] = 8000 & 255;
+            b.p[i + 7] = 8000 >> 8; b.p[i + 8] = 8000 & 255;
+            break;
+        }
+    expect_refused(b.p, b.n, "huge.jpg", "the header declares 8000x8000 pixels");
     free(b.p);
     /* and one whose frame header says width 0 */
     write_jpeg(&b, 16, 16, 1, px, 90);

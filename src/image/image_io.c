@@ -78,6 +78,10 @@ void tram_grey_image_destroy(tram_grey_image *im)
 
 /* ---- PNG ------------------------------------------------------------ */
 
+/* Deflate's largest expansion of one compressed byte (RFC 1951: a
+ * 258-byte match coded in two one-bit codes). */
+#define PNG_DEFLATE_MAX_RATIO 1032.0
+
 /* Everything the PNG decoder changes after its setjmp lives here, in the
  * caller's frame, so nothing is indeterminate after a longjmp. */
 typedef struct png_job {
@@ -177,6 +181,11 @@ static void png_decode(png_job *j)
     png_set_read_fn(png, j, png_read_fn);
     /* the size is checked below, not by libpng's default 1e6 per side */
     png_set_user_limits(png, 0x7fffffff, 0x7fffffff);
+    /* Ancillary chunks (text, profiles, suggested palettes ...) are not
+     * used: libpng skips them instead of allocating their declared length,
+     * and no chunk can need more memory than the file holds. */
+    png_set_keep_unknown_chunks(png, PNG_HANDLE_CHUNK_NEVER, NULL, -1);
+    png_set_chunk_malloc_max(png, j->len + 1);
     png_read_info(png, info);
     png_uint_32 w, h;
     int depth, ctype, interlace;
@@ -184,6 +193,20 @@ static void png_decode(png_job *j)
     if (!size_ok(w, h)) {
         j->st = alloc_image(j->name, w, h, &j->im, j->err); /* the refusal's message */
         png_error(png, "size");
+    }
+    /* A header can declare 100 MP in a file of 60 bytes.  Deflate packs at
+     * most 1032 bytes into one (a 258-byte match in two one-bit codes;
+     * RFC 1951), so a file that cannot hold the declared pixels is refused
+     * as truncated before anything is allocated for them. */
+    {
+        const double bits = (double)w * (double)h * (double)png_get_channels(png, info) * (double)depth;
+        if (bits / 8.0 > PNG_DEFLATE_MAX_RATIO * (double)j->len) {
+            j->st = tram__fail(j->err, TRAM_EINPUT, j->name, 0, 0,
+                               "truncated PNG file: the header declares %lux%lu pixels, more than its %zu "
+                               "bytes can hold (deflate expands a byte to at most %.0f)",
+                               (unsigned long)w, (unsigned long)h, j->len, PNG_DEFLATE_MAX_RATIO);
+            png_error(png, "size");
+        }
     }
     png_set_expand(png);
     int passes = png_set_interlace_handling(png);
@@ -265,6 +288,21 @@ static void jpeg_decode_run(jpeg_job *j, struct jpeg_decompress_struct *cinfo,
                                 "CMYK JPEG: only grey, YCbCr and RGB JPEG files are read");
         j->refused = 1;
         longjmp(j->jump, 1);
+    }
+    /* As for PNG: a Huffman-coded JPEG spends at least one bit on each
+     * 8x8 block of the first component (its DC code; ISO/IEC 10918-1), so a
+     * file too short for the declared size is truncated.  Arithmetic coding
+     * has no such floor and is not bounded here. */
+    if (!cinfo->arith_code) {
+        const double blocks = (double)((w + 7) / 8) * (double)((h + 7) / 8);
+        if (blocks / 8.0 > (double)len) {
+            j->st = tram__fail(j->err, TRAM_EINPUT, j->name, 0, 0,
+                               "truncated JPEG file: the header declares %zux%zu pixels, more than its %zu "
+                               "bytes can hold (at least one bit per 8x8 block)",
+                               w, h, len);
+            j->refused = 1;
+            longjmp(j->jump, 1);
+        }
     }
     cinfo->out_color_space = JCS_GRAYSCALE;
     j->st = alloc_image(j->name, w, h, &j->im, j->err);
