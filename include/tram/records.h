@@ -88,6 +88,7 @@ typedef struct tram_records {
     tram_length_unit length_unit;
     tram_angle_unit angle_unit;  /* UNSET when no block needs angles            */
     tram_setup setup;            /* from the setup directive, or UNSET           */
+    long setup_line;             /* line of the setup declaration (0: none)      */
     int has_block[TRAM_BLOCK_COUNT];
     size_t n_joints;             /* joint_1..joint_n columns (0: none)           */
     int robot_from_chain;        /* T_base_flange computed from the joints       */

@@ -648,8 +648,8 @@ static int resolve_setup(const tram_records *r, solve_args *a)
 {
     if (a->setup != TRAM_SETUP_UNSET && r->setup != TRAM_SETUP_UNSET && a->setup != r->setup) {
         fprintf(stderr,
-                "%s: error: the file declares setup %s but --setup %s was given\n", r->source,
-                tram_setup_name(r->setup), tram_setup_name(a->setup));
+                "%s:%ld: error: the file declares setup %s but --setup %s was given\n", r->source,
+                r->setup_line ? r->setup_line : 1L, tram_setup_name(r->setup), tram_setup_name(a->setup));
         return CLI_EXIT_USAGE;
     }
     if (a->setup == TRAM_SETUP_UNSET) a->setup = r->setup;

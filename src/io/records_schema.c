@@ -711,6 +711,7 @@ tram_status tram__records_finish(tram_records *r, const rec_schema *s, const rec
     /* The record set's angle unit: the common one, else the first block's. */
     r->angle_unit = au != TRAM_ANGLE_UNSET ? au : (bau[0] != TRAM_ANGLE_UNSET ? bau[0] : bau[1]);
     r->setup = d->setup;
+    r->setup_line = d->setup_line;
     r->n_joints = (size_t)s->n_joints;
     r->reorthonormalize = opt ? opt->reorthonormalize : 0;
     r->robot_tool = d->robot_tool;

@@ -80,7 +80,7 @@ expect_error "plan: missing camera file" 2 "no-such-camera.json" plan --setup ey
 expect_error "plan: no cell" 2 "--cell FILE is required" plan --setup eye-in-hand
 expect_error "plan: no setup" 2 "no setup" plan --cell "$cell"
 expect_error "plan: bad stations" 2 "--stations '0': expected a whole number from 1 to 60" plan --setup eye-in-hand --cell "$cell" --stations 0
-expect_error "plan: setup conflict" 2 "declares setup eye-in-hand but --setup eye-to-hand" plan --setup eye-to-hand --cell "$cell" "$demo/wrist_camera.csv"
+expect_error "plan: setup conflict" 2 "wrist_camera.csv:5: error: the file declares setup eye-in-hand but --setup eye-to-hand" plan --setup eye-to-hand --cell "$cell" "$demo/wrist_camera.csv"
 "$TRAM" help plan | grep -q 'usage: tram plan' && ok || bad "help plan"
 # the records' length unit must be the cell's (nothing is rescaled silently)
 "$TRAM" convert --to quat --length-unit m "$demo/wrist_camera.csv" >"$tmp/wrist_m.csv" 2>/dev/null

@@ -31,7 +31,7 @@ cmp -s "$tmp/cal.json" "$tmp/cal.before" && ok || bad "existing calibration chan
 "$TRAM" solve --force -o "$tmp/cal.json" "$demo/wrist_camera.csv" >/dev/null 2>&1 && ok || bad "solve --force"
 ls "$tmp" | grep -q 'cal.json.tmp' && bad "temporary file left behind" || ok
 
-expect_error "setup conflict" 2 "wrist_camera.csv: error: the file declares setup eye-in-hand but --setup eye-to-hand" solve --setup eye-to-hand "$demo/wrist_camera.csv"
+expect_error "setup conflict" 2 "wrist_camera.csv:5: error: the file declares setup eye-in-hand but --setup eye-to-hand" solve --setup eye-to-hand "$demo/wrist_camera.csv"
 f=$(printf '# length-unit: mm\nrobot_x,robot_y,robot_z,robot_qw,robot_qx,robot_qy,robot_qz\n1,0,0,1,0,0,0\n' | mk robot_only.csv)
 expect_error "no sensor block" 2 "robot_only.csv:[0-9]+: error: solving needs both" solve --setup eye-in-hand "$f"
 f=$(sed 's/^# setup: eye-in-hand$//' "$demo/wrist_camera.csv" | mk nosetup.csv)
