@@ -241,7 +241,7 @@ bench: deps $(patsubst %,$(B)/bench_%,$(BENCHES))
 # error paths.  Failing every allocation of the solves under the sanitizers
 # took minutes per call on the CI machine.
 UNIT_JOBS ?= 2
-TEST_ENV  ?= OPENBLAS_NUM_THREADS=1 TRAM_ALLOC_SAMPLES=300
+TEST_ENV  ?= OPENBLAS_NUM_THREADS=1 TRAM_ALLOC_SAMPLES=300 TRAM_TEST_OUT=$(abspath $(B))/tests/out
 UNIT_LOGS := $(patsubst %,%.log,$(TESTS))
 $(B)/tests/%.log: $(B)/tests/%
 	@rc=0; $(TEST_ENV) $< >$@.part 2>&1 || rc=$$?; \
@@ -262,7 +262,9 @@ cli-tests: $(B)/tram $(B)/gen_demo $(if $(findstring sanitize,$(EXTRA_CFLAGS)),,
 	  GEN_IMAGES=$(if $(findstring sanitize,$(EXTRA_CFLAGS)),,$(abspath $(B)/gen_images)) sh tests/cli/run.sh
 
 # Reference checks against SciPy / NumPy (Debian's python3-scipy).
-ref-tests: $(B)/refhelper $(B)/tram $(B)/render_ref $(B)/libtram.so
+# check_render_scipy.py reads the detections test_pixel_render writes into
+# $(B)/tests/out (TRAM_TEST_OUT).
+ref-tests: $(B)/refhelper $(B)/tram $(B)/render_ref $(B)/libtram.so $(B)/tests/test_pixel_render.log
 	$(TEST_ENV) $(PYTHON) tests/ref/check_rotation_scipy.py $(B)/refhelper
 	$(TEST_ENV) $(PYTHON) tests/ref/check_solve_scipy.py $(B)/tram
 	$(TEST_ENV) $(PYTHON) tests/ref/check_scale_scipy.py $(B)/tram
@@ -271,6 +273,7 @@ ref-tests: $(B)/refhelper $(B)/tram $(B)/render_ref $(B)/libtram.so
 	$(TEST_ENV) $(PYTHON) tests/ref/check_register_scipy.py $(B)/tram
 	$(TEST_ENV) $(PYTHON) tests/ref/check_pixels_scipy.py $(B)/tram
 	$(TEST_ENV) $(PYTHON) tests/ref/check_render_numpy.py $(B)/render_ref
+	$(TEST_ENV) $(PYTHON) tests/ref/check_render_scipy.py $(B)/tram $(abspath $(B))/tests/out
 	$(TEST_ENV) $(PYTHON) tests/ref/check_intrinsics_scipy.py $(B)/tram
 	$(TEST_ENV) $(PYTHON) tests/ref/check_plan_numpy.py $(B)/tram
 	$(TEST_ENV) $(PYTHON) tests/ref/check_report_scipy.py $(B)/tram

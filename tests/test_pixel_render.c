@@ -10,6 +10,7 @@
 #include "render/render.h"
 
 #include <cjson/cJSON.h>
+#include <sys/stat.h>
 
 static cJSON *read_json(const char *path)
 {
@@ -197,6 +198,23 @@ static void test_rendered_demo(void **state)
     free(xyz);
 }
 
+/* Seed k's detections as TRAM_TEST_OUT/render-seeds/seed_K.csv. */
+static void dump_seed(const char *dir, int k, const tram_pixel_obs *obs)
+{
+    char path[1024], *text = NULL;
+    tram_error e;
+    snprintf(path, sizeof path, "%s/render-seeds", dir);
+    mkdir(dir, 0777);
+    mkdir(path, 0777);
+    snprintf(path, sizeof path, "%s/render-seeds/seed_%d.csv", dir, k);
+    assert_int_equal(tram_pixel_obs_write(obs, &text, &e), TRAM_OK);
+    FILE *f = fopen(path, "wb");
+    assert_non_null(f);
+    fputs(text, f);
+    assert_int_equal(fclose(f), 0);
+    free(text);
+}
+
 /* The rendered demo over many noise draws: each station's image is rendered
  * once without noise (blur, lighting ramp as above), and each seed adds its
  * own Gaussian grey-level noise (sigma 1.5, clipped to 0 .. 255) before the
@@ -265,7 +283,10 @@ static void test_rendered_seeds(void **state)
     tram_solve_options so;
     tram_solve_options_init(&so);
     so.check_conventions = 0;
-    enum { SEEDS = 100, VERSUS = 50 };
+    enum { SEEDS = 100, VERSUS = 50, DUMPED = 20 };
+    /* the first seeds' detections, for the SciPy reference
+     * (tests/ref/check_render_scipy.py) */
+    const char *out_dir = getenv("TRAM_TEST_OUT");
     int inside[6] = {0}, wins_t = 0, wins_r = 0, used = 0;
     double ss[4] = {0}, bias[2] = {0}, err2 = 0;
     size_t ncorner = 0, flagged = 0;
@@ -311,6 +332,7 @@ static void test_rendered_seeds(void **state)
                 }
             tram_detection_destroy(d);
         }
+        if (out_dir && k < DUMPED) dump_seed(out_dir, k, obs);
         double f[6];
         if (k < VERSUS) {
             compare(rec, &cam, obs, xyz, &X, f);
