@@ -229,9 +229,9 @@ static void dump_seed(const char *dir, int k, const tram_pixel_obs *obs)
  *     the noise (its sd within the reported 1-sigma per axis) and what the
  *     scene fixes (the detector's bias on these renders: the mean error
  *     within 2 reported sigma).  Coverage over noise draws of ONE scene is
- *     printed but held only to 70%: the fixed part puts tz at 1.5 sigma
- *     (docs/pixels.md).  The issue's 90-99% over 100 different rendered
- *     scenes needs 2000 renders (10 min here) and is not run in the suite.
+ *     printed, not held: the fixed part puts tz at 1.6 sigma on every draw
+ *     (docs/pixels.md).  Coverage over different scenes, which is what the
+ *     intervals promise, is test_rendered_scene_coverage below.
  * The reference for the corners themselves is the renderer's exact
  * projection (tools/render, checked against NumPy in check_render_numpy.py). */
 static void test_rendered_seeds(void **state)
@@ -309,10 +309,11 @@ static void test_rendered_seeds(void **state)
         for (size_t i = 0; i < n; i++) {
             /* white noise read from the field at a random offset (a fresh
              * normal per pixel would cost 2e9 draws) */
-            const size_t off = (size_t)(test_rng_uniform(&rng) * (double)NFIELD);
+            const size_t off = (size_t)(test_rng_uniform(&rng) * (double)(NFIELD - npx));
+            const float *fz = field + off, *cl = clean[i]->pixels;
             for (size_t p = 0; p < npx; p++) {
-                double v = clean[i]->pixels[p] + 1.5 * field[(off + p) % NFIELD];
-                im->pixels[p] = (float)(v < 0 ? 0 : v > 255 ? 255 : v);
+                float v = cl[p] + 1.5f * fz[p];
+                im->pixels[p] = v < 0 ? 0 : v > 255 ? 255 : v;
             }
             tram_detection *d = NULL;
             assert_int_equal(tram_detect_chessboard(im, &board, &dopt, &d, &e), TRAM_OK);
@@ -389,7 +390,6 @@ static void test_rendered_seeds(void **state)
     free(field);
     assert_true(ss[0] <= 0.8 * ss[2] && ss[1] <= 0.8 * ss[3]);
     assert_true(wins_t >= 0.9 * used && wins_r >= 0.9 * used);
-    for (int q = 0; q < 6; q++) assert_true(inside[q] >= 70);
     tram_grey_image_destroy(im);
     for (size_t i = 0; i < n; i++) render_image_destroy(clean[i]);
     free(clean);
@@ -398,9 +398,128 @@ static void test_rendered_seeds(void **state)
     tram_records_destroy(rec);
 }
 
+/* Coverage of the reported 95% intervals over 100 different rendered
+ * scenes (issue #15): per seed, the first 10 stations of the demo with each
+ * robot pose moved by a random 0.3 deg and 1 mm (so every corner falls on
+ * a new sub-pixel phase and the detector's bias is drawn anew), rendered at
+ * 640 x 480 by a camera of our own (half the demo's focal length, the same
+ * distortion) with noise 1.5, detected, and solved from pixels with the
+ * camera known.  Each axis within 88-99% (binomial sd 2.2 points at 100
+ * seeds: 90% is 2.3 sd from 95%, so with six axes a correct interval would
+ * fail 90% in about one set of seeds in ten; 88% is 3.2 sd). */
+static void test_rendered_scene_coverage(void **state)
+{
+    (void)state;
+    TEST_FIGURES_IN_PLAIN_BUILD_ONLY();
+    cJSON *ti = read_json("datasets/demo/truth_images.json"), *tr = read_json("datasets/demo/truth.json");
+    const cJSON *jc = cJSON_GetObjectItemCaseSensitive(ti, "camera"), *jb = cJSON_GetObjectItemCaseSensitive(ti, "board");
+    tram_camera cam;
+    memset(&cam, 0, sizeof cam);
+    cam.fx = 500; cam.fy = 500; cam.cx = 320.3; cam.cy = 239.05;
+    cam.k1 = num(jc, "k1"); cam.k2 = num(jc, "k2"); cam.distortion = TRAM_DISTORTION_RADIAL2;
+    cam.width = 640; cam.height = 480;
+    tram_board board;
+    tram_error e;
+    assert_int_equal(tram_board_init(&board, (int)num(jb, "cols"), (int)num(jb, "rows"), num(jb, "square"),
+                                     TRAM_LENGTH_MM, &e), TRAM_OK);
+    tram_se3 Z, X;
+    matrix_of(cJSON_GetObjectItemCaseSensitive(ti, "T_base_target"), &Z);
+    matrix_of(cJSON_GetObjectItemCaseSensitive(cJSON_GetObjectItemCaseSensitive(tr, "wrist_camera"), "T_flange_sensor"), &X);
+    cJSON_Delete(ti);
+    cJSON_Delete(tr);
+    tram_records *rec0 = NULL;
+    assert_int_equal(tram_records_read_file("datasets/demo/wrist_camera.csv", NULL, &rec0, &e), TRAM_OK);
+    enum { SEEDS = 100, NST = 10 };
+    const size_t nc = tram_board_corner_count(&board);
+    double *xyz = malloc(NST * nc * 3 * sizeof *xyz);
+    tram_detect_options dopt;
+    tram_detect_options_init(&dopt);
+    dopt.threads = 1;
+    tram_solve_options so;
+    tram_solve_options_init(&so);
+    so.check_conventions = 0;
+    int inside[6] = {0}, solved = 0;
+    printf("[ seed     ] rendered scenes: seeds 60001 .. %d (pose moves, then the render's noise)\n",
+           60000 + SEEDS);
+    for (int k = 0; k < SEEDS; k++) {
+        test_rng rng = {60001 + (uint64_t)k};
+        tram_records *rec = tram_records_clone(rec0);
+        assert_non_null(rec);
+        rec->count = NST;
+        tram_pixel_obs *obs = NULL;
+        assert_int_equal(tram_pixel_obs_create(cam.width, cam.height, NULL, &obs, &e), TRAM_OK);
+        size_t m = 0;
+        for (size_t i = 0; i < NST; i++) {
+            double xi[6];
+            for (int q = 0; q < 3; q++) xi[q] = 1.0 * test_rng_normal(&rng);                /* mm */
+            for (int q = 3; q < 6; q++) xi[q] = 0.3 * M_PI / 180 * test_rng_normal(&rng); /* rad */
+            tram_se3 D, P, PX, S;
+            tram_se3_exp(xi, &D);
+            tram_se3_compose(&rec->stations[i].T_base_flange, &D, &P);
+            rec->stations[i].T_base_flange = P;
+            tram_se3_compose(&P, &X, &PX);
+            tram_se3_invert(&PX, &S);
+            tram_se3_compose(&S, &Z, &S);
+            render_scene sc;
+            render_scene_init(&sc, &board, &cam, &S);
+            sc.supersample = 4;
+            sc.blur_sigma_px = 0.8;
+            sc.noise_sigma = 1.5;
+            sc.gain_min = 0.7;
+            sc.gain_max = 1.15;
+            sc.seed = 60001 + 100 * (uint64_t)k + i;
+            tram_grey_image *im = NULL;
+            render_truth truth;
+            assert_int_equal(render_chessboard(&sc, &im, &truth, &e), TRAM_OK);
+            tram_detection *d = NULL;
+            assert_int_equal(tram_detect_chessboard(im, &board, &dopt, &d, &e), TRAM_OK);
+            if (d->found)
+                for (size_t c = 0; c < nc; c++) {
+                    char pid[32];
+                    snprintf(pid, sizeof pid, "%zu", c);
+                    assert_int_equal(tram_pixel_obs_add(obs, rec->stations[i].id, pid, d->uv[2 * c],
+                                                        d->uv[2 * c + 1], &e), TRAM_OK);
+                    tram_board_corner(&board, c, xyz + 3 * m++);
+                }
+            tram_detection_destroy(d);
+            render_truth_free(&truth);
+            render_image_destroy(im);
+        }
+        tram_solution *a = NULL;
+        tram_status st = tram_solve_pixels(rec, TRAM_SETUP_EYE_IN_HAND, &cam, obs, xyz, &so, NULL, &a, &e);
+        if (st != TRAM_OK && st != TRAM_EUNDETERMINED) fail_msg("seed %d: %s", 60001 + k, e.message);
+        assert_true(a->unc.valid);
+        tram_mat3 Re, Rt, Ret, Dr;
+        double te[3], tt[3], w[3];
+        tram_se3_to_rt(&a->X, &Re, te);
+        tram_se3_to_rt(&X, &Rt, tt);
+        tram_so3_transpose(&Re, &Ret);
+        tram_so3_mul(&Ret, &Rt, &Dr);
+        tram_so3_log(&Dr, w);
+        for (int q = 0; q < 6; q++) {
+            const double dq = q < 3 ? tt[q] - te[q] : w[q - 3] * 180.0 / M_PI;
+            inside[q] += fabs(dq) <= a->unc.half95[q];
+        }
+        solved++;
+        tram_solution_destroy(a);
+        tram_pixel_obs_destroy(obs);
+        tram_records_destroy(rec);
+    }
+    printf("[ figures  ] rendered scenes (640 x 480, 10 stations), 95%% intervals of X over %d scenes: "
+           "tx %d%% ty %d%% tz %d%% rx %d%% ry %d%% rz %d%%\n",
+           solved, inside[0], inside[1], inside[2], inside[3], inside[4], inside[5]);
+    for (int q = 0; q < 6; q++) {
+        assert_true(inside[q] >= 88);
+        assert_true(inside[q] <= 99);
+    }
+    free(xyz);
+    tram_records_destroy(rec0);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {cmocka_unit_test(test_rendered_demo),
-                                       cmocka_unit_test(test_rendered_seeds)};
+                                       cmocka_unit_test(test_rendered_seeds),
+                                       cmocka_unit_test(test_rendered_scene_coverage)};
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
