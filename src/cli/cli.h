@@ -105,4 +105,8 @@ void cli_print_pixels(const tram_solution *s, const tram_records *r);
 /* The safety caution printed with every solved or checked result. */
 extern const char cli_safety_text[];
 
+/* v, or +0 when it prints as zero with `decimals` decimals: no
+ * "-0.000000000" for a component that is zero up to rounding. */
+double cli_print_zero(double v, int decimals);
+
 #endif

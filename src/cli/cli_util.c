@@ -151,3 +151,8 @@ int cli_apply_tool(const char *tool, tram_records *r)
     }
     return CLI_EXIT_OK;
 }
+
+double cli_print_zero(double v, int decimals)
+{
+    return fabs(v) < 0.5 * pow(10.0, -decimals) ? 0.0 : v;
+}

@@ -206,7 +206,8 @@ static void print_text(const tram_point_pairs *p, const tram_register_result *re
         printf("  translation (%s)  %.6f %.6f %.6f   1-sigma %.3g %.3g %.3g\n", u, T->m[0][3],
                T->m[1][3], T->m[2][3], res->translation_sigma[0], res->translation_sigma[1],
                res->translation_sigma[2]);
-        printf("  quaternion (w, x, y, z)  %.9f %.9f %.9f %.9f\n", q.w, q.x, q.y, q.z);
+        printf("  quaternion (w, x, y, z)  %.9f %.9f %.9f %.9f\n", cli_print_zero(q.w, 9), cli_print_zero(q.x, 9), cli_print_zero(q.y, 9),
+           cli_print_zero(q.z, 9));
         printf("  rotation 1-sigma (deg, about the to-frame's x y z)  %.3g %.3g %.3g\n",
                res->rotation_sigma_deg[0], res->rotation_sigma_deg[1], res->rotation_sigma_deg[2]);
     } else {

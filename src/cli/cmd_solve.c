@@ -209,7 +209,8 @@ static void print_transform(const char *name, const char *meaning, const tram_se
         printf("    1-sigma / 95%%          %12.6f %12.6f %12.6f  /  +-%.4g +-%.4g +-%.4g\n",
                s->unc.sigma[off], s->unc.sigma[off + 1], s->unc.sigma[off + 2],
                s->unc.half95[off], s->unc.half95[off + 1], s->unc.half95[off + 2]);
-    printf("  quaternion (w, x, y, z)  %12.9f %12.9f %12.9f %12.9f\n", q.w, q.x, q.y, q.z);
+    printf("  quaternion (w, x, y, z)  %12.9f %12.9f %12.9f %12.9f\n", cli_print_zero(q.w, 9), cli_print_zero(q.x, 9), cli_print_zero(q.y, 9),
+           cli_print_zero(q.z, 9));
     printf("  rotation vector (deg)    %12.6f %12.6f %12.6f   angle %.6f\n", w[0] * RAD2DEG,
            w[1] * RAD2DEG, w[2] * RAD2DEG,
            sqrt(w[0] * w[0] + w[1] * w[1] + w[2] * w[2]) * RAD2DEG);
@@ -305,14 +306,16 @@ static void print_tool(const tram_solution *s, const tram_records *r, const char
     printf("robot poses: tool (TCP) poses, robot-pose tool-in-base; flange poses from the tool\n"
            "  T_flange_tool (%s): translation (%s) %.6f %.6f %.6f, quaternion (w, x, y, z) "
            "%.9f %.9f %.9f %.9f\n\n",
-           where, u, t[0], t[1], t[2], q.w, q.x, q.y, q.z);
+           where, u, t[0], t[1], t[2], cli_print_zero(q.w, 9), cli_print_zero(q.x, 9), cli_print_zero(q.y, 9),
+           cli_print_zero(q.z, 9));
     tram_se3_to_rt(&T, &R, t);
     tram_quat_wxyz_from_mat3(&R, &q);
     printf("%s  (%s)\n", eih ? "T_tool_sensor" : "T_tool_target",
            eih ? "pose of the sensor in the tool frame" : "pose of the target in the tool frame");
     print_matrix(&T);
     printf("  translation (%s)        %12.6f %12.6f %12.6f\n", u, t[0], t[1], t[2]);
-    printf("  quaternion (w, x, y, z)  %12.9f %12.9f %12.9f %12.9f\n\n", q.w, q.x, q.y, q.z);
+    printf("  quaternion (w, x, y, z)  %12.9f %12.9f %12.9f %12.9f\n\n", cli_print_zero(q.w, 9), cli_print_zero(q.x, 9), cli_print_zero(q.y, 9),
+           cli_print_zero(q.z, 9));
 }
 
 /* The sensor's length scale: fitted, or tested against 1 (docs/solve.md). */
